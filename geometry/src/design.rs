@@ -1,0 +1,2037 @@
+//! The design file (TOML, version 1): parsing and validation into a [`Design`].
+//!
+//! # Format
+//! ```toml
+//! version = 1            # optional; 1 is the only version
+//!
+//! [[winding]]            # one table per winding, in any number
+//! name = "secondary"     # optional; [A-Za-z0-9_-]+, unique; default "winding-<n>"
+//! shape = "helix"        # helix | spiral | cone | ring | polyline
+//! role = "secondary"     # secondary | primary | other (default other)
+//! model = "ring"         # ring | filament (default ring; polylines: filament)
+//! origin = [0.0, 0.0, 0.10]
+//! axis = [0.0, 0.0, 1.0] # any nonzero direction; normalised
+//! radius = 0.05
+//! length = "400 mm"
+//! turns = 800
+//! wire_diameter = "AWG 26"
+//! ```
+//!
+//! Lengths are bare numbers in metres or strings with a unit (see [`crate::units`]). Keys by
+//! shape (besides `name`, `shape`, `role`, `model`, `wire_diameter`, all required unless said):
+//! - helix: `origin`, `axis`, `radius`, `length`, `turns` (positive real),
+//!   `segments_per_turn` (optional)
+//! - spiral: `origin`, `axis`, `inner_radius`, `outer_radius`, `turns`, `segments_per_turn`
+//! - cone: as spiral, plus `height` (axial rise from start to end)
+//! - ring: `origin`, `axis`, `radius`, `turns` (optional whole number of coincident turns,
+//!   default 1), `segments_per_turn`
+//! - polyline: `points` = [[x, y, z], ...] in absolute coordinates, `closed` (default false)
+//!
+//! # Checks
+//! Besides types and signs: adjacent turns must not overlap (the wire must be thinner than the
+//! pitch), radii must exceed the wire radius, a spiral or cone must grow outwards, polylines need
+//! enough distinct points, names are unique, and no two wires may touch (see
+//! [`crate::overlap::check_overlaps`]).
+
+use crate::error::DesignError;
+use crate::overlap::check_overlaps;
+use crate::units::{UnitError, parse_length_m, parse_wire_diameter_m};
+use crate::winding::{Model, Role, Shape, Winding};
+use nalgebra::{Point3, Unit, Vector3};
+use serde::Deserialize;
+use std::collections::HashMap;
+use toml::{Table, Value};
+
+/// Design-file version this build writes and reads by default.
+pub const CURRENT_VERSION: u32 = 1;
+
+/// Keys allowed at the top level of a design file.
+///
+/// This is the one place to extend when the format grows (electrodes, ground, drive).
+pub const TOP_LEVEL_KEYS: &[&str] = &["version", "winding"];
+
+/// Values of a winding's `shape` key.
+pub const SHAPE_NAMES: &[&str] = &["helix", "spiral", "cone", "ring", "polyline"];
+
+/// Most turns (or coincident ring turns) one winding may have.
+///
+/// A limit of this program, not of physics: it bounds the memory of the ring model and the
+/// overlap check, so a typing slip cannot exhaust the machine.
+pub const MAX_TURNS: f64 = 1e6;
+
+/// Largest `segments_per_turn` accepted (bounds the filament model's memory).
+pub const MAX_SEGMENTS_PER_TURN: i64 = 100_000;
+
+/// Most straight filaments a filament model may have: turns times segments per turn.
+pub const MAX_FILAMENT_SEGMENTS: f64 = 5e7;
+
+/// A validated design: windings in file order.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Design {
+    /// Design-file version.
+    pub version: u32,
+    /// Windings in file order.
+    pub windings: Vec<Winding>,
+}
+
+/// Parse and validate the text of a design file. `source` labels messages (usually the path).
+///
+/// Checks run in this order, and the first failure is returned: TOML syntax, top-level keys,
+/// version, presence of windings, then each winding in file order (name, shape, keys, types,
+/// values, pitch), unique names, and last the overlap of wires.
+pub fn parse_design(text: &str, source: &str) -> Result<Design, DesignError> {
+    let mut table: Table = text
+        .parse()
+        .map_err(|err: toml::de::Error| syntax_error(&err, text, source))?;
+
+    // Unknown keys first: a misspelt "windings" should be named as such, not reported as
+    // "no windings".
+    if let Some(key) = table
+        .keys()
+        .find(|key| !TOP_LEVEL_KEYS.contains(&key.as_str()))
+    {
+        return Err(DesignError::UnknownTopLevelKey {
+            source_name: source.to_string(),
+            key: key.clone(),
+            allowed: TOP_LEVEL_KEYS.join(", "),
+        });
+    }
+
+    let version = read_version(table.get("version"), source)?;
+
+    let empty_file = table.is_empty();
+    let windings_value = table.remove("winding").ok_or(DesignError::NoWindings {
+        source_name: source.to_string(),
+        empty_file,
+    })?;
+    let entries = match windings_value {
+        Value::Array(entries) => entries,
+        Value::Table(_) => {
+            return Err(top_level_type(
+                source,
+                "winding",
+                "a single [winding] table was given; write [[winding]] (double brackets) \
+                 before each winding",
+            ));
+        }
+        other => {
+            return Err(top_level_type(
+                source,
+                "winding",
+                &format!("expected [[winding]] tables, got {}", type_phrase(&other)),
+            ));
+        }
+    };
+    if entries.is_empty() {
+        return Err(DesignError::NoWindings {
+            source_name: source.to_string(),
+            empty_file: false,
+        });
+    }
+
+    let mut windings: Vec<Winding> = Vec::with_capacity(entries.len());
+    // Name -> 1-based number of the winding that took it first.
+    let mut taken: HashMap<String, usize> = HashMap::new();
+    for (idx, entry) in entries.into_iter().enumerate() {
+        let number = idx + 1;
+        let Value::Table(entry) = entry else {
+            return Err(DesignError::WrongType {
+                source_name: source.to_string(),
+                item: format!("winding #{number}"),
+                key: "winding".to_string(),
+                reason: format!("expected a [[winding]] table, got {}", type_phrase(&entry)),
+            });
+        };
+        let winding = parse_winding(entry, number, source)?;
+        if let Some(&first) = taken.get(&winding.name) {
+            return Err(DesignError::DuplicateName {
+                source_name: source.to_string(),
+                item: format!("winding #{number}"),
+                name: winding.name.clone(),
+                first: format!("winding #{first}"),
+            });
+        }
+        taken.insert(winding.name.clone(), number);
+        windings.push(winding);
+    }
+
+    let design = Design { version, windings };
+    check_overlaps(&design, source)?;
+    Ok(design)
+}
+
+/// Whether a name matches `[A-Za-z0-9_-]+`.
+///
+/// Names end up in file names, table headers and command lines; this set needs no quoting in any
+/// of them.
+pub fn is_valid_name(name: &str) -> bool {
+    !name.is_empty()
+        && name
+            .bytes()
+            .all(|b| b.is_ascii_alphanumeric() || b == b'_' || b == b'-')
+}
+
+/// Message for a TOML syntax error, with a 1-based line and column computed from the span.
+fn syntax_error(err: &toml::de::Error, text: &str, source: &str) -> DesignError {
+    let offset = err.span().map_or(0, |span| span.start).min(text.len());
+    // The span is a byte offset; step back to a character boundary before slicing.
+    let mut boundary = offset;
+    while !text.is_char_boundary(boundary) {
+        boundary -= 1;
+    }
+    let before = &text[..boundary];
+    let line = before.matches('\n').count() + 1;
+    let line_start = before.rfind('\n').map_or(0, |i| i + 1);
+    let column = before[line_start..].chars().count() + 1;
+    let mut reason = err.message().trim().to_string();
+    // The commonest slip: a length with a unit written without quotes (radius = 5 mm).
+    if reason.contains("must be quoted") {
+        reason.push_str("; a length with a unit is a string: write it in quotes, e.g. \"5 mm\"");
+    }
+    DesignError::Syntax {
+        source_name: source.to_string(),
+        line,
+        column,
+        reason,
+    }
+}
+
+fn read_version(value: Option<&Value>, source: &str) -> Result<u32, DesignError> {
+    match value {
+        None => Ok(CURRENT_VERSION),
+        Some(Value::Integer(n)) if *n == i64::from(CURRENT_VERSION) => Ok(CURRENT_VERSION),
+        Some(Value::Integer(n)) => Err(DesignError::UnsupportedVersion {
+            source_name: source.to_string(),
+            found: n.to_string(),
+        }),
+        Some(other) => Err(top_level_type(
+            source,
+            "version",
+            &format!("expected the integer 1, got {}", type_phrase(other)),
+        )),
+    }
+}
+
+fn top_level_type(source: &str, key: &str, reason: &str) -> DesignError {
+    DesignError::WrongType {
+        source_name: source.to_string(),
+        item: "top level".to_string(),
+        key: key.to_string(),
+        reason: reason.to_string(),
+    }
+}
+
+/// "a string \"x\"", "an integer 3", ...: how a value reads in a message.
+fn type_phrase(value: &Value) -> String {
+    match value {
+        Value::String(s) => format!("the string \"{s}\""),
+        Value::Integer(n) => format!("the integer {n}"),
+        Value::Float(x) => format!("the number {x}"),
+        Value::Boolean(b) => format!("the boolean {b}"),
+        Value::Datetime(d) => format!("the date-time {d}"),
+        Value::Array(_) => "an array".to_string(),
+        Value::Table(_) => "a table".to_string(),
+    }
+}
+
+/// The five shapes, as the parser tells them apart before the shape's sizes are known.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum ShapeKind {
+    Helix,
+    Spiral,
+    Cone,
+    Ring,
+    Polyline,
+}
+
+/// Keys every shape takes.
+const COMMON_KEYS: &[&str] = &["name", "shape", "role", "model", "wire_diameter"];
+
+impl ShapeKind {
+    fn from_name(name: &str) -> Option<Self> {
+        match name {
+            "helix" => Some(Self::Helix),
+            "spiral" => Some(Self::Spiral),
+            "cone" => Some(Self::Cone),
+            "ring" => Some(Self::Ring),
+            "polyline" => Some(Self::Polyline),
+            _ => None,
+        }
+    }
+
+    fn name(self) -> &'static str {
+        match self {
+            Self::Helix => "helix",
+            Self::Spiral => "spiral",
+            Self::Cone => "cone",
+            Self::Ring => "ring",
+            Self::Polyline => "polyline",
+        }
+    }
+
+    /// Keys this shape takes besides [`COMMON_KEYS`].
+    fn own_keys(self) -> &'static [&'static str] {
+        match self {
+            Self::Helix => &[
+                "origin",
+                "axis",
+                "radius",
+                "length",
+                "turns",
+                "segments_per_turn",
+            ],
+            Self::Spiral => &[
+                "origin",
+                "axis",
+                "inner_radius",
+                "outer_radius",
+                "turns",
+                "segments_per_turn",
+            ],
+            Self::Cone => &[
+                "origin",
+                "axis",
+                "inner_radius",
+                "outer_radius",
+                "height",
+                "turns",
+                "segments_per_turn",
+            ],
+            Self::Ring => &["origin", "axis", "radius", "turns", "segments_per_turn"],
+            Self::Polyline => &["points", "closed"],
+        }
+    }
+
+    fn takes(self, key: &str) -> bool {
+        COMMON_KEYS.contains(&key) || self.own_keys().contains(&key)
+    }
+
+    fn allowed_keys(self) -> String {
+        COMMON_KEYS
+            .iter()
+            .chain(self.own_keys())
+            .copied()
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+
+    const ALL: [ShapeKind; 5] = [
+        Self::Helix,
+        Self::Spiral,
+        Self::Cone,
+        Self::Ring,
+        Self::Polyline,
+    ];
+}
+
+/// A length as written: a TOML number (metres) or a string with a unit, parsed later so that a
+/// bad unit gets its own message.
+#[derive(Debug, Clone, PartialEq)]
+enum RawLength {
+    Number(f64),
+    Text(String),
+}
+
+impl<'de> Deserialize<'de> for RawLength {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct Visitor;
+        impl serde::de::Visitor<'_> for Visitor {
+            type Value = RawLength;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("a length: a number in metres or a string with a unit, e.g. \"55 mm\"")
+            }
+            fn visit_f64<E>(self, v: f64) -> Result<RawLength, E> {
+                Ok(RawLength::Number(v))
+            }
+            fn visit_i64<E>(self, v: i64) -> Result<RawLength, E> {
+                // Lengths this large are refused later anyway; the rounding cannot matter.
+                Ok(RawLength::Number(v as f64))
+            }
+            fn visit_u64<E>(self, v: u64) -> Result<RawLength, E> {
+                Ok(RawLength::Number(v as f64))
+            }
+            fn visit_str<E>(self, v: &str) -> Result<RawLength, E> {
+                Ok(RawLength::Text(v.to_string()))
+            }
+        }
+        deserializer.deserialize_any(Visitor)
+    }
+}
+
+/// A number as written, keeping whether it was a TOML integer (counts must be whole numbers).
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum RawNumber {
+    Int(i64),
+    Float(f64),
+}
+
+impl RawNumber {
+    fn as_f64(self) -> f64 {
+        match self {
+            RawNumber::Int(n) => n as f64,
+            RawNumber::Float(x) => x,
+        }
+    }
+
+    /// The value as a whole number, if it is one (an integer, or a float with no fraction).
+    fn as_whole(self) -> Option<i64> {
+        match self {
+            RawNumber::Int(n) => Some(n),
+            // The range test keeps the cast exact; out-of-range floats are not whole numbers
+            // this program could use.
+            RawNumber::Float(x) if x.is_finite() && x.fract() == 0.0 && x.abs() < 9e15 => {
+                Some(x as i64)
+            }
+            RawNumber::Float(_) => None,
+        }
+    }
+
+    fn shown(self) -> String {
+        match self {
+            RawNumber::Int(n) => n.to_string(),
+            RawNumber::Float(x) => x.to_string(),
+        }
+    }
+}
+
+impl<'de> Deserialize<'de> for RawNumber {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct Visitor;
+        impl serde::de::Visitor<'_> for Visitor {
+            type Value = RawNumber;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("a number")
+            }
+            fn visit_f64<E>(self, v: f64) -> Result<RawNumber, E> {
+                Ok(RawNumber::Float(v))
+            }
+            fn visit_i64<E>(self, v: i64) -> Result<RawNumber, E> {
+                Ok(RawNumber::Int(v))
+            }
+            fn visit_u64<E: serde::de::Error>(self, v: u64) -> Result<RawNumber, E> {
+                i64::try_from(v)
+                    .map(RawNumber::Int)
+                    .map_err(|_| E::custom(format!("the number {v} is too large")))
+            }
+        }
+        deserializer.deserialize_any(Visitor)
+    }
+}
+
+/// A winding as written: every key optional, values only type-checked.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawWinding {
+    role: Option<String>,
+    model: Option<String>,
+    origin: Option<[RawLength; 3]>,
+    axis: Option<[RawNumber; 3]>,
+    radius: Option<RawLength>,
+    length: Option<RawLength>,
+    turns: Option<RawNumber>,
+    wire_diameter: Option<RawLength>,
+    inner_radius: Option<RawLength>,
+    outer_radius: Option<RawLength>,
+    height: Option<RawLength>,
+    points: Option<Vec<[RawLength; 3]>>,
+    closed: Option<bool>,
+    segments_per_turn: Option<RawNumber>,
+}
+
+/// Where a message points: the file and the winding.
+struct Ctx<'a> {
+    source: &'a str,
+    item: String,
+}
+
+impl Ctx<'_> {
+    fn missing(&self, key: &str, hint: &str) -> DesignError {
+        DesignError::MissingKey {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            hint: hint.to_string(),
+        }
+    }
+
+    fn not_positive(&self, key: &str, expected: &str, value: String) -> DesignError {
+        DesignError::NotPositive {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            expected: expected.to_string(),
+            value,
+        }
+    }
+
+    fn not_finite(&self, key: &str, expected: &str, value: String) -> DesignError {
+        DesignError::NotFinite {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            expected: expected.to_string(),
+            value,
+        }
+    }
+
+    fn too_large(&self, key: &str, value: String, limit: String) -> DesignError {
+        DesignError::TooLarge {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            value,
+            limit,
+        }
+    }
+
+    fn bad_length(&self, key: &str, error: UnitError) -> DesignError {
+        DesignError::BadLength {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            error: Box::new(error),
+        }
+    }
+
+    fn unknown_value(&self, key: &str, value: &str, allowed: &[&str]) -> DesignError {
+        DesignError::UnknownValue {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            value: value.to_string(),
+            allowed: allowed.join(", "),
+        }
+    }
+
+    fn radius_below_wire(&self, key: &str, radius_m: f64, wire_radius_m: f64) -> DesignError {
+        DesignError::RadiusBelowWire {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            radius_m,
+            wire_radius_m,
+        }
+    }
+
+    fn thicker_than_pitch(&self, wire_diameter_m: f64, pitch_m: f64, rule: &str) -> DesignError {
+        DesignError::WireThickerThanPitch {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            wire_diameter_m,
+            pitch_m,
+            pitch_rule: rule.to_string(),
+        }
+    }
+
+    /// A length in metres plus how to show it: the number, or the string and its value in metres.
+    fn metres(&self, key: &str, raw: &RawLength, wire: bool) -> Result<(f64, String), DesignError> {
+        match raw {
+            RawLength::Number(v) => Ok((*v, v.to_string())),
+            RawLength::Text(text) => {
+                let parsed = if wire {
+                    parse_wire_diameter_m(text)
+                } else {
+                    parse_length_m(text)
+                };
+                let v = parsed.map_err(|e| self.bad_length(key, e))?;
+                Ok((v, format!("\"{text}\" (= {} m)", crate::error::sig(v))))
+            }
+        }
+    }
+
+    /// A finite length of any sign (coordinates).
+    fn coordinate(&self, key: &str, raw: &RawLength) -> Result<f64, DesignError> {
+        let (v, shown) = self.metres(key, raw, false)?;
+        if !v.is_finite() {
+            return Err(self.not_finite(key, "a finite length in metres", shown));
+        }
+        Ok(v)
+    }
+
+    /// A finite, positive length (sizes).
+    fn size(&self, key: &str, raw: &RawLength, wire: bool) -> Result<f64, DesignError> {
+        let (v, shown) = self.metres(key, raw, wire)?;
+        const EXPECTED: &str = "a positive length in metres";
+        if !v.is_finite() {
+            return Err(self.not_finite(key, EXPECTED, shown));
+        }
+        if v <= 0.0 {
+            return Err(self.not_positive(key, EXPECTED, shown));
+        }
+        Ok(v)
+    }
+
+    fn required_size(
+        &self,
+        key: &str,
+        raw: &Option<RawLength>,
+        hint: &str,
+    ) -> Result<f64, DesignError> {
+        let raw = raw.as_ref().ok_or_else(|| self.missing(key, hint))?;
+        self.size(key, raw, false)
+    }
+
+    fn point(&self, key: &str, raw: &[RawLength; 3]) -> Result<Point3<f64>, DesignError> {
+        let mut xyz = [0.0; 3];
+        for (i, (slot, c)) in xyz.iter_mut().zip(raw).enumerate() {
+            *slot = self.coordinate(&format!("{key}[{i}]"), c)?;
+        }
+        Ok(Point3::from(xyz))
+    }
+
+    fn origin(&self, raw: &Option<[RawLength; 3]>) -> Result<Point3<f64>, DesignError> {
+        let raw = raw.as_ref().ok_or_else(|| {
+            self.missing(
+                "origin",
+                "give the centre of the winding's start as origin = [x, y, z] (lengths)",
+            )
+        })?;
+        self.point("origin", raw)
+    }
+
+    fn axis(&self, raw: &Option<[RawNumber; 3]>) -> Result<Unit<Vector3<f64>>, DesignError> {
+        let raw = raw.ok_or_else(|| {
+            self.missing(
+                "axis",
+                "give the winding axis as axis = [x, y, z], e.g. [0.0, 0.0, 1.0]",
+            )
+        })?;
+        let mut v = Vector3::zeros();
+        for (i, c) in raw.iter().enumerate() {
+            let x = c.as_f64();
+            if !x.is_finite() {
+                return Err(self.not_finite(&format!("axis[{i}]"), "a finite number", c.shown()));
+            }
+            v[i] = x;
+        }
+        // Scale by the largest component before normalising, so that neither 1e-200 nor 1e200
+        // components under- or overflow the norm.
+        let largest = v.amax();
+        if largest == 0.0 {
+            return Err(DesignError::ZeroAxis {
+                source_name: self.source.to_string(),
+                item: self.item.clone(),
+                key: "axis".to_string(),
+            });
+        }
+        Ok(Unit::new_normalize(v / largest))
+    }
+
+    /// Turns of a helix, spiral or cone: a positive real number.
+    fn turns(&self, raw: Option<RawNumber>) -> Result<f64, DesignError> {
+        let raw =
+            raw.ok_or_else(|| self.missing("turns", "give the number of turns, e.g. turns = 10"))?;
+        const EXPECTED: &str = "a positive number of turns";
+        let turns = raw.as_f64();
+        if !turns.is_finite() {
+            return Err(self.not_finite("turns", EXPECTED, raw.shown()));
+        }
+        if turns <= 0.0 {
+            return Err(self.not_positive("turns", EXPECTED, raw.shown()));
+        }
+        if turns > MAX_TURNS {
+            return Err(self.too_large(
+                "turns",
+                raw.shown(),
+                format!("this program models at most {MAX_TURNS} turns per winding"),
+            ));
+        }
+        Ok(turns)
+    }
+
+    /// Coincident turns of a ring: a positive whole number, default 1.
+    fn ring_count(&self, raw: Option<RawNumber>) -> Result<u32, DesignError> {
+        let Some(raw) = raw else {
+            return Ok(1);
+        };
+        const EXPECTED: &str = "a positive whole number of coincident turns";
+        if !raw.as_f64().is_finite() {
+            return Err(self.not_finite("turns", EXPECTED, raw.shown()));
+        }
+        let Some(count) = raw.as_whole() else {
+            return Err(DesignError::NotInteger {
+                source_name: self.source.to_string(),
+                item: self.item.clone(),
+                key: "turns".to_string(),
+                expected: format!("{EXPECTED} (a ring's turns all lie on one circle)"),
+                value: raw.shown(),
+            });
+        };
+        if count <= 0 {
+            return Err(self.not_positive("turns", EXPECTED, raw.shown()));
+        }
+        if count as f64 > MAX_TURNS {
+            return Err(self.too_large(
+                "turns",
+                raw.shown(),
+                format!("this program models at most {MAX_TURNS} turns per winding"),
+            ));
+        }
+        // count <= MAX_TURNS, far inside u32.
+        Ok(count as u32)
+    }
+
+    fn segments_per_turn(&self, raw: Option<RawNumber>) -> Result<Option<usize>, DesignError> {
+        let Some(raw) = raw else {
+            return Ok(None);
+        };
+        let too_few = || DesignError::TooFewSegments {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            value: raw.shown(),
+        };
+        let Some(n) = raw.as_whole() else {
+            return Err(DesignError::NotInteger {
+                source_name: self.source.to_string(),
+                item: self.item.clone(),
+                key: "segments_per_turn".to_string(),
+                expected: "a whole number of at least 3".to_string(),
+                value: raw.shown(),
+            });
+        };
+        if n < 3 {
+            return Err(too_few());
+        }
+        if n > MAX_SEGMENTS_PER_TURN {
+            return Err(self.too_large(
+                "segments_per_turn",
+                raw.shown(),
+                format!("at most {MAX_SEGMENTS_PER_TURN} segments per turn are accepted"),
+            ));
+        }
+        // 3 <= n <= MAX_SEGMENTS_PER_TURN fits any usize.
+        Ok(Some(n as usize))
+    }
+}
+
+/// Read one `[[winding]]` table. `number` counts windings from 1 in file order.
+fn parse_winding(mut table: Table, number: usize, source: &str) -> Result<Winding, DesignError> {
+    let mut ctx = Ctx {
+        source,
+        item: format!("winding #{number}"),
+    };
+
+    // The name comes first, so that every later message can say which winding it is about.
+    let name = match table.get("name") {
+        None => format!("winding-{number}"),
+        Some(Value::String(name)) => {
+            if !is_valid_name(name) {
+                return Err(DesignError::BadName {
+                    source_name: source.to_string(),
+                    item: ctx.item,
+                    name: name.clone(),
+                });
+            }
+            ctx.item = format!("winding '{name}'");
+            name.clone()
+        }
+        Some(other) => {
+            return Err(DesignError::WrongType {
+                source_name: source.to_string(),
+                item: ctx.item,
+                key: "name".to_string(),
+                reason: format!(
+                    "expected a string such as \"secondary\", got {}",
+                    type_phrase(other)
+                ),
+            });
+        }
+    };
+
+    // The shape next: it decides which keys are allowed.
+    let kind = match table.get("shape") {
+        None => {
+            return Err(ctx.missing(
+                "shape",
+                &format!("give shape = one of {}", SHAPE_NAMES.join(", ")),
+            ));
+        }
+        Some(Value::String(shape)) => ShapeKind::from_name(shape)
+            .ok_or_else(|| ctx.unknown_value("shape", shape, SHAPE_NAMES))?,
+        Some(other) => {
+            return Err(DesignError::WrongType {
+                source_name: source.to_string(),
+                item: ctx.item,
+                key: "shape".to_string(),
+                reason: format!(
+                    "expected one of the strings {}, got {}",
+                    SHAPE_NAMES.join(", "),
+                    type_phrase(other)
+                ),
+            });
+        }
+    };
+
+    // Keys checked against the shape by hand rather than by serde's deny_unknown_fields, which
+    // knows only the union of all shapes' keys and cannot say "this key is for polylines".
+    for key in table.keys() {
+        if kind.takes(key) {
+            continue;
+        }
+        let users: Vec<&str> = ShapeKind::ALL
+            .iter()
+            .filter(|k| k.takes(key))
+            .map(|k| k.name())
+            .collect();
+        return Err(if users.is_empty() {
+            DesignError::UnknownKey {
+                source_name: source.to_string(),
+                item: ctx.item,
+                key: key.clone(),
+                shape: kind.name().to_string(),
+                allowed: kind.allowed_keys(),
+            }
+        } else {
+            DesignError::KeyNotForShape {
+                source_name: source.to_string(),
+                item: ctx.item,
+                key: key.clone(),
+                shape: kind.name().to_string(),
+                applies_to: users.join(", "),
+            }
+        });
+    }
+
+    // Name and shape are read already; the raw struct does not carry them.
+    table.remove("name");
+    table.remove("shape");
+    let raw: RawWinding = serde_path_to_error::deserialize(table).map_err(|err| {
+        let key = err.path().to_string();
+        DesignError::WrongType {
+            source_name: source.to_string(),
+            item: ctx.item.clone(),
+            key,
+            reason: err.inner().message().to_string(),
+        }
+    })?;
+
+    let role = match raw.role.as_deref() {
+        None => Role::Other,
+        Some("secondary") => Role::Secondary,
+        Some("primary") => Role::Primary,
+        Some("other") => Role::Other,
+        Some(other) => {
+            return Err(ctx.unknown_value("role", other, &["secondary", "primary", "other"]));
+        }
+    };
+    let model = match (raw.model.as_deref(), kind) {
+        // A polyline has no axis, so its only model is the filament one.
+        (None, ShapeKind::Polyline) => Model::Filament,
+        (None, _) => Model::Ring,
+        (Some("ring"), ShapeKind::Polyline) => {
+            return Err(DesignError::ModelNotForShape {
+                source_name: source.to_string(),
+                item: ctx.item,
+            });
+        }
+        (Some("ring"), _) => Model::Ring,
+        (Some("filament"), _) => Model::Filament,
+        (Some(other), _) => return Err(ctx.unknown_value("model", other, &["ring", "filament"])),
+    };
+
+    let wire_raw = raw.wire_diameter.as_ref().ok_or_else(|| {
+        ctx.missing(
+            "wire_diameter",
+            "give the bare conductor diameter, e.g. wire_diameter = \"0.4 mm\" or \"AWG 26\"",
+        )
+    })?;
+    let wire_diameter_m = ctx.size("wire_diameter", wire_raw, true)?;
+    let wire_radius_m = 0.5 * wire_diameter_m;
+    let segments_per_turn = ctx.segments_per_turn(raw.segments_per_turn)?;
+
+    let shape = match kind {
+        ShapeKind::Helix => {
+            let origin_m = ctx.origin(&raw.origin)?;
+            let axis = ctx.axis(&raw.axis)?;
+            let radius_m = ctx.required_size(
+                "radius",
+                &raw.radius,
+                "give the centreline radius, e.g. radius = \"50 mm\"",
+            )?;
+            let length_m = ctx.required_size(
+                "length",
+                &raw.length,
+                "give the winding length along the axis, e.g. length = \"400 mm\"",
+            )?;
+            let turns = ctx.turns(raw.turns)?;
+            if radius_m <= wire_radius_m {
+                return Err(ctx.radius_below_wire("radius", radius_m, wire_radius_m));
+            }
+            let pitch_m = length_m / turns;
+            if pitch_m <= wire_diameter_m {
+                return Err(ctx.thicker_than_pitch(wire_diameter_m, pitch_m, "length / turns"));
+            }
+            Shape::Helix {
+                origin_m,
+                axis,
+                radius_m,
+                length_m,
+                turns,
+            }
+        }
+        ShapeKind::Spiral | ShapeKind::Cone => {
+            let origin_m = ctx.origin(&raw.origin)?;
+            let axis = ctx.axis(&raw.axis)?;
+            let inner_radius_m = ctx.required_size(
+                "inner_radius",
+                &raw.inner_radius,
+                "give the centreline radius at the start, e.g. inner_radius = \"70 mm\"",
+            )?;
+            let outer_radius_m = ctx.required_size(
+                "outer_radius",
+                &raw.outer_radius,
+                "give the centreline radius at the end, e.g. outer_radius = \"130 mm\"",
+            )?;
+            let height_m = if kind == ShapeKind::Cone {
+                ctx.required_size(
+                    "height",
+                    &raw.height,
+                    "give the axial rise from start to end, e.g. height = \"60 mm\"",
+                )?
+            } else {
+                0.0
+            };
+            let turns = ctx.turns(raw.turns)?;
+            if inner_radius_m <= wire_radius_m {
+                return Err(ctx.radius_below_wire("inner_radius", inner_radius_m, wire_radius_m));
+            }
+            if outer_radius_m <= inner_radius_m {
+                return Err(DesignError::RadiiOrder {
+                    source_name: source.to_string(),
+                    item: ctx.item,
+                    inner_radius_m,
+                    outer_radius_m,
+                });
+            }
+            let radial_m = outer_radius_m - inner_radius_m;
+            if kind == ShapeKind::Spiral {
+                let pitch_m = radial_m / turns;
+                if pitch_m <= wire_diameter_m {
+                    return Err(ctx.thicker_than_pitch(
+                        wire_diameter_m,
+                        pitch_m,
+                        "(outer_radius - inner_radius) / turns",
+                    ));
+                }
+                Shape::Spiral {
+                    origin_m,
+                    axis,
+                    inner_radius_m,
+                    outer_radius_m,
+                    turns,
+                }
+            } else {
+                // Adjacent turns of a cone sit one slant length per turn apart along the cone's
+                // surface line.
+                let pitch_m = radial_m.hypot(height_m) / turns;
+                if pitch_m <= wire_diameter_m {
+                    return Err(ctx.thicker_than_pitch(
+                        wire_diameter_m,
+                        pitch_m,
+                        "sqrt((outer_radius - inner_radius)^2 + height^2) / turns, along the slant",
+                    ));
+                }
+                Shape::Cone {
+                    origin_m,
+                    axis,
+                    inner_radius_m,
+                    outer_radius_m,
+                    height_m,
+                    turns,
+                }
+            }
+        }
+        ShapeKind::Ring => {
+            let origin_m = ctx.origin(&raw.origin)?;
+            let axis = ctx.axis(&raw.axis)?;
+            let radius_m = ctx.required_size(
+                "radius",
+                &raw.radius,
+                "give the centreline radius, e.g. radius = \"100 mm\"",
+            )?;
+            let count = ctx.ring_count(raw.turns)?;
+            if radius_m <= wire_radius_m {
+                return Err(ctx.radius_below_wire("radius", radius_m, wire_radius_m));
+            }
+            Shape::Ring {
+                origin_m,
+                axis,
+                radius_m,
+                count,
+            }
+        }
+        ShapeKind::Polyline => {
+            let closed = raw.closed.unwrap_or(false);
+            let raw_points = raw.points.as_ref().ok_or_else(|| {
+                ctx.missing(
+                    "points",
+                    "give the vertices as points = [[x, y, z], ...] (lengths), in current order",
+                )
+            })?;
+            let points_m = raw_points
+                .iter()
+                .enumerate()
+                .map(|(i, p)| ctx.point(&format!("points[{i}]"), p))
+                .collect::<Result<Vec<_>, _>>()?;
+            let needed = if closed { 3 } else { 2 };
+            if points_m.len() < needed {
+                return Err(DesignError::TooFewPoints {
+                    source_name: source.to_string(),
+                    item: ctx.item,
+                    found: points_m.len(),
+                    needed,
+                    closed,
+                });
+            }
+            let n = points_m.len();
+            let n_pieces = if closed { n } else { n - 1 };
+            for i in 0..n_pieces {
+                let j = (i + 1) % n;
+                if coincident(&points_m[i], &points_m[j]) {
+                    return Err(DesignError::CoincidentPoints {
+                        source_name: source.to_string(),
+                        item: ctx.item,
+                        index_a: i,
+                        index_b: j,
+                        closing: j == 0,
+                    });
+                }
+            }
+            Shape::Polyline { points_m, closed }
+        }
+    };
+
+    if model == Model::Filament {
+        if let Some(turns) = shape.turns() {
+            // A ring's filament model is one turn whatever its count.
+            let turns = if kind == ShapeKind::Ring { 1.0 } else { turns };
+            let per_turn =
+                segments_per_turn.unwrap_or(crate::discretise::DEFAULT_SEGMENTS_PER_TURN);
+            let total = turns * per_turn as f64;
+            if total > MAX_FILAMENT_SEGMENTS {
+                return Err(ctx.too_large(
+                    "segments_per_turn",
+                    format!("{per_turn} segments per turn times {turns} turns"),
+                    format!(
+                        "a filament model may have at most {MAX_FILAMENT_SEGMENTS} segments; \
+                         give fewer segments_per_turn or use model = \"ring\""
+                    ),
+                ));
+            }
+        }
+    }
+
+    Ok(Winding {
+        name,
+        role,
+        model,
+        wire_diameter_m,
+        segments_per_turn,
+        shape,
+    })
+}
+
+/// Whether two points are the same up to rounding of their coordinates.
+fn coincident(a: &Point3<f64>, b: &Point3<f64>) -> bool {
+    let scale = a.coords.amax().max(b.coords.amax());
+    // A few ulps of the coordinates' size: points that differ by less come from the same
+    // number written two ways ("50 mm" and 0.05), not from a real piece of wire.
+    (a - b).amax() <= 4.0 * f64::EPSILON * scale
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::units::awg_diameter_m;
+
+    const FILE: &str = "design.toml";
+
+    /// The reference design of the test suite: a tall secondary and a flat spiral primary 2 cm
+    /// below it.
+    const GOOD: &str = r#"
+[[winding]]
+name = "secondary"
+shape = "helix"
+role = "secondary"
+origin = [0.0, 0.0, 0.10]
+axis = [0.0, 0.0, 1.0]
+radius = 0.05
+length = 0.40
+turns = 800
+wire_diameter = 0.0004
+
+[[winding]]
+name = "primary"
+shape = "spiral"
+role = "primary"
+origin = [0.0, 0.0, 0.08]
+axis = [0.0, 0.0, 1.0]
+inner_radius = "70 mm"
+outer_radius = "130 mm"
+turns = 6
+wire_diameter = "AWG 10"
+"#;
+
+    /// A helix named "coil" with one line replaced (matched by key) or added.
+    fn helix(edit: &str) -> String {
+        let base = [
+            ("name", r#"name = "coil""#),
+            ("shape", r#"shape = "helix""#),
+            ("origin", "origin = [0.0, 0.0, 0.0]"),
+            ("axis", "axis = [0.0, 0.0, 1.0]"),
+            ("radius", "radius = 0.05"),
+            ("length", "length = 0.1"),
+            ("turns", "turns = 50"),
+            ("wire_diameter", "wire_diameter = 0.001"),
+        ];
+        with_edit(&base, edit)
+    }
+
+    fn spiral(edit: &str) -> String {
+        let base = [
+            ("name", r#"name = "flat""#),
+            ("shape", r#"shape = "spiral""#),
+            ("origin", "origin = [0.0, 0.0, 0.0]"),
+            ("axis", "axis = [0.0, 0.0, 1.0]"),
+            ("inner_radius", "inner_radius = 0.05"),
+            ("outer_radius", "outer_radius = 0.10"),
+            ("turns", "turns = 5"),
+            ("wire_diameter", "wire_diameter = 0.002"),
+        ];
+        with_edit(&base, edit)
+    }
+
+    fn cone(edit: &str) -> String {
+        let base = [
+            ("name", r#"name = "funnel""#),
+            ("shape", r#"shape = "cone""#),
+            ("origin", "origin = [0.0, 0.0, 0.0]"),
+            ("axis", "axis = [0.0, 0.0, 1.0]"),
+            ("inner_radius", "inner_radius = 0.05"),
+            ("outer_radius", "outer_radius = 0.10"),
+            ("height", "height = 0.05"),
+            ("turns", "turns = 5"),
+            ("wire_diameter", "wire_diameter = 0.002"),
+        ];
+        with_edit(&base, edit)
+    }
+
+    fn ring(edit: &str) -> String {
+        let base = [
+            ("name", r#"name = "loop""#),
+            ("shape", r#"shape = "ring""#),
+            ("origin", "origin = [0.0, 0.0, 0.0]"),
+            ("axis", "axis = [0.0, 0.0, 1.0]"),
+            ("radius", "radius = 0.1"),
+            ("wire_diameter", "wire_diameter = 0.001"),
+        ];
+        with_edit(&base, edit)
+    }
+
+    fn polyline(edit: &str) -> String {
+        let base = [
+            ("name", r#"name = "path""#),
+            ("shape", r#"shape = "polyline""#),
+            (
+                "points",
+                "points = [[0.0, 0.0, 0.0], [0.1, 0.0, 0.0], [0.1, 0.1, 0.0]]",
+            ),
+            ("wire_diameter", "wire_diameter = 0.001"),
+        ];
+        with_edit(&base, edit)
+    }
+
+    /// `edit` is "key = value" (replace or add), or "-key" (drop the key).
+    fn with_edit(base: &[(&str, &str)], edit: &str) -> String {
+        let mut lines: Vec<String> = base.iter().map(|(_, l)| l.to_string()).collect();
+        if let Some(key) = edit.strip_prefix('-') {
+            let at = base
+                .iter()
+                .position(|(k, _)| *k == key)
+                .expect("key to drop");
+            lines.remove(at);
+        } else if !edit.is_empty() {
+            let key = edit.split('=').next().unwrap().trim();
+            match base.iter().position(|(k, _)| *k == key) {
+                Some(at) => lines[at] = edit.to_string(),
+                None => lines.push(edit.to_string()),
+            }
+        }
+        format!("[[winding]]\n{}\n", lines.join("\n"))
+    }
+
+    fn err(text: &str) -> DesignError {
+        match parse_design(text, FILE) {
+            Ok(design) => panic!("expected an error, got {design:?}"),
+            Err(e) => e,
+        }
+    }
+
+    /// The message names the file, the item and every given part.
+    fn assert_names(e: &DesignError, parts: &[&str]) {
+        let msg = e.to_string();
+        assert!(msg.starts_with("design.toml: "), "{msg}");
+        for part in parts {
+            assert!(msg.contains(part), "message lacks {part:?}: {msg}");
+        }
+    }
+
+    // ---- accepted designs ----
+
+    #[test]
+    fn reference_design_parses() {
+        let design = parse_design(GOOD, FILE).unwrap();
+        assert_eq!(design.version, 1);
+        assert_eq!(design.windings.len(), 2);
+        let sec = &design.windings[0];
+        assert_eq!(sec.name, "secondary");
+        assert_eq!(sec.role, Role::Secondary);
+        assert_eq!(sec.model, Model::Ring);
+        assert_eq!(sec.wire_diameter_m, 0.0004);
+        match sec.shape {
+            Shape::Helix {
+                radius_m,
+                length_m,
+                turns,
+                origin_m,
+                ..
+            } => {
+                assert_eq!((radius_m, length_m, turns), (0.05, 0.40, 800.0));
+                assert_eq!(origin_m, Point3::new(0.0, 0.0, 0.10));
+            }
+            ref other => panic!("{other:?}"),
+        }
+        let pri = &design.windings[1];
+        assert_eq!(pri.wire_diameter_m, awg_diameter_m(10).unwrap());
+        match pri.shape {
+            Shape::Spiral {
+                inner_radius_m,
+                outer_radius_m,
+                turns,
+                ..
+            } => {
+                assert!((inner_radius_m - 0.07).abs() < 1e-15);
+                assert!((outer_radius_m - 0.13).abs() < 1e-15);
+                assert_eq!(turns, 6.0);
+            }
+            ref other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn defaults_apply() {
+        let design = parse_design(&ring(""), FILE).unwrap();
+        let w = &design.windings[0];
+        assert_eq!(w.role, Role::Other);
+        assert_eq!(w.model, Model::Ring);
+        assert_eq!(w.segments_per_turn, None);
+        assert!(matches!(w.shape, Shape::Ring { count: 1, .. }));
+        let design = parse_design(&polyline(""), FILE).unwrap();
+        assert_eq!(design.windings[0].model, Model::Filament);
+        assert!(matches!(
+            design.windings[0].shape,
+            Shape::Polyline { closed: false, .. }
+        ));
+    }
+
+    #[test]
+    fn every_shape_parses() {
+        for text in [
+            helix(""),
+            spiral(""),
+            cone(""),
+            ring("turns = 12"),
+            polyline("closed = true"),
+        ] {
+            parse_design(&text, FILE).unwrap_or_else(|e| panic!("{e}\n{text}"));
+        }
+    }
+
+    #[test]
+    fn explicit_version_one_is_accepted() {
+        let design = parse_design(&format!("version = 1\n{}", ring("")), FILE).unwrap();
+        assert_eq!(design.version, CURRENT_VERSION);
+    }
+
+    #[test]
+    fn unnamed_winding_gets_numbered_name() {
+        let design = parse_design(&ring("-name"), FILE).unwrap();
+        assert_eq!(design.windings[0].name, "winding-1");
+    }
+
+    #[test]
+    fn axis_is_normalised_and_any_direction() {
+        let text = ring("axis = [0, 3, 4]");
+        let w = &parse_design(&text, FILE).unwrap().windings[0];
+        let (_, axis) = w.shape.origin_axis().unwrap();
+        assert!((axis.y - 0.6).abs() < 1e-15 && (axis.z - 0.8).abs() < 1e-15);
+        // Tiny and huge components must not under- or overflow the norm.
+        for axis in ["[1e-300, 0.0, 0.0]", "[1e300, 1e300, 0.0]"] {
+            let text = ring(&format!("axis = {axis}"));
+            let w = &parse_design(&text, FILE).unwrap().windings[0];
+            let (_, axis) = w.shape.origin_axis().unwrap();
+            assert!((axis.norm() - 1.0).abs() < 1e-15);
+        }
+    }
+
+    #[test]
+    fn units_in_every_length() {
+        let text = helix(r#"origin = ["1 in", "-2 cm", 0]"#)
+            .replace("radius = 0.05", r#"radius = "50mm""#);
+        let w = &parse_design(&text, FILE).unwrap().windings[0];
+        let (origin, _) = w.shape.origin_axis().unwrap();
+        assert!((origin.x - 0.0254).abs() < 1e-15 && (origin.y + 0.02).abs() < 1e-15);
+        let text = polyline(r#"points = [["0 mm", "0 mm", "0 mm"], ["1 ft", 0, 0]]"#);
+        match &parse_design(&text, FILE).unwrap().windings[0].shape {
+            Shape::Polyline { points_m, .. } => assert!((points_m[1].x - 0.3048).abs() < 1e-15),
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn ring_turns_as_whole_float_is_accepted() {
+        let w = &parse_design(&ring("turns = 3.0"), FILE).unwrap().windings[0];
+        assert!(matches!(w.shape, Shape::Ring { count: 3, .. }));
+    }
+
+    #[test]
+    fn segments_per_turn_is_kept() {
+        let w = &parse_design(&helix("segments_per_turn = 64"), FILE)
+            .unwrap()
+            .windings[0];
+        assert_eq!(w.segments_per_turn, Some(64));
+    }
+
+    // ---- the catalogue of invalid inputs: one case per failure mode ----
+
+    #[test]
+    fn toml_syntax_error_gives_line_and_column() {
+        let text = "[[winding]]\nname = \"coil\"\nradius = = 3\n";
+        let e = err(text);
+        match &e {
+            DesignError::Syntax { line, column, .. } => {
+                assert_eq!(*line, 3);
+                assert_eq!(*column, 10);
+            }
+            other => panic!("{other:?}"),
+        }
+        assert_names(&e, &["syntax", "line 3", "column 10"]);
+    }
+
+    #[test]
+    fn unquoted_unit_gets_a_hint() {
+        let e = err(&helix("radius = 5 mm"));
+        assert!(matches!(e, DesignError::Syntax { line: 6, .. }), "{e:?}");
+        assert_names(&e, &["line 6", "in quotes", "\"5 mm\""]);
+    }
+
+    #[test]
+    fn computed_lengths_are_shown_rounded() {
+        let e = err(&spiral("turns = 30"));
+        assert_names(&e, &["(0.00166667 m,"]);
+    }
+
+    #[test]
+    fn duplicate_key_is_a_syntax_error() {
+        let e = err(&format!("{}radius = 0.2\n", ring("")));
+        assert!(matches!(e, DesignError::Syntax { line: 8, .. }), "{e:?}");
+    }
+
+    #[test]
+    fn empty_file() {
+        for text in ["", "   \n\n", "# only a comment\n"] {
+            let e = err(text);
+            assert_eq!(
+                e,
+                DesignError::NoWindings {
+                    source_name: FILE.into(),
+                    empty_file: true
+                }
+            );
+            assert_names(&e, &["empty", "[[winding]]"]);
+        }
+    }
+
+    #[test]
+    fn no_windings() {
+        for text in ["version = 1\n", "winding = []\n"] {
+            let e = err(text);
+            assert!(
+                matches!(
+                    e,
+                    DesignError::NoWindings {
+                        empty_file: false,
+                        ..
+                    }
+                ),
+                "{e:?}"
+            );
+            assert_names(&e, &["no windings", "[[winding]]"]);
+        }
+    }
+
+    #[test]
+    fn unknown_top_level_key() {
+        let e = err(&format!("windings = 3\n{}", ring("")));
+        assert!(matches!(e, DesignError::UnknownTopLevelKey { .. }), "{e:?}");
+        assert_names(&e, &["top level", "'windings'", "version, winding"]);
+    }
+
+    #[test]
+    fn winding_written_as_single_table() {
+        let e = err(&ring("").replace("[[winding]]", "[winding]"));
+        assert!(matches!(e, DesignError::WrongType { .. }), "{e:?}");
+        assert_names(&e, &["key 'winding'", "[[winding]]"]);
+    }
+
+    #[test]
+    fn winding_entry_not_a_table() {
+        let e = err("winding = [1, 2]\n");
+        assert_names(&e, &["winding #1", "key 'winding'", "integer 1"]);
+    }
+
+    #[test]
+    fn unknown_version() {
+        let e = err(&format!("version = 2\n{}", ring("")));
+        assert!(matches!(e, DesignError::UnsupportedVersion { .. }), "{e:?}");
+        assert_names(&e, &["key 'version'", "version 2", "version 1"]);
+    }
+
+    #[test]
+    fn version_of_wrong_type() {
+        let e = err(&format!("version = \"1\"\n{}", ring("")));
+        assert!(matches!(e, DesignError::WrongType { .. }), "{e:?}");
+        assert_names(&e, &["key 'version'", "integer 1"]);
+    }
+
+    #[test]
+    fn unknown_key_lists_allowed_keys_for_shape() {
+        let e = err(&helix("radious = 0.05"));
+        assert!(matches!(e, DesignError::UnknownKey { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'coil'",
+                "key 'radious'",
+                "helix",
+                "origin, axis, radius, length, turns, segments_per_turn",
+            ],
+        );
+        // The list is the shape's own: a helix has no inner_radius.
+        assert!(!e.to_string().contains("inner_radius"));
+    }
+
+    #[test]
+    fn unknown_key_without_name_uses_number() {
+        let text = format!("{}{}", ring(""), ring("-name").replace("radius", "radios"));
+        let e = err(&text);
+        assert_names(&e, &["winding #2", "key 'radios'"]);
+    }
+
+    #[test]
+    fn points_on_a_helix() {
+        let e = err(&helix("points = [[0.0, 0.0, 0.0], [1.0, 0.0, 0.0]]"));
+        assert!(matches!(e, DesignError::KeyNotForShape { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'points'", "helix", "polyline"]);
+    }
+
+    #[test]
+    fn origin_on_a_polyline() {
+        let e = err(&polyline("origin = [0.0, 0.0, 0.0]"));
+        assert!(matches!(e, DesignError::KeyNotForShape { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'path'",
+                "key 'origin'",
+                "polyline",
+                "helix, spiral, cone, ring",
+            ],
+        );
+    }
+
+    #[test]
+    fn height_on_a_spiral() {
+        let e = err(&spiral("height = 0.01"));
+        assert_names(&e, &["winding 'flat'", "key 'height'", "cone"]);
+    }
+
+    #[test]
+    fn segments_per_turn_on_a_polyline() {
+        let e = err(&polyline("segments_per_turn = 10"));
+        assert!(matches!(e, DesignError::KeyNotForShape { .. }), "{e:?}");
+        assert_names(&e, &["winding 'path'", "key 'segments_per_turn'"]);
+    }
+
+    #[test]
+    fn missing_required_key() {
+        let e = err(&helix("-radius"));
+        assert!(matches!(e, DesignError::MissingKey { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'radius'", "missing"]);
+    }
+
+    #[test]
+    fn missing_shape() {
+        let e = err(&helix("-shape"));
+        assert_names(
+            &e,
+            &["winding 'coil'", "key 'shape'", "missing", "helix, spiral"],
+        );
+    }
+
+    #[test]
+    fn missing_wire_diameter() {
+        for text in [helix("-wire_diameter"), polyline("-wire_diameter")] {
+            let e = err(&text);
+            assert!(matches!(e, DesignError::MissingKey { .. }), "{e:?}");
+            assert_names(&e, &["key 'wire_diameter'", "missing"]);
+        }
+    }
+
+    #[test]
+    fn missing_origin_axis_turns_height_points() {
+        for (text, key) in [
+            (helix("-origin"), "origin"),
+            (ring("-axis"), "axis"),
+            (spiral("-turns"), "turns"),
+            (cone("-height"), "height"),
+            (spiral("-outer_radius"), "outer_radius"),
+            (polyline("-points"), "points"),
+        ] {
+            let e = err(&text);
+            assert!(matches!(e, DesignError::MissingKey { .. }), "{e:?}");
+            assert_names(&e, &[&format!("key '{key}'"), "missing"]);
+        }
+    }
+
+    #[test]
+    fn wrong_type_string_for_number() {
+        let e = err(&helix(r#"turns = "fifty""#));
+        assert!(matches!(e, DesignError::WrongType { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'coil'",
+                "key 'turns'",
+                "wrong type",
+                "\"fifty\"",
+                "number",
+            ],
+        );
+    }
+
+    #[test]
+    fn wrong_type_in_array_element_names_index() {
+        let e = err(&helix("origin = [0.0, true, 0.0]"));
+        assert_names(&e, &["winding 'coil'", "key 'origin[1]'", "boolean"]);
+    }
+
+    #[test]
+    fn wrong_type_boolean_for_length() {
+        let e = err(&helix("radius = true"));
+        assert_names(
+            &e,
+            &["winding 'coil'", "key 'radius'", "wrong type", "length"],
+        );
+    }
+
+    #[test]
+    fn wrong_array_length() {
+        let e = err(&helix("axis = [0.0, 1.0]"));
+        assert_names(&e, &["winding 'coil'", "key 'axis'", "length 2"]);
+    }
+
+    #[test]
+    fn name_of_wrong_type() {
+        let e = err(&helix("name = 3"));
+        assert_names(&e, &["winding #1", "key 'name'", "integer 3"]);
+    }
+
+    #[test]
+    fn closed_of_wrong_type() {
+        let e = err(&polyline(r#"closed = "yes""#));
+        assert_names(&e, &["winding 'path'", "key 'closed'", "boolean"]);
+    }
+
+    #[test]
+    fn negative_size() {
+        let e = err(&helix("radius = -0.05"));
+        assert!(matches!(e, DesignError::NotPositive { .. }), "{e:?}");
+        assert_eq!(
+            e.to_string(),
+            "design.toml: winding 'coil': key 'radius': must be a positive length in metres, \
+             got -0.05"
+        );
+    }
+
+    #[test]
+    fn negative_size_with_unit_shows_both() {
+        let e = err(&helix(r#"radius = "-5 cm""#));
+        assert_names(&e, &["key 'radius'", "\"-5 cm\"", "-0.05 m"]);
+    }
+
+    #[test]
+    fn zero_size() {
+        let e = err(&helix("length = 0"));
+        assert!(matches!(e, DesignError::NotPositive { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'length'", "positive", "got 0"]);
+    }
+
+    #[test]
+    fn nan_size() {
+        let e = err(&helix("radius = nan"));
+        assert!(matches!(e, DesignError::NotFinite { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'radius'", "NaN", "not finite"]);
+    }
+
+    #[test]
+    fn infinite_size() {
+        let e = err(&helix("radius = inf"));
+        assert!(matches!(e, DesignError::NotFinite { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'radius'", "inf", "not finite"]);
+    }
+
+    #[test]
+    fn overflowing_unit_length_is_infinite() {
+        let e = err(&helix(r#"length = "1e400 m""#));
+        assert!(matches!(e, DesignError::NotFinite { .. }), "{e:?}");
+        assert_names(&e, &["key 'length'", "not finite"]);
+    }
+
+    #[test]
+    fn non_finite_coordinate() {
+        let e = err(&helix("origin = [0.0, -inf, 0.0]"));
+        assert!(matches!(e, DesignError::NotFinite { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'origin[1]'", "-inf"]);
+        let e = err(&polyline("points = [[0.0, 0.0, 0.0], [nan, 0.0, 0.0]]"));
+        assert_names(&e, &["winding 'path'", "key 'points[1][0]'", "NaN"]);
+    }
+
+    #[test]
+    fn zero_wire_diameter() {
+        let e = err(&helix("wire_diameter = 0.0"));
+        assert!(matches!(e, DesignError::NotPositive { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'wire_diameter'"]);
+    }
+
+    #[test]
+    fn zero_turns() {
+        let e = err(&helix("turns = 0"));
+        assert!(matches!(e, DesignError::NotPositive { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'coil'",
+                "key 'turns'",
+                "positive number of turns",
+                "got 0",
+            ],
+        );
+    }
+
+    #[test]
+    fn negative_turns() {
+        let e = err(&spiral("turns = -2.5"));
+        assert!(matches!(e, DesignError::NotPositive { .. }), "{e:?}");
+        assert_names(&e, &["winding 'flat'", "key 'turns'", "got -2.5"]);
+    }
+
+    #[test]
+    fn nan_turns() {
+        let e = err(&cone("turns = nan"));
+        assert!(matches!(e, DesignError::NotFinite { .. }), "{e:?}");
+        assert_names(&e, &["winding 'funnel'", "key 'turns'", "NaN"]);
+    }
+
+    #[test]
+    fn too_many_turns() {
+        let e = err(&helix("turns = 2e6").replace("length = 0.1", "length = 1e4"));
+        assert!(matches!(e, DesignError::TooLarge { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'turns'", "at most"]);
+    }
+
+    #[test]
+    fn ring_turns_must_be_whole() {
+        let e = err(&ring("turns = 2.5"));
+        assert!(matches!(e, DesignError::NotInteger { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &["winding 'loop'", "key 'turns'", "whole number", "got 2.5"],
+        );
+    }
+
+    #[test]
+    fn ring_turns_zero() {
+        let e = err(&ring("turns = 0"));
+        assert!(matches!(e, DesignError::NotPositive { .. }), "{e:?}");
+        assert_names(&e, &["winding 'loop'", "key 'turns'", "got 0"]);
+    }
+
+    #[test]
+    fn ring_turns_nan() {
+        let e = err(&ring("turns = nan"));
+        assert!(matches!(e, DesignError::NotFinite { .. }), "{e:?}");
+        assert_names(&e, &["winding 'loop'", "key 'turns'"]);
+    }
+
+    #[test]
+    fn unknown_shape() {
+        let e = err(&helix(r#"shape = "solenoid""#));
+        assert!(matches!(e, DesignError::UnknownValue { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'coil'",
+                "key 'shape'",
+                "\"solenoid\"",
+                "helix, spiral, cone, ring, polyline",
+            ],
+        );
+    }
+
+    #[test]
+    fn unknown_role() {
+        let e = err(&helix(r#"role = "tertiary""#));
+        assert!(matches!(e, DesignError::UnknownValue { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &["winding 'coil'", "key 'role'", "secondary, primary, other"],
+        );
+    }
+
+    #[test]
+    fn unknown_model() {
+        let e = err(&helix(r#"model = "fem""#));
+        assert!(matches!(e, DesignError::UnknownValue { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'model'", "ring, filament"]);
+    }
+
+    #[test]
+    fn ring_model_on_a_polyline() {
+        let e = err(&polyline(r#"model = "ring""#));
+        assert!(matches!(e, DesignError::ModelNotForShape { .. }), "{e:?}");
+        assert_names(&e, &["winding 'path'", "key 'model'", "filament"]);
+    }
+
+    #[test]
+    fn zero_axis() {
+        let e = err(&helix("axis = [0.0, 0.0, 0.0]"));
+        assert!(matches!(e, DesignError::ZeroAxis { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'axis'", "zero length"]);
+    }
+
+    #[test]
+    fn non_finite_axis() {
+        let e = err(&helix("axis = [0.0, 0.0, inf]"));
+        assert!(matches!(e, DesignError::NotFinite { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'axis[2]'"]);
+    }
+
+    #[test]
+    fn duplicate_names() {
+        let text = format!("{}{}", ring(""), ring("origin = [0.0, 0.0, 1.0]"));
+        let e = err(&text);
+        assert!(matches!(e, DesignError::DuplicateName { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &["winding #2", "key 'name'", "'loop'", "winding #1", "unique"],
+        );
+    }
+
+    #[test]
+    fn default_name_can_collide_and_is_reported() {
+        let text = format!(
+            "{}{}",
+            ring("name = \"winding-2\""),
+            ring("-name").replace("origin = [0.0, 0.0, 0.0]", "origin = [0.0, 0.0, 1.0]",)
+        );
+        let e = err(&text);
+        assert!(matches!(e, DesignError::DuplicateName { .. }), "{e:?}");
+        assert_names(&e, &["winding #2", "'winding-2'"]);
+    }
+
+    #[test]
+    fn bad_name() {
+        for name in ["prim ary", "", "sek\u{fc}nd\u{e4}r", "a.b"] {
+            let e = err(&helix(&format!("name = \"{name}\"")));
+            assert!(matches!(e, DesignError::BadName { .. }), "{e:?}");
+            assert_names(&e, &["winding #1", "key 'name'", &format!("\"{name}\"")]);
+        }
+    }
+
+    #[test]
+    fn bad_name_message_lists_allowed_characters() {
+        let e = err(&helix(r#"name = "a b""#));
+        assert_names(&e, &["letters A-Z a-z, digits, '_' or '-'"]);
+    }
+
+    #[test]
+    fn unknown_unit() {
+        let e = err(&helix(r#"radius = "5 yd""#));
+        assert!(matches!(e, DesignError::BadLength { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &["winding 'coil'", "key 'radius'", "'yd'", "m, cm, mm, um"],
+        );
+    }
+
+    #[test]
+    fn gauge_for_a_radius() {
+        let e = err(&helix(r#"radius = "AWG 10""#));
+        assert!(matches!(e, DesignError::BadLength { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'radius'", "wire_diameter"]);
+    }
+
+    #[test]
+    fn bad_gauge() {
+        let e = err(&helix(r#"wire_diameter = "AWG 50""#));
+        assert_names(&e, &["winding 'coil'", "key 'wire_diameter'", "1 to 40"]);
+    }
+
+    #[test]
+    fn helix_wire_thicker_than_pitch() {
+        // 100 turns on 0.1 m: pitch 1 mm, the wire is 1.2 mm.
+        let e = err(&helix("turns = 100").replace("0.001", "0.0012"));
+        assert!(
+            matches!(e, DesignError::WireThickerThanPitch { .. }),
+            "{e:?}"
+        );
+        assert_names(
+            &e,
+            &[
+                "winding 'coil'",
+                "key 'wire_diameter'",
+                "pitch",
+                "length / turns",
+            ],
+        );
+    }
+
+    #[test]
+    fn wire_equal_to_pitch_is_refused() {
+        // Bare wires at a pitch of exactly their diameter touch.
+        let e = err(&helix("turns = 100"));
+        assert!(
+            matches!(e, DesignError::WireThickerThanPitch { .. }),
+            "{e:?}"
+        );
+    }
+
+    #[test]
+    fn spiral_wire_thicker_than_radial_pitch() {
+        // (0.10 - 0.05) / 30 = 1.7 mm radial pitch, the wire is 2 mm.
+        let e = err(&spiral("turns = 30"));
+        assert!(
+            matches!(e, DesignError::WireThickerThanPitch { .. }),
+            "{e:?}"
+        );
+        assert_names(
+            &e,
+            &[
+                "winding 'flat'",
+                "key 'wire_diameter'",
+                "(outer_radius - inner_radius) / turns",
+            ],
+        );
+    }
+
+    #[test]
+    fn cone_wire_thicker_than_slant_pitch() {
+        // sqrt(0.05^2 + 0.05^2) / 40 = 1.77 mm along the slant, the wire is 2 mm.
+        let e = err(&cone("turns = 40"));
+        assert!(
+            matches!(e, DesignError::WireThickerThanPitch { .. }),
+            "{e:?}"
+        );
+        assert_names(&e, &["winding 'funnel'", "key 'wire_diameter'", "slant"]);
+        // 30 turns give 2.36 mm along the slant although the radial pitch is only 1.7 mm.
+        parse_design(&cone("turns = 30"), FILE).unwrap();
+    }
+
+    #[test]
+    fn spiral_outer_not_above_inner() {
+        for outer in ["0.05", "0.04"] {
+            let e = err(&spiral(&format!("outer_radius = {outer}")));
+            assert!(matches!(e, DesignError::RadiiOrder { .. }), "{e:?}");
+            assert_names(
+                &e,
+                &["winding 'flat'", "key 'outer_radius'", "inner_radius"],
+            );
+        }
+    }
+
+    #[test]
+    fn cone_outer_not_above_inner() {
+        let e = err(&cone("outer_radius = 0.03"));
+        assert!(matches!(e, DesignError::RadiiOrder { .. }), "{e:?}");
+        assert_names(&e, &["winding 'funnel'", "key 'outer_radius'"]);
+    }
+
+    #[test]
+    fn spiral_inner_radius_within_wire() {
+        let e = err(&spiral("inner_radius = 0.001"));
+        assert!(matches!(e, DesignError::RadiusBelowWire { .. }), "{e:?}");
+        assert_names(&e, &["winding 'flat'", "key 'inner_radius'", "wire radius"]);
+    }
+
+    #[test]
+    fn helix_radius_within_wire() {
+        let e = err(&helix("radius = 0.0004"));
+        assert!(matches!(e, DesignError::RadiusBelowWire { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'radius'"]);
+    }
+
+    #[test]
+    fn cone_height_zero() {
+        let e = err(&cone("height = 0"));
+        assert!(matches!(e, DesignError::NotPositive { .. }), "{e:?}");
+        assert_names(&e, &["winding 'funnel'", "key 'height'"]);
+    }
+
+    #[test]
+    fn polyline_too_few_points() {
+        let e = err(&polyline("points = [[0.0, 0.0, 0.0]]"));
+        assert!(
+            matches!(
+                e,
+                DesignError::TooFewPoints {
+                    found: 1,
+                    needed: 2,
+                    ..
+                }
+            ),
+            "{e:?}"
+        );
+        assert_names(
+            &e,
+            &["winding 'path'", "key 'points'", "at least 2", "got 1"],
+        );
+    }
+
+    #[test]
+    fn closed_polyline_too_few_points() {
+        let text = polyline("points = [[0.0, 0.0, 0.0], [0.1, 0.0, 0.0]]");
+        let e = err(&format!("{text}closed = true\n"));
+        assert!(
+            matches!(
+                e,
+                DesignError::TooFewPoints {
+                    found: 2,
+                    needed: 3,
+                    ..
+                }
+            ),
+            "{e:?}"
+        );
+        assert_names(
+            &e,
+            &["winding 'path'", "key 'points'", "closed", "at least 3"],
+        );
+    }
+
+    #[test]
+    fn polyline_coincident_points() {
+        let e = err(&polyline(
+            r#"points = [[0.0, 0.0, 0.0], [0.05, 0.0, 0.0], ["50 mm", 0.0, 0.0]]"#,
+        ));
+        assert!(
+            matches!(
+                e,
+                DesignError::CoincidentPoints {
+                    index_a: 1,
+                    index_b: 2,
+                    ..
+                }
+            ),
+            "{e:?}"
+        );
+        assert_names(
+            &e,
+            &["winding 'path'", "key 'points'", "points[1]", "points[2]"],
+        );
+    }
+
+    #[test]
+    fn closed_polyline_repeating_first_point() {
+        let text = polyline(
+            "points = [[0.0, 0.0, 0.0], [0.1, 0.0, 0.0], [0.1, 0.1, 0.0], [0.0, 0.0, 0.0]]",
+        );
+        let e = err(&format!("{text}closed = true\n"));
+        assert!(
+            matches!(
+                e,
+                DesignError::CoincidentPoints {
+                    index_a: 3,
+                    index_b: 0,
+                    closing: true,
+                    ..
+                }
+            ),
+            "{e:?}"
+        );
+        assert_names(&e, &["winding 'path'", "key 'points'", "do not repeat"]);
+    }
+
+    #[test]
+    fn segments_per_turn_below_three() {
+        let e = err(&helix("segments_per_turn = 2"));
+        assert!(matches!(e, DesignError::TooFewSegments { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'coil'",
+                "key 'segments_per_turn'",
+                "at least 3",
+                "got 2",
+            ],
+        );
+    }
+
+    #[test]
+    fn segments_per_turn_fractional() {
+        let e = err(&ring("segments_per_turn = 12.5"));
+        assert!(matches!(e, DesignError::NotInteger { .. }), "{e:?}");
+        assert_names(&e, &["winding 'loop'", "key 'segments_per_turn'", "12.5"]);
+    }
+
+    #[test]
+    fn filament_model_too_large() {
+        let text = helix("segments_per_turn = 100000")
+            .replace("turns = 50", "turns = 1000")
+            .replace("length = 0.1", "length = 2.0");
+        let e = err(&format!("{text}model = \"filament\"\n"));
+        assert!(matches!(e, DesignError::TooLarge { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'segments_per_turn'"]);
+    }
+
+    #[test]
+    fn windings_whose_wires_intersect() {
+        // A ring of radius 50 mm in the plane z = 20 mm cuts straight through the helix wire.
+        let text = format!(
+            "{}{}",
+            helix(""),
+            ring("origin = [0.0, 0.0, 0.02]").replace("radius = 0.1", "radius = 0.05")
+        );
+        let e = err(&text);
+        assert!(matches!(e, DesignError::Overlap { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'loop'",
+                "key 'origin'",
+                "winding 'coil'",
+                "touches or crosses",
+            ],
+        );
+    }
+
+    #[test]
+    fn reference_design_is_clear_of_overlaps() {
+        // Checked by parse_design itself; here the gap is pinned too: 20 mm between the planes
+        // of the spiral and the helix start, less both wire radii, and the spiral lies outside
+        // the helix radially, so the gap is larger than that.
+        let design = parse_design(GOOD, FILE).unwrap();
+        let gap = crate::overlap::min_surface_gap_m(&design.windings[0], &design.windings[1]);
+        assert!(gap > 0.02 - 0.0002 - 0.0013, "{gap}");
+    }
+}

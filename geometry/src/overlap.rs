@@ -1,0 +1,1486 @@
+//! Checks that wires do not intersect, on the wires themselves (not bounding boxes).
+//!
+//! # Method
+//! Each winding's exact curve ([`Shape::point_at`]) is sampled into a chain of straight pieces
+//! fine enough that no chord strays from the curve by more than [`sampling_sagitta_m`]:
+//! min(wire radius / 10, 5 um). A polyline is already straight; its pieces are only subdivided.
+//! The wire is then the set of points within the wire radius of that chain, and two wires
+//! overlap when their chains come closer than the sum of the radii. Because each chain is within
+//! the sagitta of its curve, a computed gap is within 2 x 5 um = 10 um of the true one.
+//!
+//! Distances between pieces are exact segment-to-segment distances (closest points of two
+//! segments: C. Ericson, "Real-Time Collision Detection", Morgan Kaufmann, 2005, section 5.1.9).
+//! [`check_overlaps`] asks whether any pair of pieces is closer than a fixed radius (the sum of
+//! the wire radii). Candidate pairs come from a uniform spatial hash grid whose cell is at least
+//! that radius and the longest piece: the grid holds the larger chain's pieces near the smaller
+//! chain, and each piece of the smaller chain meets only the pieces in the few cells around it.
+//!
+//! [`min_surface_gap_m`] needs the distance at any range, where no single cell size suits both
+//! near and far windings (small cells find nothing far away, large ones hold everything nearby).
+//! It runs a branch and bound over bounding-box trees of runs of consecutive pieces instead,
+//! which is exact at every range.
+//!
+//! Measured (release build, one thread, on a busy 2-core machine): the 800-turn, 0.4 mm-wire
+//! reference secondary (178 000 pieces) against a 10-turn spiral 1 mm below it, sampling
+//! included: `check_overlaps` 10-15 ms, `min_surface_gap_m` 15-20 ms. Against a 100-turn helix
+//! wound 2 mm outside it over its whole length: about 50-90 ms and 100 ms.
+//!
+//! # Limitations
+//! - The bare wire is checked; insulation is not modelled.
+//! - A ring of N coincident turns is a bundle: it is checked as one wire of the given diameter
+//!   against the other windings, never against itself.
+//! - Helices, spirals and cones are not checked against themselves: the pitch checks of
+//!   [`crate::parse_design`] cover that. Polylines are, for pieces further apart along the wire
+//!   than [`SELF_SKIP_DIAMETERS`] wire diameters (nearer pieces meet at a bend by design).
+//! - A winding needing more than [`MAX_PIECES`] pieces (in the part near the other winding, for
+//!   [`check_overlaps`]; whole, for [`min_surface_gap_m`]) is sampled at that count, with a
+//!   coarser sagitta than stated.
+
+use crate::design::Design;
+use crate::error::DesignError;
+use crate::winding::{Shape, Winding};
+use nalgebra::{Point3, Vector3};
+use std::f64::consts::TAU;
+
+/// Largest chord sagitta aimed for when sampling a curve (m), whatever the wire.
+pub const MAX_SAGITTA_M: f64 = 5e-6;
+
+/// Most pieces one winding is sampled into (bounds memory to some tens of MB per winding).
+pub const MAX_PIECES: usize = 2_000_000;
+
+/// Polyline pieces closer than this many wire diameters along the wire are not checked against
+/// each other: they meet at a bend by design.
+pub const SELF_SKIP_DIAMETERS: f64 = 3.0;
+
+/// Pieces of a polyline are split to at most this many wire diameters, so that the skip window
+/// of [`SELF_SKIP_DIAMETERS`] spans several pieces and a long piece folded back along its
+/// neighbour is still caught.
+const POLYLINE_PIECE_DIAMETERS: f64 = 1.0;
+
+/// Most pieces a polyline is split into for the check (beyond it pieces get longer).
+const MAX_POLYLINE_PIECES: f64 = 200_000.0;
+
+/// Chord sagitta (m) used when sampling `winding`: min(wire radius / 10, [`MAX_SAGITTA_M`]).
+///
+/// A tenth of the wire radius keeps the sampling error well below the size of the wire it
+/// describes; the absolute cap keeps gaps meaningful to 10 um for thick wires.
+pub fn sampling_sagitta_m(winding: &Winding) -> f64 {
+    (0.1 * winding.wire_radius_m()).min(MAX_SAGITTA_M)
+}
+
+/// Check that no two windings' wires touch or cross, and that no polyline crosses itself.
+///
+/// Pairs are checked in file order; the first failure is returned, naming the later winding of
+/// the pair. `source` labels messages.
+///
+/// A pair whose bounding boxes, grown by the wire radii, are apart passes without sampling;
+/// otherwise each winding is sampled only where it comes within reach of the other's box, so a
+/// 100 000-turn helix costs little next to a small pickup loop.
+pub fn check_overlaps(design: &Design, source: &str) -> Result<(), DesignError> {
+    let boxes: Vec<Aabb> = design
+        .windings
+        .iter()
+        .map(|w| curve_bounds(&w.shape))
+        .collect();
+    for (j, wj) in design.windings.iter().enumerate() {
+        if let Shape::Polyline { points_m, .. } = &wj.shape {
+            let chain = Chain::of(wj, None);
+            if let Some(hit) = self_overlap(&chain) {
+                let n = points_m.len();
+                let a = chain.orig[hit.ia] as usize;
+                let b = chain.orig[hit.ib] as usize;
+                return Err(DesignError::SelfIntersection {
+                    source_name: source.to_string(),
+                    item: label(wj),
+                    piece_a: a,
+                    piece_a_end: (a + 1) % n,
+                    piece_b: b,
+                    piece_b_end: (b + 1) % n,
+                    gap_m: hit.d2.sqrt() - 2.0 * chain.wire_radius_m,
+                    near_m: hit.near(),
+                });
+            }
+        }
+        for (i, wi) in design.windings[..j].iter().enumerate() {
+            let touch_m = wi.wire_radius_m() + wj.wire_radius_m();
+            if !boxes[i].inflated(touch_m).intersects(&boxes[j]) {
+                continue;
+            }
+            let ci = Chain::of(wi, Some(&boxes[j].inflated(touch_m)));
+            let cj = Chain::of(wj, Some(&boxes[i].inflated(touch_m)));
+            if let Some(hit) = nearest_within_grid(&ci, &cj, touch_m) {
+                let key = match wj.shape {
+                    Shape::Polyline { .. } => "points",
+                    _ => "origin",
+                };
+                return Err(DesignError::Overlap {
+                    source_name: source.to_string(),
+                    item: label(wj),
+                    key,
+                    other: label(wi),
+                    gap_m: hit.d2.sqrt() - touch_m,
+                    near_m: hit.near(),
+                });
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Smallest distance (m) between the surfaces of the two windings' wires: the smallest distance
+/// between their centrelines minus both wire radii. Negative when the wires intersect;
+/// `f64::INFINITY` when either winding has no curve (a polyline of fewer than 2 points).
+///
+/// Accurate to 10 um (see the module docs). Exact over the sampled chains at any range; the cost
+/// grows with the number of pieces near the closest approach, not with the product of the piece
+/// counts. Both windings are sampled whole, so this suits windings of up to some thousands of
+/// turns (see [`MAX_PIECES`]).
+pub fn min_surface_gap_m(a: &Winding, b: &Winding) -> f64 {
+    let ca = Chain::of(a, None);
+    let cb = Chain::of(b, None);
+    let radii_m = ca.wire_radius_m + cb.wire_radius_m;
+    min_centreline_distance_m(&ca, &cb) - radii_m
+}
+
+/// Smallest centreline distance (m) of two chains, or infinity when either is empty.
+fn min_centreline_distance_m(a: &Chain, b: &Chain) -> f64 {
+    if a.n_pieces() == 0 || b.n_pieces() == 0 {
+        return f64::INFINITY;
+    }
+    nearest_tree(a, b).sqrt()
+}
+
+/// How a winding is named in messages.
+fn label(winding: &Winding) -> String {
+    format!("winding '{}'", winding.name)
+}
+
+/// Box holding a winding's whole centreline, from its sizes alone (no sampling).
+///
+/// An axisymmetric curve lies in the cylinder of its largest radius around the axis segment from
+/// the origin to the end height; along coordinate k such a cylinder reaches R sqrt(1 - a_k^2)
+/// beyond the segment, a_k being the axis component.
+fn curve_bounds(shape: &Shape) -> Aabb {
+    let (radius_m, height_m) = match *shape {
+        Shape::Helix {
+            radius_m, length_m, ..
+        } => (radius_m, length_m),
+        Shape::Spiral {
+            inner_radius_m,
+            outer_radius_m,
+            ..
+        } => (inner_radius_m.max(outer_radius_m), 0.0),
+        Shape::Cone {
+            inner_radius_m,
+            outer_radius_m,
+            height_m,
+            ..
+        } => (inner_radius_m.max(outer_radius_m), height_m),
+        Shape::Ring { radius_m, .. } => (radius_m, 0.0),
+        Shape::Polyline { ref points_m, .. } => {
+            let mut b = Aabb::empty();
+            for p in points_m {
+                b.grow_point(p);
+            }
+            return b;
+        }
+    };
+    let Some((origin_m, axis)) = shape.origin_axis() else {
+        return Aabb::empty();
+    };
+    let end_m = origin_m + axis.as_ref() * height_m;
+    let mut b = Aabb::of_segment(&origin_m, &end_m);
+    for k in 0..3 {
+        let reach_m = radius_m * (1.0 - axis[k] * axis[k]).max(0.0).sqrt();
+        b.lo[k] -= reach_m;
+        b.hi[k] += reach_m;
+    }
+    b
+}
+
+/// A winding's centreline, or the part of it near some box, as straight pieces.
+struct Chain {
+    /// Start and end of each piece (m). Consecutive pieces usually join; where only part of a
+    /// winding is sampled, there are gaps between the runs.
+    segs: Vec<[Point3<f64>; 2]>,
+    wire_radius_m: f64,
+    /// Longest piece (m).
+    max_piece_m: f64,
+    /// Polylines only: whether the last point joins the first.
+    closed: bool,
+    /// Polylines only: index of the polyline segment each piece belongs to.
+    orig: Vec<u32>,
+    /// Polylines only: arc length (m) from the start of the polyline to each piece's ends.
+    arc_m: Vec<[f64; 2]>,
+    /// Polylines only: total arc length (m).
+    total_arc_m: f64,
+}
+
+impl Chain {
+    /// Sample `winding`; with `within`, keep only the parts whose boxes meet it.
+    fn of(winding: &Winding, within: Option<&Aabb>) -> Self {
+        let mut chain = Chain {
+            segs: Vec::new(),
+            wire_radius_m: winding.wire_radius_m(),
+            max_piece_m: 0.0,
+            closed: false,
+            orig: Vec::new(),
+            arc_m: Vec::new(),
+            total_arc_m: 0.0,
+        };
+        match &winding.shape {
+            Shape::Polyline { points_m, closed } => {
+                chain.closed = *closed;
+                split_polyline(&mut chain, points_m, winding.wire_diameter_m, within);
+            }
+            shape => chain.segs = sample_curve(shape, sampling_sagitta_m(winding), within),
+        }
+        chain.max_piece_m = chain
+            .segs
+            .iter()
+            .map(|[p, q]| (q - p).norm())
+            .fold(0.0, f64::max);
+        chain
+    }
+
+    fn n_pieces(&self) -> usize {
+        self.segs.len()
+    }
+
+    fn piece(&self, i: usize) -> (Point3<f64>, Point3<f64>) {
+        let [p, q] = self.segs[i];
+        (p, q)
+    }
+
+    fn piece_box(&self, i: usize) -> Aabb {
+        let [p, q] = &self.segs[i];
+        Aabb::of_segment(p, q)
+    }
+
+    fn bounds(&self) -> Aabb {
+        let mut b = Aabb::empty();
+        for [p, q] in &self.segs {
+            b.grow_point(p);
+            b.grow_point(q);
+        }
+        b
+    }
+}
+
+/// Angle (rad) of one chunk of a sampled curve: an eighth of a turn keeps a chunk's box tight
+/// around its arc, and a 100 000-turn winding under a million chunks.
+const CHUNK_RAD: f64 = TAU / 8.0;
+
+/// Pieces of an axisymmetric curve at equal angle steps small enough for the given sagitta,
+/// keeping only the chunks (eighths of a turn) whose boxes meet `within`.
+///
+/// The step follows from the error of linear interpolation: a chord over a parameter interval h
+/// strays from the curve by at most h^2/8 max|r''| (R. L. Burden and J. D. Faires, "Numerical
+/// Analysis", 9th ed., 2011, theorem 3.3, applied along the direction of the deviation). With the
+/// angle phi as parameter, r = a + b phi and a linear rise, |r''| = sqrt(r^2 + 4 b^2), largest at
+/// the outer radius; so a step of sqrt(8 s / sqrt(R^2 + 4 b^2)) keeps the sagitta below s. The
+/// same bound, over a whole chunk, gives how far the chunk's arc strays from the chord between
+/// its ends, and so a box that surely holds the arc.
+fn sample_curve(shape: &Shape, sagitta_m: f64, within: Option<&Aabb>) -> Vec<[Point3<f64>; 2]> {
+    let (outer_m, growth_m, turns) = match *shape {
+        Shape::Helix {
+            radius_m, turns, ..
+        } => (radius_m, 0.0, turns),
+        Shape::Spiral {
+            inner_radius_m,
+            outer_radius_m,
+            turns,
+            ..
+        }
+        | Shape::Cone {
+            inner_radius_m,
+            outer_radius_m,
+            turns,
+            ..
+        } => (
+            outer_radius_m.max(inner_radius_m),
+            (outer_radius_m - inner_radius_m) / (TAU * turns),
+            turns,
+        ),
+        // A ring's curve is one turn whatever its count.
+        Shape::Ring { radius_m, .. } => (radius_m, 0.0, 1.0),
+        Shape::Polyline { .. } => return Vec::new(),
+    };
+    let curvature_scale_m = outer_m.hypot(2.0 * growth_m);
+    let total_rad = TAU * turns;
+    let step_rad = (8.0 * sagitta_m / curvature_scale_m).sqrt();
+    // Validated designs give finite, positive values here; a hand-built winding with zero or NaN
+    // sizes has no curve to sample.
+    let n_chunks_f = (total_rad / CHUNK_RAD).ceil().max(1.0);
+    let per_chunk_f = (total_rad / n_chunks_f / step_rad).ceil().max(1.0);
+    if !(n_chunks_f.is_finite() && per_chunk_f.is_finite()) || n_chunks_f > 1e8 {
+        return Vec::new();
+    }
+    let n_chunks = n_chunks_f as usize;
+    let chunk_rad = total_rad / n_chunks_f;
+    let chunk_bow_m = chunk_rad * chunk_rad / 8.0 * curvature_scale_m;
+    let t_of = |c: usize, f: f64| (c as f64 + f) / n_chunks_f;
+
+    let mut selected: Vec<usize> = Vec::new();
+    let mut start = shape.point_at(0.0);
+    for c in 0..n_chunks {
+        let end = shape.point_at(t_of(c + 1, 0.0));
+        let keep = within.is_none_or(|w| {
+            Aabb::of_segment(&start, &end)
+                .inflated(chunk_bow_m)
+                .intersects(w)
+        });
+        if keep {
+            selected.push(c);
+        }
+        start = end;
+    }
+    if selected.is_empty() {
+        return Vec::new();
+    }
+    // Past the memory cap, fewer pieces per chunk: coarser than the stated sagitta, documented.
+    let per_chunk = (per_chunk_f as usize)
+        .min(MAX_PIECES / selected.len())
+        .max(1);
+    let mut segs = Vec::with_capacity(selected.len() * per_chunk);
+    for c in selected {
+        let mut p = shape.point_at(t_of(c, 0.0));
+        for k in 1..=per_chunk {
+            let q = shape.point_at(t_of(c, k as f64 / per_chunk as f64));
+            segs.push([p, q]);
+            p = q;
+        }
+    }
+    segs
+}
+
+/// Split each polyline segment into pieces of at most about one wire diameter, keeping those
+/// whose boxes meet `within`, with their arc positions and source segments.
+fn split_polyline(
+    chain: &mut Chain,
+    points_m: &[Point3<f64>],
+    wire_diameter_m: f64,
+    within: Option<&Aabb>,
+) {
+    let n = points_m.len();
+    let n_seg = match (n, chain.closed) {
+        (0 | 1, _) => return,
+        (_, true) => n,
+        (_, false) => n - 1,
+    };
+    let total_m: f64 = (0..n_seg)
+        .map(|i| (points_m[(i + 1) % n] - points_m[i]).norm())
+        .sum();
+    chain.total_arc_m = total_m;
+    let target_m = (POLYLINE_PIECE_DIAMETERS * wire_diameter_m).max(total_m / MAX_POLYLINE_PIECES);
+    let mut arc_m = 0.0;
+    for i in 0..n_seg {
+        let a = points_m[i];
+        let b = points_m[(i + 1) % n];
+        let len_m = (b - a).norm();
+        let parts = (len_m / target_m).ceil();
+        // NaN or zero target (hand-built winding) gives one part; the cap guards memory.
+        let parts = if parts.is_finite() {
+            parts.clamp(1.0, MAX_POLYLINE_PIECES) as usize
+        } else {
+            1
+        };
+        for k in 0..parts {
+            let f0 = k as f64 / parts as f64;
+            let f1 = (k + 1) as f64 / parts as f64;
+            let p = a + (b - a) * f0;
+            let q = if k + 1 == parts { b } else { a + (b - a) * f1 };
+            if within.is_none_or(|w| Aabb::of_segment(&p, &q).intersects(w)) {
+                chain.segs.push([p, q]);
+                chain.orig.push(i as u32);
+                chain.arc_m.push([arc_m + len_m * f0, arc_m + len_m * f1]);
+            }
+        }
+        arc_m += len_m;
+    }
+}
+
+/// Axis-aligned box.
+#[derive(Debug, Clone, Copy)]
+struct Aabb {
+    lo: Vector3<f64>,
+    hi: Vector3<f64>,
+}
+
+impl Aabb {
+    fn empty() -> Self {
+        Aabb {
+            lo: Vector3::repeat(f64::INFINITY),
+            hi: Vector3::repeat(f64::NEG_INFINITY),
+        }
+    }
+
+    fn of_segment(p: &Point3<f64>, q: &Point3<f64>) -> Self {
+        Aabb {
+            lo: p.coords.inf(&q.coords),
+            hi: p.coords.sup(&q.coords),
+        }
+    }
+
+    fn grow_point(&mut self, p: &Point3<f64>) {
+        self.lo = self.lo.inf(&p.coords);
+        self.hi = self.hi.sup(&p.coords);
+    }
+
+    fn union(&self, other: &Aabb) -> Aabb {
+        Aabb {
+            lo: self.lo.inf(&other.lo),
+            hi: self.hi.sup(&other.hi),
+        }
+    }
+
+    fn inflated(&self, by: f64) -> Aabb {
+        Aabb {
+            lo: self.lo.add_scalar(-by),
+            hi: self.hi.add_scalar(by),
+        }
+    }
+
+    /// Squared distance between the boxes (0 when they meet).
+    fn dist2(&self, other: &Aabb) -> f64 {
+        let mut d2 = 0.0;
+        for k in 0..3 {
+            let gap = (other.lo[k] - self.hi[k]).max(self.lo[k] - other.hi[k]);
+            if gap > 0.0 {
+                d2 += gap * gap;
+            }
+        }
+        d2
+    }
+
+    fn intersects(&self, other: &Aabb) -> bool {
+        (0..3).all(|k| self.lo[k] <= other.hi[k] && other.lo[k] <= self.hi[k])
+    }
+}
+
+/// Closest approach of two pieces.
+#[derive(Debug, Clone, Copy)]
+struct Hit {
+    /// Squared centreline distance (m^2).
+    d2: f64,
+    /// Piece of the first chain.
+    ia: usize,
+    /// Piece of the second chain.
+    ib: usize,
+    /// Closest point on the first piece.
+    ca: Point3<f64>,
+    /// Closest point on the second piece.
+    cb: Point3<f64>,
+}
+
+impl Hit {
+    fn near(&self) -> [f64; 3] {
+        let mid = nalgebra::center(&self.ca, &self.cb);
+        [mid.x, mid.y, mid.z]
+    }
+}
+
+/// Squared distance and closest points of segments p1-q1 and p2-q2.
+///
+/// The clamped closest-point method of Ericson, "Real-Time Collision Detection", 2005,
+/// section 5.1.9: minimise over s, t in [0, 1] by solving the unclamped 2x2 system, then clamping
+/// one parameter and re-solving the other.
+fn segment_distance2(
+    p1: &Point3<f64>,
+    q1: &Point3<f64>,
+    p2: &Point3<f64>,
+    q2: &Point3<f64>,
+) -> (f64, Point3<f64>, Point3<f64>) {
+    let d1 = q1 - p1;
+    let d2 = q2 - p2;
+    let r = p1 - p2;
+    let a = d1.norm_squared();
+    let e = d2.norm_squared();
+    let f = d2.dot(&r);
+    let tiny = f64::MIN_POSITIVE;
+    let (s, t) = if a <= tiny && e <= tiny {
+        (0.0, 0.0)
+    } else if a <= tiny {
+        (0.0, (f / e).clamp(0.0, 1.0))
+    } else {
+        let c = d1.dot(&r);
+        if e <= tiny {
+            ((-c / a).clamp(0.0, 1.0), 0.0)
+        } else {
+            let b = d1.dot(&d2);
+            let denom = a * e - b * b;
+            // Parallel pieces (denom 0): any s works; 0 is as good as another before clamping t.
+            let s = if denom > 0.0 {
+                ((b * f - c * e) / denom).clamp(0.0, 1.0)
+            } else {
+                0.0
+            };
+            let t = (b * s + f) / e;
+            if t < 0.0 {
+                ((-c / a).clamp(0.0, 1.0), 0.0)
+            } else if t > 1.0 {
+                (((b - c) / a).clamp(0.0, 1.0), 1.0)
+            } else {
+                (s, t)
+            }
+        }
+    };
+    let ca = p1 + d1 * s;
+    let cb = p2 + d2 * t;
+    ((ca - cb).norm_squared(), ca, cb)
+}
+
+type CellKey = [i64; 3];
+
+/// Most hash buckets of a grid (16 MB of offsets); beyond it cells share buckets more often,
+/// which costs time, never correctness.
+const MAX_BUCKETS: usize = 1 << 22;
+
+/// Uniform spatial hash grid over the pieces of one chain.
+///
+/// Cells are hashed into a flat table of buckets (M. Teschner, B. Heidelberger, M. Mueller,
+/// D. Pomeranets and M. Gross, "Optimized Spatial Hashing for Collision Detection of Deformable
+/// Objects", Proc. Vision, Modeling, Visualization, 2003, section 4: the cell hash
+/// (x p1 xor y p2 xor z p3) with large primes p1, p2, p3). The table is filled by a counting
+/// sort, two linear passes, instead of a map of vectors. Two cells may share a bucket; their
+/// pieces then become extra candidates, which the box test of the scan drops.
+struct Grid {
+    cell_m: f64,
+    /// log2 of the number of buckets.
+    bits: u32,
+    /// Bucket b holds `items[starts[b]..starts[b + 1]]`.
+    starts: Vec<u32>,
+    /// Piece indices, grouped by bucket.
+    items: Vec<u32>,
+}
+
+impl Grid {
+    /// Grid over the pieces of `chain` whose boxes meet `within`.
+    fn build(chain: &Chain, cell_m: f64, within: &Aabb) -> Self {
+        // (cell hash, piece) for every cell each piece's box overlaps.
+        let mut entries: Vec<(u64, u32)> = Vec::new();
+        for i in 0..chain.n_pieces() {
+            let b = chain.piece_box(i);
+            if b.intersects(within) {
+                for_cells(&b, cell_m, |key| entries.push((cell_hash(&key), i as u32)));
+            }
+        }
+        // About two buckets per entry keeps sharing rare.
+        let n_buckets = (2 * entries.len())
+            .next_power_of_two()
+            .clamp(16, MAX_BUCKETS);
+        let bits = n_buckets.trailing_zeros();
+        let bucket = |h: u64| (h >> (64 - bits)) as usize;
+        let mut starts = vec![0u32; n_buckets + 1];
+        for &(h, _) in &entries {
+            starts[bucket(h) + 1] += 1;
+        }
+        for b in 0..n_buckets {
+            starts[b + 1] += starts[b];
+        }
+        let mut fill = starts.clone();
+        let mut items = vec![0u32; entries.len()];
+        for &(h, i) in &entries {
+            let slot = &mut fill[bucket(h)];
+            items[*slot as usize] = i;
+            *slot += 1;
+        }
+        Grid {
+            cell_m,
+            bits,
+            starts,
+            items,
+        }
+    }
+
+    /// Pieces in the bucket of cell `key` (a superset of the pieces in that cell).
+    fn cell_items(&self, key: &CellKey) -> &[u32] {
+        let b = (cell_hash(key) >> (64 - self.bits)) as usize;
+        &self.items[self.starts[b] as usize..self.starts[b + 1] as usize]
+    }
+}
+
+/// Hash of a cell: Teschner et al.'s (2003) prime products, then a multiply by an odd constant
+/// with well-mixed bits (2^64 / golden ratio) so that the top bits, which pick the bucket,
+/// depend on all three coordinates.
+fn cell_hash(key: &CellKey) -> u64 {
+    let [x, y, z] = *key;
+    let h = (x as u64).wrapping_mul(73_856_093)
+        ^ (y as u64).wrapping_mul(19_349_663)
+        ^ (z as u64).wrapping_mul(83_492_791);
+    h.wrapping_mul(0x9e37_79b9_7f4a_7c15)
+}
+
+/// Call `f` for every grid cell the box overlaps.
+fn for_cells(b: &Aabb, cell_m: f64, mut f: impl FnMut(CellKey)) {
+    // `as` saturates, so coordinates far outside the i64 range of cells cannot wrap around.
+    let lo: [i64; 3] = std::array::from_fn(|k| (b.lo[k] / cell_m).floor() as i64);
+    let hi: [i64; 3] = std::array::from_fn(|k| (b.hi[k] / cell_m).floor() as i64);
+    for x in lo[0]..=hi[0] {
+        for y in lo[1]..=hi[1] {
+            for z in lo[2]..=hi[2] {
+                f([x, y, z]);
+            }
+        }
+    }
+}
+
+/// Closest pair of pieces of `a` and `b` whose centreline distance is at most `radius_m`, found
+/// through a hash grid over the chain with fewer pieces. `None` when no pair is that close.
+fn nearest_within_grid(a: &Chain, b: &Chain, radius_m: f64) -> Option<Hit> {
+    if a.n_pieces() == 0 || b.n_pieces() == 0 {
+        return None;
+    }
+    // Grid over the larger chain, holding only its pieces near the smaller one; the smaller
+    // chain's pieces are the queries. Inserting a piece costs less than querying one (a query
+    // visits up to 64 cells), and near the other winding both lists shrink to what matters.
+    let (small, large, swapped) = if a.n_pieces() <= b.n_pieces() {
+        (a, b, false)
+    } else {
+        (b, a, true)
+    };
+    let cell_m = radius_m.max(a.max_piece_m).max(b.max_piece_m);
+    if !(cell_m > 0.0 && cell_m.is_finite()) {
+        return None;
+    }
+    let grid = Grid::build(large, cell_m, &small.bounds().inflated(radius_m));
+    if grid.items.is_empty() {
+        return None;
+    }
+    let reach = large.bounds().inflated(radius_m);
+    let hit = scan(small, large, &grid, radius_m, &reach, |_, _| false)?;
+    Some(if swapped {
+        // The scan reports (small, large) = (b, a); put it back as (a, b).
+        Hit {
+            ia: hit.ib,
+            ib: hit.ia,
+            ca: hit.cb,
+            cb: hit.ca,
+            ..hit
+        }
+    } else {
+        hit
+    })
+}
+
+/// For each piece of `query` inside `reach`, visit the pieces of `indexed` in the grid cells
+/// around it and keep the closest pair within `radius_m`, except pairs `skip(iq, ii)` rejects.
+fn scan(
+    query: &Chain,
+    indexed: &Chain,
+    grid: &Grid,
+    radius_m: f64,
+    reach: &Aabb,
+    skip: impl Fn(usize, usize) -> bool,
+) -> Option<Hit> {
+    let mut best: Option<Hit> = None;
+    let mut best_d2 = radius_m * radius_m;
+    // Last query piece that visited each indexed piece: a piece spanning several cells is
+    // measured once per query piece.
+    let mut seen = vec![u32::MAX; indexed.n_pieces()];
+    for iq in 0..query.n_pieces() {
+        let qbox = query.piece_box(iq);
+        if !qbox.intersects(reach) {
+            continue;
+        }
+        let (p, q) = query.piece(iq);
+        let search = qbox.inflated(radius_m);
+        for_cells(&search, grid.cell_m, |key| {
+            for &ii in grid.cell_items(&key) {
+                let ii_usize = ii as usize;
+                if seen[ii_usize] == iq as u32 {
+                    continue;
+                }
+                seen[ii_usize] = iq as u32;
+                if skip(iq, ii_usize) || qbox.dist2(&indexed.piece_box(ii_usize)) > best_d2 {
+                    continue;
+                }
+                let (r, s) = indexed.piece(ii_usize);
+                let (d2, ca, cb) = segment_distance2(&p, &q, &r, &s);
+                if d2 <= best_d2 {
+                    best_d2 = d2;
+                    best = Some(Hit {
+                        d2,
+                        ia: iq,
+                        ib: ii_usize,
+                        ca,
+                        cb,
+                    });
+                }
+            }
+        });
+    }
+    best
+}
+
+/// Closest pair of non-neighbouring pieces of a polyline whose centrelines come within one wire
+/// diameter (their surfaces touch or cross). Pieces nearer than [`SELF_SKIP_DIAMETERS`] wire
+/// diameters along the wire are neighbours.
+fn self_overlap(chain: &Chain) -> Option<Hit> {
+    let n = chain.n_pieces();
+    if n < 2 {
+        return None;
+    }
+    let touch_m = 2.0 * chain.wire_radius_m;
+    let skip_m = SELF_SKIP_DIAMETERS * touch_m;
+    let total_m = chain.total_arc_m;
+    let cell_m = touch_m.max(chain.max_piece_m);
+    if !(cell_m > 0.0 && cell_m.is_finite()) {
+        return None;
+    }
+    let bounds = chain.bounds();
+    let grid = Grid::build(chain, cell_m, &bounds);
+    let reach = bounds.inflated(touch_m);
+    let arc = &chain.arc_m;
+    scan(chain, chain, &grid, touch_m, &reach, |i, j| {
+        // Each unordered pair once.
+        if j <= i {
+            return true;
+        }
+        // Pieces are stored in curve order, so piece j starts after piece i ends.
+        let mut along_m = arc[j][0] - arc[i][1];
+        if chain.closed {
+            along_m = along_m.min(total_m - arc[j][1] + arc[i][0]);
+        }
+        along_m < skip_m
+    })
+}
+
+/// Node of a bounding-box tree over a run of consecutive pieces.
+struct Node {
+    bounds: Aabb,
+    first: usize,
+    count: usize,
+    /// Child nodes, or `None` for a leaf.
+    children: Option<(usize, usize)>,
+}
+
+/// Pieces per leaf: small enough to prune well, large enough that the tree stays shallow.
+const LEAF_PIECES: usize = 8;
+
+/// Bounding-box tree over a chain. Consecutive pieces are close in space, so halving index
+/// ranges gives tight boxes without any sorting.
+fn build_tree(chain: &Chain) -> Vec<Node> {
+    fn build(chain: &Chain, first: usize, count: usize, nodes: &mut Vec<Node>) -> usize {
+        let idx = nodes.len();
+        nodes.push(Node {
+            bounds: Aabb::empty(),
+            first,
+            count,
+            children: None,
+        });
+        if count <= LEAF_PIECES {
+            let mut b = Aabb::empty();
+            for i in first..first + count {
+                b = b.union(&chain.piece_box(i));
+            }
+            nodes[idx].bounds = b;
+        } else {
+            let half = count / 2;
+            let left = build(chain, first, half, nodes);
+            let right = build(chain, first + half, count - half, nodes);
+            nodes[idx].bounds = nodes[left].bounds.union(&nodes[right].bounds);
+            nodes[idx].children = Some((left, right));
+        }
+        idx
+    }
+    let mut nodes = Vec::with_capacity(2 * chain.n_pieces() / LEAF_PIECES + 2);
+    build(chain, 0, chain.n_pieces(), &mut nodes);
+    nodes
+}
+
+/// Smallest squared centreline distance of two non-empty chains, by branch and bound over their
+/// bounding-box trees: a pair of nodes is opened only while its boxes are nearer than the best
+/// pair of pieces found so far, nearer pairs first.
+fn nearest_tree(a: &Chain, b: &Chain) -> f64 {
+    let ta = build_tree(a);
+    let tb = build_tree(b);
+    let mut best_d2 = f64::INFINITY;
+    let mut stack = vec![(0usize, 0usize)];
+    while let Some((na, nb)) = stack.pop() {
+        let (node_a, node_b) = (&ta[na], &tb[nb]);
+        if node_a.bounds.dist2(&node_b.bounds) >= best_d2 {
+            continue;
+        }
+        match (node_a.children, node_b.children) {
+            (None, None) => {
+                for i in node_a.first..node_a.first + node_a.count {
+                    let (p, q) = a.piece(i);
+                    for j in node_b.first..node_b.first + node_b.count {
+                        let (r, s) = b.piece(j);
+                        best_d2 = best_d2.min(segment_distance2(&p, &q, &r, &s).0);
+                    }
+                }
+            }
+            (ca, cb) => {
+                // Open the larger node; push the farther child pair first so the nearer one is
+                // explored first and tightens the bound early.
+                let pairs = match (ca, cb) {
+                    (Some((l, r)), _) if cb.is_none() || node_a.count >= node_b.count => {
+                        [(l, nb), (r, nb)]
+                    }
+                    (_, Some((l, r))) => [(na, l), (na, r)],
+                    // Both None is the arm above; (Some, None) is taken by the first arm.
+                    _ => continue,
+                };
+                let d = |&(x, y): &(usize, usize)| ta[x].bounds.dist2(&tb[y].bounds);
+                let (near, far) = if d(&pairs[0]) <= d(&pairs[1]) {
+                    (pairs[0], pairs[1])
+                } else {
+                    (pairs[1], pairs[0])
+                };
+                stack.push(far);
+                stack.push(near);
+            }
+        }
+    }
+    best_d2
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::winding::{Model, Role};
+    use nalgebra::Unit;
+    use std::time::Instant;
+
+    fn winding(name: &str, wire_diameter_m: f64, shape: Shape) -> Winding {
+        Winding {
+            name: name.to_string(),
+            role: Role::Other,
+            model: Model::Ring,
+            wire_diameter_m,
+            segments_per_turn: None,
+            shape,
+        }
+    }
+
+    fn z_axis() -> Unit<Vector3<f64>> {
+        Vector3::z_axis()
+    }
+
+    fn helix(name: &str, z_m: f64, radius_m: f64, length_m: f64, turns: f64, d_m: f64) -> Winding {
+        winding(
+            name,
+            d_m,
+            Shape::Helix {
+                origin_m: Point3::new(0.0, 0.0, z_m),
+                axis: z_axis(),
+                radius_m,
+                length_m,
+                turns,
+            },
+        )
+    }
+
+    fn spiral(name: &str, z_m: f64, inner_m: f64, outer_m: f64, turns: f64, d_m: f64) -> Winding {
+        winding(
+            name,
+            d_m,
+            Shape::Spiral {
+                origin_m: Point3::new(0.0, 0.0, z_m),
+                axis: z_axis(),
+                inner_radius_m: inner_m,
+                outer_radius_m: outer_m,
+                turns,
+            },
+        )
+    }
+
+    fn ring(name: &str, centre_m: Point3<f64>, radius_m: f64, count: u32, d_m: f64) -> Winding {
+        winding(
+            name,
+            d_m,
+            Shape::Ring {
+                origin_m: centre_m,
+                axis: z_axis(),
+                radius_m,
+                count,
+            },
+        )
+    }
+
+    fn polyline(name: &str, pts: &[[f64; 3]], closed: bool, d_m: f64) -> Winding {
+        winding(
+            name,
+            d_m,
+            Shape::Polyline {
+                points_m: pts.iter().map(|p| Point3::from(*p)).collect(),
+                closed,
+            },
+        )
+    }
+
+    fn design(windings: Vec<Winding>) -> Design {
+        Design {
+            version: 1,
+            windings,
+        }
+    }
+
+    /// The reference secondary: 800 turns of 0.4 mm wire, radius 50 mm, 0.40 m long from z = 0.10.
+    fn secondary() -> Winding {
+        helix("secondary", 0.10, 0.05, 0.40, 800.0, 0.0004)
+    }
+
+    /// Every pair of pieces: the obviously correct answer the fast paths must reproduce.
+    fn brute_min_d(a: &Chain, b: &Chain) -> f64 {
+        let mut best = f64::INFINITY;
+        for i in 0..a.n_pieces() {
+            let (p, q) = a.piece(i);
+            for j in 0..b.n_pieces() {
+                let (r, s) = b.piece(j);
+                best = best.min(segment_distance2(&p, &q, &r, &s).0);
+            }
+        }
+        best.sqrt()
+    }
+
+    #[test]
+    fn segment_distance_cases() {
+        let p = |x, y, z| Point3::new(x, y, z);
+        // Crossing at right angles, 1 apart in z.
+        let (d2, ..) = segment_distance2(
+            &p(-1.0, 0.0, 0.0),
+            &p(1.0, 0.0, 0.0),
+            &p(0.0, -1.0, 1.0),
+            &p(0.0, 1.0, 1.0),
+        );
+        assert!((d2 - 1.0).abs() < 1e-15);
+        // Parallel and overlapping, 2 apart.
+        let (d2, ..) = segment_distance2(
+            &p(0.0, 0.0, 0.0),
+            &p(1.0, 0.0, 0.0),
+            &p(0.5, 2.0, 0.0),
+            &p(1.5, 2.0, 0.0),
+        );
+        assert!((d2 - 4.0).abs() < 1e-15);
+        // Collinear with a gap of 1 between the ends.
+        let (d2, ..) = segment_distance2(
+            &p(0.0, 0.0, 0.0),
+            &p(1.0, 0.0, 0.0),
+            &p(2.0, 0.0, 0.0),
+            &p(3.0, 0.0, 0.0),
+        );
+        assert!((d2 - 1.0).abs() < 1e-15);
+        // End point to interior.
+        let (d2, ca, cb) = segment_distance2(
+            &p(0.0, 0.0, 0.0),
+            &p(0.0, 0.0, 1.0),
+            &p(-1.0, 3.0, 2.0),
+            &p(1.0, 3.0, 2.0),
+        );
+        assert!((d2 - 10.0).abs() < 1e-14);
+        assert_eq!(ca, p(0.0, 0.0, 1.0));
+        assert_eq!(cb, p(0.0, 3.0, 2.0));
+        // Degenerate (a point) against a segment.
+        let (d2, ..) = segment_distance2(
+            &p(0.5, 1.0, 0.0),
+            &p(0.5, 1.0, 0.0),
+            &p(0.0, 0.0, 0.0),
+            &p(1.0, 0.0, 0.0),
+        );
+        assert!((d2 - 1.0).abs() < 1e-15);
+    }
+
+    #[test]
+    fn sampling_keeps_chords_within_the_sagitta() {
+        let shapes = [
+            secondary(),
+            spiral("s", 0.0, 0.002, 0.13, 6.0, 0.0026),
+            winding(
+                "c",
+                0.001,
+                Shape::Cone {
+                    origin_m: Point3::origin(),
+                    axis: Unit::new_normalize(Vector3::new(1.0, 2.0, 3.0)),
+                    inner_radius_m: 0.01,
+                    outer_radius_m: 0.2,
+                    height_m: 0.05,
+                    turns: 7.5,
+                },
+            ),
+            ring("r", Point3::new(0.1, 0.0, 0.0), 0.3, 4, 0.002),
+        ];
+        for w in &shapes {
+            let sagitta = sampling_sagitta_m(w);
+            assert!(sagitta <= MAX_SAGITTA_M && sagitta <= 0.1 * w.wire_radius_m());
+            let chain = Chain::of(w, None);
+            let n = chain.n_pieces();
+            let mut worst: f64 = 0.0;
+            for i in 0..n {
+                let (p, q) = chain.piece(i);
+                // Exact curve points inside the piece's parameter interval.
+                for f in [0.25, 0.5, 0.75] {
+                    let t = (i as f64 + f) / n as f64;
+                    let c = w.shape.point_at(t);
+                    let (d2, ..) = segment_distance2(&c, &c, &p, &q);
+                    worst = worst.max(d2.sqrt());
+                }
+            }
+            assert!(worst <= sagitta, "{}: {worst} > {sagitta}", w.name);
+            // And not absurdly fine: within a factor 3 of the bound.
+            assert!(worst > sagitta / 3.0, "{}: {worst} << {sagitta}", w.name);
+        }
+    }
+
+    #[test]
+    fn primary_helix_1mm_outside_secondary_is_accepted() {
+        // Primary wire 2 mm; its centreline radius puts the two surfaces 1 mm apart.
+        let r_m = 0.05 + 0.0002 + 0.001 + 0.001;
+        let primary = helix("primary", 0.10, r_m, 0.10, 10.0, 0.002);
+        let d = design(vec![secondary(), primary.clone()]);
+        check_overlaps(&d, "t.toml").unwrap();
+        let gap = min_surface_gap_m(&secondary(), &primary);
+        assert!((gap - 0.001).abs() < 1e-5, "{gap}");
+    }
+
+    #[test]
+    fn primary_helix_crossing_secondary_wire_is_rejected() {
+        // 0.1 mm too far in: the wires overlap by 0.1 mm.
+        let r_m = 0.05 + 0.0002 + 0.001 - 0.0001;
+        let primary = helix("primary", 0.10, r_m, 0.10, 10.0, 0.002);
+        let d = design(vec![secondary(), primary.clone()]);
+        let e = check_overlaps(&d, "t.toml").unwrap_err();
+        match &e {
+            DesignError::Overlap {
+                item, other, gap_m, ..
+            } => {
+                assert_eq!(item, "winding 'primary'");
+                assert_eq!(other, "winding 'secondary'");
+                assert!((gap_m + 0.0001).abs() < 1e-5, "{gap_m}");
+            }
+            other => panic!("{other:?}"),
+        }
+        let msg = e.to_string();
+        assert!(
+            msg.starts_with("t.toml: winding 'primary': key 'origin': "),
+            "{msg}"
+        );
+        assert!(msg.contains("winding 'secondary'"), "{msg}");
+        assert!((min_surface_gap_m(&primary, &secondary()) + 0.0001).abs() < 1e-5);
+    }
+
+    #[test]
+    fn small_coil_nested_inside_secondary_is_accepted() {
+        let pickup = helix("pickup", 0.20, 0.02, 0.05, 20.0, 0.001);
+        let d = design(vec![secondary(), pickup.clone()]);
+        check_overlaps(&d, "t.toml").unwrap();
+        let gap = min_surface_gap_m(&secondary(), &pickup);
+        let expected = 0.05 - 0.02 - 0.0002 - 0.0005;
+        assert!((gap - expected).abs() < 1e-5, "{gap} vs {expected}");
+    }
+
+    #[test]
+    fn spiral_through_the_secondary_wire_is_rejected() {
+        // In the plane of the helix start, from inside to outside the helix radius.
+        let flat = spiral("flat", 0.10, 0.03, 0.07, 5.0, 0.001);
+        let d = design(vec![secondary(), flat]);
+        let e = check_overlaps(&d, "t.toml").unwrap_err();
+        assert!(matches!(e, DesignError::Overlap { .. }), "{e:?}");
+    }
+
+    #[test]
+    fn reference_scenes_are_fast() {
+        // The 800-turn secondary (178 000 pieces when sampled whole) against: a 10-turn spiral
+        // whose wire passes 1 mm under the helix wire (boxes apart: no sampling at all); a
+        // 10-turn spiral inside the helix at mid-height (boxes overlap: the helix is sampled
+        // near the spiral's plane only); a 100-turn helix wound 1 mm outside it over its whole
+        // length (everything is near: the grid does all the work).
+        let d_spiral = 0.001;
+        let below = spiral(
+            "below",
+            0.10 - 0.0002 - 0.5 * d_spiral - 0.001,
+            0.03,
+            0.07,
+            10.0,
+            d_spiral,
+        );
+        let inside = spiral("inside", 0.30, 0.01, 0.045, 10.0, d_spiral);
+        let around = helix(
+            "around",
+            0.10,
+            0.05 + 0.0002 + 0.001 + 0.0002,
+            0.40,
+            100.0,
+            0.0004,
+        );
+        for (other, gap_expected) in [
+            (below, 0.001),
+            (inside, 0.05 - 0.045 - 0.0002 - 0.0005),
+            (around, 0.001),
+        ] {
+            let d = design(vec![secondary(), other.clone()]);
+            let start = Instant::now();
+            check_overlaps(&d, "t.toml").unwrap();
+            let check_s = start.elapsed().as_secs_f64();
+            let start = Instant::now();
+            let gap = min_surface_gap_m(&secondary(), &other);
+            let gap_s = start.elapsed().as_secs_f64();
+            eprintln!(
+                "{}: check_overlaps {check_s:.4} s, min_surface_gap_m {gap_s:.4} s, gap {gap} m",
+                other.name
+            );
+            // The helix rises 0.5 mm per turn, so the approach to the spiral below can be up
+            // to 0.5 mm wider than the gap at the helix's start.
+            assert!(
+                gap >= gap_expected - 1e-5 && gap <= gap_expected + 5e-4 + 1e-5,
+                "{}: {gap} vs {gap_expected}",
+                other.name
+            );
+            // Release builds take milliseconds to tens of milliseconds; the bound only catches a
+            // fall back to all pairs (tens of seconds) on a slow, busy test machine.
+            assert!(check_s < 2.0 && gap_s < 3.0, "{check_s} s, {gap_s} s");
+        }
+    }
+
+    #[test]
+    fn long_helix_is_sampled_only_near_the_other_winding() {
+        // 100 000 turns of 0.08 mm wire at 0.1 mm pitch: some 35 million pieces if sampled
+        // whole. A ring beside it, at mid-height, whose wire reaches 0.04 mm into the helix wire.
+        let big = helix("big", 0.0, 0.1, 10.0, 100_000.0, 0.00008);
+        let pick = winding(
+            "pick",
+            0.0001,
+            Shape::Ring {
+                origin_m: Point3::new(0.13, 0.0, 5.0),
+                axis: Vector3::y_axis(),
+                radius_m: 0.02995,
+                count: 1,
+            },
+        );
+        let reach = curve_bounds(&pick.shape).inflated(0.00009);
+        let near = Chain::of(&big, Some(&reach));
+        assert!(near.n_pieces() < 100_000, "{}", near.n_pieces());
+        let e = check_overlaps(&design(vec![big, pick]), "t.toml").unwrap_err();
+        match e {
+            DesignError::Overlap { gap_m, .. } => assert!((gap_m + 4e-5).abs() < 1e-5, "{gap_m}"),
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn curve_bounds_hold_the_sampled_curve() {
+        let tilted = Unit::new_normalize(Vector3::new(0.3, -0.5, 0.8));
+        let shapes = [
+            Shape::Helix {
+                origin_m: Point3::new(0.1, 0.2, 0.3),
+                axis: tilted,
+                radius_m: 0.05,
+                length_m: 0.2,
+                turns: 7.3,
+            },
+            Shape::Cone {
+                origin_m: Point3::origin(),
+                axis: tilted,
+                inner_radius_m: 0.02,
+                outer_radius_m: 0.09,
+                height_m: 0.04,
+                turns: 4.0,
+            },
+            Shape::Spiral {
+                origin_m: Point3::origin(),
+                axis: Vector3::x_axis(),
+                inner_radius_m: 0.02,
+                outer_radius_m: 0.09,
+                turns: 4.0,
+            },
+        ];
+        for shape in shapes {
+            let b = curve_bounds(&shape).inflated(1e-12);
+            for k in 0..=10_000 {
+                let p = shape.point_at(k as f64 / 10_000.0);
+                assert!(b.intersects(&Aabb::of_segment(&p, &p)), "{shape:?} at {k}");
+            }
+        }
+    }
+
+    #[test]
+    fn ring_bundle_is_exempt_from_itself_but_not_from_others() {
+        let bundle = ring("bundle", Point3::new(0.0, 0.0, 0.3), 0.05, 50, 0.001);
+        check_overlaps(&design(vec![bundle.clone()]), "t.toml").unwrap();
+        let e = check_overlaps(&design(vec![secondary(), bundle]), "t.toml").unwrap_err();
+        assert!(
+            matches!(&e, DesignError::Overlap { item, .. } if item == "winding 'bundle'"),
+            "{e:?}"
+        );
+    }
+
+    #[test]
+    fn polyline_crossing_itself_is_rejected() {
+        // A bow tie: the first and third pieces cross in the middle.
+        let bow = polyline(
+            "bow",
+            &[
+                [0.0, 0.0, 0.0],
+                [0.1, 0.1, 0.0],
+                [0.1, 0.0, 0.0],
+                [0.0, 0.1, 0.0],
+            ],
+            true,
+            0.001,
+        );
+        let e = check_overlaps(&design(vec![bow]), "t.toml").unwrap_err();
+        match &e {
+            DesignError::SelfIntersection {
+                piece_a,
+                piece_a_end,
+                piece_b,
+                piece_b_end,
+                near_m,
+                ..
+            } => {
+                assert_eq!((*piece_a, *piece_a_end), (0, 1));
+                assert_eq!((*piece_b, *piece_b_end), (2, 3));
+                assert!((near_m[0] - 0.05).abs() < 1e-9 && (near_m[1] - 0.05).abs() < 1e-9);
+            }
+            other => panic!("{other:?}"),
+        }
+        let msg = e.to_string();
+        assert!(
+            msg.contains("winding 'bow'") && msg.contains("key 'points'"),
+            "{msg}"
+        );
+    }
+
+    #[test]
+    fn polyline_square_with_sharp_corners_is_accepted() {
+        let square = polyline(
+            "square",
+            &[
+                [0.0, 0.0, 0.0],
+                [0.1, 0.0, 0.0],
+                [0.1, 0.1, 0.0],
+                [0.0, 0.1, 0.0],
+            ],
+            true,
+            0.002,
+        );
+        check_overlaps(&design(vec![square]), "t.toml").unwrap();
+    }
+
+    #[test]
+    fn polyline_hairpin_is_checked_along_its_legs() {
+        // Out along x, 1.5 mm across, back along x: the legs are 1.5 mm apart centre to centre.
+        let pts = [
+            [0.0, 0.0, 0.0],
+            [0.1, 0.0, 0.0],
+            [0.1, 0.0015, 0.0],
+            [0.0, 0.0015, 0.0],
+        ];
+        let thick = polyline("pin", &pts, false, 0.002);
+        let e = check_overlaps(&design(vec![thick]), "t.toml").unwrap_err();
+        assert!(
+            matches!(
+                e,
+                DesignError::SelfIntersection {
+                    piece_a: 0,
+                    piece_b: 2,
+                    ..
+                }
+            ),
+            "{e:?}"
+        );
+        let thin = polyline("pin", &pts, false, 0.001);
+        check_overlaps(&design(vec![thin]), "t.toml").unwrap();
+    }
+
+    #[test]
+    fn polyline_folded_back_on_its_neighbour_is_rejected() {
+        // The second piece runs back along the first at a slant: the long neighbours meet far
+        // from their shared point, which splitting the pieces exposes.
+        let fold = polyline(
+            "fold",
+            &[[0.0, 0.0, 0.0], [0.1, 0.0, 0.0], [0.0, 0.0005, 0.0]],
+            false,
+            0.001,
+        );
+        let e = check_overlaps(&design(vec![fold]), "t.toml").unwrap_err();
+        assert!(
+            matches!(
+                e,
+                DesignError::SelfIntersection {
+                    piece_a: 0,
+                    piece_b: 1,
+                    ..
+                }
+            ),
+            "{e:?}"
+        );
+    }
+
+    #[test]
+    fn polyline_against_helix() {
+        // A straight lead along the axis of the secondary is clear; one through its wire is not.
+        let lead = polyline("lead", &[[0.0, 0.0, 0.0], [0.0, 0.0, 0.6]], false, 0.002);
+        check_overlaps(&design(vec![secondary(), lead]), "t.toml").unwrap();
+        let tap = polyline("tap", &[[0.0, 0.0, 0.3], [0.1, 0.0, 0.3]], false, 0.002);
+        let e = check_overlaps(&design(vec![secondary(), tap]), "t.toml").unwrap_err();
+        assert!(
+            matches!(&e, DesignError::Overlap { key, .. } if *key == "points"),
+            "{e:?}"
+        );
+    }
+
+    #[test]
+    fn far_apart_coaxial_rings_give_the_exact_gap() {
+        let a = ring("a", Point3::new(0.0, 0.0, 0.0), 0.1, 1, 0.001);
+        let b = ring("b", Point3::new(0.0, 0.0, 1.0), 0.1, 1, 0.002);
+        let gap = min_surface_gap_m(&a, &b);
+        assert!((gap - (1.0 - 0.0005 - 0.001)).abs() < 1e-12, "{gap}");
+    }
+
+    #[test]
+    fn far_apart_windings_match_brute_force() {
+        // Far apart: the tree must prune whole turns at once and still find the exact pair.
+        let a = helix("a", 0.0, 0.05, 0.1, 10.0, 0.001);
+        let b = spiral("b", 0.5, 0.01, 0.2, 3.0, 0.002);
+        let (ca, cb) = (Chain::of(&a, None), Chain::of(&b, None));
+        let fast = min_centreline_distance_m(&ca, &cb);
+        let slow = brute_min_d(&ca, &cb);
+        assert_eq!(fast, slow);
+        // 0.4 m between the helix top and the spiral plane, a little more where the spiral
+        // crosses the helix radius away from the helix's end point.
+        assert!((0.4..0.402).contains(&fast), "{fast}");
+    }
+
+    /// Small deterministic generator for the random scenes (xorshift64*).
+    struct Rng(u64);
+
+    impl Rng {
+        fn next_f64(&mut self) -> f64 {
+            self.0 ^= self.0 >> 12;
+            self.0 ^= self.0 << 25;
+            self.0 ^= self.0 >> 27;
+            (self.0.wrapping_mul(0x2545_f491_4f6c_dd1d) >> 11) as f64 / (1u64 << 53) as f64
+        }
+
+        fn range(&mut self, lo: f64, hi: f64) -> f64 {
+            lo + (hi - lo) * self.next_f64()
+        }
+    }
+
+    fn random_winding(rng: &mut Rng, name: &str) -> Winding {
+        let origin = Point3::new(
+            rng.range(-0.05, 0.05),
+            rng.range(-0.05, 0.05),
+            rng.range(-0.05, 0.05),
+        );
+        let axis = Unit::new_normalize(Vector3::new(
+            rng.range(-1.0, 1.0),
+            rng.range(-1.0, 1.0),
+            rng.range(0.1, 1.0),
+        ));
+        // A thick wire keeps the piece counts small enough for the brute force.
+        let d = rng.range(0.01, 0.03);
+        let kind = (rng.next_f64() * 4.0) as usize;
+        let shape = match kind {
+            0 => Shape::Helix {
+                origin_m: origin,
+                axis,
+                radius_m: rng.range(0.02, 0.06),
+                length_m: rng.range(0.05, 0.1),
+                turns: rng.range(0.5, 2.0),
+            },
+            1 => Shape::Cone {
+                origin_m: origin,
+                axis,
+                inner_radius_m: rng.range(0.02, 0.04),
+                outer_radius_m: rng.range(0.05, 0.08),
+                height_m: rng.range(0.0, 0.03),
+                turns: rng.range(0.5, 1.5),
+            },
+            2 => Shape::Ring {
+                origin_m: origin,
+                axis,
+                radius_m: rng.range(0.02, 0.08),
+                count: 1,
+            },
+            _ => Shape::Polyline {
+                points_m: (0..5)
+                    .map(|_| {
+                        Point3::new(
+                            rng.range(-0.1, 0.1),
+                            rng.range(-0.1, 0.1),
+                            rng.range(-0.1, 0.1),
+                        )
+                    })
+                    .collect(),
+                closed: rng.next_f64() < 0.5,
+            },
+        };
+        winding(name, d, shape)
+    }
+
+    #[test]
+    fn grid_and_tree_match_brute_force_on_random_scenes() {
+        let mut rng = Rng(0x5eed_c011_f1e1_d000);
+        for case in 0..60 {
+            let a = random_winding(&mut rng, "a");
+            let b = random_winding(&mut rng, "b");
+            let (ca, cb) = (Chain::of(&a, None), Chain::of(&b, None));
+            let slow = brute_min_d(&ca, &cb);
+            // The grid may measure a pair with the segments swapped, which rounds differently
+            // (most for nearly parallel pieces): agreement to 1e-12 relative, 1 fm absolute.
+            let same = |x: f64| (x - slow).abs() <= 1e-12 * slow + 1e-15;
+            let tree = nearest_tree(&ca, &cb).sqrt();
+            assert!(same(tree), "case {case}: tree {tree} vs {slow}");
+            let combined = min_centreline_distance_m(&ca, &cb);
+            assert!(same(combined), "case {case}: combined {combined} vs {slow}");
+            // The grid alone, with a radius just above the answer, finds the same pair.
+            let grid =
+                nearest_within_grid(&ca, &cb, slow * 1.0001 + 1e-12).map(|hit| hit.d2.sqrt());
+            assert!(
+                grid.is_some_and(same),
+                "case {case}: grid {grid:?} vs {slow}"
+            );
+            // And reports nothing when the radius is below it.
+            if slow > 1e-9 {
+                assert!(
+                    nearest_within_grid(&ca, &cb, slow * 0.999).is_none(),
+                    "case {case}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn check_and_gap_agree() {
+        let mut rng = Rng(42);
+        let (mut n_clear, mut n_overlap) = (0, 0);
+        for case in 0..80 {
+            let a = random_winding(&mut rng, "a");
+            let b = random_winding(&mut rng, "b");
+            // Self-crossing polylines are not the point here.
+            let both_clear_alone = [&a, &b]
+                .iter()
+                .all(|w| check_overlaps(&design(vec![(*w).clone()]), "t.toml").is_ok());
+            if !both_clear_alone {
+                continue;
+            }
+            let gap = min_surface_gap_m(&a, &b);
+            let result = check_overlaps(&design(vec![a, b]), "t.toml");
+            assert_eq!(
+                result.is_err(),
+                gap <= 0.0,
+                "case {case}: gap {gap}, {result:?}"
+            );
+            if gap <= 0.0 {
+                n_overlap += 1;
+            } else {
+                n_clear += 1;
+            }
+        }
+        // The scenes must exercise both outcomes for the agreement to mean anything.
+        assert!(
+            n_clear >= 5 && n_overlap >= 5,
+            "{n_clear} clear, {n_overlap} overlapping"
+        );
+    }
+
+    #[test]
+    fn empty_polyline_gives_infinite_gap() {
+        let nothing = polyline("nothing", &[[0.0, 0.0, 0.0]], false, 0.001);
+        assert_eq!(min_surface_gap_m(&nothing, &secondary()), f64::INFINITY);
+    }
+}

@@ -1,0 +1,346 @@
+//! Assembly of the inductance matrix of a design: one kernel chosen per pair of windings.
+
+use crate::coupling::coupling_matrix;
+use crate::error::SolverError;
+use crate::mutual::{Circle, mutual_ring_ring_coaxial, mutual_rings_ring};
+use crate::par::{Par, map_indexed, sum_indexed};
+use crate::segment::{mutual_rings_segment, mutual_segment_segment};
+use crate::self_inductance::{rosa_solenoid, self_filament_model, self_ring_model, wheeler_spiral};
+use coilfield_geometry::discretise::{filament_model, ring_model};
+use coilfield_geometry::{Design, FilamentModel, Model, RingModel, Shape, Winding};
+use serde::Serialize;
+
+/// The discretised form that answers for a winding.
+#[derive(Debug, Clone, PartialEq)]
+pub enum WindingModel {
+    /// Axisymmetric ring model.
+    Rings(RingModel),
+    /// 3-D chain of straight filaments.
+    Filament(FilamentModel),
+}
+
+impl WindingModel {
+    /// The model a winding asks for (`model = "ring"` by default; a polyline is always a chain
+    /// of filaments, having no axis).
+    pub fn of(winding: &Winding) -> WindingModel {
+        match (winding.model, ring_model(winding)) {
+            (Model::Ring, Some(rings)) => WindingModel::Rings(rings),
+            _ => WindingModel::Filament(filament_model(winding)),
+        }
+    }
+
+    /// Number of rings or straight pieces.
+    pub fn n_elements(&self) -> usize {
+        match self {
+            WindingModel::Rings(r) => r.rings.len(),
+            WindingModel::Filament(f) => f.n_segments(),
+        }
+    }
+}
+
+/// Which kernel served a pair of windings (or a winding's self-inductance).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Kernel {
+    /// Self: Toeplitz ring sum of a uniform stack, O(turns) Maxwell calls.
+    ToeplitzRingSum,
+    /// Self: full ring sum with Maxwell's formula.
+    RingSum,
+    /// Self: Toeplitz sum over straight filaments with a screw symmetry.
+    ToeplitzFilamentSum,
+    /// Self: full sum over straight filaments (Neumann).
+    FilamentSum,
+    /// Mutual: coaxial rings, Maxwell's formula.
+    MaxwellCoaxial,
+    /// Mutual: rings with offset or tilted axes, single line integral of the vector potential.
+    RingLineIntegral,
+    /// Mutual: rings against straight filaments, line integral of the rings' vector potential.
+    RingFilamentLineIntegral,
+    /// Mutual: straight filaments against straight filaments, Neumann's integral.
+    NeumannSegments,
+}
+
+/// One winding's line of an [`InductanceReport`].
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct WindingInductance {
+    /// Winding name.
+    pub name: String,
+    /// `ring` or `filament`: the model that answered.
+    pub model: Model,
+    /// Self-inductance (H).
+    pub self_inductance_h: f64,
+    /// An independent estimate (H), where one exists: Lorenz's sheet with Rosa's corrections
+    /// for a helix of whole turns, Wheeler's formula for a spiral, the ring model for a winding
+    /// answered by its filament model.
+    pub cross_check_h: Option<f64>,
+    /// How `cross_check_h` was obtained.
+    pub cross_check_method: Option<String>,
+    /// Number of rings or straight pieces in the model.
+    pub elements: usize,
+}
+
+/// Kernel used for the pair (`pair[0]`, `pair[1]`) of windings, by name.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PairKernel {
+    /// The two winding names (equal for a self term).
+    pub pair: [String; 2],
+    /// The kernel.
+    pub kernel: Kernel,
+}
+
+/// Self and mutual inductances and couplings of all windings of a design, in file order.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct InductanceReport {
+    /// One entry per winding.
+    pub windings: Vec<WindingInductance>,
+    /// Inductance matrix (H); the diagonal is the self-inductance, the sign of M_ij follows the
+    /// current directions set by each winding's axis (or point order).
+    pub mutual_h: Vec<Vec<f64>>,
+    /// Coupling coefficients k_ij = M_ij / sqrt(L_i L_j); 1 on the diagonal.
+    pub coupling: Vec<Vec<f64>>,
+    /// Which kernel served each pair (upper triangle with diagonal, row by row).
+    pub kernels: Vec<PairKernel>,
+    /// Caveats of the answer.
+    pub warnings: Vec<String>,
+}
+
+/// Pieces (straight filament pairs) above which a filament-filament sum is refused.
+pub const MAX_SEGMENT_PAIRS: u128 = 4_000_000_000;
+
+/// Self-inductance (H) of a winding model and the kernel used.
+pub fn self_inductance(model: &WindingModel, par: Par) -> (f64, Kernel) {
+    match model {
+        WindingModel::Rings(r) => (
+            self_ring_model(r, par),
+            if r.uniform_pitch_m.is_some() {
+                Kernel::ToeplitzRingSum
+            } else {
+                Kernel::RingSum
+            },
+        ),
+        WindingModel::Filament(f) => (
+            self_filament_model(f, par),
+            if f.screw.is_some() {
+                Kernel::ToeplitzFilamentSum
+            } else {
+                Kernel::FilamentSum
+            },
+        ),
+    }
+}
+
+fn circles(model: &RingModel) -> Vec<(Circle, f64)> {
+    model
+        .rings
+        .iter()
+        .map(|r| {
+            (
+                Circle {
+                    centre_m: r.centre_m,
+                    axis: model.axis,
+                    radius_m: r.radius_m,
+                },
+                r.weight,
+            )
+        })
+        .collect()
+}
+
+/// Whether two ring models share one axis line (parallel or antiparallel), with the sign of
+/// their axes' dot product.
+fn coaxial_sign(a: &RingModel, b: &RingModel) -> Option<f64> {
+    let na = a.axis.as_ref();
+    let nb = b.axis.as_ref();
+    let size = a.rings[0].radius_m.max(b.rings[0].radius_m);
+    let offset = b.origin_m - a.origin_m;
+    let lateral = (offset - na * offset.dot(na)).norm();
+    // Geometric tolerance: well below any manufacturing tolerance, well above rounding.
+    (na.cross(nb).norm() < 1e-12 && lateral < 1e-12 * size.max(offset.norm()))
+        .then(|| na.dot(nb).signum())
+}
+
+/// Mutual inductance (H) of two winding models (unit currents) and the kernel used.
+pub fn mutual_inductance(
+    a: &WindingModel,
+    b: &WindingModel,
+    par: Par,
+) -> Result<(f64, Kernel, bool), SolverError> {
+    Ok(match (a, b) {
+        (WindingModel::Rings(ra), WindingModel::Rings(rb)) => {
+            if let Some(sign) = coaxial_sign(ra, rb) {
+                let axis = ra.axis.as_ref();
+                let m = sum_indexed(ra.rings.len(), par, |i| {
+                    let ri = &ra.rings[i];
+                    ri.weight
+                        * rb.rings
+                            .iter()
+                            .map(|rj| {
+                                rj.weight
+                                    * mutual_ring_ring_coaxial(
+                                        ri.radius_m,
+                                        rj.radius_m,
+                                        (rj.centre_m - ri.centre_m).dot(axis),
+                                    )
+                            })
+                            .sum::<f64>()
+                });
+                (sign * m, Kernel::MaxwellCoaxial, true)
+            } else {
+                // The path with more rings spreads best over threads.
+                let (src, path) = if ra.rings.len() <= rb.rings.len() {
+                    (ra, rb)
+                } else {
+                    (rb, ra)
+                };
+                let sources = circles(src);
+                let path_circles = circles(path);
+                let parts = map_indexed(path_circles.len(), par, |j| {
+                    let (c, w) = path_circles[j];
+                    let r = mutual_rings_ring(&sources, &c);
+                    (w * r.value, r.converged)
+                });
+                let m = parts.iter().map(|p| p.0).sum();
+                let ok = parts.iter().all(|p| p.1);
+                (m, Kernel::RingLineIntegral, ok)
+            }
+        }
+        (WindingModel::Rings(r), WindingModel::Filament(f))
+        | (WindingModel::Filament(f), WindingModel::Rings(r)) => {
+            let sources = circles(r);
+            let m = sum_indexed(f.n_segments(), par, |k| {
+                let (p0, p1) = f.segment(k);
+                mutual_rings_segment(&sources, &p0, &p1)
+            });
+            (f.weight * m, Kernel::RingFilamentLineIntegral, true)
+        }
+        (WindingModel::Filament(fa), WindingModel::Filament(fb)) => {
+            let pairs = fa.n_segments() as u128 * fb.n_segments() as u128;
+            if pairs > MAX_SEGMENT_PAIRS {
+                return Err(SolverError::TooManyFilamentPairs {
+                    pairs,
+                    limit: MAX_SEGMENT_PAIRS,
+                });
+            }
+            let m = sum_indexed(fa.n_segments(), par, |i| {
+                let (a0, a1) = fa.segment(i);
+                (0..fb.n_segments())
+                    .map(|j| {
+                        let (b0, b1) = fb.segment(j);
+                        mutual_segment_segment(&a0, &a1, &b0, &b1)
+                    })
+                    .sum::<f64>()
+            });
+            (fa.weight * fb.weight * m, Kernel::NeumannSegments, true)
+        }
+    })
+}
+
+/// An independent estimate of a winding's self-inductance (H) and how it was obtained.
+pub fn cross_check(winding: &Winding, model: &WindingModel, par: Par) -> Option<(f64, String)> {
+    if let WindingModel::Filament(_) = model
+        && let Some(rings) = ring_model(winding)
+    {
+        return Some((
+            self_ring_model(&rings, par),
+            "ring model (axisymmetric, turn-by-turn Maxwell sum)".to_string(),
+        ));
+    }
+    match winding.shape {
+        Shape::Helix {
+            radius_m,
+            length_m,
+            turns,
+            ..
+        } if turns.fract() == 0.0 && turns >= 2.0 => {
+            let n = turns as usize;
+            let pitch = length_m / turns;
+            Some((
+                rosa_solenoid(radius_m, n, pitch, winding.wire_diameter_m),
+                "Lorenz current sheet (Nagaoka) with Rosa's round-wire corrections A and B"
+                    .to_string(),
+            ))
+        }
+        Shape::Spiral {
+            inner_radius_m,
+            outer_radius_m,
+            turns,
+            ..
+        } => Some((
+            wheeler_spiral(inner_radius_m, outer_radius_m, turns),
+            "Wheeler 1928 flat-spiral formula (within 5 %)".to_string(),
+        )),
+        _ => None,
+    }
+}
+
+/// Self and mutual inductances, couplings and kernels of every winding of a design.
+pub fn inductance_report(design: &Design, par: Par) -> Result<InductanceReport, SolverError> {
+    let windings = &design.windings;
+    let n = windings.len();
+    let models: Vec<WindingModel> = windings.iter().map(WindingModel::of).collect();
+    let mut warnings = Vec::new();
+    for w in windings {
+        if let Shape::Polyline { closed: false, .. } = w.shape {
+            warnings.push(format!(
+                "winding '{}' is an open polyline: its inductances are partial inductances (the \
+                 return path is not included)",
+                w.name
+            ));
+        }
+    }
+    let pairs: Vec<(usize, usize)> = (0..n).flat_map(|i| (i..n).map(move |j| (i, j))).collect();
+    let results = map_indexed(pairs.len(), par, |p| {
+        let (i, j) = pairs[p];
+        if i == j {
+            let (l, k) = self_inductance(&models[i], par);
+            Ok((l, k, true))
+        } else {
+            mutual_inductance(&models[i], &models[j], par)
+        }
+    });
+    let mut matrix = vec![vec![0.0; n]; n];
+    let mut kernels = Vec::with_capacity(pairs.len());
+    for (&(i, j), r) in pairs.iter().zip(results) {
+        let (value, kernel, converged) = r?;
+        if !converged {
+            warnings.push(format!(
+                "mutual inductance of '{}' and '{}': the quadrature did not reach its tolerance \
+                 (wires very close); the value may be inaccurate",
+                windings[i].name, windings[j].name
+            ));
+        }
+        matrix[i][j] = value;
+        matrix[j][i] = value;
+        kernels.push(PairKernel {
+            pair: [windings[i].name.clone(), windings[j].name.clone()],
+            kernel,
+        });
+    }
+    let coupling = coupling_matrix(&matrix);
+    let lines = windings
+        .iter()
+        .zip(&models)
+        .enumerate()
+        .map(|(i, (w, m))| {
+            let check = cross_check(w, m, par);
+            WindingInductance {
+                name: w.name.clone(),
+                model: match m {
+                    WindingModel::Rings(_) => Model::Ring,
+                    WindingModel::Filament(_) => Model::Filament,
+                },
+                self_inductance_h: matrix[i][i],
+                cross_check_h: check.as_ref().map(|c| c.0),
+                cross_check_method: check.map(|c| c.1),
+                elements: m.n_elements(),
+            }
+        })
+        .collect();
+    Ok(InductanceReport {
+        windings: lines,
+        mutual_h: matrix,
+        coupling,
+        kernels,
+        warnings,
+    })
+}

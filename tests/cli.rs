@@ -1,0 +1,300 @@
+//! End-to-end tests of the `coilfield` binary: JSON shape, worked examples, signs, the report,
+//! the self-check command and atomic output.
+
+mod common;
+
+use common::*;
+
+const WORKED_EXAMPLE: &str = r#"
+[[winding]]
+name = "solenoid"
+shape = "helix"
+origin = [0.0, 0.0, 0.0]
+axis = [0.0, 0.0, 1.0]
+radius = 0.05
+length = 0.02
+turns = 10
+wire_diameter = 0.001
+"#;
+
+#[test]
+fn json_has_the_documented_shape() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = root().join("meshes-demo/tabletop-resonator.toml");
+    let _ = dir;
+    let j = inductance_json(&demo);
+    let windings = j["windings"].as_array().unwrap();
+    assert_eq!(windings.len(), 3);
+    let names: Vec<&str> = windings
+        .iter()
+        .map(|w| w["name"].as_str().unwrap())
+        .collect();
+    assert_eq!(names, ["secondary", "primary", "pickup"]);
+    for (i, w) in windings.iter().enumerate() {
+        let l = w["self_inductance_h"].as_f64().unwrap();
+        assert!(l > 0.0);
+        assert_eq!(j["mutual_h"][i][i].as_f64().unwrap(), l);
+        assert_eq!(j["coupling"][i][i].as_f64().unwrap(), 1.0);
+        assert_eq!(w["model"], "ring");
+    }
+    for i in 0..3 {
+        for k in 0..3 {
+            assert_eq!(j["mutual_h"][i][k], j["mutual_h"][k][i]);
+            assert!(j["coupling"][i][k].as_f64().unwrap().abs() <= 1.0);
+        }
+    }
+    // Coaxial secondary/primary by Maxwell; the tilted pickup by the line integral.
+    let kernels = j["kernels"].as_array().unwrap();
+    let kernel_of = |a: &str, b: &str| {
+        kernels
+            .iter()
+            .find(|k| k["pair"][0] == a && k["pair"][1] == b)
+            .map(|k| k["kernel"].as_str().unwrap().to_string())
+            .unwrap()
+    };
+    assert_eq!(kernel_of("secondary", "primary"), "maxwell-coaxial");
+    assert_eq!(kernel_of("secondary", "pickup"), "ring-line-integral");
+    assert_eq!(kernel_of("secondary", "secondary"), "toeplitz-ring-sum");
+    assert_eq!(kernel_of("primary", "primary"), "ring-sum");
+    assert!(j["warnings"].is_array());
+}
+
+#[test]
+fn worked_solenoid_example_and_its_cross_check() {
+    // Worked example: a = 0.05 m, N = 10, p = 2 mm, d = 1 mm; ring sum 15.700160 uH, Lorenz
+    // sheet with Rosa's corrections 15.701001 uH (mpmath 30 digits, validation/solenoid.csv;
+    // E. B. Rosa & F. W. Grover, Bull. Bureau of Standards 8(1), 1912).
+    let dir = tempfile::tempdir().unwrap();
+    let path = design_file(dir.path(), "solenoid.toml", WORKED_EXAMPLE);
+    let j = inductance_json(&path);
+    let w = &j["windings"][0];
+    assert!(rel(w["self_inductance_h"].as_f64().unwrap(), 15.700_160e-6) < 1e-6);
+    assert!(rel(w["cross_check_h"].as_f64().unwrap(), 15.701_001e-6) < 1e-6);
+}
+
+#[test]
+fn reversing_one_axis_flips_the_sign_of_m_and_k() {
+    let dir = tempfile::tempdir().unwrap();
+    let same = ring_toml("a", [0.0; 3], [0.0, 0.0, 1.0], 0.1)
+        + &ring_toml("b", [0.0, 0.0, 0.05], [0.0, 0.0, 1.0], 0.08);
+    let flipped = ring_toml("a", [0.0; 3], [0.0, 0.0, 1.0], 0.1)
+        + &ring_toml("b", [0.0, 0.0, 0.05], [0.0, 0.0, -1.0], 0.08);
+    let j1 = inductance_json(&design_file(dir.path(), "same.toml", &same));
+    let j2 = inductance_json(&design_file(dir.path(), "flip.toml", &flipped));
+    let m1 = j1["mutual_h"][0][1].as_f64().unwrap();
+    let m2 = j2["mutual_h"][0][1].as_f64().unwrap();
+    assert!(m1 > 0.0);
+    assert_eq!(m1, -m2);
+    assert!(j2["coupling"][0][1].as_f64().unwrap() < 0.0);
+}
+
+#[test]
+fn filament_model_of_a_helix_agrees_with_its_ring_model() {
+    // Same 10-turn helix, exact helical filament (128 pieces per turn) against the rings; the
+    // two differ by the polygon error (< 1e-3 at 128 pieces) and the pitch (O((p/2 pi a)^2)).
+    let dir = tempfile::tempdir().unwrap();
+    let filament = WORKED_EXAMPLE.replace(
+        "wire_diameter = 0.001",
+        "wire_diameter = 0.001\nmodel = \"filament\"",
+    );
+    let j = inductance_json(&design_file(dir.path(), "fil.toml", &filament));
+    let w = &j["windings"][0];
+    assert_eq!(w["model"], "filament");
+    let l_fil = w["self_inductance_h"].as_f64().unwrap();
+    let l_ring = w["cross_check_h"].as_f64().unwrap();
+    assert!(rel(l_fil, l_ring) < 2e-3, "{l_fil} vs {l_ring}");
+    assert!(rel(l_ring, 15.700_160e-6) < 1e-6);
+}
+
+#[test]
+fn mixed_models_agree_for_an_offset_tilted_pair() {
+    // The primary as exact helical filament against the secondary's rings, and both as rings.
+    let demo = root().join("meshes-demo/offset-primary.toml");
+    let text = std::fs::read_to_string(&demo).unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    let j_ring = inductance_json(&demo);
+    let fil = text.replace(
+        "wire_diameter = 0.003",
+        "wire_diameter = 0.003\nmodel = \"filament\"",
+    );
+    let j_fil = inductance_json(&design_file(dir.path(), "fil.toml", &fil));
+    assert_eq!(j_ring["kernels"][1]["kernel"], "ring-line-integral");
+    assert_eq!(j_fil["kernels"][1]["kernel"], "ring-filament-line-integral");
+    let m_ring = j_ring["mutual_h"][0][1].as_f64().unwrap();
+    let m_fil = j_fil["mutual_h"][0][1].as_f64().unwrap();
+    // A 4-turn primary with a 1 cm pitch on a 9 cm radius: pitch effects ~1e-2 at most.
+    assert!(rel(m_fil, m_ring) < 2e-2, "{m_fil} vs {m_ring}");
+}
+
+#[test]
+fn report_runs_on_the_demo_and_prints_the_caution() {
+    let out = run(&[
+        "report",
+        root()
+            .join("meshes-demo/tabletop-resonator.toml")
+            .to_str()
+            .unwrap(),
+    ]);
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(text.contains("CAUTION"));
+    assert!(text.contains("secondary"));
+    assert!(text.contains("coupling"));
+}
+
+#[test]
+fn help_of_every_command_states_units() {
+    for cmd in ["inductance", "report", "verify"] {
+        let out = run(&[cmd, "--help"]);
+        assert!(out.status.success());
+        let text = String::from_utf8(out.stdout).unwrap();
+        assert!(
+            text.contains("(H)") || text.contains("H)") || text.contains("relative"),
+            "{cmd}: {text}"
+        );
+    }
+    let out = run(&["--help"]);
+    assert!(String::from_utf8(out.stdout).unwrap().contains("metres"));
+}
+
+#[test]
+fn verify_passes_on_the_built_in_tables() {
+    let out = run(&["verify"]);
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(out.status.success(), "{text}");
+    let last = text.lines().last().unwrap();
+    assert!(last.ends_with(" 0 failed"), "{last}");
+    assert!(text.contains("Grover"));
+}
+
+#[test]
+fn verify_recomputes_an_edited_input_row() {
+    let dir = tempfile::tempdir().unwrap();
+    for entry in std::fs::read_dir(root().join("validation")).unwrap() {
+        let p = entry.unwrap().path();
+        if p.extension().is_some_and(|e| e == "csv") {
+            std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
+        }
+    }
+    let table = dir.path().join("maxwell_coaxial.csv");
+    let text = std::fs::read_to_string(&table).unwrap();
+    let mut lines: Vec<String> = text.lines().map(str::to_owned).collect();
+    // Change the first input (a_m) of the first case: 1 -> 1.5 or x -> x * 1.5.
+    let mut fields: Vec<String> = lines[1].split(',').map(str::to_owned).collect();
+    let a: f64 = fields[0].parse().unwrap();
+    fields[0] = format!("{}", a * 1.5);
+    lines[1] = fields.join(",");
+    std::fs::write(&table, lines.join("\n") + "\n").unwrap();
+
+    let json = |dir: &std::path::Path| -> serde_json::Value {
+        let out = run(&[
+            "verify",
+            "--tables",
+            dir.to_str().unwrap(),
+            "--format",
+            "json",
+        ]);
+        serde_json::from_slice(&out.stdout).unwrap()
+    };
+    let edited = json(dir.path());
+    let original = json(&root().join("validation"));
+    let first = |j: &serde_json::Value| {
+        j["cases"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["table"] == "maxwell_coaxial" && c["row"] == 1)
+            .unwrap()
+            .clone()
+    };
+    let (e, o) = (first(&edited), first(&original));
+    assert_ne!(e["computed"], o["computed"]);
+    assert_eq!(e["passed"], false);
+    assert_eq!(o["passed"], true);
+    assert_eq!(edited["failed"], 1);
+}
+
+#[test]
+fn out_file_is_replaced_only_on_success() {
+    let dir = tempfile::tempdir().unwrap();
+    let out_path = dir.path().join("result.json");
+    std::fs::write(&out_path, "precious").unwrap();
+    let bad = design_file(dir.path(), "bad.toml", "[[winding]]\nname = \"x\"\n");
+    let out = run(&[
+        "inductance",
+        bad.to_str().unwrap(),
+        "--format",
+        "json",
+        "--out",
+        out_path.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert_eq!(std::fs::read_to_string(&out_path).unwrap(), "precious");
+
+    let good = design_file(dir.path(), "good.toml", WORKED_EXAMPLE);
+    let out = run(&[
+        "inductance",
+        good.to_str().unwrap(),
+        "--format",
+        "json",
+        "--out",
+        out_path.to_str().unwrap(),
+    ]);
+    assert!(out.status.success());
+    let written: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&out_path).unwrap()).unwrap();
+    assert!(
+        written["windings"][0]["self_inductance_h"]
+            .as_f64()
+            .unwrap()
+            > 0.0
+    );
+    // No temporary files left behind.
+    let leftovers = std::fs::read_dir(dir.path())
+        .unwrap()
+        .filter(|e| {
+            e.as_ref()
+                .unwrap()
+                .file_name()
+                .to_string_lossy()
+                .ends_with(".tmp")
+        })
+        .count();
+    assert_eq!(leftovers, 0);
+}
+
+#[test]
+fn thread_count_does_not_change_the_answer() {
+    let demo = root().join("meshes-demo/tabletop-resonator.toml");
+    let one = run(&[
+        "--threads",
+        "1",
+        "inductance",
+        demo.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    let two = run(&[
+        "--threads",
+        "2",
+        "inductance",
+        demo.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    assert!(one.status.success() && two.status.success());
+    assert_eq!(one.stdout, two.stdout);
+}
+
+#[test]
+fn open_polyline_warns_about_partial_inductance() {
+    let dir = tempfile::tempdir().unwrap();
+    let text = "[[winding]]\nname = \"lead\"\nshape = \"polyline\"\npoints = [[0.0, 0.0, 0.0], [0.1, 0.0, 0.0], [0.1, 0.1, 0.0]]\nwire_diameter = 0.001\n";
+    let j = inductance_json(&design_file(dir.path(), "open.toml", text));
+    let warnings = j["warnings"].as_array().unwrap();
+    assert!(
+        warnings
+            .iter()
+            .any(|w| w.as_str().unwrap().contains("partial"))
+    );
+}

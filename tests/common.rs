@@ -1,0 +1,54 @@
+//! Helpers shared by the integration tests: run the real binary in a temporary folder.
+#![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+/// Path of the built `coilfield` binary.
+pub fn bin() -> &'static str {
+    env!("CARGO_BIN_EXE_coilfield")
+}
+
+/// Repository root.
+pub fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// Run `coilfield` with `args`.
+pub fn run(args: &[&str]) -> Output {
+    Command::new(bin())
+        .args(args)
+        .output()
+        .expect("run coilfield")
+}
+
+/// Write `text` as a design file in `dir`.
+pub fn design_file(dir: &Path, name: &str, text: &str) -> PathBuf {
+    let path = dir.join(name);
+    std::fs::write(&path, text).expect("write design");
+    path
+}
+
+/// Run `coilfield inductance FILE --format json` and parse the JSON.
+pub fn inductance_json(path: &Path) -> serde_json::Value {
+    let out = run(&["inductance", path.to_str().unwrap(), "--format", "json"]);
+    assert!(
+        out.status.success(),
+        "coilfield failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).expect("valid JSON")
+}
+
+/// A ring winding as TOML.
+pub fn ring_toml(name: &str, origin: [f64; 3], axis: [f64; 3], radius: f64) -> String {
+    format!(
+        "[[winding]]\nname = \"{name}\"\nshape = \"ring\"\norigin = [{:?}, {:?}, {:?}]\naxis = [{:?}, {:?}, {:?}]\nradius = {radius:?}\nwire_diameter = 0.0001\n\n",
+        origin[0], origin[1], origin[2], axis[0], axis[1], axis[2]
+    )
+}
+
+/// Relative difference.
+pub fn rel(a: f64, b: f64) -> f64 {
+    ((a - b) / b).abs()
+}
