@@ -540,7 +540,7 @@ const MAX_BUCKETS: usize = 1 << 22;
 ///
 /// Cells are hashed into a flat table of buckets (M. Teschner, B. Heidelberger, M. Mueller,
 /// D. Pomeranets and M. Gross, "Optimized Spatial Hashing for Collision Detection of Deformable
-/// Objects", Proc. Vision, Modeling, Visualization, 2003, section 4: the cell hash
+/// Objects", Proc. Vision, Modeling, Visualization, 2003: the cell hash
 /// (x p1 xor y p2 xor z p3) with large primes p1, p2, p3). The table is filled by a counting
 /// sort, two linear passes, instead of a map of vectors. Two cells may share a bucket; their
 /// pieces then become extra candidates, which the box test of the scan drops.
@@ -842,7 +842,6 @@ mod tests {
     use super::*;
     use crate::winding::{Model, Role};
     use nalgebra::Unit;
-    use std::time::Instant;
 
     fn winding(name: &str, wire_diameter_m: f64, shape: Shape) -> Winding {
         Winding {
@@ -1081,7 +1080,7 @@ mod tests {
     }
 
     #[test]
-    fn reference_scenes_are_fast() {
+    fn reference_scenes_give_the_expected_gaps() {
         // The 800-turn secondary (178 000 pieces when sampled whole) against: a 10-turn spiral
         // whose wire passes 1 mm under the helix wire (boxes apart: no sampling at all); a
         // 10-turn spiral inside the helix at mid-height (boxes overlap: the helix is sampled
@@ -1111,16 +1110,8 @@ mod tests {
             (around, 0.001),
         ] {
             let d = design(vec![secondary(), other.clone()]);
-            let start = Instant::now();
             check_overlaps(&d, "t.toml").unwrap();
-            let check_s = start.elapsed().as_secs_f64();
-            let start = Instant::now();
             let gap = min_surface_gap_m(&secondary(), &other);
-            let gap_s = start.elapsed().as_secs_f64();
-            eprintln!(
-                "{}: check_overlaps {check_s:.4} s, min_surface_gap_m {gap_s:.4} s, gap {gap} m",
-                other.name
-            );
             // The helix rises 0.5 mm per turn, so the approach to the spiral below can be up
             // to 0.5 mm wider than the gap at the helix's start.
             assert!(
@@ -1128,9 +1119,6 @@ mod tests {
                 "{}: {gap} vs {gap_expected}",
                 other.name
             );
-            // Release builds take milliseconds to tens of milliseconds; the bound only catches a
-            // fall back to all pairs (tens of seconds) on a slow, busy test machine.
-            assert!(check_s < 2.0 && gap_s < 3.0, "{check_s} s, {gap_s} s");
         }
     }
 

@@ -161,9 +161,9 @@ pub fn parse_wire_diameter_m(text: &str) -> Result<f64, UnitError> {
 /// Diameter (m) of the bare round conductor of American Wire Gauge `gauge` (0000 = -3, 000 = -2,
 /// 00 = -1, then 0 to 40); `None` outside [`AWG_MIN`]..=[`AWG_MAX`].
 ///
-/// d = 0.127 mm * 92^((36 - n) / 39), from ASTM International, "ASTM B258-18: Standard
+/// d = 0.127 mm * 92^((36 - n) / 39), from ASTM International, "ASTM B258: Standard
 /// Specification for Standard Nominal Diameters and Cross-Sectional Areas of AWG Sizes of Solid
-/// Round Wires Used as Electrical Conductors", 2018. The standard rounds the tabulated diameters;
+/// Round Wires Used as Electrical Conductors" (edition year from memory: 2018). The standard rounds the tabulated diameters;
 /// this function returns the unrounded value of the defining formula.
 pub fn awg_diameter_m(gauge: i32) -> Option<f64> {
     if !(AWG_MIN..=AWG_MAX).contains(&gauge) {

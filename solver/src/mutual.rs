@@ -5,7 +5,7 @@
 //! each ring's axis.
 
 use crate::constants::MU0;
-use crate::elliptic::maxwell_g;
+use crate::elliptic::{maxwell_cel, maxwell_g};
 use crate::quadrature::integrate_adaptive;
 use coilfield_geometry::local_frame;
 use nalgebra::{Point3, Unit, Vector3};
@@ -27,12 +27,14 @@ pub fn mutual_ring_ring_coaxial(a_m: f64, b_m: f64, d_m: f64) -> f64 {
     let d2 = d_m * d_m;
     let sum2 = (a_m + b_m) * (a_m + b_m) + d2;
     let diff2 = (a_m - b_m) * (a_m - b_m) + d2;
-    let m = 4.0 * a_m * b_m / sum2;
-    let kc = (diff2 / sum2).sqrt();
+    let inv_sum = 1.0 / sum2.sqrt();
+    let m = 4.0 * a_m * b_m * inv_sum * inv_sum;
+    let kc = diff2.sqrt() * inv_sum;
     if kc == 0.0 {
         return f64::INFINITY;
     }
-    MU0 * (a_m * b_m).sqrt() * m * m.sqrt() * maxwell_g(m, kc)
+    // sqrt(ab) m^{3/2} g = sqrt(ab m) cel = 2ab / sqrt(sum2) * cel.
+    2.0 * MU0 * a_m * b_m * inv_sum * maxwell_cel(m, kc)
 }
 
 /// A circular filament placed anywhere: centre (m), axis (current right-handed about it),
