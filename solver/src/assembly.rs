@@ -2,7 +2,7 @@
 
 use crate::coupling::coupling_matrix;
 use crate::error::SolverError;
-use crate::mutual::{Circle, mutual_ring_ring_coaxial, mutual_rings_ring};
+use crate::mutual::{Circle, mutual_ring_rings_coaxial, mutual_rings_ring};
 use crate::par::{Par, map_indexed, sum_indexed};
 use crate::segment::{mutual_rings_segment, mutual_segment_segment};
 use crate::self_inductance::{rosa_solenoid, self_filament_model, self_ring_model, wheeler_spiral};
@@ -171,18 +171,7 @@ pub fn mutual_inductance(
                 let axis = ra.axis.as_ref();
                 let m = sum_indexed(ra.rings.len(), par, |i| {
                     let ri = &ra.rings[i];
-                    ri.weight
-                        * rb.rings
-                            .iter()
-                            .map(|rj| {
-                                rj.weight
-                                    * mutual_ring_ring_coaxial(
-                                        ri.radius_m,
-                                        rj.radius_m,
-                                        (rj.centre_m - ri.centre_m).dot(axis),
-                                    )
-                            })
-                            .sum::<f64>()
+                    ri.weight * mutual_ring_rings_coaxial(ri, &rb.rings, axis)
                 });
                 (sign * m, Kernel::MaxwellCoaxial, true)
             } else {

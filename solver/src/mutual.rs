@@ -7,7 +7,7 @@
 use crate::constants::MU0;
 use crate::elliptic::{maxwell_cel, maxwell_g};
 use crate::quadrature::integrate_adaptive;
-use coilfield_geometry::local_frame;
+use coilfield_geometry::{Ring, local_frame};
 use nalgebra::{Point3, Unit, Vector3};
 use std::f64::consts::{PI, TAU};
 
@@ -35,6 +35,23 @@ pub fn mutual_ring_ring_coaxial(a_m: f64, b_m: f64, d_m: f64) -> f64 {
     }
     // sqrt(ab) m^{3/2} g = sqrt(ab m) cel = 2ab / sqrt(sum2) * cel.
     2.0 * MU0 * a_m * b_m * inv_sum * maxwell_cel(m, kc)
+}
+
+/// Mutual inductance (H, unit current in `ring`) of one ring with a set of weighted rings on the
+/// same axis: sum_o w_o M(a, a_o, d_o) by Maxwell's formula ([`mutual_ring_ring_coaxial`]),
+/// d_o the axial distance along `axis`. The weight of `ring` itself is not applied.
+pub fn mutual_ring_rings_coaxial(ring: &Ring, others: &[Ring], axis: &Vector3<f64>) -> f64 {
+    others
+        .iter()
+        .map(|o| {
+            o.weight
+                * mutual_ring_ring_coaxial(
+                    ring.radius_m,
+                    o.radius_m,
+                    (o.centre_m - ring.centre_m).dot(axis),
+                )
+        })
+        .sum()
 }
 
 /// A circular filament placed anywhere: centre (m), axis (current right-handed about it),

@@ -3,7 +3,7 @@
 
 use crate::constants::MU0;
 use crate::elliptic::cel;
-use crate::mutual::mutual_ring_ring_coaxial;
+use crate::mutual::{mutual_ring_ring_coaxial, mutual_ring_rings_coaxial};
 use crate::par::{Par, sum_indexed};
 use crate::segment::{
     mutual_segment_segment, mutual_segment_segment_adjacent, self_segment_round_wire,
@@ -47,38 +47,14 @@ pub fn self_ring_model(model: &RingModel, par: Par) -> f64 {
             .iter()
             .enumerate()
             .map(|(t, ring)| {
-                let others = &rings[..n_full + t];
-                ring.weight
-                    * others
-                        .iter()
-                        .map(|o| {
-                            o.weight
-                                * mutual_ring_ring_coaxial(
-                                    ring.radius_m,
-                                    o.radius_m,
-                                    (ring.centre_m - o.centre_m).dot(axis),
-                                )
-                        })
-                        .sum::<f64>()
+                ring.weight * mutual_ring_rings_coaxial(ring, &rings[..n_full + t], axis)
             })
             .sum();
         return self_terms + 2.0 * (toeplitz + tail);
     }
     let axis = model.axis.as_ref();
     let off_diagonal = sum_indexed(rings.len(), par, |i| {
-        let ri = &rings[i];
-        rings[i + 1..]
-            .iter()
-            .map(|rj| {
-                rj.weight
-                    * mutual_ring_ring_coaxial(
-                        ri.radius_m,
-                        rj.radius_m,
-                        (rj.centre_m - ri.centre_m).dot(axis),
-                    )
-            })
-            .sum::<f64>()
-            * ri.weight
+        rings[i].weight * mutual_ring_rings_coaxial(&rings[i], &rings[i + 1..], axis)
     });
     self_terms + 2.0 * off_diagonal
 }
