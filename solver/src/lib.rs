@@ -53,8 +53,10 @@
 pub mod assembly;
 pub mod constants;
 pub mod coupling;
+pub mod electrostatic;
 pub mod elliptic;
 pub mod error;
+pub mod field;
 pub mod mutual;
 pub mod par;
 pub mod quadrature;
