@@ -51,6 +51,7 @@
 #![deny(missing_docs)]
 
 pub mod assembly;
+pub mod clearance;
 pub mod constants;
 pub mod coupling;
 pub mod electrostatic;
