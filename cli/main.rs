@@ -3,6 +3,7 @@
 //! The binary is the only part of the project that reads files, the environment or the
 //! terminal; the `coilfield-geometry` and `coilfield-solver` crates stay pure.
 
+mod export;
 mod inductance;
 mod load;
 mod output;
@@ -75,6 +76,16 @@ enum Command {
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
     },
+    /// Geometry as VTK XML for any VTK viewer: each winding as polylines (turn index, peak
+    /// current in A), each electrode as a surface, one .vtp file each, and a .pvd collection
+    /// (design.pvd) of them. Lengths in metres.
+    Export {
+        /// Design file (TOML).
+        design: PathBuf,
+        /// Folder for the files (created if missing; files in it are replaced atomically).
+        #[arg(long, value_name = "DIR")]
+        vtk: PathBuf,
+    },
 }
 
 /// An error the user can fix in their input: exit code 2.
@@ -107,6 +118,7 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
         } => inductance::run(&design, format, out.as_deref()),
         Command::Report { design } => report::run(&design),
         Command::Verify { tables, format } => verify::run(tables.as_deref(), format),
+        Command::Export { design, vtk } => export::run(&design, &vtk),
     }
 }
 

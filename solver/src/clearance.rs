@@ -196,62 +196,6 @@ where
     })
 }
 
-/// Distance (m) from `p` to the surface of a solid sphere (negative inside).
-pub fn signed_distance_sphere(p: Point3<f64>, centre_m: Point3<f64>, radius_m: f64) -> f64 {
-    (p - centre_m).norm() - radius_m
-}
-
-/// Axial and radial coordinates (m) of `p` in the frame of an axis through `origin_m`.
-fn axial_radial(p: Point3<f64>, origin_m: Point3<f64>, axis: Vector3<f64>) -> (f64, f64) {
-    let a = axis.normalize();
-    let d = p - origin_m;
-    let z = d.dot(&a);
-    let rho = (d - a * z).norm();
-    (z, rho)
-}
-
-/// Distance (m) from `p` to the surface of a solid torus (negative inside): centre `centre_m`,
-/// axis `axis`, major radius `major_m` (centre to tube centre) and minor radius `minor_m`.
-pub fn signed_distance_torus(
-    p: Point3<f64>,
-    centre_m: Point3<f64>,
-    axis: Vector3<f64>,
-    major_m: f64,
-    minor_m: f64,
-) -> f64 {
-    let (z, rho) = axial_radial(p, centre_m, axis);
-    (rho - major_m).hypot(z) - minor_m
-}
-
-/// Distance (m) from `p` to a thin disc of radius `radius_m` (never negative).
-pub fn distance_disc(
-    p: Point3<f64>,
-    centre_m: Point3<f64>,
-    axis: Vector3<f64>,
-    radius_m: f64,
-) -> f64 {
-    let (z, rho) = axial_radial(p, centre_m, axis);
-    (rho - radius_m).max(0.0).hypot(z)
-}
-
-/// Distance (m) from `p` to the surface of a solid closed cylinder (negative inside): base
-/// centre `base_m`, axis `axis`, radius `radius_m`, length `length_m` along the axis.
-pub fn signed_distance_cylinder(
-    p: Point3<f64>,
-    base_m: Point3<f64>,
-    axis: Vector3<f64>,
-    radius_m: f64,
-    length_m: f64,
-) -> f64 {
-    let (z, rho) = axial_radial(p, base_m, axis);
-    // Distance to a finite cylinder: a 2-D box |rho| <= r, |z - L/2| <= L/2 in the meridian.
-    let dr = rho - radius_m;
-    let dz = (z - 0.5 * length_m).abs() - 0.5 * length_m;
-    let outside = dr.max(0.0).hypot(dz.max(0.0));
-    let inside = dr.max(dz).min(0.0);
-    outside + inside
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -369,25 +313,5 @@ mod tests {
             clearance_along_ray(f, o, Vector3::x(), 0.0, RayParams::default()),
             Err(ClearanceError::BadLimit(0.0))
         );
-    }
-
-    #[test]
-    fn surface_distances() {
-        let c = Point3::new(0.0, 0.0, 1.0);
-        let z = Vector3::z();
-        assert!((signed_distance_sphere(Point3::new(0.0, 3.0, 1.0), c, 1.0) - 2.0).abs() < 1e-15);
-        // Torus R = 0.3, r = 0.1: the axis point at the centre is 0.2 from the tube.
-        assert!((signed_distance_torus(c, c, z, 0.3, 0.1) - 0.2).abs() < 1e-15);
-        assert!(
-            (signed_distance_torus(Point3::new(0.3, 0.0, 1.0), c, z, 0.3, 0.1) + 0.1).abs() < 1e-15
-        );
-        assert!((distance_disc(Point3::new(0.0, 0.0, 1.5), c, z, 0.2) - 0.5).abs() < 1e-15);
-        assert!((distance_disc(Point3::new(0.5, 0.0, 1.4), c, z, 0.2) - 0.5).abs() < 1e-15);
-        // Cylinder from z = 1 to 2, radius 0.5.
-        let d = |p| signed_distance_cylinder(p, c, z, 0.5, 1.0);
-        assert!((d(Point3::new(0.0, 0.0, 1.5)) + 0.5).abs() < 1e-15);
-        assert!((d(Point3::new(0.0, 0.0, 2.25)) - 0.25).abs() < 1e-15);
-        assert!((d(Point3::new(0.8, 0.0, 1.5)) - 0.3).abs() < 1e-15);
-        assert!((d(Point3::new(0.8, 0.0, 2.4)) - 0.5).abs() < 1e-15);
     }
 }
