@@ -915,6 +915,7 @@ mod tests {
         Design {
             version: 1,
             windings,
+            ..Default::default()
         }
     }
 
