@@ -1,0 +1,369 @@
+//! End-to-end tests of the field commands (`export`, `field`, `map`, `clearance`): VTK files read
+//! back with the real VTK library (validation/read_vtk.py), the bad-input contract (exit 2, the
+//! key named, nothing on stdout, no panic) and atomic replacement of outputs.
+
+mod common;
+
+use common::*;
+use serde_json::Value;
+use std::path::Path;
+use std::process::Command;
+
+/// A resonator with a torus on the secondary's top, a ground plane and a drive.
+const RESONATOR: &str = r#"
+[[winding]]
+name = "secondary"
+shape = "helix"
+role = "secondary"
+origin = [0.0, 0.0, 0.10]
+axis = [0.0, 0.0, 1.0]
+radius = "55 mm"
+length = "450 mm"
+turns = 900
+wire_diameter = "AWG 26"
+
+[[winding]]
+name = "primary"
+shape = "spiral"
+role = "primary"
+origin = [0.0, 0.0, 0.09]
+axis = [0.0, 0.0, 1.0]
+inner_radius = "80 mm"
+outer_radius = "140 mm"
+turns = 6
+wire_diameter = "4 mm"
+
+[[electrode]]
+name = "topload"
+shape = "torus"
+origin = [0.0, 0.0, 0.62]
+axis = [0.0, 0.0, 1.0]
+major_radius = "120 mm"
+minor_radius = "40 mm"
+connect = "secondary:top"
+
+[ground]
+z = 0.0
+
+[drive]
+frequency = 250e3
+currents = { primary = 40.0, secondary = 1.2 }
+potentials = { secondary = [0.0, 150e3] }
+"#;
+
+/// Read a VTK file with the real VTK library; the JSON of validation/read_vtk.py.
+fn read_vtk(path: &Path) -> Value {
+    let out = Command::new("python3")
+        .arg(root().join("validation/read_vtk.py"))
+        .arg(path)
+        .output()
+        .expect("run python3 (the tests need python3 with the vtk package: pip install vtk)");
+    assert!(
+        out.status.success(),
+        "read_vtk.py failed on {}: {}",
+        path.display(),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).expect("JSON from read_vtk.py")
+}
+
+/// Check the bad-input contract and return stderr.
+fn expect_bad(args: &[&str], parts: &[&str]) -> String {
+    let out = run(args);
+    let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
+    assert_eq!(
+        out.status.code(),
+        Some(2),
+        "args {args:?}, stderr:\n{stderr}"
+    );
+    assert!(!stderr.contains("panicked"), "panic:\n{stderr}");
+    assert!(stderr.starts_with("error: "), "stderr:\n{stderr}");
+    assert!(
+        out.stdout.is_empty(),
+        "stdout on bad input: {}",
+        String::from_utf8_lossy(&out.stdout)
+    );
+    for p in parts {
+        assert!(stderr.contains(p), "stderr lacks {p:?}:\n{stderr}");
+    }
+    stderr
+}
+
+#[test]
+fn export_writes_windings_electrodes_and_a_collection_that_vtk_reads() {
+    let dir = tempfile::tempdir().unwrap();
+    let design = design_file(dir.path(), "d.toml", RESONATOR);
+    let out_dir = dir.path().join("vtk");
+    let out = run(&[
+        "export",
+        design.to_str().unwrap(),
+        "--vtk",
+        out_dir.to_str().unwrap(),
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let j = read_vtk(&out_dir.join("design.pvd"));
+    let sets = j["collection"].as_array().unwrap();
+    let files: Vec<&str> = sets.iter().map(|s| s["file"].as_str().unwrap()).collect();
+    assert_eq!(
+        files,
+        [
+            "winding-secondary.vtp",
+            "winding-primary.vtp",
+            "electrode-topload.vtp"
+        ]
+    );
+
+    // The secondary: one polyline cell per turn, the current of the drive, and a first point
+    // at origin + r x_hat (the design file's convention), all as VTK reads them.
+    let sec = &sets[0];
+    assert_eq!(sec["class"], "vtkPolyData");
+    assert_eq!(sec["n_cells"], 900);
+    let turn = sec["cell_data"]["turn_index"]["values"].as_array().unwrap();
+    assert_eq!(turn[0].as_f64(), Some(0.0));
+    assert_eq!(turn[899].as_f64(), Some(899.0));
+    let current = &sec["point_data"]["current_peak_A"]["values"];
+    assert_eq!(current[0].as_f64(), Some(1.2));
+    let p0: Vec<f64> = sec["points"][0]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v.as_f64().unwrap())
+        .collect();
+    assert!((p0[0] - 0.055).abs() < 1e-12 && p0[1].abs() < 1e-12 && (p0[2] - 0.10).abs() < 1e-12);
+    // Every point of the helix lies on its cylinder, between its ends.
+    for p in sec["points"].as_array().unwrap() {
+        let (x, y, z) = (
+            p[0].as_f64().unwrap(),
+            p[1].as_f64().unwrap(),
+            p[2].as_f64().unwrap(),
+        );
+        assert!((x.hypot(y) - 0.055).abs() < 1e-12);
+        assert!((0.10 - 1e-12..=0.55 + 1e-12).contains(&z));
+    }
+    let pri = &sets[1];
+    assert_eq!(pri["n_cells"], 6);
+    assert_eq!(
+        pri["cell_data"]["current_peak_A"]["values"][5].as_f64(),
+        Some(40.0)
+    );
+
+    // The torus surface: every point at distance minor_radius from the tube's centre circle.
+    let torus = &sets[2];
+    assert!(torus["n_cells"].as_u64().unwrap() > 1000);
+    for p in torus["points"].as_array().unwrap() {
+        let (x, y, z) = (
+            p[0].as_f64().unwrap(),
+            p[1].as_f64().unwrap(),
+            p[2].as_f64().unwrap(),
+        );
+        let d = (x.hypot(y) - 0.12).hypot(z - 0.62);
+        assert!((d - 0.04).abs() < 1e-12, "{d}");
+    }
+}
+
+#[test]
+fn export_replaces_files_only_on_success() {
+    let dir = tempfile::tempdir().unwrap();
+    let out_dir = dir.path().join("vtk");
+    std::fs::create_dir(&out_dir).unwrap();
+    let old = out_dir.join("design.pvd");
+    std::fs::write(&old, "old contents").unwrap();
+    // An electrode through the secondary's wire is refused and nothing is written.
+    let bad = RESONATOR
+        .replace("major_radius = \"120 mm\"", "major_radius = \"55 mm\"")
+        .replace("origin = [0.0, 0.0, 0.62]", "origin = [0.0, 0.0, 0.30]");
+    let design = design_file(dir.path(), "bad.toml", &bad);
+    expect_bad(
+        &[
+            "export",
+            design.to_str().unwrap(),
+            "--vtk",
+            out_dir.to_str().unwrap(),
+        ],
+        &["topload"],
+    );
+    assert_eq!(std::fs::read_to_string(&old).unwrap(), "old contents");
+    assert_eq!(
+        std::fs::read_dir(&out_dir).unwrap().count(),
+        1,
+        "no stray files"
+    );
+    // A good run replaces it.
+    let good = design_file(dir.path(), "good.toml", RESONATOR);
+    let out = run(&[
+        "export",
+        good.to_str().unwrap(),
+        "--vtk",
+        out_dir.to_str().unwrap(),
+    ]);
+    assert!(out.status.success());
+    assert!(
+        std::fs::read_to_string(&old)
+            .unwrap()
+            .contains("Collection")
+    );
+    let leftovers: Vec<_> = std::fs::read_dir(&out_dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".tmp"))
+        .collect();
+    assert!(leftovers.is_empty(), "{leftovers:?}");
+}
+
+#[test]
+fn field_bad_points_name_the_option() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    expect_bad(&["field", d, "--at", "1,2"], &["--at", "3 comma-separated"]);
+    expect_bad(&["field", d, "--at", "1,2,abc"], &["--at", "abc"]);
+    expect_bad(&["field", d], &["--at", "--points"]);
+    let csv = dir.path().join("p.csv");
+    std::fs::write(&csv, "x,y\n1,2\n").unwrap();
+    expect_bad(
+        &["field", d, "--points", csv.to_str().unwrap()],
+        &["--points", "header must be x,y,z"],
+    );
+    std::fs::write(&csv, "x,y,z\n1,2,3\n1,zz,3\n").unwrap();
+    expect_bad(
+        &["field", d, "--points", csv.to_str().unwrap()],
+        &["line 3", "column y"],
+    );
+}
+
+#[test]
+fn missing_or_zero_drive_names_the_key() {
+    let dir = tempfile::tempdir().unwrap();
+    let no_drive = RESONATOR.split("[drive]").next().unwrap().to_string();
+    let d = design_file(dir.path(), "nodrive.toml", &no_drive);
+    expect_bad(
+        &["field", d.to_str().unwrap(), "--at", "1,0,0.5"],
+        &["currents"],
+    );
+    let zero = RESONATOR
+        .replace(
+            "currents = { primary = 40.0, secondary = 1.2 }",
+            "currents = { primary = 0.0 }",
+        )
+        .replace(
+            "potentials = { secondary = [0.0, 150e3] }",
+            "potentials = { secondary = [0.0, 0.0] }",
+        );
+    let d = design_file(dir.path(), "zero.toml", &zero);
+    expect_bad(
+        &["field", d.to_str().unwrap(), "--at", "1,0,0.5"],
+        &["potentials", "all zero"],
+    );
+    let no_freq = RESONATOR.replace("frequency = 250e3\n", "");
+    let d = design_file(dir.path(), "nofreq.toml", &no_freq);
+    expect_bad(&["clearance", d.to_str().unwrap()], &["frequency"]);
+}
+
+#[test]
+fn map_refuses_bad_grids_with_the_size_and_the_limit() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    let vtr = dir.path().join("m.vtr");
+    let vtr = vtr.to_str().unwrap();
+    let e = expect_bad(
+        &[
+            "map",
+            d,
+            "--plane",
+            "xz",
+            "--extent",
+            "0,1,0,1",
+            "--resolution",
+            "5000,5000",
+            "--vtk",
+            vtr,
+        ],
+        &["--resolution", "25000000 points", "limit of 4000000 points"],
+    );
+    assert!(e.contains("MB"));
+    expect_bad(
+        &[
+            "map",
+            d,
+            "--box",
+            "0,1,0,1,0,1",
+            "--resolution",
+            "200,200,200",
+            "--vtk",
+            vtr,
+        ],
+        &["8000000 points"],
+    );
+    expect_bad(
+        &["map", d, "--resolution", "10,10", "--vtk", vtr],
+        &["--plane", "--box"],
+    );
+    expect_bad(
+        &[
+            "map",
+            d,
+            "--plane",
+            "xz",
+            "--extent",
+            "1,0,0,1",
+            "--resolution",
+            "10,10",
+            "--vtk",
+            vtr,
+        ],
+        &["--extent", "increase"],
+    );
+    expect_bad(
+        &[
+            "map",
+            d,
+            "--box",
+            "0,1,0,1,0,1",
+            "--resolution",
+            "4,4,4",
+            "--plot",
+            "p.png",
+        ],
+        &["--plot", "plane"],
+    );
+    expect_bad(
+        &[
+            "map",
+            d,
+            "--plane",
+            "xy",
+            "--extent",
+            "0,1,0,1",
+            "--resolution",
+            "4,4",
+            "--vtk",
+            "m.vti",
+        ],
+        &["--vtk", ".vtr"],
+    );
+    assert!(!Path::new(vtr).exists());
+}
+
+#[test]
+fn clearance_refuses_bad_options() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    expect_bad(
+        &["clearance", d, "--distance", "1,-2"],
+        &["--distance", "negative"],
+    );
+    expect_bad(
+        &["clearance", d, "--threshold", "x,Q,1,rms"],
+        &["--threshold", "E or B"],
+    );
+    expect_bad(
+        &["clearance", d, "--long-gap-gradient", "0"],
+        &["--long-gap-gradient"],
+    );
+}
