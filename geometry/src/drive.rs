@@ -183,15 +183,16 @@ pub(crate) fn parse_drive(value: Value, source: &str) -> Result<Drive, DesignErr
 /// Names in `[drive]` against the design's conductors, and connected electrodes without a
 /// potential of their own.
 pub(crate) fn check_drive(design: &Design, source: &str) -> Result<(), DesignError> {
-    let unknown =
-        |key: String, name: &str, wanted: &str, known: String| DesignError::UnknownConductor {
+    let unknown = |key: String, name: &str, wanted: &'static str, known: String| {
+        DesignError::UnknownConductor {
             source_name: source.to_string(),
             item: "drive".to_string(),
-            key,
-            name: name.to_string(),
-            wanted: wanted.to_string(),
-            known,
-        };
+            key: key.into(),
+            name: name.into(),
+            wanted,
+            known: known.into(),
+        }
+    };
     let winding_names = || names(design.windings.iter().map(|w| w.name.as_str()));
     for (name, _) in &design.drive.currents_a {
         if !design.windings.iter().any(|w| &w.name == name) {

@@ -420,14 +420,14 @@ pub enum DesignError {
         source_name: String,
         /// Which electrode, or `drive`.
         item: String,
-        /// The key (e.g. `connect`, `currents.primry`).
-        key: String,
-        /// The name as written.
-        name: String,
+        /// The key (e.g. `connect`, `currents.primry`; boxed to keep the error type small).
+        key: Box<str>,
+        /// The name as written (boxed to keep the error type small).
+        name: Box<str>,
         /// What kind of conductor the key needs (e.g. "a winding").
-        wanted: String,
-        /// Names of that kind, comma separated.
-        known: String,
+        wanted: &'static str,
+        /// Names of that kind, comma separated (boxed to keep the error type small).
+        known: Box<str>,
     },
 
     /// An electrode's `connect` that is not `"<winding>:top"` or `"<winding>:base"`.
