@@ -10,7 +10,7 @@ use crate::fields::{FieldModel, Sample};
 use crate::thresholds::{self, Method, Quantity};
 use crate::{BadInput, Format, load, output};
 use coilfield_geometry::{Design, Electrode, End, Role, local_frame};
-use coilfield_solver::clearance::{RayOutcome, RayParams, clearance_along_ray};
+use coilfield_solver::clearance::{RayClearance, RayOutcome, RayParams, clearance_along_ray};
 use nalgebra::{Point3, Unit, Vector3};
 use rayon::prelude::*;
 use serde::Serialize;
@@ -237,6 +237,11 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
         }
         Some(p)
     };
+    // Above the limit at the end of a ray is a lower bound only when the ray ended at the
+    // search distance; a ray that ends on the ground plane has been searched to its end.
+    let beyond_search = |r: &RayClearance, p: &RayParams| {
+        r.outcome == RayOutcome::AboveAtEnd && p.t_max_m >= params.t_max_m
+    };
     let field_of = |q: Quantity| {
         let model = &model;
         move |p: Point3<f64>| magnitude(&model.eval(&[p])[0], q)
@@ -279,6 +284,13 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             });
             continue;
         }
+        if t.quantity == Quantity::E && !model.e_available {
+            warnings.push(format!(
+                "{}: E is not computed in this build, so this threshold has no distance",
+                t.name
+            ));
+            continue;
+        }
         let f = field_of(t.quantity);
         let limit = t.peak_limit();
         let mut by_height = Vec::new();
@@ -288,10 +300,10 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             let rays: Vec<_> = azimuths
                 .par_iter()
                 .filter_map(|d| limited(o, *d).map(|p| (d, p)))
-                .map(|(d, p)| clearance_along_ray(&f, o, *d, limit, p))
+                .map(|(d, p)| clearance_along_ray(f, o, *d, limit, p).map(|r| (r, p)))
                 .collect::<Result<_, _>>()?;
-            let best = rays.iter().map(|r| r.distance_m).fold(0.0, f64::max);
-            let hit_end = rays.iter().any(|r| r.outcome == RayOutcome::AboveAtEnd);
+            let best = rays.iter().map(|(r, _)| r.distance_m).fold(0.0, f64::max);
+            let hit_end = rays.iter().any(|(r, p)| beyond_search(r, p));
             beyond |= hit_end;
             by_height.push(HeightOut {
                 label: hl.clone(),
@@ -303,11 +315,11 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
         let fan_rays: Vec<_> = fan
             .par_iter()
             .filter_map(|d| limited(fr.top_m, *d).map(|p| (d, p)))
-            .map(|(d, p)| clearance_along_ray(&f, fr.top_m, *d, limit, p))
+            .map(|(d, p)| clearance_along_ray(f, fr.top_m, *d, limit, p).map(|r| (r, p)))
             .collect::<Result<_, _>>()?;
         let from_top = fan_rays
             .iter()
-            .map(|r| {
+            .map(|(r, _)| {
                 if r.outcome == RayOutcome::BelowEverywhere {
                     return 0.0;
                 }
@@ -318,7 +330,7 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
                 d.max(0.0)
             })
             .fold(0.0, f64::max);
-        beyond |= fan_rays.iter().any(|r| r.outcome == RayOutcome::AboveAtEnd);
+        beyond |= fan_rays.iter().any(|(r, p)| beyond_search(r, p));
         out.push(ThresholdOut {
             name: t.name.clone(),
             quantity: t.quantity,
@@ -359,6 +371,7 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             let exceeded = ths
                 .iter()
                 .filter(|t| t.method == Method::FieldSearch)
+                .filter(|t| t.quantity == Quantity::B || model.e_available)
                 .filter(|t| magnitude(s, t.quantity).is_none_or(|v| v >= t.peak_limit()))
                 .map(|t| t.name.clone())
                 .collect();

@@ -84,18 +84,24 @@ pub fn winding_vtp(w: &Winding, current_a: f64) -> anyhow::Result<Vec<u8>> {
     )
 }
 
-/// Points (m) of an electrode's surface mesh, generatrix-major: point (i, j) is generatrix
-/// sample i (of `SURFACE_N_GENERATRIX + 1`) at azimuth j (of `SURFACE_N_AZIMUTH`).
-pub fn electrode_mesh(e: &Electrode) -> (Vec<[f64; 3]>, Vec<Vec<u64>>, Vec<(f64, f64)>) {
+/// The surface mesh of an electrode.
+pub struct Mesh {
+    /// Points (m), generatrix-major: point (i, j) is generatrix sample i (of
+    /// `SURFACE_N_GENERATRIX + 1`) at azimuth j (of `SURFACE_N_AZIMUTH`).
+    pub points_m: Vec<[f64; 3]>,
+    /// Quadrilaterals as point indices.
+    pub quads: Vec<Vec<u64>>,
+}
+
+/// The surface mesh of an electrode, a surface of revolution of its generatrix.
+pub fn electrode_mesh(e: &Electrode) -> Mesh {
     let (o, n) = e.shape.origin_axis();
     let (x_hat, y_hat) = local_frame(&n);
     let mut pts = Vec::new();
-    let mut meridian = Vec::new();
     for i in 0..=SURFACE_N_GENERATRIX {
         let (rho, zeta) = e
             .shape
             .generatrix_at(i as f64 / SURFACE_N_GENERATRIX as f64);
-        meridian.push((rho, zeta));
         for j in 0..SURFACE_N_AZIMUTH {
             let phi = TAU * j as f64 / SURFACE_N_AZIMUTH as f64;
             let p = o + n.as_ref() * zeta + (x_hat * phi.cos() + y_hat * phi.sin()) * rho;
@@ -109,12 +115,19 @@ pub fn electrode_mesh(e: &Electrode) -> (Vec<[f64; 3]>, Vec<Vec<u64>>, Vec<(f64,
             quads.push(vec![id(i, j), id(i, j + 1), id(i + 1, j + 1), id(i + 1, j)]);
         }
     }
-    (pts, quads, meridian)
+    Mesh {
+        points_m: pts,
+        quads,
+    }
 }
 
 /// An electrode as a surface of quadrilaterals, with surface data when a solution is given.
 pub fn electrode_vtp(e: &Electrode, data: Option<&SurfaceData>) -> anyhow::Result<Vec<u8>> {
-    let (pts, quads, _) = electrode_mesh(e);
+    let Mesh {
+        points_m: pts,
+        quads,
+        ..
+    } = electrode_mesh(e);
     let mut point_data = Vec::new();
     if let Some(d) = data {
         point_data.push(Array::scalars("sigma_C_per_m2", d.sigma_c_per_m2.clone()));

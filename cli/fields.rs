@@ -10,16 +10,19 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 /// E at a point: a value, or why there is none.
-// Built by the solver wiring in `solve.rs` once the field kernels land.
-#[allow(dead_code)]
 #[derive(Debug, Clone, PartialEq)]
 pub enum EValue {
     /// Peak E (V/m).
+    #[allow(dead_code)] // produced once solver::electrostatic lands
     Field(Vector3<f64>),
     /// The point lies inside the named conductor.
+    #[allow(dead_code)] // produced once solver::electrostatic lands
     Inside(String),
     /// The point lies on the named conductor's surface (E is discontinuous there).
+    #[allow(dead_code)] // produced once solver::electrostatic lands
     OnSurface(String),
+    /// E is not computed by this build.
+    NotComputed,
 }
 
 /// E and B at one point (peak values of the drive).
@@ -53,13 +56,18 @@ pub struct FieldModel {
     eval: Box<BatchFn>,
     /// Warnings about the model itself (image currents, quasi-static limits).
     pub warnings: Vec<String>,
+    /// Whether E is computed (false: every E is [`EValue::NotComputed`]).
+    pub e_available: bool,
 }
 
 impl FieldModel {
     /// Build the model from a wrapped evaluator (used by the solver wiring).
-    #[allow(dead_code)]
-    pub fn from_fn(eval: Box<BatchFn>, warnings: Vec<String>) -> Self {
-        Self { eval, warnings }
+    pub fn from_fn(eval: Box<BatchFn>, warnings: Vec<String>, e_available: bool) -> Self {
+        Self {
+            eval,
+            warnings,
+            e_available,
+        }
     }
 
     /// E and B at `points_m`.
