@@ -63,7 +63,10 @@ fn expect_bad_input(path: &Path, parts: &[&str]) -> String {
         "exit status {:?}, stderr:\n{stderr}",
         out.status
     );
-    assert!(!stderr.contains("panicked"), "panic on bad input:\n{stderr}");
+    assert!(
+        !stderr.contains("panicked"),
+        "panic on bad input:\n{stderr}"
+    );
     assert!(stderr.starts_with("error: "), "stderr:\n{stderr}");
     assert!(
         out.stdout.is_empty(),
@@ -71,7 +74,10 @@ fn expect_bad_input(path: &Path, parts: &[&str]) -> String {
         String::from_utf8_lossy(&out.stdout)
     );
     let label = path.display().to_string();
-    assert!(stderr.contains(&label), "stderr does not name {label}:\n{stderr}");
+    assert!(
+        stderr.contains(&label),
+        "stderr does not name {label}:\n{stderr}"
+    );
     for part in parts {
         assert!(stderr.contains(part), "stderr lacks {part:?}:\n{stderr}");
     }
@@ -110,7 +116,12 @@ fn missing_key() {
 fn unknown_key() {
     case(
         &good_with("radius = 0.05", "radios = 0.05"),
-        &["winding 'secondary'", "key 'radios'", "unknown key", "radius"],
+        &[
+            "winding 'secondary'",
+            "key 'radios'",
+            "unknown key",
+            "radius",
+        ],
     );
 }
 
@@ -154,7 +165,12 @@ fn nan_size() {
 fn inf_size() {
     case(
         &good_with("outer_radius = \"130 mm\"", "outer_radius = inf"),
-        &["winding 'primary'", "key 'outer_radius'", "inf", "not finite"],
+        &[
+            "winding 'primary'",
+            "key 'outer_radius'",
+            "inf",
+            "not finite",
+        ],
     );
 }
 
@@ -162,7 +178,11 @@ fn inf_size() {
 fn zero_turns() {
     case(
         &good_with("turns = 6", "turns = 0"),
-        &["winding 'primary'", "key 'turns'", "positive number of turns"],
+        &[
+            "winding 'primary'",
+            "key 'turns'",
+            "positive number of turns",
+        ],
     );
 }
 
@@ -179,8 +199,11 @@ fn wire_thicker_than_the_pitch() {
 fn windings_whose_wires_intersect() {
     // The spiral moved up into the plane of the helix's first turn and reaching inside its
     // radius: its wire crosses the secondary's.
-    let text = good_with("origin = [0.0, 0.0, 0.08]", "origin = [0.0, 0.0, 0.10]")
-        .replacen("inner_radius = \"70 mm\"", "inner_radius = \"30 mm\"", 1);
+    let text = good_with("origin = [0.0, 0.0, 0.08]", "origin = [0.0, 0.0, 0.10]").replacen(
+        "inner_radius = \"70 mm\"",
+        "inner_radius = \"30 mm\"",
+        1,
+    );
     case(
         &text,
         &[
