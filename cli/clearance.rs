@@ -284,13 +284,6 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             });
             continue;
         }
-        if t.quantity == Quantity::E && !model.e_available {
-            warnings.push(format!(
-                "{}: E is not computed in this build, so this threshold has no distance",
-                t.name
-            ));
-            continue;
-        }
         let f = field_of(t.quantity);
         let limit = t.peak_limit();
         let mut by_height = Vec::new();
@@ -371,7 +364,6 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             let exceeded = ths
                 .iter()
                 .filter(|t| t.method == Method::FieldSearch)
-                .filter(|t| t.quantity == Quantity::B || model.e_available)
                 .filter(|t| magnitude(s, t.quantity).is_none_or(|v| v >= t.peak_limit()))
                 .map(|t| t.name.clone())
                 .collect();

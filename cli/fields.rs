@@ -13,16 +13,9 @@ use std::process::ExitCode;
 #[derive(Debug, Clone, PartialEq)]
 pub enum EValue {
     /// Peak E (V/m).
-    #[allow(dead_code)] // produced once solver::electrostatic lands
     Field(Vector3<f64>),
-    /// The point lies inside the named conductor.
-    #[allow(dead_code)] // produced once solver::electrostatic lands
+    /// The point lies inside the named conductor (or below the ground plane, "ground").
     Inside(String),
-    /// The point lies on the named conductor's surface (E is discontinuous there).
-    #[allow(dead_code)] // produced once solver::electrostatic lands
-    OnSurface(String),
-    /// E is not computed by this build.
-    NotComputed,
 }
 
 /// E and B at one point (peak values of the drive).
@@ -56,18 +49,12 @@ pub struct FieldModel {
     eval: Box<BatchFn>,
     /// Warnings about the model itself (image currents, quasi-static limits).
     pub warnings: Vec<String>,
-    /// Whether E is computed (false: every E is [`EValue::NotComputed`]).
-    pub e_available: bool,
 }
 
 impl FieldModel {
     /// Build the model from a wrapped evaluator (used by the solver wiring).
-    pub fn from_fn(eval: Box<BatchFn>, warnings: Vec<String>, e_available: bool) -> Self {
-        Self {
-            eval,
-            warnings,
-            e_available,
-        }
+    pub fn from_fn(eval: Box<BatchFn>, warnings: Vec<String>) -> Self {
+        Self { eval, warnings }
     }
 
     /// E and B at `points_m`.
@@ -169,7 +156,6 @@ pub fn run(
             .into());
         }
         let on_wire = s.b.is_none();
-        let on_surface = matches!(s.e, EValue::OnSurface(_));
         if on_wire {
             warnings.push(format!(
                 "{}: the point ({}, {}, {}) m lies on a winding's wire: no field given",
@@ -178,16 +164,8 @@ pub fn run(
                 p.y,
                 p.z
             ));
-        } else if let EValue::OnSurface(name) = &s.e {
-            warnings.push(format!(
-                "{}: the point ({}, {}, {}) m lies on the surface of {name}: no field given (E is discontinuous there)",
-                o.label(),
-                p.x,
-                p.y,
-                p.z
-            ));
         }
-        let answered = !on_wire && !on_surface;
+        let answered = !on_wire;
         let e = match &s.e {
             EValue::Field(v) if answered => Some(*v),
             _ => None,

@@ -3,6 +3,7 @@
 //! The binary is the only part of the project that reads files, the environment or the
 //! terminal; the `coilfield-geometry` and `coilfield-solver` crates stay pure.
 
+mod capacitance;
 mod clearance;
 mod export;
 mod fields;
@@ -131,6 +132,21 @@ enum Command {
         #[arg(long, value_enum, default_value_t = map::PlotQuantity::E)]
         plot_quantity: map::PlotQuantity,
     },
+    /// Capacitances (F) from the axisymmetric electrostatic model: the Maxwell matrix of the
+    /// electrodes (file order), each electrode's capacitance (its diagonal entry), the
+    /// secondary's equivalent self-capacitance at its top (bare and with its connected
+    /// electrodes), error estimates |C(n) - C(n/2)|, and each electrode's peak surface field
+    /// (V/m) with its location at the drive potentials.
+    Capacitance {
+        /// Design file (TOML).
+        design: PathBuf,
+        /// table or json.
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+        /// Also write the output to this file (replaced atomically).
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
+    },
     /// Screening clearance distances: for each threshold (air breakdown, a long-gap mean
     /// gradient, ICNIRP 2010 and 2020 reference levels at the drive frequency, and any
     /// --threshold), the distance from the coil axis (m, at several heights) and from the top
@@ -200,6 +216,11 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
         } => inductance::run(&design, format, out.as_deref()),
         Command::Report { design } => report::run(&design),
         Command::Verify { tables, format } => verify::run(tables.as_deref(), format),
+        Command::Capacitance {
+            design,
+            format,
+            out,
+        } => capacitance::run(&design, format, out.as_deref()),
         Command::Clearance {
             design,
             distance,

@@ -193,7 +193,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
             .map(|t| {
                 (
                     t.peak_limit(),
-                    format!("{} ({} peak)", t.name, output::si(t.peak_limit(), unit, 3)),
+                    format!("{}: peak {}", t.name, output::si(t.peak_limit(), unit, 3)),
                 )
             })
             .collect();

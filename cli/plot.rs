@@ -229,6 +229,7 @@ where
     if !map.contours.is_empty() {
         chart
             .configure_series_labels()
+            .position(SeriesLabelPosition::UpperLeft)
             .background_style(WHITE.mix(0.8))
             .border_style(BLACK)
             .label_font(("sans-serif", 13))

@@ -1,13 +1,13 @@
 //! Wiring of the solver's field kernels (`solver::field` for B, `solver::electrostatic` for E)
 //! into the CLI's [`FieldModel`].
 //!
-//! The kernels are written alongside the CLI; what is not in the build yet is said plainly in
-//! the warnings instead of printing made-up fields.
+//! A drive without currents gives B = 0 and one without potentials E = 0, each with a warning.
 
 use crate::fields::{EValue, FieldModel, Sample};
-use coilfield_geometry::{Design, DriveNeeds, validate_drive};
+use coilfield_geometry::{Design, DriveNeeds, PotentialSpec, validate_drive};
+use coilfield_solver::electrostatic::{self, FieldSample, Params, Problem, Solution};
 use coilfield_solver::{Par, field};
-use nalgebra::Point3;
+use nalgebra::{Point3, Vector3};
 
 /// The drive a field computation needs: at least winding currents or conductor potentials.
 pub fn check_drive(design: &Design, label: &str, what: &str) -> anyhow::Result<()> {
@@ -21,8 +21,22 @@ pub fn check_drive(design: &Design, label: &str, what: &str) -> anyhow::Result<(
     Ok(())
 }
 
+/// Whether the drive puts any conductor at a nonzero potential.
+pub fn has_potentials(design: &Design) -> bool {
+    design.drive.potentials_v.iter().any(|(_, p)| match *p {
+        PotentialSpec::Uniform(v) => v != 0.0,
+        PotentialSpec::Ends { base_v, top_v } => base_v != 0.0 || top_v != 0.0,
+    })
+}
+
+/// The electrostatic solution of a design at the default panel count.
+pub fn electrostatic_solution(design: &Design, label: &str) -> anyhow::Result<Solution> {
+    let problem = Problem::from_design(design, &Params::default(), label)?;
+    Ok(problem.solve(Par::Rayon))
+}
+
 /// The field model of a validated design: B from `solver::field` (zero when no winding
-/// carries current); E from `solver::electrostatic`.
+/// carries current); E from `solver::electrostatic` (zero when no conductor has a potential).
 pub fn field_model(design: &Design, label: &str) -> anyhow::Result<FieldModel> {
     check_drive(design, label, "the field")?;
     let has_currents = design.drive.currents_a.iter().any(|(_, i)| *i != 0.0);
@@ -32,25 +46,34 @@ pub fn field_model(design: &Design, label: &str) -> anyhow::Result<FieldModel> {
         Vec::new()
     };
     let mut warnings: Vec<String> = field::image_warning(design).into_iter().collect();
-    // The electrostatic kernel's body is not in this build yet: say so once instead of
-    // printing a made-up E.
-    warnings.push(
-        "E is not computed in this build (solver::electrostatic pending): E values are null".into(),
-    );
-    let eval = move |pts: &[Point3<f64>]| -> Vec<Sample> {
-        field::b_field(&sources, pts, Par::Rayon)
-            .into_iter()
-            .map(|b| Sample {
-                e: EValue::NotComputed,
-                b,
-            })
-            .collect()
+    if !has_currents {
+        warnings.push("no winding carries current in [drive] currents: B is zero".into());
+    }
+    let solution = if has_potentials(design) {
+        Some(electrostatic_solution(design, label)?)
+    } else {
+        warnings.push("no conductor has a potential in [drive] potentials: E is zero".into());
+        None
     };
-    Ok(FieldModel::from_fn(Box::new(eval), warnings, false))
+    let eval = move |pts: &[Point3<f64>]| -> Vec<Sample> {
+        let b = field::b_field(&sources, pts, Par::Rayon);
+        let e: Vec<EValue> = match &solution {
+            Some(sol) => sol
+                .e_field(pts, Par::Rayon)
+                .into_iter()
+                .map(|s| match s {
+                    FieldSample::Field(v) => EValue::Field(v),
+                    FieldSample::InsideConductor(name) => EValue::Inside(name),
+                })
+                .collect(),
+            None => vec![EValue::Field(Vector3::zeros()); pts.len()],
+        };
+        e.into_iter().zip(b).map(|(e, b)| Sample { e, b }).collect()
+    };
+    Ok(FieldModel::from_fn(Box::new(eval), warnings))
 }
 
 /// Warnings on the quasi-static assumption for fields at `distances_m` from the coil.
 pub fn validity_warnings(design: &Design, distances_m: &[f64]) -> Vec<String> {
-    let _ = (design, distances_m);
-    Vec::new()
+    electrostatic::validity_warnings(design, distances_m)
 }
