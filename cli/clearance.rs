@@ -10,10 +10,13 @@ use crate::fields::{FieldModel, Sample};
 use crate::thresholds::{self, Method, Quantity};
 use crate::{BadInput, Format, load, output};
 use coilfield_geometry::{Design, Electrode, End, Role, local_frame};
-use coilfield_solver::clearance::{RayClearance, RayOutcome, RayParams, clearance_along_ray};
+use coilfield_solver::clearance::{
+    RayClearance, RayOutcome, RayParams, clearance_along_ray, ladder_m, ray_point,
+};
 use nalgebra::{Point3, Unit, Vector3};
 use rayon::prelude::*;
 use serde::Serialize;
+use std::collections::HashMap;
 use std::path::Path;
 use std::process::ExitCode;
 
@@ -242,10 +245,6 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
     let beyond_search = |r: &RayClearance, p: &RayParams| {
         r.outcome == RayOutcome::AboveAtEnd && p.t_max_m >= params.t_max_m
     };
-    let field_of = |q: Quantity| {
-        let model = &model;
-        move |p: Point3<f64>| magnitude(&model.eval(&[p])[0], q)
-    };
     let azimuths: Vec<Vector3<f64>> = (0..4)
         .map(|k| {
             let phi = std::f64::consts::FRAC_PI_2 * k as f64;
@@ -261,6 +260,32 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             fan.push(az * el.cos() + fr.axis.as_ref() * el.sin());
         }
     }
+    // Every ray's ladder is evaluated once, in one batch for E and B together; the searches
+    // of all thresholds look these samples up and evaluate only their bisection points.
+    let ladder = ladder_m(&params);
+    let mut all_rays: Vec<(Point3<f64>, Vector3<f64>)> = Vec::new();
+    for (h, _) in &fr.heights {
+        let o = fr.origin_m + fr.axis.as_ref() * *h;
+        all_rays.extend(azimuths.iter().map(|d| (o, *d)));
+    }
+    all_rays.extend(fan.iter().map(|d| (fr.top_m, *d)));
+    let ladder_pts: Vec<Point3<f64>> = all_rays
+        .iter()
+        .flat_map(|(o, d)| ladder.iter().map(move |t| ray_point(*o, *d, *t)))
+        .collect();
+    let cache: HashMap<[u64; 3], Sample> = ladder_pts
+        .iter()
+        .map(|p| [p.x.to_bits(), p.y.to_bits(), p.z.to_bits()])
+        .zip(model.eval(&ladder_pts))
+        .collect();
+    let field_of = |q: Quantity| {
+        let model = &model;
+        let cache = &cache;
+        move |p: Point3<f64>| match cache.get(&[p.x.to_bits(), p.y.to_bits(), p.z.to_bits()]) {
+            Some(s) => magnitude(s, q),
+            None => magnitude(&model.eval(&[p])[0], q),
+        }
+    };
     let mut out = Vec::new();
     for t in &ths {
         if t.method == Method::MeanGradient {

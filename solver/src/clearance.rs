@@ -98,6 +98,21 @@ pub enum ClearanceError {
     BadLimit(f64),
 }
 
+/// The distances (m) of the sampling ladder of a ray search, innermost first.
+pub fn ladder_m(params: &RayParams) -> Vec<f64> {
+    let n_steps = ((params.t_max_m / params.t_min_m).ln() / params.step_ratio.ln()).ceil() as usize;
+    (0..=n_steps)
+        .map(|i| (params.t_min_m * params.step_ratio.powi(i as i32)).min(params.t_max_m))
+        .collect()
+}
+
+/// The point at distance `t_m` along a ray, computed exactly as the search computes it, so a
+/// caller can evaluate the ladder's points in one batch beforehand and look them up
+/// bit for bit. `direction` is normalised here.
+pub fn ray_point(origin_m: Point3<f64>, direction: Vector3<f64>, t_m: f64) -> Point3<f64> {
+    origin_m + direction.normalize() * t_m
+}
+
 /// Outer crossing of `limit` by the field magnitude `field(point)` along the ray
 /// `origin_m + t * direction` (direction normalised here), `t` in metres.
 ///
@@ -142,8 +157,7 @@ where
     if !(norm.is_finite() && norm > 0.0) {
         return Err(ClearanceError::BadDirection);
     }
-    let dir = direction / norm;
-    let at = |t: f64| origin_m + dir * t;
+    let at = |t: f64| ray_point(origin_m, direction, t);
     let mut evaluations = 0usize;
     let mut unanswered = 0usize;
     let mut above = |t: f64| -> bool {
@@ -159,10 +173,7 @@ where
 
     // The ladder, outermost first: the first sample above the limit found from outside is the
     // outer bracket, so the search can stop there.
-    let n_steps = ((t_max_m / t_min_m).ln() / step_ratio.ln()).ceil() as usize;
-    let ladder: Vec<f64> = (0..=n_steps)
-        .map(|i| (t_min_m * step_ratio.powi(i as i32)).min(t_max_m))
-        .collect();
+    let ladder = ladder_m(&params);
     let mut outer_below = None;
     let mut inner_above = None;
     for (idx, &t) in ladder.iter().enumerate().rev() {
