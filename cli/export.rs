@@ -5,9 +5,10 @@
 //! leaves the folder as it was.
 
 use crate::vtk::{self, Array, Cells};
-use crate::{BadInput, load, output};
+use crate::{BadInput, load, output, solve};
 use coilfield_geometry::discretise::filament_model;
 use coilfield_geometry::{Design, Electrode, Shape, Winding, local_frame};
+use coilfield_solver::electrostatic::Solution;
 use std::f64::consts::TAU;
 use std::path::Path;
 
@@ -154,8 +155,26 @@ pub fn run(design_path: &Path, dir: &Path) -> anyhow::Result<std::process::ExitC
         let i = design.drive.current_a(&w.name);
         files.push((format!("winding-{}.vtp", w.name), winding_vtp(w, i)?));
     }
+    // Surface charge and field need the electrostatic solution, which needs a potential.
+    let solution = if !design.electrodes.is_empty() && solve::has_potentials(&design) {
+        Some(solve::electrostatic_solution(
+            &design,
+            &design_path.display().to_string(),
+        )?)
+    } else {
+        if !design.electrodes.is_empty() {
+            eprintln!(
+                "warning: no conductor has a potential in [drive] potentials: electrodes exported without surface charge and field"
+            );
+        }
+        None
+    };
     for e in &design.electrodes {
-        files.push((format!("electrode-{}.vtp", e.name), electrode_vtp(e, None)?));
+        let data = solution.as_ref().map(|s| surface_data(e, s));
+        files.push((
+            format!("electrode-{}.vtp", e.name),
+            electrode_vtp(e, data.as_ref())?,
+        ));
     }
     let names: Vec<String> = files.iter().map(|(n, _)| n.clone()).collect();
     files.push(("design.pvd".into(), vtk::pvd(&names)));
@@ -172,4 +191,52 @@ pub fn run(design_path: &Path, dir: &Path) -> anyhow::Result<std::process::ExitC
         println!("{}", dir.join(name).display());
     }
     Ok(std::process::ExitCode::SUCCESS)
+}
+
+/// Surface charge density and surface field at every point of an electrode's mesh: each
+/// generatrix sample takes the values of the nearest panel of that electrode (panels carry a
+/// constant sigma each).
+pub fn surface_data(e: &Electrode, sol: &Solution) -> SurfaceData {
+    let axis = sol.axis();
+    let (o, n) = e.shape.origin_axis();
+    let base_z = (o - axis.origin_m).dot(axis.direction.as_ref());
+    let sign = n.dot(axis.direction.as_ref()).signum();
+    let panels: Vec<_> = sol
+        .panels()
+        .into_iter()
+        .filter(|p| p.surface == e.name)
+        .collect();
+    let dist = |p: &coilfield_solver::electrostatic::PanelResult, rho: f64, z: f64| {
+        let (a, b) = (p.start_rho_z_m, p.end_rho_z_m);
+        let (dx, dz) = (b[0] - a[0], b[1] - a[1]);
+        let len2 = dx * dx + dz * dz;
+        let t = if len2 > 0.0 {
+            (((rho - a[0]) * dx + (z - a[1]) * dz) / len2).clamp(0.0, 1.0)
+        } else {
+            0.0
+        };
+        (rho - a[0] - t * dx).hypot(z - a[1] - t * dz)
+    };
+    let mut sigma = Vec::new();
+    let mut field = Vec::new();
+    for i in 0..=SURFACE_N_GENERATRIX {
+        let (rho, zeta) = e
+            .shape
+            .generatrix_at(i as f64 / SURFACE_N_GENERATRIX as f64);
+        let z = base_z + sign * zeta;
+        let best = panels
+            .iter()
+            .min_by(|a, b| dist(a, rho, z).total_cmp(&dist(b, rho, z)));
+        let (s, f) = best.map_or((f64::NAN, f64::NAN), |p| {
+            (p.sigma_c_per_m2, p.surface_field_v_per_m)
+        });
+        for _ in 0..SURFACE_N_AZIMUTH {
+            sigma.push(s);
+            field.push(f);
+        }
+    }
+    SurfaceData {
+        sigma_c_per_m2: sigma,
+        e_surface_v_per_m: field,
+    }
 }

@@ -163,6 +163,67 @@ fn export_writes_windings_electrodes_and_a_collection_that_vtk_reads() {
         let d = (x.hypot(y) - 0.12).hypot(z - 0.62);
         assert!((d - 0.04).abs() < 1e-12, "{d}");
     }
+    // Surface data: E_s = sigma / eps0 at every point, and its largest value is the peak
+    // surface field that `capacitance` reports (the mesh samples the panels, so within 1 %).
+    let eps0 = 8.854_187_8128e-12;
+    let sigma = torus["point_data"]["sigma_C_per_m2"]["values"]
+        .as_array()
+        .unwrap();
+    let es = torus["point_data"]["E_surface_V_per_m"]["values"]
+        .as_array()
+        .unwrap();
+    let mut es_max = 0.0f64;
+    for (s, e) in sigma.iter().zip(es) {
+        assert!(rel(f(e), f(s).abs() / eps0) < 1e-9, "{s} {e}");
+        es_max = es_max.max(f(e));
+    }
+    let cap = field_json(&["capacitance", design.to_str().unwrap(), "--format", "json"]);
+    let peak = f(&cap["peak_surface_fields"][0]["field_v_per_m"]);
+    assert_eq!(cap["peak_surface_fields"][0]["name"], "topload");
+    assert!(rel(es_max, peak) < 0.01, "{es_max} vs {peak}");
+}
+
+#[test]
+fn capacitance_of_an_isolated_sphere_and_the_resonator_json() {
+    let dir = tempfile::tempdir().unwrap();
+    let sphere = "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 1.0]\nradius = 0.1\n";
+    let d = design_file(dir.path(), "s.toml", sphere);
+    let j = field_json(&["capacitance", d.to_str().unwrap(), "--format", "json"]);
+    // C = 4 pi eps0 a (closed form), to 0.1 %.
+    let exact = 4.0 * std::f64::consts::PI * 8.854_187_8128e-12 * 0.1;
+    assert_eq!(j["conductors"][0]["name"], "ball");
+    let c = f(&j["conductors"][0]["capacitance_f"]);
+    assert!(rel(c, exact) < 1e-3, "{c} vs {exact}");
+    assert_eq!(f(&j["matrix_f"][0][0]), c);
+
+    let d = design_file(dir.path(), "r.toml", RESONATOR);
+    let out = dir.path().join("c.json");
+    let j = field_json(&[
+        "capacitance",
+        d.to_str().unwrap(),
+        "--format",
+        "json",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    let names: Vec<&str> = j["conductors"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c["name"].as_str().unwrap())
+        .collect();
+    assert_eq!(names, ["topload", "secondary"]);
+    let sec = &j["conductors"][1];
+    assert_eq!(sec["kind"], "secondary");
+    // Connecting the torus to the top adds capacitance.
+    assert!(f(&sec["with_connected_electrodes_f"]) > f(&sec["capacitance_f"]));
+    assert!(f(&sec["capacitance_f"]) > 1e-12 && f(&sec["capacitance_f"]) < 1e-10);
+    // The peak surface field lies on the torus.
+    let at = j["peak_surface_fields"][0]["at_m"].as_array().unwrap();
+    let (x, y, z) = (f(&at[0]), f(&at[1]), f(&at[2]));
+    assert!(((x.hypot(y) - 0.12).hypot(z - 0.62) - 0.04).abs() < 2e-3);
+    let saved: Value = serde_json::from_str(&std::fs::read_to_string(&out).unwrap()).unwrap();
+    assert_eq!(saved, j);
 }
 
 #[test]
@@ -222,6 +283,11 @@ fn field_bad_points_name_the_option() {
     expect_bad(&["field", d, "--at", "1,2"], &["--at", "3 comma-separated"]);
     expect_bad(&["field", d, "--at", "1,2,abc"], &["--at", "abc"]);
     expect_bad(&["field", d], &["--at", "--points"]);
+    // Inside the torus's tube: no field there, an error naming the option and the conductor.
+    expect_bad(
+        &["field", d, "--at", "0.12,0,0.62"],
+        &["--at 0.12,0,0.62", "inside", "topload"],
+    );
     let csv = dir.path().join("p.csv");
     std::fs::write(&csv, "x,y\n1,2\n").unwrap();
     expect_bad(
