@@ -165,7 +165,7 @@ fn export_writes_windings_electrodes_and_a_collection_that_vtk_reads() {
     }
     // Surface data: E_s = sigma / eps0 at every point, and its largest value is the peak
     // surface field that `capacitance` reports (the mesh samples the panels, so within 1 %).
-    let eps0 = 8.854_187_8128e-12;
+    let eps0 = 8.854_187_812_8e-12;
     let sigma = torus["point_data"]["sigma_C_per_m2"]["values"]
         .as_array()
         .unwrap();
@@ -190,7 +190,7 @@ fn capacitance_of_an_isolated_sphere_and_the_resonator_json() {
     let d = design_file(dir.path(), "s.toml", sphere);
     let j = field_json(&["capacitance", d.to_str().unwrap(), "--format", "json"]);
     // C = 4 pi eps0 a (closed form), to 0.1 %.
-    let exact = 4.0 * std::f64::consts::PI * 8.854_187_8128e-12 * 0.1;
+    let exact = 4.0 * std::f64::consts::PI * 8.854_187_812_8e-12 * 0.1;
     assert_eq!(j["conductors"][0]["name"], "ball");
     let c = f(&j["conductors"][0]["capacitance_f"]);
     assert!(rel(c, exact) < 1e-3, "{c} vs {exact}");
