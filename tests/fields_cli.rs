@@ -666,3 +666,81 @@ fn clearance_of_a_small_loop_matches_the_dipole_equator() {
         assert!(th.unwrap()["source"].as_str().unwrap().len() > 10);
     }
 }
+
+#[test]
+fn clearance_of_the_resonator_is_consistent_with_field() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    let j = field_json(&["clearance", d, "--format", "json", "--distance", "0.5,2"]);
+    assert!(j["caution"].as_str().unwrap().contains("local regulations"));
+    let ths = j["thresholds"].as_array().unwrap();
+    let get = |n: &str| {
+        ths.iter()
+            .find(|t| t["name"] == n)
+            .unwrap_or_else(|| panic!("{n}"))
+    };
+    for t in ths {
+        for key in [
+            "quantity",
+            "limit",
+            "unit",
+            "source",
+            "distance_from_axis_m",
+            "distance_from_top_m",
+        ] {
+            assert!(!t[key].is_null(), "{} lacks {key}", t["name"]);
+        }
+    }
+    // A lower limit of the same quantity cannot give a smaller distance.
+    for (lo, hi) in [
+        ("icnirp2010_public_e", "icnirp2010_occupational_e"),
+        ("icnirp2010_public_b", "icnirp2010_occupational_b"),
+        (
+            "icnirp2020_public_local_e",
+            "icnirp2020_occupational_local_e",
+        ),
+    ] {
+        assert!(f(&get(lo)["distance_from_axis_m"]) >= f(&get(hi)["distance_from_axis_m"]));
+    }
+    // The long-gap distance is the peak potential over the gradient.
+    assert!(
+        rel(
+            f(&get("long_gap_mean_gradient")["distance_from_top_m"]),
+            150e3 / 300e3
+        ) < 1e-12
+    );
+    assert!(
+        get("icnirp2020_public_whole_body_e")["source"]
+            .as_str()
+            .unwrap()
+            .contains("from memory")
+    );
+    // At the crossing the field equals the limit: check one E distance with `field`.
+    let t = get("icnirp2010_public_e");
+    let best = t["by_height"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .max_by(|a, b| f(&a["distance_from_axis_m"]).total_cmp(&f(&b["distance_from_axis_m"])))
+        .unwrap();
+    let r = f(&best["distance_from_axis_m"]);
+    let h = 0.10 + f(&best["height_m"]);
+    let limit_peak = 83.0 * 2f64.sqrt();
+    let probe = |x: f64| {
+        let at = format!("{x},0,{h}");
+        let fj = field_json(&["field", d, "--at", &at, "--format", "json"]);
+        f(&fj["points"][0]["e_mag_v_per_m"])
+    };
+    // Searched at four azimuths; the field is axisymmetric, so +x is one of them.
+    assert!(probe(r + 0.01) < limit_peak, "beyond the crossing");
+    assert!(probe(r - 0.01) >= limit_peak * 0.999, "inside the crossing");
+    // `at_distances` are the fields `field` gives at the same points.
+    for a in j["at_distances"].as_array().unwrap() {
+        let p = a["position_m"].as_array().unwrap();
+        let at = format!("{},{},{}", f(&p[0]), f(&p[1]), f(&p[2]));
+        let fj = field_json(&["field", d, "--at", &at, "--format", "json"]);
+        assert!(rel(f(&a["e_mag_v_per_m"]), f(&fj["points"][0]["e_mag_v_per_m"])) < 1e-12);
+        assert!(rel(f(&a["b_mag_t"]), f(&fj["points"][0]["b_mag_t"])) < 1e-12);
+    }
+}
