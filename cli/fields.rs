@@ -142,6 +142,10 @@ pub fn run(
     let model = FieldModel::from_design(&design, &design_path.display().to_string())?;
     let samples = model.eval(&pts);
     let mut warnings = model.warnings.clone();
+    warnings.extend(crate::solve::validity_warnings(
+        &design,
+        &crate::solve::distances_from_centre_m(&design, &pts),
+    ));
     let mut rows = Vec::with_capacity(pts.len());
     for ((p, s), o) in pts.iter().zip(&samples).zip(&origins) {
         let position_m = [p.x, p.y, p.z];

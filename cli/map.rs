@@ -151,6 +151,10 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
             .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))))
     };
     let mut warnings = model.warnings.clone();
+    warnings.extend(crate::solve::validity_warnings(
+        &design,
+        &crate::solve::distances_from_centre_m(&design, &pts),
+    ));
     let mut files_out: Vec<(std::path::PathBuf, Vec<u8>)> = Vec::new();
     if let Some(p) = args.vtk {
         let bytes = vtk::rectilinear_grid(

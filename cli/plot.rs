@@ -211,7 +211,18 @@ where
                 }),
         )
         .map_err(err)?;
-    let palette = [WHITE, RED, MAGENTA, CYAN, BLACK, YELLOW];
+    let palette = [
+        WHITE,
+        RED,
+        MAGENTA,
+        CYAN,
+        BLACK,
+        YELLOW,
+        plotters::style::full_palette::ORANGE,
+        plotters::style::full_palette::PINK,
+        BLUE,
+        GREEN,
+    ];
     for (k, (level, name)) in map.contours.iter().enumerate() {
         let colour = palette[k % palette.len()];
         let segs = contour_segments(map.u_m, map.v_m, map.values, *level);

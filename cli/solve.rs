@@ -77,3 +77,22 @@ pub fn field_model(design: &Design, label: &str) -> anyhow::Result<FieldModel> {
 pub fn validity_warnings(design: &Design, distances_m: &[f64]) -> Vec<String> {
     electrostatic::validity_warnings(design, distances_m)
 }
+
+/// Distances (m) of `points_m` from the design's centre (the mean of its winding and electrode
+/// origins), for [`validity_warnings`].
+pub fn distances_from_centre_m(design: &Design, points_m: &[Point3<f64>]) -> Vec<f64> {
+    let mut origins: Vec<Point3<f64>> = design
+        .windings
+        .iter()
+        .filter_map(|w| w.shape.origin_axis().map(|(o, _)| o))
+        .collect();
+    origins.extend(design.electrodes.iter().map(|e| e.shape.origin_axis().0));
+    if origins.is_empty() {
+        return Vec::new();
+    }
+    let c = origins
+        .iter()
+        .fold(Vector3::zeros(), |acc, o| acc + o.coords)
+        / origins.len() as f64;
+    points_m.iter().map(|p| (p.coords - c).norm()).collect()
+}
