@@ -744,3 +744,51 @@ fn clearance_of_the_resonator_is_consistent_with_field() {
         assert!(rel(f(&a["b_mag_t"]), f(&fj["points"][0]["b_mag_t"])) < 1e-12);
     }
 }
+
+#[test]
+fn field_csv_and_table_agree_with_json_and_the_box_grid_reads_back() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    let args = ["field", d, "--at", "0.5,0,0.3", "--at", "-0.2,0.1,0.9"];
+    let j = field_json(&[&args[..], &["--format", "json"]].concat());
+    let out = run(&[&args[..], &["--format", "csv"]].concat());
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    let mut lines = text.lines();
+    assert_eq!(
+        lines.next().unwrap(),
+        "x_m,y_m,z_m,ex_v_per_m,ey_v_per_m,ez_v_per_m,e_mag_v_per_m,bx_t,by_t,bz_t,b_mag_t"
+    );
+    for (k, line) in lines.enumerate() {
+        let v: Vec<f64> = line.split(',').map(|c| c.parse().unwrap()).collect();
+        let p = &j["points"][k];
+        // serde_json's default float parser may be 1 ulp off; the printed digits agree.
+        assert!(rel(v[6], f(&p["e_mag_v_per_m"])) < 1e-15);
+        assert!(rel(v[10], f(&p["b_mag_t"])) < 1e-15);
+        assert!(rel(v[3], f(&p["e_field_v_per_m"][0])) < 1e-15);
+    }
+    let out = run(&[&args[..], &["--format", "table"]].concat());
+    let table = String::from_utf8(out.stdout).unwrap();
+    assert!(table.contains("(0.5, 0, 0.3)") && table.contains("V/m") && table.contains("T"));
+
+    // The 3-D box form: a RectilinearGrid of NX x NY x NZ points, x fastest.
+    let vtr = dir.path().join("box.vtr");
+    let s = field_json(&[
+        "map",
+        d,
+        "--box",
+        "0.3,0.5,-0.1,0.1,0.2,0.4",
+        "--resolution",
+        "3,2,2",
+        "--vtk",
+        vtr.to_str().unwrap(),
+    ]);
+    assert_eq!(s["n_points"], 12);
+    let g = read_vtk(&vtr);
+    assert_eq!(g["dimensions"], serde_json::json!([3, 2, 2]));
+    let p1 = &g["points"][1];
+    assert_eq!((f(&p1[0]), f(&p1[1]), f(&p1[2])), (0.4, -0.1, 0.2));
+    let p3 = &g["points"][3];
+    assert_eq!((f(&p3[0]), f(&p3[1]), f(&p3[2])), (0.3, 0.1, 0.2));
+}
