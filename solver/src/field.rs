@@ -480,6 +480,40 @@ mod tests {
     }
 
     #[test]
+    fn loop_and_sheet_match_the_mpmath_table() {
+        // validation/fields_b.csv (validation/fields_refs.py): Biot-Savart quadrature for the
+        // loop, the integral of loops over the length for the sheet.
+        let text = include_str!("../../validation/fields_b.csv");
+        let mut rows: Vec<(String, [f64; 5], String, f64, f64)> = Vec::new();
+        for line in text.lines().skip(1) {
+            let f: Vec<&str> = line.splitn(11, ',').collect();
+            let num = |i: usize| f[i].parse::<f64>().unwrap();
+            assert_eq!(f[9], "rel_to_magnitude");
+            rows.push((
+                f[0].to_string(),
+                [num(1), num(2), num(3), num(4), num(5)],
+                f[6].to_string(),
+                num(7),
+                num(8),
+            ));
+        }
+        assert!(rows.len() >= 20);
+        for (kind, x, quantity, reference, tol) in &rows {
+            let (br, bz) = if kind == "loop" {
+                b_ring_point(x[0], 1.0, x[3], x[4])
+            } else {
+                b_sheet_point(x[0], x[1], x[2], x[3], x[4])
+            };
+            let got = if quantity == "b_rho" { br } else { bz };
+            let magnitude = br.hypot(bz);
+            assert!(
+                (got - reference).abs() <= tol * magnitude,
+                "{kind} {x:?} {quantity}: {got} vs {reference}"
+            );
+        }
+    }
+
+    #[test]
     fn helmholtz_pair_centre() {
         // (8 / (5 sqrt 5)) mu0 N I / R (Helmholtz pair, textbook; e.g. Jackson problem 5.5).
         let r = 0.2;
