@@ -15,7 +15,8 @@
 //!     pub fn self_capacitance_f(&self) -> Option<SelfCapacitance>; // secondary: bare and total
 //!     pub fn error_estimate(&self) -> &ErrorEstimate;        // |C(n) - C(n/2)| (F)
 //!     pub fn e_field(&self, points_m: &[Point3<f64>], par: Par) -> Vec<FieldSample>; // drive potentials
-//!     pub fn panels(&self) -> &[PanelResult];
+//!     pub fn panels(&self) -> Vec<PanelResult>;             // sigma (C/m^2), surface field (V/m)
+//!     pub fn axis(&self) -> Axis;                           // to revolve the generatrix for VTK
 //!     pub fn peak_surface_fields(&self) -> Vec<PeakField>;   // per electrode
 //! }
 //! pub enum FieldSample { Field(Vector3<f64>), InsideConductor(String) }
@@ -1432,6 +1433,58 @@ mod tests {
         let c = s.self_capacitance_f().unwrap().bare_f;
         let medhurst = 0.50 * 10.0 * 1e-12;
         assert!((c / medhurst - 1.0).abs() < 0.3, "{c} vs {medhurst}");
+    }
+
+    #[test]
+    fn maxwell_matrix_of_two_spheres_is_reciprocal() {
+        let text = "[[electrode]]\nname = \"a\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.0]\nradius = 0.1\n[[electrode]]\nname = \"b\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.3]\nradius = 0.05\n";
+        let d = parse_design(text, "t").unwrap();
+        let s = Problem::from_design(
+            &d,
+            &Params {
+                panels: 300,
+                ..Default::default()
+            },
+            "t",
+        )
+        .unwrap()
+        .solve(Par::Rayon);
+        let c = s.capacitance_matrix_f();
+        assert_eq!(s.conductor_names(), ["a", "b"]);
+        // Green's reciprocity: C_ab = C_ba; induced charges are negative; each diagonal
+        // exceeds the isolated sphere's 4 pi eps0 a (the other sphere, grounded, pulls charge).
+        assert!((c[0][1] - c[1][0]).abs() < 1e-4 * c[0][0], "{c:?}");
+        assert!(c[0][1] < 0.0);
+        assert!(c[0][0] > 4.0 * PI * EPS0 * 0.1 && c[1][1] > 4.0 * PI * EPS0 * 0.05);
+    }
+
+    #[test]
+    fn connected_topload_adds_to_the_self_capacitance() {
+        let text = "[[winding]]\nname = \"sec\"\nshape = \"helix\"\nrole = \"secondary\"\norigin = [0.0, 0.0, 0.05]\naxis = [0.0, 0.0, 1.0]\nradius = 0.05\nlength = 0.2\nturns = 400\nwire_diameter = 0.0004\n[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.35]\nradius = 0.08\nconnect = \"sec:top\"\n";
+        let d = parse_design(text, "t").unwrap();
+        let s = Problem::from_design(
+            &d,
+            &Params {
+                panels: 300,
+                ..Default::default()
+            },
+            "t",
+        )
+        .unwrap()
+        .solve(Par::Rayon);
+        let sc = s.self_capacitance_f().unwrap();
+        // The sphere alone would hold 4 pi eps0 a = 8.9 pF at 1 V; with the coil beside it the
+        // total lies above the bare coil's and below the sum of the two apart.
+        let sphere = 4.0 * PI * EPS0 * 0.08;
+        assert!(
+            sc.total_f > sc.bare_f && sc.total_f < sc.bare_f + sphere,
+            "{sc:?}"
+        );
+        let est = s.error_estimate().self_capacitance_f.unwrap();
+        assert!(
+            est.bare_f < 0.01 * sc.bare_f && est.total_f < 0.01 * sc.total_f,
+            "{est:?}"
+        );
     }
 
     #[test]

@@ -636,6 +636,31 @@ mod tests {
     }
 
     #[test]
+    fn conducting_ground_cancels_the_normal_field_on_the_plane() {
+        let text = "[[winding]]\nname = \"loop\"\nshape = \"ring\"\norigin = [0.1, 0.0, 0.2]\naxis = [0.3, 0.0, 1.0]\nradius = 0.1\nwire_diameter = 0.001\n[[winding]]\nname = \"wire\"\nshape = \"polyline\"\npoints = [[0.0, 0.0, 0.1], [0.2, 0.1, 0.3]]\nwire_diameter = 0.001\n[ground]\nz = 0.0\nconducting = true\n[drive]\ncurrents = { loop = 2.0, wire = 1.0 }\n";
+        let d = coilfield_geometry::parse_design(text, "t").unwrap();
+        let sources = sources_from_design(&d, "t").unwrap();
+        assert!(image_warning(&d).unwrap().contains("image windings"));
+        for p in [
+            Point3::new(0.0, 0.0, 0.0),
+            Point3::new(0.3, -0.2, 0.0),
+            Point3::new(0.1, 0.05, 0.0),
+        ] {
+            let b = b_field_point(&sources, &p).unwrap();
+            assert!(b.z.abs() < 1e-12 * b.norm(), "{p}: {b}");
+            assert!(b.norm() > 0.0);
+        }
+    }
+
+    #[test]
+    fn missing_currents_are_an_error() {
+        let text = "[[winding]]\nname = \"loop\"\nshape = \"ring\"\norigin = [0.0, 0.0, 0.2]\naxis = [0.0, 0.0, 1.0]\nradius = 0.1\nwire_diameter = 0.001\n";
+        let d = coilfield_geometry::parse_design(text, "d.toml").unwrap();
+        let e = sources_from_design(&d, "d.toml").unwrap_err().to_string();
+        assert!(e.contains("d.toml: drive: key 'currents'"), "{e}");
+    }
+
+    #[test]
     fn parallel_equals_sequential() {
         let sources = [Source::Ring(RingSource {
             centre_m: Point3::origin(),
