@@ -44,6 +44,7 @@ pub struct MapArgs<'a> {
 
 #[derive(Serialize)]
 struct MapOut {
+    caution: &'static str,
     n_points: usize,
     max_e_mag_v_per_m: Option<f64>,
     max_b_mag_t: Option<f64>,
@@ -223,6 +224,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
         output::write_atomic(p, bytes)?;
     }
     let result = MapOut {
+        caution: thresholds::CAUTION,
         n_points: n,
         max_e_mag_v_per_m: max(&e_mag),
         max_b_mag_t: max(&b_mag),
