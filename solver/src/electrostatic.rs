@@ -238,7 +238,10 @@ pub struct Problem {
     /// Electrodes connected to the secondary: (index, end).
     connected: Vec<(usize, End)>,
     coarse: Option<Box<Problem>>,
+    /// The secondary without its connected electrodes (panels a subset of these).
     bare: Option<Box<Problem>>,
+    /// For a bare problem: the indices of its panels in the full problem.
+    keep: Vec<usize>,
 }
 
 /// The solved problem.
@@ -633,6 +636,7 @@ impl Problem {
             connected,
             coarse: None,
             bare: None,
+            keep: Vec::new(),
         };
         if top {
             let half = Params {
@@ -641,25 +645,42 @@ impl Problem {
             };
             problem.coarse = Some(Box::new(Self::build(design, &half, source, false)?));
             if !problem.connected.is_empty() {
-                // The bare secondary: the same design without its connected electrodes.
-                let mut bare = design.clone();
-                let sec = secondary_name.clone();
-                bare.electrodes.retain(|e| {
-                    e.connect
-                        .as_ref()
-                        .map(|t| Some(&t.winding) != sec.as_ref())
-                        .unwrap_or(true)
-                });
-                if !bare.electrodes.is_empty()
-                    || bare.windings.iter().any(|w| w.role == Role::Secondary)
-                {
-                    let mut b = Self::build(&bare, params, source, false)?;
-                    b.coarse = Some(Box::new(Self::build(&bare, &half, source, false)?));
-                    problem.bare = Some(Box::new(b));
+                // The bare secondary: the same panels without those of its connected
+                // electrodes, so that its matrix is a submatrix of this one.
+                let bare = problem.without_connected();
+                problem.bare = Some(Box::new(bare));
+                if let Some(c) = problem.coarse.as_mut() {
+                    c.bare = Some(Box::new(c.without_connected()));
                 }
             }
         }
         Ok(problem)
+    }
+
+    /// The problem without the panels of electrodes connected to the secondary, and the
+    /// indices of the panels kept.
+    fn without_connected(&self) -> Problem {
+        let dropped: Vec<usize> = self
+            .surfaces
+            .iter()
+            .enumerate()
+            .filter(|(_, (_, kind))| {
+                matches!(kind, SurfaceKind::Electrode { index, .. }
+                    if self.connected.iter().any(|(i, _)| i == index))
+            })
+            .map(|(s, _)| s)
+            .collect();
+        let keep: Vec<usize> = (0..self.panels.len())
+            .filter(|&k| !dropped.contains(&self.panels[k].surface))
+            .collect();
+        Problem {
+            panels: keep.iter().map(|&k| self.panels[k].clone()).collect(),
+            connected: Vec::new(),
+            coarse: None,
+            bare: None,
+            keep,
+            ..self.clone()
+        }
     }
 
     /// Number of panels.
@@ -740,8 +761,7 @@ impl Problem {
     }
 
     /// Maxwell matrix, self-capacitances, drive sigma.
-    fn solve_core(&self, par: Par) -> (Vec<Vec<f64>>, Option<f64>, Option<f64>, Vec<f64>) {
-        let a = self.matrix(par);
+    fn solve_core(&self, a: DMatrix<f64>, par: Par) -> CoreResult {
         let lu = BlockedLu::new(a, par);
         let ne = self.names.len();
         let mut matrix = vec![vec![0.0; ne]; ne];
@@ -785,25 +805,26 @@ impl Problem {
 
     /// Solve: Maxwell matrix, self-capacitance, drive charges, and the coarse estimate.
     pub fn solve(&self, par: Par) -> Solution {
-        let (matrix_f, bare0, total, sigma_drive) = self.solve_core(par);
-        let self_of = |p: &Problem, bare: Option<f64>, total: Option<f64>, par: Par| {
-            let bare = match &p.bare {
-                Some(b) => b.solve_core(par).1,
-                None => bare,
-            };
-            Some(SelfCapacitance {
-                bare_f: bare?,
-                total_f: total?,
-            })
+        // Bare self-capacitance: from the bare problem (a submatrix) when electrodes are
+        // connected, else from the problem itself.
+        let run = |p: &Problem| -> (CoreResult, Option<f64>) {
+            let a = p.matrix(par);
+            let bare = p
+                .bare
+                .as_ref()
+                .map(|b| b.solve_core(submatrix(&a, &b.keep), par).1);
+            let core = p.solve_core(a, par);
+            let bare = bare.unwrap_or(core.1);
+            (core, bare)
         };
-        let self_c = self_of(self, bare0, total, par);
+        let ((matrix_f, _, total, sigma_drive), bare) = run(self);
+        let self_c = match (bare, total) {
+            (Some(bare_f), Some(total_f)) => Some(SelfCapacitance { bare_f, total_f }),
+            _ => None,
+        };
         let error = match &self.coarse {
             Some(c) => {
-                let (cm, cb, ct, _) = c.solve_core(par);
-                let coarse_bare = match &self.bare {
-                    Some(b) => b.coarse.as_ref().and_then(|bc| bc.solve_core(par).1),
-                    None => cb,
-                };
+                let ((cm, _, ct, _), coarse_bare) = run(c);
                 let diff = matrix_f
                     .iter()
                     .zip(&cm)
@@ -834,6 +855,14 @@ impl Problem {
             error,
         }
     }
+}
+
+/// Maxwell matrix, bare and total self-capacitance, drive sigma.
+type CoreResult = (Vec<Vec<f64>>, Option<f64>, Option<f64>, Vec<f64>);
+
+/// The matrix of a bare problem: rows and columns `keep` of the full one.
+fn submatrix(a: &DMatrix<f64>, keep: &[usize]) -> DMatrix<f64> {
+    DMatrix::from_fn(keep.len(), keep.len(), |i, j| a[(keep[i], keep[j])])
 }
 
 /// Potential at a panel's own midpoint of its unit sigma (times 4 pi eps0 / (2 pi)), the log
