@@ -413,6 +413,46 @@ fn map_refuses_bad_grids_with_the_size_and_the_limit() {
         &["--vtk", ".vtr"],
     );
     assert!(!Path::new(vtr).exists());
+    // An existing output survives bad input and is replaced by a good run.
+    std::fs::write(vtr, "old").unwrap();
+    expect_bad(
+        &[
+            "map",
+            d,
+            "--plane",
+            "xz",
+            "--extent",
+            "0,1,0,1",
+            "--resolution",
+            "5000,5000",
+            "--vtk",
+            vtr,
+        ],
+        &["--resolution"],
+    );
+    assert_eq!(std::fs::read_to_string(vtr).unwrap(), "old");
+    let out = run(&[
+        "map",
+        d,
+        "--plane",
+        "xz",
+        "--extent",
+        "0.3,1,0,1",
+        "--resolution",
+        "3,3",
+        "--vtk",
+        vtr,
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(
+        std::fs::read_to_string(vtr)
+            .unwrap()
+            .contains("RectilinearGrid")
+    );
 }
 
 #[test]
