@@ -472,6 +472,13 @@ fn clearance_refuses_bad_options() {
         &["clearance", d, "--long-gap-gradient", "0"],
         &["--long-gap-gradient"],
     );
+    // Without a secondary there is no axis for the rays.
+    let ball = "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 1.0]\nradius = 0.1\n\n[drive]\nfrequency = 1e6\npotentials = { ball = 1e4 }\n";
+    let b = design_file(dir.path(), "ball.toml", ball);
+    expect_bad(
+        &["clearance", b.to_str().unwrap()],
+        &["role = \"secondary\""],
+    );
 }
 
 /// A small ring loop as the secondary (it sets the axis), 1,000 A peak at 1 MHz: far from it
