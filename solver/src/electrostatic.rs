@@ -48,6 +48,9 @@
 //!   wires is not modelled.
 //! - A disc has no thickness: its sigma is the sum over both faces, and its surface field is
 //!   reported as sigma / (2 eps0), exact for an isolated disc by symmetry, an average otherwise.
+//!   The secondary's open tube likewise carries the sum of both faces; its panels report
+//!   sigma / eps0, which is the outer field where the inner face holds little charge (a tube
+//!   longer than its diameter).
 
 use crate::constants::{C0, EPS0};
 use crate::elliptic::cel_positive_p;
@@ -1427,6 +1430,37 @@ mod tests {
             "{}",
             peak.field_v_per_m
         );
+    }
+
+    #[test]
+    fn field_over_a_grounded_plane_meets_it_normally() {
+        let text = "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.3]\nradius = 0.1\n[ground]\nz = 0.0\n[drive]\npotentials = { ball = 1000.0 }\n";
+        let d = parse_design(text, "t").unwrap();
+        let s = Problem::from_design(
+            &d,
+            &Params {
+                panels: 200,
+                ..Default::default()
+            },
+            "t",
+        )
+        .unwrap()
+        .solve(Par::Rayon);
+        let pts = [
+            Point3::new(0.2, 0.1, 0.0),
+            Point3::new(0.0, 0.0, 0.0),
+            Point3::new(0.1, 0.0, -0.1),
+        ];
+        let got = s.e_field(&pts, Par::Seq);
+        for g in &got[..2] {
+            let FieldSample::Field(e) = g else {
+                panic!("{g:?}")
+            };
+            // A grounded conductor: the tangential field vanishes on it; E points down into it.
+            assert!(e.x.hypot(e.y) < 1e-9 * e.norm(), "{e}");
+            assert!(e.z < 0.0);
+        }
+        assert_eq!(got[2], FieldSample::InsideConductor("ground".to_string()));
     }
 
     #[test]
