@@ -1116,11 +1116,80 @@ impl Solution {
         out
     }
 
+    /// Groups of [`CLUSTER_PANELS`] consecutive panels with their total charge (C), its
+    /// charge-weighted centroid (rho, z) (m) and the group's half-size (m).
+    fn clusters(&self) -> Vec<Cluster> {
+        let pr = &self.problem;
+        (0..pr.panels.len())
+            .step_by(CLUSTER_PANELS)
+            .map(|first| {
+                let last = (first + CLUSTER_PANELS).min(pr.panels.len());
+                let qs: Vec<f64> = (first..last)
+                    .map(|k| {
+                        let p = &pr.panels[k];
+                        self.sigma_drive[k] * 2.0 * PI * p.length_m * p.mid.0
+                    })
+                    .collect();
+                let q: f64 = qs.iter().sum();
+                let same_sign = qs.iter().all(|x| *x > 0.0) || qs.iter().all(|x| *x < 0.0);
+                let (mut rc, mut zc) = (0.0, 0.0);
+                if same_sign {
+                    for (k, qk) in (first..last).zip(&qs) {
+                        rc += qk * pr.panels[k].mid.0;
+                        zc += qk * pr.panels[k].mid.1;
+                    }
+                    rc /= q;
+                    zc /= q;
+                }
+                let half_size = (first..last)
+                    .flat_map(|k| [pr.panels[k].a, pr.panels[k].b])
+                    .map(|(r, z)| (r - rc).hypot(z - zc))
+                    .fold(0.0, f64::max);
+                Cluster {
+                    first,
+                    last,
+                    q_c: q,
+                    centre: (rc, zc),
+                    half_size_m: half_size,
+                    same_sign,
+                }
+            })
+            .collect()
+    }
+
+    /// (E_rho, E_z) (V/m) of all panels at (rho, z): a distant cluster of one-signed charges
+    /// as one ring charge at its charge-weighted centroid (the dipole term vanishes there, the
+    /// error is of the quadrupole's relative order (size / distance)^2 < 1/[`CLUSTER_FAR`]^2),
+    /// the others panel by panel.
+    fn e_clusters(&self, clusters: &[Cluster], rho: f64, z: f64) -> (f64, f64) {
+        let pr = &self.problem;
+        let (mut er, mut ez) = (0.0, 0.0);
+        for c in clusters {
+            let dist = (c.centre.0 - rho).hypot(c.centre.1 - z);
+            if c.same_sign && dist > CLUSTER_FAR * c.half_size_m {
+                let (a, b) = e_ring_charge_fast(c.q_c, c.centre.0, c.centre.1, rho, z);
+                er += a;
+                ez += b;
+                continue;
+            }
+            for k in c.first..c.last {
+                let sigma = self.sigma_drive[k];
+                if sigma != 0.0 {
+                    let (a, b) = panel_e(&pr.panels[k], sigma, rho, z);
+                    er += a;
+                    ez += b;
+                }
+            }
+        }
+        (er, ez)
+    }
+
     /// E (V/m, peak of the drive potentials) at each point; a point inside an electrode or
     /// below the ground plane is reported as such.
     pub fn e_field(&self, points_m: &[Point3<f64>], par: Par) -> Vec<FieldSample> {
         let pr = &self.problem;
         let n_hat = pr.axis.direction;
+        let clusters = self.clusters();
         map_indexed(points_m.len(), par, |i| {
             let p = &points_m[i];
             for (k, shape) in pr.shapes.iter().enumerate() {
@@ -1137,23 +1206,14 @@ impl Solution {
             }
             let perp = r - n_hat.as_ref() * z;
             let rho = perp.norm();
-            let mut er = 0.0;
-            let mut ez = 0.0;
-            for (panel, &sigma) in pr.panels.iter().zip(&self.sigma_drive) {
-                if sigma == 0.0 {
-                    continue;
-                }
-                let (r1, z1) = panel_e(panel, sigma, rho, z);
-                er += r1;
-                ez += z1;
-                if let Some(zg) = pr.ground_z {
-                    // The image charge -q at 2 zg - z0, seen from (rho, z), is the real
-                    // charge seen from the mirrored point with E_rho negated (sign of the
-                    // charge) and E_z kept (sign of the charge times the mirror).
-                    let (r2, z2) = panel_e(panel, sigma, rho, 2.0 * zg - z);
-                    er -= r2;
-                    ez += z2;
-                }
+            let (mut er, mut ez) = self.e_clusters(&clusters, rho, z);
+            if let Some(zg) = pr.ground_z {
+                // The image charge -q at 2 zg - z0, seen from (rho, z), is the real charge seen
+                // from the mirrored point with E_rho negated (sign of the charge) and E_z kept
+                // (sign of the charge times the mirror).
+                let (r2, z2) = self.e_clusters(&clusters, rho, 2.0 * zg - z);
+                er -= r2;
+                ez += z2;
             }
             let rho_hat = if rho > 0.0 {
                 perp / rho
@@ -1163,6 +1223,23 @@ impl Solution {
             FieldSample::Field(rho_hat * er + n_hat.as_ref() * ez)
         })
     }
+}
+
+/// Panels per cluster of the E evaluation.
+pub const CLUSTER_PANELS: usize = 8;
+
+/// A cluster counts as one ring charge beyond this many half-sizes.
+pub const CLUSTER_FAR: f64 = 80.0;
+
+/// A group of consecutive panels for the E evaluation.
+#[derive(Debug, Clone, Copy)]
+struct Cluster {
+    first: usize,
+    last: usize,
+    q_c: f64,
+    centre: (f64, f64),
+    half_size_m: f64,
+    same_sign: bool,
 }
 
 /// Warnings on the quasi-static assumption at the drive frequency: distances (m) beyond
@@ -1461,6 +1538,42 @@ mod tests {
             assert!(e.z < 0.0);
         }
         assert_eq!(got[2], FieldSample::InsideConductor("ground".to_string()));
+    }
+
+    #[test]
+    fn clustered_field_matches_panel_by_panel() {
+        let text = "[[winding]]\nname = \"sec\"\nshape = \"helix\"\nrole = \"secondary\"\norigin = [0.0, 0.0, 0.05]\naxis = [0.0, 0.0, 1.0]\nradius = 0.05\nlength = 0.3\nturns = 600\nwire_diameter = 0.0004\n[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.45]\nradius = 0.08\nconnect = \"sec:top\"\n[ground]\nz = 0.0\n[drive]\npotentials = { sec = [0.0, 1e5] }\n";
+        let d = parse_design(text, "t").unwrap();
+        let s = Problem::from_design(
+            &d,
+            &Params {
+                panels: 400,
+                ..Default::default()
+            },
+            "t",
+        )
+        .unwrap()
+        .solve(Par::Rayon);
+        let clusters = s.clusters();
+        let singles: Vec<Cluster> = (0..s.n_panels())
+            .map(|k| Cluster {
+                first: k,
+                last: k + 1,
+                q_c: 0.0,
+                centre: (0.0, 0.0),
+                half_size_m: 0.0,
+                same_sign: false,
+            })
+            .collect();
+        for (rho, z) in [(0.5, 0.3), (2.0, 1.0), (0.2, 0.6), (0.06, 0.2), (5.0, 0.1)] {
+            let (a, b) = s.e_clusters(&clusters, rho, z);
+            let (c, e) = s.e_clusters(&singles, rho, z);
+            let scale = c.hypot(e);
+            assert!(
+                (a - c).hypot(b - e) < 1e-3 * scale,
+                "{rho},{z}: ({a},{b}) vs ({c},{e})"
+            );
+        }
     }
 
     #[test]
