@@ -27,11 +27,17 @@
 //!   default 1), `segments_per_turn`
 //! - polyline: `points` = [[x, y, z], ...] in absolute coordinates, `closed` (default false)
 //!
+//! Besides `[[winding]]`, a design may have `[[electrode]]` tables and a `[ground]` table (keys
+//! and units in [`crate::electrode`]) and a `[drive]` table (in [`crate::drive`]). A design of
+//! electrodes alone (no winding) is accepted.
+//!
 //! # Checks
 //! Besides types and signs: adjacent turns must not overlap (the wire must be thinner than the
 //! pitch), radii must exceed the wire radius, a spiral or cone must grow outwards, polylines need
-//! enough distinct points, names are unique, and no two wires may touch (see
-//! [`crate::overlap::check_overlaps`]).
+//! enough distinct points, names are unique (across windings and electrodes), and no two wires
+//! may touch (see [`crate::overlap::check_overlaps`]); then electrodes must not touch wires or
+//! each other, nothing may reach the ground plane, and every name in `connect` and `[drive]`
+//! must exist (see [`crate::electrode`], [`crate::drive`]).
 
 use crate::drive::{Drive, check_drive, parse_drive};
 use crate::electrode::{Electrode, Ground, check_electrodes, parse_electrodes, parse_ground};
