@@ -1675,6 +1675,32 @@ mod tests {
     }
 
     #[test]
+    fn custom_profile_slot() {
+        let text = "[[winding]]\nname = \"sec\"\nshape = \"helix\"\nrole = \"secondary\"\norigin = [0.0, 0.0, 0.05]\naxis = [0.0, 0.0, 1.0]\nradius = 0.05\nlength = 0.2\nturns = 400\nwire_diameter = 0.0004\n";
+        let d = parse_design(text, "t").unwrap();
+        let c = |profile| {
+            Problem::from_design(
+                &d,
+                &Params {
+                    panels: 200,
+                    profile,
+                },
+                "t",
+            )
+            .unwrap()
+            .solve(Par::Seq)
+            .self_capacitance_f()
+            .unwrap()
+            .bare_f
+        };
+        let linear = c(Profile::Linear);
+        assert_eq!(linear, c(Profile::Custom(|t| t)));
+        // A profile that stays low along the coil (t^2, as towards a quarter-wave mode's base)
+        // stores less energy for the same top voltage.
+        assert!(c(Profile::Custom(|t| t * t)) < linear);
+    }
+
+    #[test]
     fn quasi_static_warnings() {
         let text = "[[winding]]\nname = \"sec\"\nshape = \"helix\"\nrole = \"secondary\"\norigin = [0.0, 0.0, 0.05]\naxis = [0.0, 0.0, 1.0]\nradius = 0.05\nlength = 0.4\nturns = 800\nwire_diameter = 0.0004\n[drive]\nfrequency = 250e3\n";
         let d = parse_design(text, "t").unwrap();
