@@ -3,11 +3,22 @@
 //! The binary is the only part of the project that reads files, the environment or the
 //! terminal; the `coilfield-geometry` and `coilfield-solver` crates stay pure.
 
+mod capacitance;
+mod clearance;
+mod export;
+mod fields;
 mod inductance;
 mod load;
+mod map;
 mod output;
+mod plot;
 mod report;
+mod sample;
+mod solve;
+#[allow(dead_code)]
+mod thresholds;
 mod verify;
+mod vtk;
 
 use clap::{Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
@@ -66,6 +77,113 @@ enum Command {
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
     },
+    /// Peak E (V/m) and B (T) vectors and magnitudes of the drive at points: `--at x,y,z`
+    /// (metres, repeatable) and/or `--points FILE.csv` (header x,y,z). A point on a wire gets
+    /// no value and a warning; a point inside a conductor is an error.
+    Field {
+        /// Design file (TOML).
+        design: PathBuf,
+        /// A point x,y,z in metres (repeatable).
+        #[arg(long, value_name = "X,Y,Z", allow_hyphen_values = true)]
+        at: Vec<String>,
+        /// CSV file of points (header x,y,z; metres).
+        #[arg(long, value_name = "FILE")]
+        points: Option<PathBuf>,
+        /// table, json or csv.
+        #[arg(long, value_enum, default_value_t = fields::FieldFormat::Table)]
+        format: fields::FieldFormat,
+        /// Also write the output to this file (replaced atomically).
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
+    },
+    /// Peak E and B sampled on a plane (`--plane`, `--offset`, `--extent`) or in a box
+    /// (`--box`), written as VTK RectilinearGrid (.vtr: E_V_per_m, E_mag_V_per_m, B_T,
+    /// B_mag_T; NaN where there is no value) and as a heat map (.png or .svg) with contour lines
+    /// at the thresholds. Lengths in metres. Prints a JSON summary.
+    Map {
+        /// Design file (TOML).
+        design: PathBuf,
+        /// Plane of the grid: xz, yz or xy.
+        #[arg(long, value_enum)]
+        plane: Option<sample::Plane>,
+        /// Position of the plane along its normal (m).
+        #[arg(long, default_value_t = 0.0, allow_hyphen_values = true)]
+        offset: f64,
+        /// U0,U1,V0,V1 (m): the plane's ranges (xz: x then z; yz: y then z; xy: x then y).
+        #[arg(long, value_name = "U0,U1,V0,V1", allow_hyphen_values = true)]
+        extent: Option<String>,
+        /// X0,X1,Y0,Y1,Z0,Z1 (m): a 3-D box instead of a plane.
+        #[arg(
+            long = "box",
+            value_name = "X0,X1,Y0,Y1,Z0,Z1",
+            allow_hyphen_values = true
+        )]
+        bounds: Option<String>,
+        /// Points per direction: NU,NV for a plane, NX,NY,NZ for a box (each at least 2).
+        #[arg(long, value_name = "N,N[,N]")]
+        resolution: String,
+        /// VTK output (.vtr), replaced atomically.
+        #[arg(long, value_name = "FILE.vtr")]
+        vtk: Option<PathBuf>,
+        /// Heat map output (.png or .svg), replaced atomically.
+        #[arg(long, value_name = "FILE")]
+        plot: Option<PathBuf>,
+        /// Quantity of the heat map: e or b.
+        #[arg(long, value_enum, default_value_t = map::PlotQuantity::E)]
+        plot_quantity: map::PlotQuantity,
+    },
+    /// Capacitances (F) from the axisymmetric electrostatic model: the Maxwell matrix of the
+    /// electrodes (file order), each electrode's capacitance (its diagonal entry), the
+    /// secondary's equivalent self-capacitance at its top (bare and with its connected
+    /// electrodes), error estimates |C(n) - C(n/2)|, and each electrode's peak surface field
+    /// (V/m) with its location at the drive potentials.
+    Capacitance {
+        /// Design file (TOML).
+        design: PathBuf,
+        /// table or json.
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+        /// Also write the output to this file (replaced atomically).
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
+    },
+    /// Screening clearance distances: for each threshold (air breakdown, a long-gap mean
+    /// gradient, ICNIRP 2010 and 2020 reference levels at the drive frequency, and any
+    /// --threshold), the distance from the coil axis (m, at several heights) and from the top
+    /// electrode's surface (m) beyond which the peak field stays below it; and the fields at
+    /// --distance values. Reference levels are rms and are compared with peak/sqrt(2). These are
+    /// screening estimates, not a safety certificate: follow local regulations and qualified
+    /// advice.
+    Clearance {
+        /// Design file (TOML).
+        design: PathBuf,
+        /// Distances from the axis (m) at the top electrode's height, comma-separated.
+        #[arg(long, value_name = "D1,D2,...")]
+        distance: Option<String>,
+        /// Mean breakdown gradient of long gaps (V/m, peak); common practice, no published
+        /// source: set it for your conditions.
+        #[arg(long, value_name = "V_PER_M", default_value_t = thresholds::LONG_GAP_GRADIENT_V_PER_M)]
+        long_gap_gradient: f64,
+        /// Extra threshold NAME,E|B,LIMIT,rms|peak (LIMIT in V/m or T), repeatable.
+        #[arg(long, value_name = "NAME,Q,LIMIT,BASIS")]
+        threshold: Vec<String>,
+        /// Farthest distance searched along each ray (m).
+        #[arg(long, value_name = "M", default_value_t = 30.0)]
+        max_distance: f64,
+        /// table or json.
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
+    /// Geometry as VTK XML for any VTK viewer: each winding as polylines (turn index, peak
+    /// current in A), each electrode as a surface, one .vtp file each, and a .pvd collection
+    /// (design.pvd) of them. Lengths in metres.
+    Export {
+        /// Design file (TOML).
+        design: PathBuf,
+        /// Folder for the files (created if missing; files in it are replaced atomically).
+        #[arg(long, value_name = "DIR")]
+        vtk: PathBuf,
+    },
 }
 
 /// An error the user can fix in their input: exit code 2.
@@ -98,6 +216,55 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
         } => inductance::run(&design, format, out.as_deref()),
         Command::Report { design } => report::run(&design),
         Command::Verify { tables, format } => verify::run(tables.as_deref(), format),
+        Command::Capacitance {
+            design,
+            format,
+            out,
+        } => capacitance::run(&design, format, out.as_deref()),
+        Command::Clearance {
+            design,
+            distance,
+            long_gap_gradient,
+            threshold,
+            max_distance,
+            format,
+        } => clearance::run(clearance::ClearanceArgs {
+            design: &design,
+            distances: distance.as_deref(),
+            long_gap_v_per_m: long_gap_gradient,
+            extra: &threshold,
+            max_distance_m: max_distance,
+            format,
+        }),
+        Command::Export { design, vtk } => export::run(&design, &vtk),
+        Command::Field {
+            design,
+            at,
+            points,
+            format,
+            out,
+        } => fields::run(&design, &at, points.as_deref(), format, out.as_deref()),
+        Command::Map {
+            design,
+            plane,
+            offset,
+            extent,
+            bounds,
+            resolution,
+            vtk,
+            plot,
+            plot_quantity,
+        } => map::run(map::MapArgs {
+            design: &design,
+            plane,
+            offset_m: offset,
+            extent: extent.as_deref(),
+            bounds: bounds.as_deref(),
+            resolution: &resolution,
+            vtk: vtk.as_deref(),
+            plot: plot.as_deref(),
+            plot_quantity,
+        }),
     }
 }
 

@@ -72,6 +72,7 @@ fn design_strategy() -> impl Strategy<Value = Design> {
         .prop_map(|(a, b, c)| Design {
             version: 1,
             windings: vec![a, b, c],
+            ..Default::default()
         })
 }
 
@@ -169,7 +170,11 @@ proptest! {
             },
         };
         let l = |w: Winding| {
-            let d = Design { version: 1, windings: vec![w] };
+            let d = Design {
+                version: 1,
+                windings: vec![w],
+                ..Default::default()
+            };
             inductance_report(&d, Par::Seq).unwrap().mutual_h[0][0]
         };
         let exact = l(ring(Model::Ring, 0));

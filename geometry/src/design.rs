@@ -27,12 +27,20 @@
 //!   default 1), `segments_per_turn`
 //! - polyline: `points` = [[x, y, z], ...] in absolute coordinates, `closed` (default false)
 //!
+//! Besides `[[winding]]`, a design may have `[[electrode]]` tables and a `[ground]` table (keys
+//! and units in [`crate::electrode`]) and a `[drive]` table (in [`crate::drive`]). A design of
+//! electrodes alone (no winding) is accepted.
+//!
 //! # Checks
 //! Besides types and signs: adjacent turns must not overlap (the wire must be thinner than the
 //! pitch), radii must exceed the wire radius, a spiral or cone must grow outwards, polylines need
-//! enough distinct points, names are unique, and no two wires may touch (see
-//! [`crate::overlap::check_overlaps`]).
+//! enough distinct points, names are unique (across windings and electrodes), and no two wires
+//! may touch (see [`crate::overlap::check_overlaps`]); then electrodes must not touch wires or
+//! each other, nothing may reach the ground plane, and every name in `connect` and `[drive]`
+//! must exist (see [`crate::electrode`], [`crate::drive`]).
 
+use crate::drive::{Drive, check_drive, parse_drive};
+use crate::electrode::{Electrode, Ground, check_electrodes, parse_electrodes, parse_ground};
 use crate::error::DesignError;
 use crate::overlap::check_overlaps;
 use crate::units::{UnitError, parse_length_m, parse_wire_diameter_m};
@@ -48,7 +56,7 @@ pub const CURRENT_VERSION: u32 = 1;
 /// Keys allowed at the top level of a design file.
 ///
 /// This is the one place to extend when the format grows (electrodes, ground, drive).
-pub const TOP_LEVEL_KEYS: &[&str] = &["version", "winding"];
+pub const TOP_LEVEL_KEYS: &[&str] = &["version", "winding", "electrode", "ground", "drive"];
 
 /// Values of a winding's `shape` key.
 pub const SHAPE_NAMES: &[&str] = &["helix", "spiral", "cone", "ring", "polyline"];
@@ -65,13 +73,34 @@ pub const MAX_SEGMENTS_PER_TURN: i64 = 100_000;
 /// Most straight filaments a filament model may have: turns times segments per turn.
 pub const MAX_FILAMENT_SEGMENTS: f64 = 5e7;
 
-/// A validated design: windings in file order.
+/// A validated design: windings and electrodes in file order, the ground plane, the drive.
+///
+/// `Design::default()` is an empty version-1 design in free space with no drive; build one in
+/// code with `Design { windings, ..Default::default() }`.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Design {
     /// Design-file version.
     pub version: u32,
     /// Windings in file order.
     pub windings: Vec<Winding>,
+    /// Electrodes in file order (`[[electrode]]`, see [`crate::electrode`]).
+    pub electrodes: Vec<Electrode>,
+    /// The grounded plane (`[ground]`), None for free space.
+    pub ground: Option<Ground>,
+    /// The excitation (`[drive]`, see [`crate::drive`]).
+    pub drive: Drive,
+}
+
+impl Default for Design {
+    fn default() -> Self {
+        Design {
+            version: CURRENT_VERSION,
+            windings: Vec::new(),
+            electrodes: Vec::new(),
+            ground: None,
+            drive: Drive::default(),
+        }
+    }
 }
 
 /// Parse and validate the text of a design file. `source` labels messages (usually the path).
@@ -100,10 +129,29 @@ pub fn parse_design(text: &str, source: &str) -> Result<Design, DesignError> {
     let version = read_version(table.get("version"), source)?;
 
     let empty_file = table.is_empty();
-    let windings_value = table.remove("winding").ok_or(DesignError::NoWindings {
-        source_name: source.to_string(),
-        empty_file,
-    })?;
+    let electrodes = match table.remove("electrode") {
+        Some(value) => parse_electrodes(value, source)?,
+        None => Vec::new(),
+    };
+    let ground = table
+        .remove("ground")
+        .map(|v| parse_ground(v, source))
+        .transpose()?;
+    let drive = match table.remove("drive") {
+        Some(value) => parse_drive(value, source)?,
+        None => Drive::default(),
+    };
+    // A design of electrodes alone is useful for capacitance; without either there is nothing.
+    let windings_value = match table.remove("winding") {
+        Some(v) => v,
+        None if !electrodes.is_empty() => Value::Array(Vec::new()),
+        None => {
+            return Err(DesignError::NoWindings {
+                source_name: source.to_string(),
+                empty_file,
+            });
+        }
+    };
     let entries = match windings_value {
         Value::Array(entries) => entries,
         Value::Table(_) => {
@@ -122,7 +170,7 @@ pub fn parse_design(text: &str, source: &str) -> Result<Design, DesignError> {
             ));
         }
     };
-    if entries.is_empty() {
+    if entries.is_empty() && electrodes.is_empty() {
         return Err(DesignError::NoWindings {
             source_name: source.to_string(),
             empty_file: false,
@@ -155,8 +203,37 @@ pub fn parse_design(text: &str, source: &str) -> Result<Design, DesignError> {
         windings.push(winding);
     }
 
-    let design = Design { version, windings };
+    for e in &electrodes {
+        if let Some(first) = taken.get(&e.name) {
+            return Err(DesignError::DuplicateName {
+                source_name: source.to_string(),
+                item: format!("electrode '{}'", e.name),
+                name: e.name.clone(),
+                first: format!("winding #{first}"),
+            });
+        }
+    }
+    for (idx, e) in electrodes.iter().enumerate() {
+        if let Some(j) = electrodes[..idx].iter().position(|o| o.name == e.name) {
+            return Err(DesignError::DuplicateName {
+                source_name: source.to_string(),
+                item: format!("electrode #{}", idx + 1),
+                name: e.name.clone(),
+                first: format!("electrode #{}", j + 1),
+            });
+        }
+    }
+
+    let design = Design {
+        version,
+        windings,
+        electrodes,
+        ground,
+        drive,
+    };
     check_overlaps(&design, source)?;
+    check_electrodes(&design, source)?;
+    check_drive(&design, source)?;
     Ok(design)
 }
 
@@ -222,7 +299,7 @@ fn top_level_type(source: &str, key: &str, reason: &str) -> DesignError {
 }
 
 /// "a string \"x\"", "an integer 3", ...: how a value reads in a message.
-fn type_phrase(value: &Value) -> String {
+pub(crate) fn type_phrase(value: &Value) -> String {
     match value {
         Value::String(s) => format!("the string \"{s}\""),
         Value::Integer(n) => format!("the integer {n}"),
@@ -327,7 +404,7 @@ impl ShapeKind {
 /// A length as written: a TOML number (metres) or a string with a unit, parsed later so that a
 /// bad unit gets its own message.
 #[derive(Debug, Clone, PartialEq)]
-enum RawLength {
+pub(crate) enum RawLength {
     Number(f64),
     Text(String),
 }
@@ -360,13 +437,13 @@ impl<'de> Deserialize<'de> for RawLength {
 
 /// A number as written, keeping whether it was a TOML integer (counts must be whole numbers).
 #[derive(Debug, Clone, Copy, PartialEq)]
-enum RawNumber {
+pub(crate) enum RawNumber {
     Int(i64),
     Float(f64),
 }
 
 impl RawNumber {
-    fn as_f64(self) -> f64 {
+    pub(crate) fn as_f64(self) -> f64 {
         match self {
             RawNumber::Int(n) => n as f64,
             RawNumber::Float(x) => x,
@@ -386,7 +463,7 @@ impl RawNumber {
         }
     }
 
-    fn shown(self) -> String {
+    pub(crate) fn shown(self) -> String {
         match self {
             RawNumber::Int(n) => n.to_string(),
             RawNumber::Float(x) => x.to_string(),
@@ -439,13 +516,13 @@ struct RawWinding {
 }
 
 /// Where a message points: the file and the winding.
-struct Ctx<'a> {
-    source: &'a str,
-    item: String,
+pub(crate) struct Ctx<'a> {
+    pub(crate) source: &'a str,
+    pub(crate) item: String,
 }
 
 impl Ctx<'_> {
-    fn missing(&self, key: &str, hint: &str) -> DesignError {
+    pub(crate) fn missing(&self, key: &str, hint: &str) -> DesignError {
         DesignError::MissingKey {
             source_name: self.source.to_string(),
             item: self.item.clone(),
@@ -454,7 +531,7 @@ impl Ctx<'_> {
         }
     }
 
-    fn not_positive(&self, key: &str, expected: &str, value: String) -> DesignError {
+    pub(crate) fn not_positive(&self, key: &str, expected: &str, value: String) -> DesignError {
         DesignError::NotPositive {
             source_name: self.source.to_string(),
             item: self.item.clone(),
@@ -464,7 +541,7 @@ impl Ctx<'_> {
         }
     }
 
-    fn not_finite(&self, key: &str, expected: &str, value: String) -> DesignError {
+    pub(crate) fn not_finite(&self, key: &str, expected: &str, value: String) -> DesignError {
         DesignError::NotFinite {
             source_name: self.source.to_string(),
             item: self.item.clone(),
@@ -474,7 +551,7 @@ impl Ctx<'_> {
         }
     }
 
-    fn too_large(&self, key: &str, value: String, limit: String) -> DesignError {
+    pub(crate) fn too_large(&self, key: &str, value: String, limit: String) -> DesignError {
         DesignError::TooLarge {
             source_name: self.source.to_string(),
             item: self.item.clone(),
@@ -484,7 +561,7 @@ impl Ctx<'_> {
         }
     }
 
-    fn bad_length(&self, key: &str, error: UnitError) -> DesignError {
+    pub(crate) fn bad_length(&self, key: &str, error: UnitError) -> DesignError {
         DesignError::BadLength {
             source_name: self.source.to_string(),
             item: self.item.clone(),
@@ -493,7 +570,7 @@ impl Ctx<'_> {
         }
     }
 
-    fn unknown_value(&self, key: &str, value: &str, allowed: &[&str]) -> DesignError {
+    pub(crate) fn unknown_value(&self, key: &str, value: &str, allowed: &[&str]) -> DesignError {
         DesignError::UnknownValue {
             source_name: self.source.to_string(),
             item: self.item.clone(),
@@ -503,7 +580,12 @@ impl Ctx<'_> {
         }
     }
 
-    fn radius_below_wire(&self, key: &str, radius_m: f64, wire_radius_m: f64) -> DesignError {
+    pub(crate) fn radius_below_wire(
+        &self,
+        key: &str,
+        radius_m: f64,
+        wire_radius_m: f64,
+    ) -> DesignError {
         DesignError::RadiusBelowWire {
             source_name: self.source.to_string(),
             item: self.item.clone(),
@@ -513,7 +595,12 @@ impl Ctx<'_> {
         }
     }
 
-    fn thicker_than_pitch(&self, wire_diameter_m: f64, pitch_m: f64, rule: &str) -> DesignError {
+    pub(crate) fn thicker_than_pitch(
+        &self,
+        wire_diameter_m: f64,
+        pitch_m: f64,
+        rule: &str,
+    ) -> DesignError {
         DesignError::WireThickerThanPitch {
             source_name: self.source.to_string(),
             item: self.item.clone(),
@@ -524,7 +611,12 @@ impl Ctx<'_> {
     }
 
     /// A length in metres plus how to show it: the number, or the string and its value in metres.
-    fn metres(&self, key: &str, raw: &RawLength, wire: bool) -> Result<(f64, String), DesignError> {
+    pub(crate) fn metres(
+        &self,
+        key: &str,
+        raw: &RawLength,
+        wire: bool,
+    ) -> Result<(f64, String), DesignError> {
         match raw {
             RawLength::Number(v) => Ok((*v, v.to_string())),
             RawLength::Text(text) => {
@@ -540,7 +632,7 @@ impl Ctx<'_> {
     }
 
     /// A finite length of any sign (coordinates).
-    fn coordinate(&self, key: &str, raw: &RawLength) -> Result<f64, DesignError> {
+    pub(crate) fn coordinate(&self, key: &str, raw: &RawLength) -> Result<f64, DesignError> {
         let (v, shown) = self.metres(key, raw, false)?;
         if !v.is_finite() {
             return Err(self.not_finite(key, "a finite length in metres", shown));
@@ -549,7 +641,7 @@ impl Ctx<'_> {
     }
 
     /// A finite, positive length (sizes).
-    fn size(&self, key: &str, raw: &RawLength, wire: bool) -> Result<f64, DesignError> {
+    pub(crate) fn size(&self, key: &str, raw: &RawLength, wire: bool) -> Result<f64, DesignError> {
         let (v, shown) = self.metres(key, raw, wire)?;
         const EXPECTED: &str = "a positive length in metres";
         if !v.is_finite() {
@@ -561,7 +653,7 @@ impl Ctx<'_> {
         Ok(v)
     }
 
-    fn required_size(
+    pub(crate) fn required_size(
         &self,
         key: &str,
         raw: &Option<RawLength>,
@@ -571,7 +663,11 @@ impl Ctx<'_> {
         self.size(key, raw, false)
     }
 
-    fn point(&self, key: &str, raw: &[RawLength; 3]) -> Result<Point3<f64>, DesignError> {
+    pub(crate) fn point(
+        &self,
+        key: &str,
+        raw: &[RawLength; 3],
+    ) -> Result<Point3<f64>, DesignError> {
         let mut xyz = [0.0; 3];
         for (i, (slot, c)) in xyz.iter_mut().zip(raw).enumerate() {
             *slot = self.coordinate(&format!("{key}[{i}]"), c)?;
@@ -579,7 +675,7 @@ impl Ctx<'_> {
         Ok(Point3::from(xyz))
     }
 
-    fn origin(&self, raw: &Option<[RawLength; 3]>) -> Result<Point3<f64>, DesignError> {
+    pub(crate) fn origin(&self, raw: &Option<[RawLength; 3]>) -> Result<Point3<f64>, DesignError> {
         let raw = raw.as_ref().ok_or_else(|| {
             self.missing(
                 "origin",
@@ -589,7 +685,10 @@ impl Ctx<'_> {
         self.point("origin", raw)
     }
 
-    fn axis(&self, raw: &Option<[RawNumber; 3]>) -> Result<Unit<Vector3<f64>>, DesignError> {
+    pub(crate) fn axis(
+        &self,
+        raw: &Option<[RawNumber; 3]>,
+    ) -> Result<Unit<Vector3<f64>>, DesignError> {
         let raw = raw.ok_or_else(|| {
             self.missing(
                 "axis",
@@ -618,7 +717,7 @@ impl Ctx<'_> {
     }
 
     /// Turns of a helix, spiral or cone: a positive real number.
-    fn turns(&self, raw: Option<RawNumber>) -> Result<f64, DesignError> {
+    pub(crate) fn turns(&self, raw: Option<RawNumber>) -> Result<f64, DesignError> {
         let raw =
             raw.ok_or_else(|| self.missing("turns", "give the number of turns, e.g. turns = 10"))?;
         const EXPECTED: &str = "a positive number of turns";
@@ -640,7 +739,7 @@ impl Ctx<'_> {
     }
 
     /// Coincident turns of a ring: a positive whole number, default 1.
-    fn ring_count(&self, raw: Option<RawNumber>) -> Result<u32, DesignError> {
+    pub(crate) fn ring_count(&self, raw: Option<RawNumber>) -> Result<u32, DesignError> {
         let Some(raw) = raw else {
             return Ok(1);
         };
@@ -671,7 +770,10 @@ impl Ctx<'_> {
         Ok(count as u32)
     }
 
-    fn segments_per_turn(&self, raw: Option<RawNumber>) -> Result<Option<usize>, DesignError> {
+    pub(crate) fn segments_per_turn(
+        &self,
+        raw: Option<RawNumber>,
+    ) -> Result<Option<usize>, DesignError> {
         let Some(raw) = raw else {
             return Ok(None);
         };

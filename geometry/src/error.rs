@@ -412,6 +412,117 @@ pub enum DesignError {
         near_m: [f64; 3],
     },
 
+    /// A name in `connect`, `[drive] currents` or `[drive] potentials` that names no conductor
+    /// of the right kind. Check its spelling against the list.
+    #[error("{source_name}: {item}: key '{key}': '{name}' is not {wanted}; known: {known}")]
+    UnknownConductor {
+        /// File label.
+        source_name: String,
+        /// Which electrode, or `drive`.
+        item: String,
+        /// The key (e.g. `connect`, `currents.primry`; boxed to keep the error type small).
+        key: Box<str>,
+        /// The name as written (boxed to keep the error type small).
+        name: Box<str>,
+        /// What kind of conductor the key needs (e.g. "a winding").
+        wanted: &'static str,
+        /// Names of that kind, comma separated (boxed to keep the error type small).
+        known: Box<str>,
+    },
+
+    /// An electrode's `connect` that is not `"<winding>:top"` or `"<winding>:base"`.
+    #[error(
+        "{source_name}: {item}: key 'connect': \"{value}\" is not a terminal; write \
+         \"<winding>:top\" or \"<winding>:base\""
+    )]
+    BadTerminal {
+        /// File label.
+        source_name: String,
+        /// Which electrode.
+        item: String,
+        /// The value as written.
+        value: String,
+    },
+
+    /// A connected electrode also has a potential in `[drive] potentials`: it takes its
+    /// terminal's potential. Remove one of the two.
+    #[error(
+        "{source_name}: drive: key 'potentials.{name}': electrode '{name}' is connected to \
+         {terminal} and takes that terminal's potential; remove its entry from potentials or \
+         its connect key"
+    )]
+    ConnectedWithPotential {
+        /// File label.
+        source_name: String,
+        /// The electrode.
+        name: String,
+        /// Its terminal, as written in `connect`.
+        terminal: String,
+    },
+
+    /// An electrode touches or crosses a winding's wire or another electrode. Move or resize it.
+    #[error(
+        "{source_name}: {item}: key '{key}': it touches or crosses {other} near {} m; move \
+         or resize one of them",
+        point(.near_m)
+    )]
+    ElectrodeIntersects {
+        /// File label.
+        source_name: String,
+        /// The electrode (the later one for two electrodes).
+        item: String,
+        /// The key that places it.
+        key: &'static str,
+        /// The other conductor.
+        other: String,
+        /// A point of the contact (m).
+        near_m: [f64; 3],
+    },
+
+    /// A conductor reaches down to or through the ground plane. Raise it or lower the plane.
+    #[error(
+        "{source_name}: {item}: key '{key}': it reaches down to z = {} m, at or below the \
+         ground plane z = {} m; raise it or lower [ground] z",
+        sig(*.lowest_z_m), sig(*.ground_z_m)
+    )]
+    BelowGround {
+        /// File label.
+        source_name: String,
+        /// The electrode or winding.
+        item: String,
+        /// The key that places it.
+        key: &'static str,
+        /// Its lowest point (m).
+        lowest_z_m: f64,
+        /// The plane (m).
+        ground_z_m: f64,
+    },
+
+    /// A computation needs a `[drive]` value that is missing or zero. Add it.
+    #[error("{source_name}: drive: key '{key}': {reason}")]
+    MissingDrive {
+        /// File label.
+        source_name: String,
+        /// The key (`frequency`, `currents`, `potentials`).
+        key: String,
+        /// What is missing and which computation needs it.
+        reason: String,
+    },
+
+    /// The electric solver needs all electrodes and the secondary on one axis, perpendicular to
+    /// the ground plane if there is one. Align the named conductor.
+    #[error("{source_name}: {item}: key '{key}': not axisymmetric: {reason}")]
+    NotAxisymmetric {
+        /// File label.
+        source_name: String,
+        /// The conductor off the common axis.
+        item: String,
+        /// The key to change (`origin` or `axis`).
+        key: &'static str,
+        /// What is off and by how much.
+        reason: String,
+    },
+
     /// Two non-neighbouring pieces of a polyline touch or cross. Move its points apart.
     #[error(
         "{source_name}: {item}: key 'points': the piece points[{piece_a}]-points[{}] touches or \

@@ -38,6 +38,8 @@
 
 pub mod design;
 pub mod discretise;
+pub mod drive;
+pub mod electrode;
 pub mod error;
 pub mod overlap;
 pub mod units;
@@ -45,5 +47,7 @@ pub mod winding;
 
 pub use design::{CURRENT_VERSION, Design, parse_design};
 pub use discretise::{FilamentModel, Ring, RingModel};
+pub use drive::{Drive, DriveNeeds, PotentialSpec, image_windings, validate_drive};
+pub use electrode::{Axis, Electrode, ElectrodeShape, End, Ground, Terminal, check_axisymmetric};
 pub use error::DesignError;
 pub use winding::{Model, Role, Shape, Winding, local_frame};

@@ -914,6 +914,7 @@ mod tests {
         Design {
             version: 1,
             windings,
+            ..Default::default()
         }
     }
 

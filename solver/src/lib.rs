@@ -51,10 +51,13 @@
 #![deny(missing_docs)]
 
 pub mod assembly;
+pub mod clearance;
 pub mod constants;
 pub mod coupling;
+pub mod electrostatic;
 pub mod elliptic;
 pub mod error;
+pub mod field;
 pub mod mutual;
 pub mod par;
 pub mod quadrature;

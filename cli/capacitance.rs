@@ -1,0 +1,173 @@
+//! `coilfield capacitance`: the Maxwell capacitance matrix of the electrodes, each electrode's
+//! capacitance, the secondary's equivalent self-capacitance, error estimates and the peak
+//! surface field of each electrode at the drive potentials.
+
+use crate::thresholds::AIR_BREAKDOWN_V_PER_M;
+use crate::{Format, load, output, solve};
+use serde::Serialize;
+use std::path::Path;
+use std::process::ExitCode;
+
+#[derive(Serialize)]
+struct ConductorOut {
+    name: String,
+    /// "electrode" (diagonal of the Maxwell matrix, all others at 0 V) or "secondary"
+    /// (equivalent self-capacitance at its top, C = 2 W / V_top^2, no electrode connected).
+    kind: &'static str,
+    capacitance_f: f64,
+    error_estimate_f: f64,
+    /// Secondary only: with its connected electrodes at their terminals' potentials.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    with_connected_electrodes_f: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    with_connected_electrodes_error_estimate_f: Option<f64>,
+}
+
+#[derive(Serialize)]
+struct PeakOut {
+    name: String,
+    field_v_per_m: f64,
+    at_m: [f64; 3],
+    above_air_breakdown: bool,
+}
+
+#[derive(Serialize)]
+struct CapOut {
+    conductors: Vec<ConductorOut>,
+    matrix_f: Vec<Vec<f64>>,
+    matrix_error_estimate_f: Vec<Vec<f64>>,
+    n_panels: usize,
+    peak_surface_fields: Vec<PeakOut>,
+    warnings: Vec<String>,
+}
+
+/// Run `coilfield capacitance`.
+pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Result<ExitCode> {
+    let design = load::design(design_path)?;
+    let label = design_path.display().to_string();
+    let sol = solve::electrostatic_solution(&design, &label)?;
+    let names = sol.conductor_names();
+    let matrix = sol.capacitance_matrix_f().to_vec();
+    let err = sol.error_estimate();
+    let mut conductors: Vec<ConductorOut> = names
+        .iter()
+        .enumerate()
+        .map(|(i, n)| ConductorOut {
+            name: n.clone(),
+            kind: "electrode",
+            capacitance_f: matrix[i][i],
+            error_estimate_f: err.capacitance_matrix_f[i][i],
+            with_connected_electrodes_f: None,
+            with_connected_electrodes_error_estimate_f: None,
+        })
+        .collect();
+    if let (Some(c), Some(w)) = (
+        sol.self_capacitance_f(),
+        design
+            .windings
+            .iter()
+            .find(|w| w.role == coilfield_geometry::Role::Secondary),
+    ) {
+        let e = err.self_capacitance_f;
+        conductors.push(ConductorOut {
+            name: w.name.clone(),
+            kind: "secondary",
+            capacitance_f: c.bare_f,
+            error_estimate_f: e.map_or(f64::NAN, |e| e.bare_f),
+            with_connected_electrodes_f: Some(c.total_f),
+            with_connected_electrodes_error_estimate_f: e.map(|e| e.total_f),
+        });
+    }
+    let mut warnings = Vec::new();
+    let peak_surface_fields = if solve::has_potentials(&design) {
+        sol.peak_surface_fields()
+            .into_iter()
+            .map(|p| PeakOut {
+                above_air_breakdown: p.field_v_per_m >= AIR_BREAKDOWN_V_PER_M,
+                name: p.name,
+                field_v_per_m: p.field_v_per_m,
+                at_m: [p.at_m.x, p.at_m.y, p.at_m.z],
+            })
+            .collect()
+    } else {
+        warnings.push(
+            "no conductor has a potential in [drive] potentials: peak surface fields not computed"
+                .into(),
+        );
+        Vec::new()
+    };
+    for p in &peak_surface_fields {
+        if p.above_air_breakdown {
+            warnings.push(format!(
+                "{}: peak surface field {} is above the dielectric strength of air (about 3 MV/m, AMS Glossary of Meteorology): expect breakout there",
+                p.name,
+                output::si(p.field_v_per_m, "V/m", 3)
+            ));
+        }
+    }
+    warnings.extend(solve::validity_warnings(&design, &[]));
+    let result = CapOut {
+        conductors,
+        matrix_f: matrix,
+        matrix_error_estimate_f: err.capacitance_matrix_f.clone(),
+        n_panels: sol.n_panels(),
+        peak_surface_fields,
+        warnings,
+    };
+    let text = match format {
+        Format::Json => serde_json::to_string_pretty(&result)? + "\n",
+        Format::Table => table(&result),
+    };
+    if let Some(p) = out {
+        output::write_atomic(p, text.as_bytes())?;
+    }
+    print!("{text}");
+    Ok(ExitCode::SUCCESS)
+}
+
+fn table(r: &CapOut) -> String {
+    let mut s = format!(
+        "Capacitances ({} panels; error estimate = |C(n) - C(n/2)|)\n\n",
+        r.n_panels
+    );
+    s.push_str(&format!(
+        "{:<24} {:<10} {:>14} {:>14} {:>16}\n",
+        "conductor", "kind", "C", "error est.", "with connected"
+    ));
+    for c in &r.conductors {
+        s.push_str(&format!(
+            "{:<24} {:<10} {:>14} {:>14} {:>16}\n",
+            c.name,
+            c.kind,
+            output::si(c.capacitance_f, "F", 5),
+            format!("{:.1e} F", c.error_estimate_f),
+            c.with_connected_electrodes_f
+                .map_or(String::new(), |v| output::si(v, "F", 5)),
+        ));
+    }
+    if !r.matrix_f.is_empty() {
+        s.push_str("\nMaxwell capacitance matrix (F), electrodes in file order:\n");
+        for row in &r.matrix_f {
+            let cells: Vec<String> = row.iter().map(|v| format!("{v:>12.4e}")).collect();
+            s.push_str(&format!("  {}\n", cells.join(" ")));
+        }
+    }
+    if !r.peak_surface_fields.is_empty() {
+        s.push_str("\nPeak surface field at the drive potentials (peak values):\n");
+        for p in &r.peak_surface_fields {
+            s.push_str(&format!(
+                "  {:<22} {:>12} at ({:.4}, {:.4}, {:.4}) m\n",
+                p.name,
+                output::si(p.field_v_per_m, "V/m", 4),
+                p.at_m[0],
+                p.at_m[1],
+                p.at_m[2]
+            ));
+        }
+    }
+    for w in &r.warnings {
+        s.push_str(&format!("\nwarning: {w}"));
+    }
+    s.push('\n');
+    s
+}

@@ -1,0 +1,481 @@
+//! `coilfield clearance`: for each threshold, the distance from the coil axis (at several
+//! heights) and from the top electrode's surface beyond which the peak field stays below it,
+//! and the fields at user-set distances.
+//!
+//! Rays start on the axis (horizontal, at four azimuths, at each height) and at the top
+//! electrode's centre (a fan in elevation); [`clearance_along_ray`] finds each ray's outer
+//! crossing. Points without a value (inside a conductor, on a wire) count as above the limit.
+
+use crate::fields::{FieldModel, Sample};
+use crate::thresholds::{self, Method, Quantity};
+use crate::{BadInput, Format, load, output};
+use coilfield_geometry::{Design, Electrode, End, Role, local_frame};
+use coilfield_solver::clearance::{
+    RayClearance, RayOutcome, RayParams, clearance_along_ray, ladder_m, ray_point,
+};
+use nalgebra::{Point3, Unit, Vector3};
+use rayon::prelude::*;
+use serde::Serialize;
+use std::collections::HashMap;
+use std::path::Path;
+use std::process::ExitCode;
+
+/// Options of `clearance`.
+pub struct ClearanceArgs<'a> {
+    /// Design file.
+    pub design: &'a Path,
+    /// Distances (m) from the axis at the top electrode's height.
+    pub distances: Option<&'a str>,
+    /// Mean breakdown gradient of long gaps (V/m).
+    pub long_gap_v_per_m: f64,
+    /// Extra thresholds.
+    pub extra: &'a [String],
+    /// Farthest distance searched (m).
+    pub max_distance_m: f64,
+    /// Output format.
+    pub format: Format,
+}
+
+/// Where the rays start: the common axis and the top conductor.
+struct Frame {
+    origin_m: Point3<f64>,
+    axis: Unit<Vector3<f64>>,
+    /// Heights (m along the axis from `origin_m`) of the horizontal rays, with a label.
+    heights: Vec<(f64, String)>,
+    /// Centre of the top electrode (or the secondary's top), and its name.
+    top_m: Point3<f64>,
+    top_name: String,
+    top_electrode: Option<Electrode>,
+    /// Peak potential (V) of the top conductor.
+    top_v: f64,
+    /// Lowest point allowed (the ground plane), as a height z (m).
+    ground_z_m: Option<f64>,
+}
+
+fn frame(design: &Design, label: &str) -> Result<Frame, BadInput> {
+    let secondary = design
+        .windings
+        .iter()
+        .find(|w| w.role == Role::Secondary)
+        .ok_or_else(|| {
+            BadInput(format!(
+                "{label}: clearance needs a winding with role = \"secondary\" (its axis sets the rays)"
+            ))
+        })?;
+    let (origin_m, axis) = secondary.shape.origin_axis().ok_or_else(|| {
+        BadInput(format!(
+            "{label}: winding {}: a polyline secondary has no axis for the clearance rays",
+            secondary.name
+        ))
+    })?;
+    let top_point = secondary.shape.point_at(1.0);
+    let h_top = (top_point - origin_m).dot(axis.as_ref());
+    let top_electrode = design
+        .electrodes
+        .iter()
+        .find(|e| {
+            e.connect
+                .as_ref()
+                .is_some_and(|t| t.winding == secondary.name && t.end == End::Top)
+        })
+        .or_else(|| {
+            design.electrodes.iter().max_by(|a, b| {
+                let ha = (a.shape.origin_axis().0 - origin_m).dot(axis.as_ref());
+                let hb = (b.shape.origin_axis().0 - origin_m).dot(axis.as_ref());
+                ha.total_cmp(&hb)
+            })
+        })
+        .cloned();
+    let mut heights = vec![
+        (0.0, format!("{} base", secondary.name)),
+        (0.5 * h_top, format!("{} middle", secondary.name)),
+        (h_top, format!("{} top", secondary.name)),
+    ];
+    let (top_m, top_name) = match &top_electrode {
+        Some(e) => {
+            let c = e.shape.origin_axis().0;
+            let h = (c - origin_m).dot(axis.as_ref());
+            heights.push((h, format!("{} centre", e.name)));
+            (origin_m + axis.as_ref() * h, e.name.clone())
+        }
+        None => (
+            origin_m + axis.as_ref() * h_top,
+            format!("{} top", secondary.name),
+        ),
+    };
+    let top_v = design
+        .drive
+        .potentials_v
+        .iter()
+        .map(|(_, p)| match *p {
+            coilfield_geometry::PotentialSpec::Uniform(v) => v.abs(),
+            coilfield_geometry::PotentialSpec::Ends { base_v, top_v } => {
+                base_v.abs().max(top_v.abs())
+            }
+        })
+        .fold(0.0, f64::max);
+    Ok(Frame {
+        origin_m,
+        axis,
+        heights,
+        top_m,
+        top_name,
+        top_electrode,
+        top_v,
+        ground_z_m: design.ground.map(|g| g.z_m),
+    })
+}
+
+#[derive(Serialize)]
+struct HeightOut {
+    label: String,
+    height_m: f64,
+    distance_from_axis_m: f64,
+    beyond_search: bool,
+}
+
+#[derive(Serialize)]
+struct ThresholdOut {
+    name: String,
+    quantity: Quantity,
+    limit: f64,
+    unit: &'static str,
+    basis: thresholds::Basis,
+    compared_with: &'static str,
+    peak_limit: f64,
+    source: String,
+    method: Method,
+    distance_from_axis_m: f64,
+    distance_from_top_m: f64,
+    beyond_search: bool,
+    by_height: Vec<HeightOut>,
+}
+
+#[derive(Serialize)]
+struct AtDistanceOut {
+    distance_from_axis_m: f64,
+    position_m: [f64; 3],
+    e_mag_v_per_m: Option<f64>,
+    e_rms_v_per_m: Option<f64>,
+    b_mag_t: Option<f64>,
+    b_rms_t: Option<f64>,
+    exceeded: Vec<String>,
+}
+
+#[derive(Serialize)]
+struct ClearanceOut {
+    caution: &'static str,
+    frequency_hz: f64,
+    top_conductor: String,
+    thresholds: Vec<ThresholdOut>,
+    at_distances: Vec<AtDistanceOut>,
+    warnings: Vec<String>,
+}
+
+fn magnitude(s: &Sample, q: Quantity) -> Option<f64> {
+    match q {
+        Quantity::E => s.e_mag(),
+        Quantity::B => s.b_mag(),
+    }
+}
+
+/// Run `coilfield clearance`.
+pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
+    let design = load::design(args.design)?;
+    let label = args.design.display().to_string();
+    let frequency_hz = design.drive.frequency_hz.ok_or_else(|| {
+        BadInput(format!(
+            "{label}: [drive] frequency: clearance needs the drive frequency (Hz) for the exposure reference levels; add frequency = <Hz> to [drive]"
+        ))
+    })?;
+    if !(args.long_gap_v_per_m.is_finite() && args.long_gap_v_per_m > 0.0) {
+        return Err(
+            BadInput("--long-gap-gradient: must be a positive number of V/m".into()).into(),
+        );
+    }
+    if !(args.max_distance_m.is_finite() && args.max_distance_m > 0.01) {
+        return Err(
+            BadInput("--max-distance: must be a number of metres above 0.01".into()).into(),
+        );
+    }
+    let distances: Vec<f64> = match args.distances {
+        Some(t) => {
+            let n = t.split(',').count();
+            let v = crate::sample::numbers("--distance", t, n)?;
+            if let Some(bad) = v.iter().find(|d| **d < 0.0) {
+                return Err(BadInput(format!(
+                    "--distance: {bad} m is negative; distances are from the axis"
+                ))
+                .into());
+            }
+            v
+        }
+        None => Vec::new(),
+    };
+    let (mut ths, mut warnings) = thresholds::defaults(frequency_hz, args.long_gap_v_per_m);
+    for t in args.extra {
+        ths.push(thresholds::parse_user(t)?);
+    }
+    let fr = frame(&design, &label)?;
+    let model = FieldModel::from_design(&design, &label)?;
+    warnings.extend(model.warnings.iter().cloned());
+    let (x_hat, y_hat) = local_frame(&fr.axis);
+    let params = RayParams {
+        t_min_m: 1e-3,
+        t_max_m: args.max_distance_m,
+        step_ratio: 1.05,
+        tolerance_m: 1e-3,
+    };
+    // Rays that would go below the ground plane stop at it.
+    let limited = |o: Point3<f64>, d: Vector3<f64>| -> Option<RayParams> {
+        let mut p = params;
+        if let Some(zg) = fr.ground_z_m
+            && d.z < 0.0
+        {
+            let t = (o.z - zg) / -d.z;
+            if t <= p.t_min_m * 2.0 {
+                return None;
+            }
+            p.t_max_m = p.t_max_m.min(t);
+        }
+        Some(p)
+    };
+    // Above the limit at the end of a ray is a lower bound only when the ray ended at the
+    // search distance; a ray that ends on the ground plane has been searched to its end.
+    let beyond_search = |r: &RayClearance, p: &RayParams| {
+        r.outcome == RayOutcome::AboveAtEnd && p.t_max_m >= params.t_max_m
+    };
+    let azimuths: Vec<Vector3<f64>> = (0..4)
+        .map(|k| {
+            let phi = std::f64::consts::FRAC_PI_2 * k as f64;
+            x_hat * phi.cos() + y_hat * phi.sin()
+        })
+        .collect();
+    // Fan from the top conductor: elevations -75 to 90 degrees in the meridian planes at
+    // azimuths 0 and 180 degrees (the electric model is axisymmetric).
+    let mut fan = Vec::new();
+    for az in [x_hat, -x_hat] {
+        for k in 0..=11 {
+            let el = (-75.0 + 15.0 * k as f64).to_radians();
+            fan.push(az * el.cos() + fr.axis.as_ref() * el.sin());
+        }
+    }
+    // Every ray's ladder is evaluated once, in one batch for E and B together; the searches
+    // of all thresholds look these samples up and evaluate only their bisection points.
+    let ladder = ladder_m(&params);
+    let mut all_rays: Vec<(Point3<f64>, Vector3<f64>)> = Vec::new();
+    for (h, _) in &fr.heights {
+        let o = fr.origin_m + fr.axis.as_ref() * *h;
+        all_rays.extend(azimuths.iter().map(|d| (o, *d)));
+    }
+    all_rays.extend(fan.iter().map(|d| (fr.top_m, *d)));
+    let ladder_pts: Vec<Point3<f64>> = all_rays
+        .iter()
+        .flat_map(|(o, d)| ladder.iter().map(move |t| ray_point(*o, *d, *t)))
+        .collect();
+    let cache: HashMap<[u64; 3], Sample> = ladder_pts
+        .iter()
+        .map(|p| [p.x.to_bits(), p.y.to_bits(), p.z.to_bits()])
+        .zip(model.eval(&ladder_pts))
+        .collect();
+    let field_of = |q: Quantity| {
+        let model = &model;
+        let cache = &cache;
+        move |p: Point3<f64>| match cache.get(&[p.x.to_bits(), p.y.to_bits(), p.z.to_bits()]) {
+            Some(s) => magnitude(s, q),
+            None => magnitude(&model.eval(&[p])[0], q),
+        }
+    };
+    let mut out = Vec::new();
+    for t in &ths {
+        if t.method == Method::MeanGradient {
+            // A spark bridges a gap d when the mean gradient V/d exceeds the threshold.
+            let d = fr.top_v / t.limit;
+            let r_top = fr.top_electrode.as_ref().map_or(0.0, outer_radius_m);
+            out.push(ThresholdOut {
+                name: t.name.clone(),
+                quantity: t.quantity,
+                limit: t.limit,
+                unit: t.unit,
+                basis: t.basis,
+                compared_with: "peak potential of the top conductor / distance",
+                peak_limit: t.peak_limit(),
+                source: t.source.clone(),
+                method: t.method,
+                distance_from_axis_m: r_top + d,
+                distance_from_top_m: d,
+                beyond_search: false,
+                by_height: Vec::new(),
+            });
+            continue;
+        }
+        let f = field_of(t.quantity);
+        let limit = t.peak_limit();
+        let mut by_height = Vec::new();
+        let mut beyond = false;
+        for (h, hl) in &fr.heights {
+            let o = fr.origin_m + fr.axis.as_ref() * *h;
+            let rays: Vec<_> = azimuths
+                .par_iter()
+                .filter_map(|d| limited(o, *d).map(|p| (d, p)))
+                .map(|(d, p)| clearance_along_ray(f, o, *d, limit, p).map(|r| (r, p)))
+                .collect::<Result<_, _>>()?;
+            let best = rays.iter().map(|(r, _)| r.distance_m).fold(0.0, f64::max);
+            let hit_end = rays.iter().any(|(r, p)| beyond_search(r, p));
+            beyond |= hit_end;
+            by_height.push(HeightOut {
+                label: hl.clone(),
+                height_m: *h,
+                distance_from_axis_m: best,
+                beyond_search: hit_end,
+            });
+        }
+        let fan_rays: Vec<_> = fan
+            .par_iter()
+            .filter_map(|d| limited(fr.top_m, *d).map(|p| (d, p)))
+            .map(|(d, p)| clearance_along_ray(f, fr.top_m, *d, limit, p).map(|r| (r, p)))
+            .collect::<Result<_, _>>()?;
+        let from_top = fan_rays
+            .iter()
+            .map(|(r, _)| {
+                if r.outcome == RayOutcome::BelowEverywhere {
+                    return 0.0;
+                }
+                let d = match &fr.top_electrode {
+                    Some(e) => e.shape.signed_distance_m(&r.point_m),
+                    None => (r.point_m - fr.top_m).norm(),
+                };
+                d.max(0.0)
+            })
+            .fold(0.0, f64::max);
+        beyond |= fan_rays.iter().any(|(r, p)| beyond_search(r, p));
+        out.push(ThresholdOut {
+            name: t.name.clone(),
+            quantity: t.quantity,
+            limit: t.limit,
+            unit: t.unit,
+            basis: t.basis,
+            compared_with: match t.basis {
+                thresholds::Basis::Rms => "peak / sqrt(2)",
+                thresholds::Basis::Peak => "peak",
+            },
+            peak_limit: limit,
+            source: t.source.clone(),
+            method: t.method,
+            distance_from_axis_m: by_height
+                .iter()
+                .map(|h| h.distance_from_axis_m)
+                .fold(0.0, f64::max),
+            distance_from_top_m: from_top,
+            beyond_search: beyond,
+            by_height,
+        });
+        if beyond {
+            warnings.push(format!(
+                "{}: the field is still above the limit at the end of the search ({} m); the distance given is a lower bound (raise --max-distance)",
+                t.name, args.max_distance_m
+            ));
+        }
+    }
+    let at_pts: Vec<Point3<f64>> = distances.iter().map(|d| fr.top_m + x_hat * *d).collect();
+    let at_samples = model.eval(&at_pts);
+    let at_distances: Vec<AtDistanceOut> = distances
+        .iter()
+        .zip(&at_pts)
+        .zip(&at_samples)
+        .map(|((d, p), s)| {
+            let e = s.e_mag();
+            let b = s.b_mag();
+            let exceeded = ths
+                .iter()
+                .filter(|t| t.method == Method::FieldSearch)
+                .filter(|t| magnitude(s, t.quantity).is_none_or(|v| v >= t.peak_limit()))
+                .map(|t| t.name.clone())
+                .collect();
+            AtDistanceOut {
+                distance_from_axis_m: *d,
+                position_m: [p.x, p.y, p.z],
+                e_mag_v_per_m: e,
+                e_rms_v_per_m: e.map(|v| v / std::f64::consts::SQRT_2),
+                b_mag_t: b,
+                b_rms_t: b.map(|v| v / std::f64::consts::SQRT_2),
+                exceeded,
+            }
+        })
+        .collect();
+    let mut dist_all: Vec<f64> = out.iter().map(|t| t.distance_from_axis_m).collect();
+    dist_all.extend(distances.iter().copied());
+    warnings.extend(crate::solve::validity_warnings(&design, &dist_all));
+    let result = ClearanceOut {
+        caution: thresholds::CAUTION,
+        frequency_hz,
+        top_conductor: fr.top_name.clone(),
+        thresholds: out,
+        at_distances,
+        warnings,
+    };
+    match args.format {
+        Format::Json => println!("{}", serde_json::to_string_pretty(&result)?),
+        Format::Table => print!("{}", table(&result)),
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// Largest distance (m) of an electrode's surface from the common axis.
+fn outer_radius_m(e: &Electrode) -> f64 {
+    (0..=64)
+        .map(|k| e.shape.generatrix_at(k as f64 / 64.0).0)
+        .fold(0.0, f64::max)
+}
+
+fn table(r: &ClearanceOut) -> String {
+    let mut s = format!("CAUTION: {}\n\n", r.caution);
+    s.push_str(&format!(
+        "Drive frequency {}; distances from the axis and from the surface of {}\n\n",
+        output::si(r.frequency_hz, "Hz", 4),
+        r.top_conductor
+    ));
+    s.push_str(&format!(
+        "{:<38} {:>5} {:>14} {:>6} {:>12} {:>12}\n",
+        "threshold", "field", "limit", "basis", "from axis", "from top"
+    ));
+    for t in &r.thresholds {
+        let more = if t.beyond_search { ">" } else { "" };
+        s.push_str(&format!(
+            "{:<38} {:>5} {:>14} {:>6} {:>12} {:>12}\n",
+            t.name,
+            format!("{:?}", t.quantity),
+            output::si(t.limit, t.unit, 3),
+            format!("{:?}", t.basis).to_lowercase(),
+            format!("{more}{:.3} m", t.distance_from_axis_m),
+            format!("{more}{:.3} m", t.distance_from_top_m),
+        ));
+    }
+    s.push_str("\nSources:\n");
+    for t in &r.thresholds {
+        s.push_str(&format!("  {}: {}\n", t.name, t.source));
+    }
+    if !r.at_distances.is_empty() {
+        s.push_str("\nAt the top conductor's height (peak; rms = peak / sqrt(2)):\n");
+        for a in &r.at_distances {
+            let e = a
+                .e_mag_v_per_m
+                .map_or("-".into(), |v| output::si(v, "V/m", 4));
+            let b = a.b_mag_t.map_or("-".into(), |v| output::si(v, "T", 4));
+            s.push_str(&format!(
+                "  {:>8.3} m  |E| {e:>12}  |B| {b:>12}  above: {}\n",
+                a.distance_from_axis_m,
+                if a.exceeded.is_empty() {
+                    "none".to_string()
+                } else {
+                    a.exceeded.join(", ")
+                }
+            ));
+        }
+    }
+    for w in &r.warnings {
+        s.push_str(&format!("\nwarning: {w}"));
+    }
+    s.push_str(&format!("\n\nCAUTION: {}\n", r.caution));
+    s
+}

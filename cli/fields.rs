@@ -1,0 +1,254 @@
+//! The field model of a design (E from the electrostatic solution, B from the windings) as
+//! one batch evaluator, and the `field` command that prints E and B at points.
+
+use crate::sample;
+use crate::{BadInput, load, output};
+use coilfield_geometry::Design;
+use nalgebra::{Point3, Vector3};
+use serde::Serialize;
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+
+/// E at a point: a value, or why there is none.
+#[derive(Debug, Clone, PartialEq)]
+pub enum EValue {
+    /// Peak E (V/m).
+    Field(Vector3<f64>),
+    /// The point lies inside the named conductor (or below the ground plane, "ground").
+    Inside(String),
+}
+
+/// E and B at one point (peak values of the drive).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Sample {
+    /// Electric field.
+    pub e: EValue,
+    /// Magnetic flux density (T); None on a wire.
+    pub b: Option<Vector3<f64>>,
+}
+
+impl Sample {
+    /// |E| (V/m), or None where E has no value.
+    pub fn e_mag(&self) -> Option<f64> {
+        match &self.e {
+            EValue::Field(v) => Some(v.norm()),
+            _ => None,
+        }
+    }
+
+    /// |B| (T), or None on a wire.
+    pub fn b_mag(&self) -> Option<f64> {
+        self.b.map(|v| v.norm())
+    }
+}
+
+type BatchFn = dyn Fn(&[Point3<f64>]) -> Vec<Sample> + Send + Sync;
+
+/// E and B of a design, ready to evaluate at any points.
+pub struct FieldModel {
+    eval: Box<BatchFn>,
+    /// Warnings about the model itself (image currents, quasi-static limits).
+    pub warnings: Vec<String>,
+}
+
+impl FieldModel {
+    /// Build the model from a wrapped evaluator (used by the solver wiring).
+    pub fn from_fn(eval: Box<BatchFn>, warnings: Vec<String>) -> Self {
+        Self { eval, warnings }
+    }
+
+    /// E and B at `points_m`.
+    pub fn eval(&self, points_m: &[Point3<f64>]) -> Vec<Sample> {
+        (self.eval)(points_m)
+    }
+
+    /// Build the field model of `design` (validated drive: at least currents or potentials).
+    pub fn from_design(design: &Design, label: &str) -> anyhow::Result<Self> {
+        crate::solve::field_model(design, label)
+    }
+}
+
+/// Output formats of `field`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum FieldFormat {
+    /// Aligned text.
+    Table,
+    /// JSON (documented shape).
+    Json,
+    /// CSV with a header naming each column's unit.
+    Csv,
+}
+
+#[derive(Serialize)]
+struct PointOut {
+    position_m: [f64; 3],
+    e_field_v_per_m: Option<[f64; 3]>,
+    e_mag_v_per_m: Option<f64>,
+    b_field_t: Option<[f64; 3]>,
+    b_mag_t: Option<f64>,
+}
+
+#[derive(Serialize)]
+struct FieldOut {
+    points: Vec<PointOut>,
+    warnings: Vec<String>,
+}
+
+fn arr(v: Vector3<f64>) -> [f64; 3] {
+    [v.x, v.y, v.z]
+}
+
+/// Where a point came from, for messages.
+enum Origin {
+    At(String),
+    Csv(PathBuf, usize),
+}
+
+impl Origin {
+    fn label(&self) -> String {
+        match self {
+            Origin::At(t) => format!("--at {t}"),
+            Origin::Csv(p, line) => format!("--points {} line {line}", p.display()),
+        }
+    }
+}
+
+/// Run `coilfield field`.
+pub fn run(
+    design_path: &Path,
+    at: &[String],
+    points: Option<&Path>,
+    format: FieldFormat,
+    out: Option<&Path>,
+) -> anyhow::Result<ExitCode> {
+    let design = load::design(design_path)?;
+    let mut pts = Vec::new();
+    let mut origins = Vec::new();
+    for t in at {
+        pts.push(sample::point("--at", t)?);
+        origins.push(Origin::At(t.clone()));
+    }
+    if let Some(p) = points {
+        for (k, q) in sample::points_csv(p)?.into_iter().enumerate() {
+            pts.push(q);
+            origins.push(Origin::Csv(p.to_path_buf(), k + 2));
+        }
+    }
+    if pts.is_empty() {
+        return Err(
+            BadInput("field: give at least one --at x,y,z or --points FILE.csv".into()).into(),
+        );
+    }
+    let model = FieldModel::from_design(&design, &design_path.display().to_string())?;
+    let samples = model.eval(&pts);
+    let mut warnings = model.warnings.clone();
+    warnings.extend(crate::solve::validity_warnings(
+        &design,
+        &crate::solve::distances_from_centre_m(&design, &pts),
+    ));
+    let mut rows = Vec::with_capacity(pts.len());
+    for ((p, s), o) in pts.iter().zip(&samples).zip(&origins) {
+        let position_m = [p.x, p.y, p.z];
+        if let EValue::Inside(name) = &s.e {
+            return Err(BadInput(format!(
+                "{}: the point ({}, {}, {}) m lies inside the conductor {name}, where the field is not defined; move it outside",
+                o.label(),
+                p.x,
+                p.y,
+                p.z
+            ))
+            .into());
+        }
+        let on_wire = s.b.is_none();
+        if on_wire {
+            warnings.push(format!(
+                "{}: the point ({}, {}, {}) m lies on a winding's wire: no field given",
+                o.label(),
+                p.x,
+                p.y,
+                p.z
+            ));
+        }
+        let answered = !on_wire;
+        let e = match &s.e {
+            EValue::Field(v) if answered => Some(*v),
+            _ => None,
+        };
+        let b = if answered { s.b } else { None };
+        rows.push(PointOut {
+            position_m,
+            e_field_v_per_m: e.map(arr),
+            e_mag_v_per_m: e.map(|v| v.norm()),
+            b_field_t: b.map(arr),
+            b_mag_t: b.map(|v| v.norm()),
+        });
+    }
+    let result = FieldOut {
+        points: rows,
+        warnings,
+    };
+    let text = match format {
+        FieldFormat::Json => serde_json::to_string_pretty(&result)? + "\n",
+        FieldFormat::Csv => csv_text(&result),
+        FieldFormat::Table => table_text(&result),
+    };
+    if let Some(path) = out {
+        output::write_atomic(path, text.as_bytes())?;
+    }
+    print!("{text}");
+    if format != FieldFormat::Json {
+        for w in &result.warnings {
+            eprintln!("warning: {w}");
+        }
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn opt(v: Option<f64>) -> String {
+    v.map_or(String::new(), |x| format!("{x:e}"))
+}
+
+fn csv_text(r: &FieldOut) -> String {
+    let mut s = String::from(
+        "x_m,y_m,z_m,ex_v_per_m,ey_v_per_m,ez_v_per_m,e_mag_v_per_m,bx_t,by_t,bz_t,b_mag_t\n",
+    );
+    for p in &r.points {
+        let e = p.e_field_v_per_m.map_or([None; 3], |v| v.map(Some));
+        let b = p.b_field_t.map_or([None; 3], |v| v.map(Some));
+        s.push_str(&format!(
+            "{:e},{:e},{:e},{},{},{},{},{},{},{},{}\n",
+            p.position_m[0],
+            p.position_m[1],
+            p.position_m[2],
+            opt(e[0]),
+            opt(e[1]),
+            opt(e[2]),
+            opt(p.e_mag_v_per_m),
+            opt(b[0]),
+            opt(b[1]),
+            opt(b[2]),
+            opt(p.b_mag_t)
+        ));
+    }
+    s
+}
+
+fn table_text(r: &FieldOut) -> String {
+    let mut s = String::from("Peak fields of the drive (E in V/m, B in T)\n\n");
+    s.push_str(&format!(
+        "{:>30}  {:>12}  {:>12}\n",
+        "point (x, y, z) m", "|E|", "|B|"
+    ));
+    for p in &r.points {
+        let pos = format!(
+            "({}, {}, {})",
+            p.position_m[0], p.position_m[1], p.position_m[2]
+        );
+        let e = p
+            .e_mag_v_per_m
+            .map_or("-".to_string(), |x| output::si(x, "V/m", 4));
+        let b = p.b_mag_t.map_or("-".to_string(), |x| output::si(x, "T", 4));
+        s.push_str(&format!("{pos:>30}  {e:>12}  {b:>12}\n"));
+    }
+    s
+}

@@ -1,0 +1,241 @@
+//! `coilfield map`: E and B sampled on a plane or in a box, written as a VTK RectilinearGrid
+//! (`.vtr`) and, for a plane, a heat map (PNG or SVG) with contour lines at the thresholds.
+
+use crate::fields::{EValue, FieldModel};
+use crate::plot::{self, HeatMap};
+use crate::sample::{self, Grid, Plane};
+use crate::thresholds::{self, Quantity};
+use crate::vtk::{self, Array};
+use crate::{BadInput, load, output};
+use serde::Serialize;
+use std::path::Path;
+use std::process::ExitCode;
+
+/// Which magnitude a heat map shows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum PlotQuantity {
+    /// |E| (V/m, peak).
+    E,
+    /// |B| (T, peak).
+    B,
+}
+
+/// Options of `map`, as given on the command line.
+pub struct MapArgs<'a> {
+    /// Design file.
+    pub design: &'a Path,
+    /// Plane of a plane grid.
+    pub plane: Option<Plane>,
+    /// Offset (m) of the plane along its normal.
+    pub offset_m: f64,
+    /// `U0,U1,V0,V1` (m).
+    pub extent: Option<&'a str>,
+    /// `X0,X1,Y0,Y1,Z0,Z1` (m).
+    pub bounds: Option<&'a str>,
+    /// `NU,NV` or `NX,NY,NZ`.
+    pub resolution: &'a str,
+    /// `.vtr` output.
+    pub vtk: Option<&'a Path>,
+    /// `.png` or `.svg` output.
+    pub plot: Option<&'a Path>,
+    /// Quantity of the heat map.
+    pub plot_quantity: PlotQuantity,
+}
+
+#[derive(Serialize)]
+struct MapOut {
+    caution: &'static str,
+    n_points: usize,
+    max_e_mag_v_per_m: Option<f64>,
+    max_b_mag_t: Option<f64>,
+    points_without_e: usize,
+    points_without_b: usize,
+    files: Vec<String>,
+    warnings: Vec<String>,
+}
+
+/// The grid the options describe.
+pub fn grid(args: &MapArgs<'_>) -> Result<Grid, BadInput> {
+    match (args.plane, args.extent, args.bounds) {
+        (Some(p), Some(e), None) => sample::plane_grid(p, args.offset_m, e, args.resolution),
+        (None, None, Some(b)) => sample::box_grid(b, args.resolution),
+        (Some(_), None, _) => Err(BadInput("--plane needs --extent U0,U1,V0,V1 (m)".into())),
+        (None, Some(_), None) => Err(BadInput("--extent needs --plane xz|yz|xy".into())),
+        (_, _, Some(_)) => Err(BadInput(
+            "--box: give either --plane with --extent, or --box, not both".into(),
+        )),
+        (None, None, None) => Err(BadInput(
+            "map: give --plane xz|yz|xy with --extent U0,U1,V0,V1, or --box X0,X1,Y0,Y1,Z0,Z1"
+                .into(),
+        )),
+    }
+}
+
+fn check_ext(path: &Path, key: &str, allowed: &[&str]) -> Result<String, BadInput> {
+    let ext = path
+        .extension()
+        .and_then(|e| e.to_str())
+        .map(str::to_ascii_lowercase)
+        .unwrap_or_default();
+    if allowed.contains(&ext.as_str()) {
+        Ok(ext)
+    } else {
+        Err(BadInput(format!(
+            "{key} {}: the file name must end in .{}",
+            path.display(),
+            allowed.join(" or .")
+        )))
+    }
+}
+
+/// Run `coilfield map`.
+pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
+    let design = load::design(args.design)?;
+    let label = args.design.display().to_string();
+    let g = grid(&args)?;
+    if args.vtk.is_none() && args.plot.is_none() {
+        return Err(
+            BadInput("map: give --vtk FILE.vtr and/or --plot FILE.png|FILE.svg".into()).into(),
+        );
+    }
+    if let Some(p) = args.vtk {
+        check_ext(p, "--vtk", &["vtr"])?;
+    }
+    let svg = match args.plot {
+        Some(p) => {
+            if g.plane.is_none() {
+                return Err(BadInput(
+                    "--plot: a heat map needs a plane grid (--plane), not --box".into(),
+                )
+                .into());
+            }
+            check_ext(p, "--plot", &["png", "svg"])? == "svg"
+        }
+        None => false,
+    };
+    let model = FieldModel::from_design(&design, &label)?;
+    let pts = g.points();
+    let samples = model.eval(&pts);
+    let n = pts.len();
+    // NaN marks "no value" (inside a conductor, on its surface, on a wire): it round-trips
+    // through VTK and viewers leave it blank; Inf would ruin their colour ranges.
+    let mut e_vec = Vec::with_capacity(3 * n);
+    let mut b_vec = Vec::with_capacity(3 * n);
+    let mut e_mag = Vec::with_capacity(n);
+    let mut b_mag = Vec::with_capacity(n);
+    for s in &samples {
+        match &s.e {
+            EValue::Field(v) => {
+                e_vec.extend_from_slice(&[v.x, v.y, v.z]);
+                e_mag.push(v.norm());
+            }
+            _ => {
+                e_vec.extend_from_slice(&[f64::NAN; 3]);
+                e_mag.push(f64::NAN);
+            }
+        }
+        match s.b {
+            Some(v) => {
+                b_vec.extend_from_slice(&[v.x, v.y, v.z]);
+                b_mag.push(v.norm());
+            }
+            None => {
+                b_vec.extend_from_slice(&[f64::NAN; 3]);
+                b_mag.push(f64::NAN);
+            }
+        }
+    }
+    let max = |v: &[f64]| {
+        v.iter()
+            .copied()
+            .filter(|x| x.is_finite())
+            .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))))
+    };
+    let mut warnings = model.warnings.clone();
+    warnings.extend(crate::solve::validity_warnings(
+        &design,
+        &crate::solve::distances_from_centre_m(&design, &pts),
+    ));
+    let mut files_out: Vec<(std::path::PathBuf, Vec<u8>)> = Vec::new();
+    if let Some(p) = args.vtk {
+        let bytes = vtk::rectilinear_grid(
+            &g.xs_m,
+            &g.ys_m,
+            &g.zs_m,
+            &[
+                Array::vectors("E_V_per_m", e_vec),
+                Array::scalars("E_mag_V_per_m", e_mag.clone()),
+                Array::vectors("B_T", b_vec),
+                Array::scalars("B_mag_T", b_mag.clone()),
+            ],
+        )?;
+        files_out.push((p.to_path_buf(), bytes));
+    }
+    if let Some(p) = args.plot {
+        let (u, v) = g.plane_axes().expect("plane grid");
+        let (ul, vl) = g.plane.expect("plane grid").labels();
+        let (values, quantity, unit) = match args.plot_quantity {
+            PlotQuantity::E => (&e_mag, Quantity::E, "V/m"),
+            PlotQuantity::B => (&b_mag, Quantity::B, "T"),
+        };
+        let (ths, th_warnings) = match design.drive.frequency_hz {
+            Some(f) => thresholds::defaults(f, thresholds::LONG_GAP_GRADIENT_V_PER_M),
+            None => {
+                let (t, _) = thresholds::defaults(0.0, thresholds::LONG_GAP_GRADIENT_V_PER_M);
+                (
+                    t,
+                    vec![
+                        "no [drive] frequency: contour lines at exposure reference levels left out"
+                            .into(),
+                    ],
+                )
+            }
+        };
+        warnings.extend(th_warnings);
+        let contours: Vec<(f64, String)> = ths
+            .iter()
+            .filter(|t| t.quantity == quantity && t.method == thresholds::Method::FieldSearch)
+            .map(|t| {
+                (
+                    t.peak_limit(),
+                    format!("{}: peak {}", t.name, output::si(t.peak_limit(), unit, 3)),
+                )
+            })
+            .collect();
+        let title = match quantity {
+            Quantity::E => "peak |E| (V/m); screening estimate, not a safety certificate",
+            Quantity::B => "peak |B| (T); screening estimate, not a safety certificate",
+        };
+        let bytes = plot::heat_map_bytes(
+            &HeatMap {
+                u_m: u,
+                v_m: v,
+                values,
+                u_label: ul,
+                v_label: vl,
+                title,
+                contours: &contours,
+            },
+            svg,
+        )?;
+        files_out.push((p.to_path_buf(), bytes));
+    }
+    for (p, bytes) in &files_out {
+        output::write_atomic(p, bytes)?;
+    }
+    let result = MapOut {
+        caution: thresholds::CAUTION,
+        n_points: n,
+        max_e_mag_v_per_m: max(&e_mag),
+        max_b_mag_t: max(&b_mag),
+        points_without_e: e_mag.iter().filter(|x| x.is_nan()).count(),
+        points_without_b: b_mag.iter().filter(|x| x.is_nan()).count(),
+        files: files_out
+            .iter()
+            .map(|(p, _)| p.display().to_string())
+            .collect(),
+        warnings,
+    };
+    println!("{}", serde_json::to_string_pretty(&result)?);
+    Ok(ExitCode::SUCCESS)
+}

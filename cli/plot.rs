@@ -1,0 +1,326 @@
+//! Heat maps of a field magnitude on a plane, with contour lines at threshold levels, as PNG or
+//! SVG (plotters, no system libraries; the DejaVu Sans font is embedded, licence beside it in
+//! `cli/assets/`).
+//!
+//! Colours: the Viridis map (van der Walt and Smith, matplotlib, 2015), chosen because it
+//! stays readable in grey and for colour-blind readers; logarithmic, since near fields span
+//! decades. Cells without a value (inside a conductor, on a wire) are grey.
+
+use plotters::prelude::*;
+use plotters::style::colors::colormaps::ViridisRGB;
+use std::sync::Once;
+
+/// Embedded font for every label (Bitstream Vera licence, `cli/assets/DejaVu-LICENSE.txt`).
+const FONT: &[u8] = include_bytes!("assets/DejaVuSans.ttf");
+
+fn register_font() {
+    static ONCE: Once = Once::new();
+    ONCE.call_once(|| {
+        // The bytes are a valid TrueType font shipped with the binary; a failure here is a
+        // build mistake, reported when text is drawn.
+        let _ = plotters::style::register_font("sans-serif", FontStyle::Normal, FONT);
+    });
+}
+
+/// A sampled scalar field on a plane.
+#[derive(Debug, Clone)]
+pub struct HeatMap<'a> {
+    /// Coordinates (m) of the columns, increasing.
+    pub u_m: &'a [f64],
+    /// Coordinates (m) of the rows, increasing.
+    pub v_m: &'a [f64],
+    /// Values, `u` fastest: `values[j * u_m.len() + i]`; NaN or non-positive = no value.
+    pub values: &'a [f64],
+    /// Axis labels, e.g. `x (m)`.
+    pub u_label: &'a str,
+    /// Axis labels, e.g. `z (m)`.
+    pub v_label: &'a str,
+    /// Title, with the quantity and its unit.
+    pub title: &'a str,
+    /// Contour levels (same unit as `values`) with a short name for the legend.
+    pub contours: &'a [(f64, String)],
+}
+
+/// One straight piece of a contour line, in plane coordinates (m).
+pub type Segment = ((f64, f64), (f64, f64));
+
+/// Marching squares: the pieces of the level line `level` of `values` on the grid.
+/// Interpolates log10 of the values along cell edges (fields vary by decades); cells with a
+/// missing corner are skipped, so a line stops at a conductor instead of crossing it.
+pub fn contour_segments(u: &[f64], v: &[f64], values: &[f64], level: f64) -> Vec<Segment> {
+    let nu = u.len();
+    let lg = |x: f64| if x > 0.0 { x.log10() } else { f64::NAN };
+    let l = lg(level);
+    let mut out = Vec::new();
+    if nu < 2 || v.len() < 2 || !l.is_finite() {
+        return out;
+    }
+    for j in 0..v.len() - 1 {
+        for i in 0..nu - 1 {
+            // Corners counter-clockwise from (i, j).
+            let c = [
+                (u[i], v[j], lg(values[j * nu + i])),
+                (u[i + 1], v[j], lg(values[j * nu + i + 1])),
+                (u[i + 1], v[j + 1], lg(values[(j + 1) * nu + i + 1])),
+                (u[i], v[j + 1], lg(values[(j + 1) * nu + i])),
+            ];
+            if c.iter().any(|p| !p.2.is_finite()) {
+                continue;
+            }
+            let mut cuts = Vec::with_capacity(4);
+            for k in 0..4 {
+                let (a, b) = (c[k], c[(k + 1) % 4]);
+                if (a.2 >= l) != (b.2 >= l) {
+                    let t = (l - a.2) / (b.2 - a.2);
+                    cuts.push((a.0 + t * (b.0 - a.0), a.1 + t * (b.1 - a.1)));
+                }
+            }
+            // Two cuts: one piece; four (a saddle): pair neighbours, a choice that keeps lines
+            // apart and is as good as any without a finer sample.
+            for pair in cuts.chunks_exact(2) {
+                out.push((pair[0], pair[1]));
+            }
+        }
+    }
+    out
+}
+
+/// Draw `map` as SVG (`svg = true`) or PNG and return the bytes, so the caller can write
+/// them atomically.
+pub fn heat_map_bytes(map: &HeatMap<'_>, svg: bool) -> anyhow::Result<Vec<u8>> {
+    register_font();
+    const W: u32 = 900;
+    const H: u32 = 760;
+    if svg {
+        let mut s = String::new();
+        {
+            let root = SVGBackend::with_string(&mut s, (W, H)).into_drawing_area();
+            draw(&root, map)?;
+            root.present()
+                .map_err(|e| anyhow::anyhow!("cannot draw the SVG: {e}"))?;
+        }
+        Ok(s.into_bytes())
+    } else {
+        let mut buf = vec![0u8; (W * H * 3) as usize];
+        {
+            let root = BitMapBackend::with_buffer(&mut buf, (W, H)).into_drawing_area();
+            draw(&root, map)?;
+            root.present()
+                .map_err(|e| anyhow::anyhow!("cannot draw the PNG: {e}"))?;
+        }
+        encode_png(&buf, W, H)
+    }
+}
+
+/// PNG encoding of an RGB buffer, in memory so the caller can write it atomically.
+fn encode_png(rgb: &[u8], w: u32, h: u32) -> anyhow::Result<Vec<u8>> {
+    let mut out = Vec::new();
+    {
+        let mut enc = png::Encoder::new(&mut out, w, h);
+        enc.set_color(png::ColorType::Rgb);
+        enc.set_depth(png::BitDepth::Eight);
+        let mut writer = enc.write_header()?;
+        writer.write_image_data(rgb)?;
+    }
+    Ok(out)
+}
+
+fn draw<DB: DrawingBackend>(
+    root: &DrawingArea<DB, plotters::coord::Shift>,
+    map: &HeatMap<'_>,
+) -> anyhow::Result<()>
+where
+    DB::ErrorType: 'static,
+{
+    let err = |e: DrawingAreaErrorKind<DB::ErrorType>| anyhow::anyhow!("cannot draw: {e:?}");
+    root.fill(&WHITE).map_err(err)?;
+    let (nu, nv) = (map.u_m.len(), map.v_m.len());
+    anyhow::ensure!(nu >= 2 && nv >= 2, "a heat map needs at least 2 x 2 points");
+    anyhow::ensure!(
+        map.values.len() == nu * nv,
+        "heat map values do not fill the grid"
+    );
+    let finite: Vec<f64> = map
+        .values
+        .iter()
+        .copied()
+        .filter(|x| x.is_finite() && *x > 0.0)
+        .collect();
+    let (lo, hi) = if finite.is_empty() {
+        (0.0, 1.0)
+    } else {
+        let lo = finite.iter().copied().fold(f64::INFINITY, f64::min).log10();
+        let hi = finite
+            .iter()
+            .copied()
+            .fold(f64::NEG_INFINITY, f64::max)
+            .log10();
+        if hi > lo {
+            (lo, hi)
+        } else {
+            (lo - 0.5, lo + 0.5)
+        }
+    };
+    let (plot_area, bar_area) = root.split_horizontally(780);
+    let (u0, u1) = (map.u_m[0], map.u_m[nu - 1]);
+    let (v0, v1) = (map.v_m[0], map.v_m[nv - 1]);
+    let mut chart = ChartBuilder::on(&plot_area)
+        .caption(map.title, ("sans-serif", 20))
+        .margin(12)
+        .x_label_area_size(40)
+        .y_label_area_size(60)
+        .build_cartesian_2d(u0..u1, v0..v1)
+        .map_err(err)?;
+    chart
+        .configure_mesh()
+        .disable_mesh()
+        .x_desc(map.u_label)
+        .y_desc(map.v_label)
+        .label_style(("sans-serif", 14))
+        .draw()
+        .map_err(err)?;
+    // Each sample colours the cell around it (half-way to its neighbours).
+    let edge = |c: &[f64], k: usize| -> (f64, f64) {
+        let a = if k == 0 {
+            c[0]
+        } else {
+            0.5 * (c[k - 1] + c[k])
+        };
+        let b = if k + 1 == c.len() {
+            c[k]
+        } else {
+            0.5 * (c[k] + c[k + 1])
+        };
+        (a, b)
+    };
+    let grey = RGBColor(170, 170, 170);
+    chart
+        .draw_series(
+            (0..nv)
+                .flat_map(|j| (0..nu).map(move |i| (i, j)))
+                .map(|(i, j)| {
+                    let (a, b) = edge(map.u_m, i);
+                    let (c, d) = edge(map.v_m, j);
+                    let x = map.values[j * nu + i];
+                    let colour = if x.is_finite() && x > 0.0 {
+                        ViridisRGB::get_color_normalized(x.log10(), lo, hi)
+                    } else {
+                        grey
+                    };
+                    Rectangle::new([(a, c), (b, d)], colour.filled())
+                }),
+        )
+        .map_err(err)?;
+    let palette = [
+        WHITE,
+        RED,
+        MAGENTA,
+        CYAN,
+        BLACK,
+        YELLOW,
+        plotters::style::full_palette::ORANGE,
+        plotters::style::full_palette::PINK,
+        BLUE,
+        GREEN,
+    ];
+    for (k, (level, name)) in map.contours.iter().enumerate() {
+        let colour = palette[k % palette.len()];
+        let segs = contour_segments(map.u_m, map.v_m, map.values, *level);
+        chart
+            .draw_series(
+                segs.iter()
+                    .map(|&(a, b)| PathElement::new(vec![a, b], colour.stroke_width(2))),
+            )
+            .map_err(err)?
+            .label(name.clone())
+            .legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + 20, y)], colour.stroke_width(2))
+            });
+    }
+    if !map.contours.is_empty() {
+        chart
+            .configure_series_labels()
+            .position(SeriesLabelPosition::UpperLeft)
+            .background_style(WHITE.mix(0.8))
+            .border_style(BLACK)
+            .label_font(("sans-serif", 13))
+            .draw()
+            .map_err(err)?;
+    }
+    // Colour bar: log10 of the value.
+    let mut bar = ChartBuilder::on(&bar_area)
+        .margin_top(44)
+        .margin_bottom(52)
+        .margin_right(8)
+        .y_label_area_size(58)
+        .caption("log10", ("sans-serif", 14))
+        .build_cartesian_2d(0.0..1.0, lo..hi)
+        .map_err(err)?;
+    bar.configure_mesh()
+        .disable_mesh()
+        .disable_x_axis()
+        .label_style(("sans-serif", 13))
+        .draw()
+        .map_err(err)?;
+    let steps = 100;
+    bar.draw_series((0..steps).map(|k| {
+        let a = lo + (hi - lo) * k as f64 / steps as f64;
+        let b = lo + (hi - lo) * (k + 1) as f64 / steps as f64;
+        Rectangle::new(
+            [(0.0, a), (1.0, b)],
+            ViridisRGB::get_color_normalized(0.5 * (a + b), lo, hi).filled(),
+        )
+    }))
+    .map_err(err)?;
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn contour_of_a_radial_field_is_a_circle() {
+        // f = 1 / r^2 on a grid; the level 1 line is the unit circle.
+        let n = 81;
+        let c: Vec<f64> = (0..n)
+            .map(|i| -2.0 + 4.0 * i as f64 / (n - 1) as f64)
+            .collect();
+        let vals: Vec<f64> = (0..n * n)
+            .map(|k| {
+                let (x, y) = (c[k % n], c[k / n]);
+                1.0 / (x * x + y * y)
+            })
+            .collect();
+        let segs = contour_segments(&c, &c, &vals, 1.0);
+        assert!(segs.len() > 40);
+        for ((x0, y0), (x1, y1)) in segs {
+            for r in [x0.hypot(y0), x1.hypot(y1)] {
+                // Log-linear interpolation of 1/r^2 on a 0.05 m grid: a few 1e-3 of radius.
+                assert!((r - 1.0).abs() < 5e-3, "{r}");
+            }
+        }
+    }
+
+    #[test]
+    fn svg_and_png_are_produced() {
+        let u = [0.0, 1.0, 2.0];
+        let v = [0.0, 1.0];
+        let vals = [1.0, 2.0, f64::NAN, 3.0, 4.0, 5.0];
+        let contours = [(2.5, "level 2.5".to_string())];
+        let map = HeatMap {
+            u_m: &u,
+            v_m: &v,
+            values: &vals,
+            u_label: "x (m)",
+            v_label: "z (m)",
+            title: "|E| (V/m)",
+            contours: &contours,
+        };
+        let svg = String::from_utf8(heat_map_bytes(&map, true).unwrap()).unwrap();
+        assert!(svg.starts_with("<svg"));
+        assert!(svg.contains("level 2.5"));
+        let png = heat_map_bytes(&map, false).unwrap();
+        assert_eq!(&png[1..4], b"PNG");
+    }
+}

@@ -1,0 +1,1111 @@
+//! Electrodes (conductors other than windings), the ground plane, and the checks the electric
+//! solver needs: no contact with windings or each other, nothing through the ground plane, and
+//! one common axis ([`check_axisymmetric`]).
+//!
+//! # Design-file keys (`[[electrode]]`, one table per electrode)
+//! - `name`: `[A-Za-z0-9_-]+`, unique across windings and electrodes (default `electrode-<n>`).
+//! - `shape`: `torus` | `sphere` | `disc` | `cylinder`.
+//! - `origin` (lengths, m): the centre (torus, sphere, disc) or the centre of the base
+//!   (cylinder, whose ends are closed by flat discs).
+//! - `axis` (direction, normalised): the symmetry axis; a cylinder extends from its base along
+//!   it. Optional for a sphere (default `[0, 0, 1]`).
+//! - sizes (lengths, m, positive): torus `major_radius` (centre to tube centre) and
+//!   `minor_radius` (tube radius, below `major_radius`); sphere `radius`; disc `radius` (a
+//!   disc has no thickness); cylinder `radius` and `length`.
+//! - `connect` (optional): `"<winding>:top"` or `"<winding>:base"`: the electrode takes that
+//!   terminal's potential. The top of a winding is its end (t = 1), the base its start.
+//!
+//! `[ground]`: `z` (length, m): a grounded plane z = const; `conducting` (bool, default
+//! false): whether it also mirrors currents (image windings) for B, L and M.
+//!
+//! # Checks and their resolution
+//! Contacts are found on sampled surfaces: each electrode's surface is sampled on a grid of
+//! [`SURFACE_SAMPLES`] x [`SURFACE_SAMPLES`] points (generatrix x azimuth), each winding's
+//! centreline at [`WINDING_SAMPLES_PER_TURN`] points per turn; a contact thinner than the
+//! sampling step can go unseen (a geometric check, not a proof).
+
+use crate::design::{Ctx, Design, RawLength, RawNumber, is_valid_name, type_phrase};
+use crate::error::DesignError;
+use crate::winding::{Shape, local_frame};
+use nalgebra::{Point3, Unit, Vector3};
+use serde::Deserialize;
+use std::f64::consts::{PI, TAU};
+use toml::{Table, Value};
+
+/// Values of an electrode's `shape` key.
+pub const ELECTRODE_SHAPE_NAMES: &[&str] = &["torus", "sphere", "disc", "cylinder"];
+
+/// Surface samples per direction (generatrix and azimuth) of the contact checks.
+pub const SURFACE_SAMPLES: usize = 64;
+
+/// Centreline samples per turn of a winding in the contact checks.
+pub const WINDING_SAMPLES_PER_TURN: usize = 64;
+
+/// Shape of an electrode, with its sizes in metres.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ElectrodeShape {
+    /// Torus: a circle of radius `minor_radius_m` swept around the axis at `major_radius_m`.
+    Torus {
+        /// Centre (m).
+        centre_m: Point3<f64>,
+        /// Symmetry axis.
+        axis: Unit<Vector3<f64>>,
+        /// Distance from the axis to the tube's centre circle (m).
+        major_radius_m: f64,
+        /// Tube radius (m).
+        minor_radius_m: f64,
+    },
+    /// Sphere.
+    Sphere {
+        /// Centre (m).
+        centre_m: Point3<f64>,
+        /// Axis (only orients the generatrix; default z).
+        axis: Unit<Vector3<f64>>,
+        /// Radius (m).
+        radius_m: f64,
+    },
+    /// Flat disc of no thickness.
+    Disc {
+        /// Centre (m).
+        centre_m: Point3<f64>,
+        /// Normal.
+        axis: Unit<Vector3<f64>>,
+        /// Radius (m).
+        radius_m: f64,
+    },
+    /// Cylinder closed at both ends by flat discs.
+    Cylinder {
+        /// Centre of the base disc (m).
+        base_centre_m: Point3<f64>,
+        /// Axis: the cylinder extends from its base along it.
+        axis: Unit<Vector3<f64>>,
+        /// Radius (m).
+        radius_m: f64,
+        /// Length along the axis (m).
+        length_m: f64,
+    },
+}
+
+/// Which end of a winding.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum End {
+    /// The winding's start (t = 0).
+    Base,
+    /// The winding's end (t = 1).
+    Top,
+}
+
+/// A winding terminal an electrode is tied to.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Terminal {
+    /// Winding name.
+    pub winding: String,
+    /// Which end.
+    pub end: End,
+}
+
+/// One validated electrode.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Electrode {
+    /// Unique name (across windings and electrodes).
+    pub name: String,
+    /// The surface.
+    pub shape: ElectrodeShape,
+    /// The winding terminal it is tied to, if any.
+    pub connect: Option<Terminal>,
+}
+
+/// A grounded plane z = `z_m`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Ground {
+    /// Height of the plane (m).
+    pub z_m: f64,
+    /// Whether it also mirrors currents (image windings) for B, L and M.
+    pub conducting: bool,
+}
+
+/// A common symmetry axis of the electric model.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Axis {
+    /// A point of the axis (m): the secondary's origin, or the first electrode's centre.
+    pub origin_m: Point3<f64>,
+    /// Direction (the secondary's axis, or the first electrode's).
+    pub direction: Unit<Vector3<f64>>,
+}
+
+impl ElectrodeShape {
+    /// Centre (base centre for a cylinder) and axis.
+    pub fn origin_axis(&self) -> (Point3<f64>, Unit<Vector3<f64>>) {
+        match self {
+            ElectrodeShape::Torus { centre_m, axis, .. }
+            | ElectrodeShape::Sphere { centre_m, axis, .. }
+            | ElectrodeShape::Disc { centre_m, axis, .. } => (*centre_m, *axis),
+            ElectrodeShape::Cylinder {
+                base_centre_m,
+                axis,
+                ..
+            } => (*base_centre_m, *axis),
+        }
+    }
+
+    /// Signed distance (m) from `p` to the surface: negative inside a closed surface; a disc
+    /// has no inside, its distance is never negative.
+    pub fn signed_distance_m(&self, p: &Point3<f64>) -> f64 {
+        let (o, n) = self.origin_axis();
+        let r = p - o;
+        let zeta = r.dot(n.as_ref());
+        let rho = (r - n.as_ref() * zeta).norm();
+        match *self {
+            ElectrodeShape::Torus {
+                major_radius_m,
+                minor_radius_m,
+                ..
+            } => (rho - major_radius_m).hypot(zeta) - minor_radius_m,
+            ElectrodeShape::Sphere { radius_m, .. } => r.norm() - radius_m,
+            ElectrodeShape::Disc { radius_m, .. } => {
+                if rho <= radius_m {
+                    zeta.abs()
+                } else {
+                    (rho - radius_m).hypot(zeta)
+                }
+            }
+            ElectrodeShape::Cylinder {
+                radius_m, length_m, ..
+            } => {
+                let h = 0.5 * length_m;
+                let dx = rho - radius_m;
+                let dy = (zeta - h).abs() - h;
+                dx.max(dy).min(0.0) + dx.max(0.0).hypot(dy.max(0.0))
+            }
+        }
+    }
+
+    /// The generatrix at s in [0, 1] as (rho, zeta) in the electrode's own frame (m): distance
+    /// from the axis and height along it from the origin. Runs from the axis (or, for a
+    /// torus, the tube's inner equator) around the meridian section.
+    pub fn generatrix_at(&self, s: f64) -> (f64, f64) {
+        match *self {
+            ElectrodeShape::Torus {
+                major_radius_m,
+                minor_radius_m,
+                ..
+            } => {
+                let t = TAU * s;
+                (
+                    major_radius_m - minor_radius_m * t.cos(),
+                    -minor_radius_m * t.sin(),
+                )
+            }
+            ElectrodeShape::Sphere { radius_m, .. } => {
+                let t = PI * s;
+                (radius_m * t.sin(), -radius_m * t.cos())
+            }
+            ElectrodeShape::Disc { radius_m, .. } => (radius_m * s, 0.0),
+            ElectrodeShape::Cylinder {
+                radius_m, length_m, ..
+            } => {
+                // Base disc, side, top disc, in proportion to their lengths.
+                let total = 2.0 * radius_m + length_m;
+                let u = s * total;
+                if u <= radius_m {
+                    (u, 0.0)
+                } else if u <= radius_m + length_m {
+                    (radius_m, u - radius_m)
+                } else {
+                    (total - u, length_m)
+                }
+            }
+        }
+    }
+
+    /// Points (m) sampling the surface: [`SURFACE_SAMPLES`] along the generatrix times
+    /// [`SURFACE_SAMPLES`] in azimuth.
+    pub fn surface_samples(&self) -> Vec<Point3<f64>> {
+        let (o, n) = self.origin_axis();
+        let (x_hat, y_hat) = local_frame(&n);
+        let mut out = Vec::with_capacity(SURFACE_SAMPLES * SURFACE_SAMPLES);
+        for i in 0..=SURFACE_SAMPLES {
+            let (rho, zeta) = self.generatrix_at(i as f64 / SURFACE_SAMPLES as f64);
+            for j in 0..SURFACE_SAMPLES {
+                let phi = TAU * j as f64 / SURFACE_SAMPLES as f64;
+                out.push(o + n.as_ref() * zeta + (x_hat * phi.cos() + y_hat * phi.sin()) * rho);
+            }
+        }
+        out
+    }
+
+    /// Key that places the electrode, for messages.
+    fn placing_key(&self) -> &'static str {
+        "origin"
+    }
+}
+
+/// An electrode as written.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawElectrode {
+    origin: Option<[RawLength; 3]>,
+    axis: Option<[RawNumber; 3]>,
+    radius: Option<RawLength>,
+    major_radius: Option<RawLength>,
+    minor_radius: Option<RawLength>,
+    length: Option<RawLength>,
+    connect: Option<String>,
+}
+
+/// Keys of an electrode of each shape.
+fn electrode_keys(shape: &str) -> &'static [&'static str] {
+    match shape {
+        "torus" => &[
+            "name",
+            "shape",
+            "origin",
+            "axis",
+            "major_radius",
+            "minor_radius",
+            "connect",
+        ],
+        "sphere" => &["name", "shape", "origin", "axis", "radius", "connect"],
+        "disc" => &["name", "shape", "origin", "axis", "radius", "connect"],
+        _ => &[
+            "name", "shape", "origin", "axis", "radius", "length", "connect",
+        ],
+    }
+}
+
+/// Parse the `electrode` array of a design file (`number` counts from 1).
+pub(crate) fn parse_electrodes(value: Value, source: &str) -> Result<Vec<Electrode>, DesignError> {
+    let entries = match value {
+        Value::Array(entries) => entries,
+        other => {
+            return Err(DesignError::WrongType {
+                source_name: source.to_string(),
+                item: "top level".to_string(),
+                key: "electrode".to_string(),
+                reason: format!(
+                    "expected [[electrode]] tables (double brackets), got {}",
+                    type_phrase(&other)
+                ),
+            });
+        }
+    };
+    entries
+        .into_iter()
+        .enumerate()
+        .map(|(idx, entry)| {
+            let number = idx + 1;
+            match entry {
+                Value::Table(t) => parse_electrode(t, number, source),
+                other => Err(DesignError::WrongType {
+                    source_name: source.to_string(),
+                    item: format!("electrode #{number}"),
+                    key: "electrode".to_string(),
+                    reason: format!(
+                        "expected an [[electrode]] table, got {}",
+                        type_phrase(&other)
+                    ),
+                }),
+            }
+        })
+        .collect()
+}
+
+fn parse_electrode(
+    mut table: Table,
+    number: usize,
+    source: &str,
+) -> Result<Electrode, DesignError> {
+    let mut ctx = Ctx {
+        source,
+        item: format!("electrode #{number}"),
+    };
+    let name = match table.remove("name") {
+        None => format!("electrode-{number}"),
+        Some(Value::String(name)) if is_valid_name(&name) => {
+            ctx.item = format!("electrode '{name}'");
+            name
+        }
+        Some(Value::String(name)) => {
+            return Err(DesignError::BadName {
+                source_name: source.to_string(),
+                item: ctx.item,
+                name,
+            });
+        }
+        Some(other) => {
+            return Err(DesignError::WrongType {
+                source_name: source.to_string(),
+                item: ctx.item,
+                key: "name".to_string(),
+                reason: format!(
+                    "expected a string such as \"topload\", got {}",
+                    type_phrase(&other)
+                ),
+            });
+        }
+    };
+    let shape = match table.remove("shape") {
+        None => {
+            return Err(ctx.missing(
+                "shape",
+                &format!("give shape = one of {}", ELECTRODE_SHAPE_NAMES.join(", ")),
+            ));
+        }
+        Some(Value::String(s)) if ELECTRODE_SHAPE_NAMES.contains(&s.as_str()) => s,
+        Some(Value::String(s)) => {
+            return Err(ctx.unknown_value("shape", &s, ELECTRODE_SHAPE_NAMES));
+        }
+        Some(other) => {
+            return Err(DesignError::WrongType {
+                source_name: source.to_string(),
+                item: ctx.item,
+                key: "shape".to_string(),
+                reason: format!(
+                    "expected one of the strings {}, got {}",
+                    ELECTRODE_SHAPE_NAMES.join(", "),
+                    type_phrase(&other)
+                ),
+            });
+        }
+    };
+    let allowed = electrode_keys(&shape);
+    if let Some(key) = table.keys().find(|k| !allowed.contains(&k.as_str())) {
+        return Err(DesignError::UnknownKey {
+            source_name: source.to_string(),
+            item: ctx.item,
+            key: key.clone(),
+            shape: shape.clone(),
+            allowed: allowed.join(", "),
+        });
+    }
+    let raw: RawElectrode =
+        serde_path_to_error::deserialize(table).map_err(|err| DesignError::WrongType {
+            source_name: source.to_string(),
+            item: ctx.item.clone(),
+            key: err.path().to_string(),
+            reason: err.inner().message().to_string(),
+        })?;
+    let origin = raw.origin.as_ref().ok_or_else(|| {
+        ctx.missing(
+            "origin",
+            "give the centre (the base centre for a cylinder) as origin = [x, y, z] (lengths)",
+        )
+    })?;
+    let origin_m = ctx.point("origin", origin)?;
+    let axis = if shape == "sphere" && raw.axis.is_none() {
+        Vector3::z_axis()
+    } else {
+        ctx.axis(&raw.axis)?
+    };
+    let shape = match shape.as_str() {
+        "torus" => {
+            let major_radius_m = ctx.required_size(
+                "major_radius",
+                &raw.major_radius,
+                "give the distance from the axis to the tube centre, e.g. major_radius = \"30 cm\"",
+            )?;
+            let minor_radius_m = ctx.required_size(
+                "minor_radius",
+                &raw.minor_radius,
+                "give the tube radius, e.g. minor_radius = \"8 cm\"",
+            )?;
+            if minor_radius_m >= major_radius_m {
+                return Err(DesignError::RadiiOrder {
+                    source_name: source.to_string(),
+                    item: ctx.item,
+                    inner_radius_m: minor_radius_m,
+                    outer_radius_m: major_radius_m,
+                });
+            }
+            ElectrodeShape::Torus {
+                centre_m: origin_m,
+                axis,
+                major_radius_m,
+                minor_radius_m,
+            }
+        }
+        "sphere" => ElectrodeShape::Sphere {
+            centre_m: origin_m,
+            axis,
+            radius_m: ctx.required_size(
+                "radius",
+                &raw.radius,
+                "give the radius, e.g. radius = \"10 cm\"",
+            )?,
+        },
+        "disc" => ElectrodeShape::Disc {
+            centre_m: origin_m,
+            axis,
+            radius_m: ctx.required_size(
+                "radius",
+                &raw.radius,
+                "give the radius, e.g. radius = \"10 cm\"",
+            )?,
+        },
+        _ => ElectrodeShape::Cylinder {
+            base_centre_m: origin_m,
+            axis,
+            radius_m: ctx.required_size(
+                "radius",
+                &raw.radius,
+                "give the radius, e.g. radius = \"10 cm\"",
+            )?,
+            length_m: ctx.required_size(
+                "length",
+                &raw.length,
+                "give the length along the axis, e.g. length = \"20 cm\"",
+            )?,
+        },
+    };
+    let connect = match raw.connect {
+        None => None,
+        Some(text) => {
+            let bad = || DesignError::BadTerminal {
+                source_name: source.to_string(),
+                item: ctx.item.clone(),
+                value: text.clone(),
+            };
+            let (winding, end) = text.rsplit_once(':').ok_or_else(bad)?;
+            let end = match end {
+                "top" => End::Top,
+                "base" => End::Base,
+                _ => return Err(bad()),
+            };
+            if !is_valid_name(winding) {
+                return Err(bad());
+            }
+            Some(Terminal {
+                winding: winding.to_string(),
+                end,
+            })
+        }
+    };
+    Ok(Electrode {
+        name,
+        shape,
+        connect,
+    })
+}
+
+/// Parse the `[ground]` table.
+pub(crate) fn parse_ground(value: Value, source: &str) -> Result<Ground, DesignError> {
+    let ctx = Ctx {
+        source,
+        item: "ground".to_string(),
+    };
+    let Value::Table(table) = value else {
+        return Err(DesignError::WrongType {
+            source_name: source.to_string(),
+            item: "top level".to_string(),
+            key: "ground".to_string(),
+            reason: format!("expected a [ground] table, got {}", type_phrase(&value)),
+        });
+    };
+    #[derive(Deserialize)]
+    #[serde(deny_unknown_fields)]
+    struct RawGround {
+        z: Option<RawLength>,
+        conducting: Option<bool>,
+    }
+    if let Some(key) = table
+        .keys()
+        .find(|k| !["z", "conducting"].contains(&k.as_str()))
+    {
+        return Err(DesignError::UnknownKey {
+            source_name: source.to_string(),
+            item: ctx.item,
+            key: key.clone(),
+            shape: "ground plane".to_string(),
+            allowed: "z, conducting".to_string(),
+        });
+    }
+    let raw: RawGround =
+        serde_path_to_error::deserialize(table).map_err(|err| DesignError::WrongType {
+            source_name: source.to_string(),
+            item: ctx.item.clone(),
+            key: err.path().to_string(),
+            reason: err.inner().message().to_string(),
+        })?;
+    let z = raw.z.as_ref().ok_or_else(|| {
+        ctx.missing(
+            "z",
+            "give the height of the grounded plane, e.g. z = 0.0 (length)",
+        )
+    })?;
+    Ok(Ground {
+        z_m: ctx.coordinate("z", z)?,
+        conducting: raw.conducting.unwrap_or(false),
+    })
+}
+
+/// Electrode-winding, electrode-electrode and ground-plane checks of a parsed design.
+pub(crate) fn check_electrodes(design: &Design, source: &str) -> Result<(), DesignError> {
+    let item = |e: &Electrode| format!("electrode '{}'", e.name);
+    for (idx, e) in design.electrodes.iter().enumerate() {
+        if let Some(t) = &e.connect {
+            if !design.windings.iter().any(|w| w.name == t.winding) {
+                return Err(DesignError::UnknownConductor {
+                    source_name: source.to_string(),
+                    item: item(e),
+                    key: "connect".into(),
+                    name: t.winding.as_str().into(),
+                    wanted: "a winding",
+                    known: names(design.windings.iter().map(|w| w.name.as_str())).into(),
+                });
+            }
+        }
+        let samples = e.shape.surface_samples();
+        // Windings: every centreline sample must clear the surface by the wire radius.
+        for w in &design.windings {
+            let n = winding_samples(w);
+            for k in 0..=n {
+                let p = w.shape.point_at(k as f64 / n as f64);
+                if e.shape.signed_distance_m(&p) <= w.wire_radius_m() {
+                    return Err(DesignError::ElectrodeIntersects {
+                        source_name: source.to_string(),
+                        item: item(e),
+                        key: e.shape.placing_key(),
+                        other: format!("the wire of winding '{}'", w.name),
+                        near_m: p.coords.into(),
+                    });
+                }
+            }
+        }
+        // Earlier electrodes: no sample of one inside or on the other, both ways.
+        for other in &design.electrodes[..idx] {
+            let hit = samples
+                .iter()
+                .copied()
+                .find(|p| other.shape.signed_distance_m(p) <= 0.0)
+                .or_else(|| {
+                    other
+                        .shape
+                        .surface_samples()
+                        .into_iter()
+                        .find(|p| e.shape.signed_distance_m(p) <= 0.0)
+                });
+            if let Some(p) = hit {
+                return Err(DesignError::ElectrodeIntersects {
+                    source_name: source.to_string(),
+                    item: item(e),
+                    key: e.shape.placing_key(),
+                    other: item(other),
+                    near_m: p.coords.into(),
+                });
+            }
+        }
+        if let Some(g) = design.ground {
+            let lowest = samples.iter().map(|p| p.z).fold(f64::INFINITY, f64::min);
+            if lowest <= g.z_m {
+                return Err(DesignError::BelowGround {
+                    source_name: source.to_string(),
+                    item: item(e),
+                    key: e.shape.placing_key(),
+                    lowest_z_m: lowest,
+                    ground_z_m: g.z_m,
+                });
+            }
+        }
+    }
+    if let Some(g) = design.ground {
+        for w in &design.windings {
+            let n = winding_samples(w);
+            let lowest = (0..=n)
+                .map(|k| w.shape.point_at(k as f64 / n as f64).z - w.wire_radius_m())
+                .fold(f64::INFINITY, f64::min);
+            if lowest <= g.z_m {
+                return Err(DesignError::BelowGround {
+                    source_name: source.to_string(),
+                    item: format!("winding '{}'", w.name),
+                    key: if matches!(w.shape, Shape::Polyline { .. }) {
+                        "points"
+                    } else {
+                        "origin"
+                    },
+                    lowest_z_m: lowest,
+                    ground_z_m: g.z_m,
+                });
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Centreline samples of a winding for the checks (a polyline: its vertices and midpoints).
+fn winding_samples(w: &crate::winding::Winding) -> usize {
+    match &w.shape {
+        Shape::Polyline { points_m, .. } => 2 * points_m.len(),
+        Shape::Ring { .. } => WINDING_SAMPLES_PER_TURN,
+        shape => {
+            let turns = shape.turns().unwrap_or(1.0);
+            ((turns * WINDING_SAMPLES_PER_TURN as f64).ceil() as usize).clamp(8, 4_000_000)
+        }
+    }
+}
+
+pub(crate) fn names<'a>(it: impl Iterator<Item = &'a str>) -> String {
+    let v: Vec<&str> = it.collect();
+    if v.is_empty() {
+        "(none)".to_string()
+    } else {
+        v.join(", ")
+    }
+}
+
+/// A conductor of the electric model: its name for messages, its centre, its axis (None for a
+/// sphere).
+type Member = (String, Point3<f64>, Option<Unit<Vector3<f64>>>);
+
+/// Tolerance (relative to the design's size) of the axis checks: positions and directions that
+/// differ by less come from rounding, not from placement.
+const AXIS_TOL: f64 = 1e-9;
+
+/// The common axis of the electric model: all electrodes and the secondary winding (role =
+/// "secondary") on one axis, perpendicular to the ground plane if there is one.
+///
+/// The axis is the secondary's (origin and direction), or the first electrode's when there is
+/// no secondary. The error names the first conductor off that axis and says by how much, or
+/// the conductor whose axis is not vertical when a ground plane is present. `source` labels
+/// messages (usually the path).
+pub fn check_axisymmetric(design: &Design, source: &str) -> Result<Axis, DesignError> {
+    let off = |item: String, key: &'static str, reason: String| DesignError::NotAxisymmetric {
+        source_name: source.to_string(),
+        item,
+        key,
+        reason,
+    };
+    let mut members: Vec<Member> = Vec::new();
+    for w in design
+        .windings
+        .iter()
+        .filter(|w| w.role == crate::winding::Role::Secondary)
+    {
+        let Some((o, n)) = w.shape.origin_axis() else {
+            return Err(off(
+                format!("winding '{}'", w.name),
+                "points",
+                "a polyline secondary has no axis; the electric model needs a helix".to_string(),
+            ));
+        };
+        members.push((format!("winding '{}'", w.name), o, Some(n)));
+    }
+    for e in &design.electrodes {
+        let (o, n) = e.shape.origin_axis();
+        let dir = match e.shape {
+            ElectrodeShape::Sphere { .. } => None,
+            _ => Some(n),
+        };
+        members.push((format!("electrode '{}'", e.name), o, dir));
+    }
+    let Some((first_item, origin, first_dir)) = members.first().cloned() else {
+        return Err(DesignError::MissingKey {
+            source_name: source.to_string(),
+            item: "top level".to_string(),
+            key: "electrode".to_string(),
+            hint: "the electric model needs a winding with role = \"secondary\" or at least one \
+                   [[electrode]]"
+                .to_string(),
+        });
+    };
+    // A sphere alone fixes no direction: take the plane's normal, or z.
+    let direction = first_dir
+        .or_else(|| members.iter().find_map(|m| m.2))
+        .unwrap_or_else(Vector3::z_axis);
+    let scale = members
+        .iter()
+        .map(|m| (m.1 - origin).norm())
+        .fold(1.0_f64, f64::max)
+        .max(origin.coords.amax());
+    if let Some(g) = design.ground {
+        let tilt = direction.cross(&Vector3::z()).norm();
+        if tilt > AXIS_TOL {
+            let item = members
+                .iter()
+                .find(|m| m.2.is_some())
+                .map_or(first_item.clone(), |m| m.0.clone());
+            return Err(off(
+                item,
+                "axis",
+                format!(
+                    "with a ground plane (z = {} m) the common axis must be vertical, [0, 0, 1]; \
+                     this axis is tilted by {:.3e} rad",
+                    g.z_m,
+                    tilt.asin()
+                ),
+            ));
+        }
+    }
+    for (item, o, dir) in &members {
+        let r = o - origin;
+        let dist = (r - direction.as_ref() * r.dot(direction.as_ref())).norm();
+        if dist > AXIS_TOL * scale {
+            return Err(off(
+                item.clone(),
+                "origin",
+                format!(
+                    "its centre is {} m off the common axis through [{}, {}, {}] m set by {first_item}",
+                    crate::error::sig(dist),
+                    origin.x,
+                    origin.y,
+                    origin.z
+                ),
+            ));
+        }
+        if let Some(d) = dir {
+            let tilt = d.cross(&direction).norm();
+            if tilt > AXIS_TOL {
+                return Err(off(
+                    item.clone(),
+                    "axis",
+                    format!(
+                        "its axis is tilted by {:.3e} rad from the common axis set by {first_item}",
+                        tilt.asin()
+                    ),
+                ));
+            }
+        }
+    }
+    Ok(Axis {
+        origin_m: origin,
+        direction,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::design::parse_design;
+    use crate::drive::{DriveNeeds, PotentialSpec, image_windings, validate_drive};
+    use crate::electrode::{ElectrodeShape, End, check_axisymmetric};
+    use crate::error::DesignError;
+    use crate::{Model, Shape};
+
+    const FILE: &str = "design.toml";
+
+    /// A secondary from z = 0.1 to 0.5 m, radius 5 cm, with a torus on its top and a ground.
+    const BASE: &str = r#"
+[[winding]]
+name = "secondary"
+shape = "helix"
+role = "secondary"
+origin = [0.0, 0.0, 0.10]
+axis = [0.0, 0.0, 1.0]
+radius = 0.05
+length = 0.40
+turns = 800
+wire_diameter = 0.0004
+
+[[electrode]]
+name = "topload"
+shape = "torus"
+origin = [0.0, 0.0, 0.60]
+axis = [0.0, 0.0, 1.0]
+major_radius = "15 cm"
+minor_radius = "5 cm"
+connect = "secondary:top"
+
+[ground]
+z = 0.0
+conducting = true
+
+[drive]
+frequency = 250e3
+currents = { secondary = 1.2 }
+potentials = { secondary = [0.0, 150e3] }
+"#;
+
+    fn err(text: &str) -> String {
+        match parse_design(text, FILE) {
+            Ok(d) => panic!("expected an error, got {d:?}"),
+            Err(e) => e.to_string(),
+        }
+    }
+
+    fn assert_has(msg: &str, parts: &[&str]) {
+        assert!(msg.starts_with("design.toml: "), "{msg}");
+        for p in parts {
+            assert!(msg.contains(p), "message lacks {p:?}: {msg}");
+        }
+    }
+
+    #[test]
+    fn full_design_parses() {
+        let d = parse_design(BASE, FILE).unwrap();
+        assert_eq!(d.electrodes.len(), 1);
+        let e = &d.electrodes[0];
+        assert_eq!(e.connect.as_ref().unwrap().end, End::Top);
+        assert!(
+            matches!(e.shape, ElectrodeShape::Torus { major_radius_m, .. } if (major_radius_m - 0.15).abs() < 1e-15)
+        );
+        assert_eq!(d.ground.unwrap().z_m, 0.0);
+        assert!(d.ground.unwrap().conducting);
+        assert_eq!(d.drive.frequency_hz, Some(250e3));
+        assert_eq!(d.drive.current_a("secondary"), 1.2);
+        assert_eq!(
+            d.drive.potential("secondary"),
+            Some(PotentialSpec::Ends {
+                base_v: 0.0,
+                top_v: 150e3
+            })
+        );
+        let axis = check_axisymmetric(&d, FILE).unwrap();
+        assert!((axis.direction.z - 1.0).abs() < 1e-15);
+        validate_drive(
+            &d,
+            DriveNeeds {
+                currents: true,
+                potentials: true,
+                frequency: true,
+            },
+            "x",
+            FILE,
+        )
+        .unwrap();
+    }
+
+    #[test]
+    fn electrodes_alone_are_a_design() {
+        let d = parse_design(
+            "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 1.0]\nradius = 0.1\n",
+            FILE,
+        )
+        .unwrap();
+        assert!(d.windings.is_empty());
+        assert!(matches!(
+            d.electrodes[0].shape,
+            ElectrodeShape::Sphere { .. }
+        ));
+    }
+
+    #[test]
+    fn connected_electrode_with_a_potential() {
+        let text = BASE.replace(
+            "potentials = { secondary = [0.0, 150e3] }",
+            "potentials = { topload = 1e3 }",
+        );
+        assert_has(
+            &err(&text),
+            &["potentials.topload", "connected to secondary:top"],
+        );
+    }
+
+    #[test]
+    fn unknown_names() {
+        let text = BASE.replace(
+            "currents = { secondary = 1.2 }",
+            "currents = { secondry = 1.2 }",
+        );
+        assert_has(
+            &err(&text),
+            &[
+                "drive",
+                "currents.secondry",
+                "'secondry' is not a winding",
+                "secondary",
+            ],
+        );
+        let text = BASE.replace("secondary:top", "primary:top");
+        assert_has(
+            &err(&text),
+            &[
+                "electrode 'topload'",
+                "connect",
+                "'primary' is not a winding",
+            ],
+        );
+        let text = BASE.replace("secondary:top", "secondary:middle");
+        assert_has(
+            &err(&text),
+            &["electrode 'topload'", "connect", "not a terminal"],
+        );
+        let text = BASE.replace("potentials = { secondary", "potentials = { nowhere");
+        assert_has(
+            &err(&text),
+            &["potentials.nowhere", "not an electrode or a winding"],
+        );
+    }
+
+    #[test]
+    fn name_shared_by_a_winding_and_an_electrode() {
+        let text = BASE.replace("name = \"topload\"", "name = \"secondary\"");
+        // The connect line no longer matters: the duplicate name is reported first.
+        assert_has(
+            &err(&text),
+            &["electrode 'secondary'", "already used by winding #1"],
+        );
+    }
+
+    #[test]
+    fn electrode_intersecting_a_winding() {
+        let text = BASE
+            .replace("origin = [0.0, 0.0, 0.60]", "origin = [0.0, 0.0, 0.45]")
+            .replace("major_radius = \"15 cm\"", "major_radius = \"6 cm\"");
+        assert_has(
+            &err(&text),
+            &[
+                "electrode 'topload'",
+                "origin",
+                "the wire of winding 'secondary'",
+            ],
+        );
+    }
+
+    #[test]
+    fn electrodes_intersecting_each_other() {
+        let text = format!(
+            "{BASE}\n[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.70]\nradius = 0.14\n"
+        );
+        assert_has(
+            &err(&text),
+            &["electrode 'ball'", "touches or crosses electrode 'topload'"],
+        );
+    }
+
+    #[test]
+    fn electrode_through_the_ground_plane() {
+        let text = BASE.replace("z = 0.0\n", "z = 0.58\n");
+        let msg = err(&text);
+        // The winding is lower than the torus and is reported by the winding pass or the
+        // electrode pass; the electrode pass runs first.
+        assert_has(
+            &msg,
+            &[
+                "electrode 'topload'",
+                "at or below the ground plane z = 0.58 m",
+            ],
+        );
+        let text = BASE.replace("z = 0.0\n", "z = 0.2\n");
+        assert_has(
+            &err(&text),
+            &["winding 'secondary'", "ground plane z = 0.2 m"],
+        );
+    }
+
+    #[test]
+    fn missing_and_zero_drive() {
+        let text = BASE.replace(
+            "currents = { secondary = 1.2 }",
+            "currents = { secondary = 0.0 }",
+        );
+        let d = parse_design(&text, FILE).unwrap();
+        let e = validate_drive(
+            &d,
+            DriveNeeds {
+                currents: true,
+                ..Default::default()
+            },
+            "the B field",
+            FILE,
+        )
+        .unwrap_err()
+        .to_string();
+        assert_has(&e, &["drive", "key 'currents'", "the B field", "all zero"]);
+        let text = BASE.replace("frequency = 250e3\n", "");
+        let d = parse_design(&text, FILE).unwrap();
+        let e = validate_drive(
+            &d,
+            DriveNeeds {
+                frequency: true,
+                ..Default::default()
+            },
+            "the validity check",
+            FILE,
+        )
+        .unwrap_err()
+        .to_string();
+        assert_has(&e, &["key 'frequency'", "needs the drive frequency"]);
+        let text = BASE.replace("potentials = { secondary = [0.0, 150e3] }\n", "");
+        let d = parse_design(&text, FILE).unwrap();
+        let e = validate_drive(
+            &d,
+            DriveNeeds {
+                potentials: true,
+                ..Default::default()
+            },
+            "the E field",
+            FILE,
+        )
+        .unwrap_err()
+        .to_string();
+        assert_has(&e, &["key 'potentials'", "missing"]);
+        assert_has(
+            &err(&BASE.replace("frequency = 250e3", "frequency = -1.0")),
+            &["drive", "frequency", "positive"],
+        );
+        assert_has(
+            &err(&BASE.replace("frequency = 250e3", "frequncy = 1.0")),
+            &["drive", "frequncy", "unknown key"],
+        );
+    }
+
+    #[test]
+    fn potential_shapes_must_match_the_conductor() {
+        let text = BASE.replace("[0.0, 150e3]", "150e3");
+        assert_has(&err(&text), &["potentials.secondary", "[base_V, top_V]"]);
+    }
+
+    #[test]
+    fn off_axis_conductor_is_named() {
+        let text = BASE.replace("origin = [0.0, 0.0, 0.60]", "origin = [0.01, 0.0, 0.60]");
+        let d = parse_design(&text, FILE).unwrap();
+        let e = check_axisymmetric(&d, FILE).unwrap_err();
+        assert!(matches!(e, DesignError::NotAxisymmetric { .. }));
+        assert_has(
+            &e.to_string(),
+            &[
+                "electrode 'topload'",
+                "origin",
+                "0.01 m off the common axis",
+            ],
+        );
+    }
+
+    #[test]
+    fn tilted_axis_over_a_ground_plane() {
+        let text = BASE.replace("axis = [0.0, 0.0, 1.0]", "axis = [0.0, 0.1, 1.0]");
+        let d = parse_design(&text, FILE).unwrap();
+        let e = check_axisymmetric(&d, FILE).unwrap_err().to_string();
+        assert_has(&e, &["winding 'secondary'", "axis", "must be vertical"]);
+    }
+
+    #[test]
+    fn bad_electrode_keys() {
+        assert_has(
+            &err(&BASE.replace("minor_radius = \"5 cm\"", "radius = 0.05")),
+            &["electrode 'topload'", "'radius'", "unknown key for a torus"],
+        );
+        assert_has(
+            &err(&BASE.replace("minor_radius = \"5 cm\"", "minor_radius = \"25 cm\"")),
+            &["electrode 'topload'"],
+        );
+        assert_has(
+            &err(&BASE.replace("shape = \"torus\"", "shape = \"cube\"")),
+            &["electrode 'topload'", "cube"],
+        );
+        assert_has(
+            &err(&BASE.replace("major_radius = \"15 cm\"\n", "")),
+            &["major_radius", "missing"],
+        );
+    }
+
+    #[test]
+    fn images_mirror_and_reverse() {
+        let d = parse_design(BASE, FILE).unwrap();
+        let g = d.ground.unwrap();
+        let img = image_windings(&d.windings, &g);
+        match &img[0].shape {
+            Shape::Helix { origin_m, axis, .. } => {
+                assert!((origin_m.z + 0.10).abs() < 1e-15);
+                assert!((axis.z + 1.0).abs() < 1e-15);
+            }
+            other => panic!("{other:?}"),
+        }
+        let mut w = d.windings[0].clone();
+        w.model = Model::Filament;
+        let img = image_windings(&[w.clone()], &g);
+        let Shape::Polyline { points_m, .. } = &img[0].shape else {
+            panic!()
+        };
+        let end = w.shape.point_at(1.0);
+        assert!((points_m[0] - nalgebra::Point3::new(end.x, end.y, -end.z)).norm() < 1e-12);
+    }
+}

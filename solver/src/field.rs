@@ -1,0 +1,728 @@
+//! Quasi-static magnetic flux density B of a design's windings, batch over points.
+//!
+//! # Public API
+//! ```text
+//! pub enum Source { Ring(RingSource), Segment(SegmentSource), Sheet(SheetSource), RingStack(RingStack) }
+//! pub fn sources_from_design(design: &Design, source: &str) -> Result<Vec<Source>, DesignError>
+//!     // drive currents from [drive] currents (peak A); image windings added when
+//!     // [ground] conducting = true; Err when no winding carries current
+//! pub fn b_field(sources: &[Source], points_m: &[Point3<f64>], par: Par) -> Vec<Option<Vector3<f64>>>
+//!     // T, peak; None = the point lies inside a wire ("no answer")
+//! pub fn b_field_point(sources: &[Source], point_m: &Point3<f64>) -> Option<Vector3<f64>>
+//! pub fn image_warning(design: &Design) -> Option<String>
+//! pub fn inductance_matrix_with_images(design: &Design, par: Par) -> Result<Option<Vec<Vec<f64>>>, SolverError>
+//! ```
+//! Image windings themselves: `coilfield_geometry::image_windings(&windings, &ground)`; give
+//! them to `assembly` with the design's windings to include the plane in L and M.
+//!
+//! # Kernels
+//! - Ring ([`b_ring_point`]): the closed form in K and E (J. D. Jackson, *Classical
+//!   Electrodynamics*, 3rd ed. 1999, eqs. 5.37-5.41 give A_phi; the B components are in
+//!   W. R. Smythe, *Static and Dynamic Electricity*, ch. 7, equation number from memory),
+//!   rewritten as Bulirsch cel integrals that stay finite on the axis (derivation in the
+//!   function's doc).
+//! - Straight segment ([`b_segment_point`]): Biot-Savart in closed form.
+//! - Ideal solenoid current sheet ([`b_sheet_point`]): N. Derby, S. Olbert, "Cylindrical
+//!   magnets and ideal solenoids", Am. J. Phys. 78(3), 229-235, 2010, eqs. 11-12 (equation
+//!   numbers from memory), with Bulirsch's cel.
+//!
+//! # When a helix is a sheet
+//! A ring-model helix of uniform pitch p with at least [`SHEET_MIN_TURNS`] turns is kept both
+//! as its rings and as the equivalent sheet (n I = turns I / length). Points farther than
+//! [`SHEET_NEAR_PITCHES`] pitches from the sheet take the sheet: the ring sum is then the
+//! midpoint rule of the sheet's integral, whose error is O(p^2 / d^2) (Euler-Maclaurin), below
+//! 1e-5 relative at that distance (tested). Closer points sum the rings.
+//!
+//! # Limitations
+//! Quasi-static (the current is the same all along a winding, fields in phase with it); a
+//! point within a wire's radius of its centreline gets no answer (None).
+
+use crate::assembly::{WindingModel, inductance_report, mutual_inductance};
+use crate::constants::MU0;
+use crate::elliptic::cel_positive_p;
+use crate::error::SolverError;
+use crate::par::{Par, map_indexed};
+use coilfield_geometry::discretise::{filament_model, ring_model};
+use coilfield_geometry::{
+    Design, DesignError, DriveNeeds, Model, Winding, image_windings, validate_drive,
+};
+use nalgebra::{Point3, Unit, Vector3};
+use std::f64::consts::PI;
+
+/// Least turns of a ring stack for which the sheet equivalent is kept.
+pub const SHEET_MIN_TURNS: usize = 50;
+
+/// Distance from the sheet, in pitches, beyond which a ring stack answers with its sheet.
+pub const SHEET_NEAR_PITCHES: f64 = 20.0;
+
+/// A circular filament carrying a current.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RingSource {
+    /// Centre (m).
+    pub centre_m: Point3<f64>,
+    /// Axis; positive current circulates right-handed about it.
+    pub axis: Unit<Vector3<f64>>,
+    /// Radius (m).
+    pub radius_m: f64,
+    /// Current (A, peak).
+    pub current_a: f64,
+    /// Wire radius (m): closer points to the centreline get no answer.
+    pub wire_radius_m: f64,
+}
+
+/// A straight filament carrying a current from `start_m` to `end_m`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SegmentSource {
+    /// Start (m).
+    pub start_m: Point3<f64>,
+    /// End (m).
+    pub end_m: Point3<f64>,
+    /// Current (A, peak), flowing from start to end.
+    pub current_a: f64,
+    /// Wire radius (m).
+    pub wire_radius_m: f64,
+}
+
+/// An ideal finite solenoid: a cylindrical current sheet.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SheetSource {
+    /// Centre of the base circle (m).
+    pub base_centre_m: Point3<f64>,
+    /// Axis; the current circulates right-handed about it; the sheet extends along it.
+    pub axis: Unit<Vector3<f64>>,
+    /// Radius (m).
+    pub radius_m: f64,
+    /// Length (m).
+    pub length_m: f64,
+    /// Surface current density n I (A/m).
+    pub current_per_length_a_per_m: f64,
+}
+
+/// A uniform stack of coaxial rings with its equivalent sheet (see the module doc).
+#[derive(Debug, Clone, PartialEq)]
+pub struct RingStack {
+    /// The rings.
+    pub rings: Vec<RingSource>,
+    /// The equivalent sheet.
+    pub sheet: SheetSource,
+    /// Points farther than this from the sheet (m) take the sheet.
+    pub near_m: f64,
+}
+
+/// A source of B.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Source {
+    /// One ring.
+    Ring(RingSource),
+    /// One straight piece.
+    Segment(SegmentSource),
+    /// An ideal solenoid.
+    Sheet(SheetSource),
+    /// A helix as rings near it and as a sheet farther out.
+    RingStack(RingStack),
+}
+
+/// Cylindrical coordinates (rho, z) of `p` about an axis through `o`, and the radial unit
+/// vector (zero on the axis).
+#[inline]
+fn cylindrical(
+    o: &Point3<f64>,
+    n: &Unit<Vector3<f64>>,
+    p: &Point3<f64>,
+) -> (f64, f64, Vector3<f64>) {
+    let r = p - o;
+    let z = r.dot(n.as_ref());
+    let perp = r - n.as_ref() * z;
+    let rho = perp.norm();
+    let rho_hat = if rho > 0.0 {
+        perp / rho
+    } else {
+        Vector3::zeros()
+    };
+    (rho, z, rho_hat)
+}
+
+/// (B_rho, B_z) (T) of a ring of radius `a_m` carrying `current_a`, at distance `rho_m` from
+/// its axis and `z_m` from its plane.
+///
+/// With D = (a + rho)^2 + z^2, d = (a - rho)^2 + z^2 and kc = sqrt(d / D) (from the geometry),
+/// the classical forms B_z = mu0 I / (2 pi sqrt D) [K + (a^2 - rho^2 - z^2)/d E] and
+/// B_rho = mu0 I z / (2 pi rho sqrt D) [-K + (a^2 + rho^2 + z^2)/d E] (Smythe, ch. 7; Jackson
+/// sec. 5.5) become, with K = cel(kc, 1, 1, 1) and E = cel(kc, 1, 1, kc^2) and cel linear in
+/// its last two arguments,
+/// B_z = mu0 I / (2 pi sqrt D) cel(kc, 1, 2a(a - rho)/d, 2a(a + rho)/D) and
+/// B_rho = mu0 I z / (2 pi sqrt D) cel(kc, 1, 2a/d, -2a/D): the 1/rho has cancelled, so the
+/// axis needs no special case and gives exactly B_z = mu0 I a^2 / (2 (a^2 + z^2)^{3/2}),
+/// B_rho = 0 (cel(1, 1, x, y) = pi (x + y)/4). Infinite on the wire (d = 0).
+#[inline]
+pub fn b_ring_point(a_m: f64, current_a: f64, rho_m: f64, z_m: f64) -> (f64, f64) {
+    let big_d = (a_m + rho_m) * (a_m + rho_m) + z_m * z_m;
+    let small_d = (a_m - rho_m) * (a_m - rho_m) + z_m * z_m;
+    let kc = (small_d / big_d).sqrt();
+    let pre = MU0 * current_a / (2.0 * PI * big_d.sqrt());
+    let bz = pre
+        * cel_positive_p(
+            kc,
+            1.0,
+            2.0 * a_m * (a_m - rho_m) / small_d,
+            2.0 * a_m * (a_m + rho_m) / big_d,
+        );
+    let brho = pre * z_m * cel_positive_p(kc, 1.0, 2.0 * a_m / small_d, -2.0 * a_m / big_d);
+    (brho, bz)
+}
+
+/// B (T) at `p` of a straight filament from `a` to `b` carrying `current_a`.
+///
+/// B = (mu0 I / 4 pi) (r1 x r2) (|r1| + |r2|) / (|r1| |r2| (|r1| |r2| + r1 . r2)),
+/// r1 = a - p, r2 = b - p: the integral of Biot-Savart's law along the segment in a form
+/// without angles (equivalent to J. D. Hanson, S. P. Hirshman, "Compact expressions for the
+/// Biot-Savart fields of a filamentary segment", Phys. Plasmas 9(10), 4410-4412, 2002, eq. 6;
+/// equation number from memory). Zero on the segment's line outside it; infinite on it.
+#[inline]
+pub fn b_segment_point(
+    a: &Point3<f64>,
+    b: &Point3<f64>,
+    current_a: f64,
+    p: &Point3<f64>,
+) -> Vector3<f64> {
+    let r1 = a - p;
+    let r2 = b - p;
+    let l1 = r1.norm();
+    let l2 = r2.norm();
+    let denom = l1 * l2 * (l1 * l2 + r1.dot(&r2));
+    if denom == 0.0 {
+        return Vector3::zeros();
+    }
+    r1.cross(&r2) * (1e-7 * current_a * (l1 + l2) / denom)
+}
+
+/// (B_rho, B_z) (T) of an ideal solenoid of radius `a_m`, half-length `b_m`, surface current
+/// `ni_a_per_m`, at distance `rho_m` from the axis and `z_m` from its mid-plane.
+///
+/// Derby & Olbert 2010: with z_pm = z +- b, alpha_pm = a / sqrt(z_pm^2 + (rho + a)^2),
+/// beta_pm = z_pm / sqrt(z_pm^2 + (rho + a)^2), gamma = (a - rho)/(a + rho),
+/// k_pm = sqrt((z_pm^2 + (a - rho)^2) / (z_pm^2 + (a + rho)^2)) (a complementary modulus) and
+/// B0 = mu0 n I / pi:
+/// B_rho = B0 [alpha_+ P1(k_+) - alpha_- P1(k_-)], B_z = B0 a/(a + rho) [beta_+ P2(k_+) -
+/// beta_- P2(k_-)], P1(k) = cel(k, 1, 1, -1), P2(k) = cel(k, gamma^2, 1, gamma).
+/// Undefined on the sheet's cylinder (rho = a, gamma = 0); callers avoid it.
+#[inline]
+pub fn b_sheet_point(a_m: f64, b_m: f64, ni_a_per_m: f64, rho_m: f64, z_m: f64) -> (f64, f64) {
+    let b0 = MU0 * ni_a_per_m / PI;
+    let gamma = (a_m - rho_m) / (a_m + rho_m);
+    let term = |zz: f64| -> (f64, f64) {
+        let sum2 = zz * zz + (a_m + rho_m) * (a_m + rho_m);
+        let dif2 = zz * zz + (a_m - rho_m) * (a_m - rho_m);
+        let alpha = a_m / sum2.sqrt();
+        let k = (dif2 / sum2).sqrt();
+        (
+            alpha * cel_positive_p(k, 1.0, 1.0, -1.0),
+            zz / sum2.sqrt() * cel_positive_p(k, gamma * gamma, 1.0, gamma),
+        )
+    };
+    let (r_p, z_p) = term(z_m + b_m);
+    let (r_m, z_m2) = term(z_m - b_m);
+    (b0 * (r_p - r_m), b0 * a_m / (a_m + rho_m) * (z_p - z_m2))
+}
+
+fn ring_contribution(r: &RingSource, p: &Point3<f64>) -> Option<Vector3<f64>> {
+    let (rho, z, rho_hat) = cylindrical(&r.centre_m, &r.axis, p);
+    let d = (r.radius_m - rho).hypot(z);
+    if d <= r.wire_radius_m || d == 0.0 {
+        return None;
+    }
+    let (brho, bz) = b_ring_point(r.radius_m, r.current_a, rho, z);
+    Some(rho_hat * brho + r.axis.as_ref() * bz)
+}
+
+fn segment_contribution(s: &SegmentSource, p: &Point3<f64>) -> Option<Vector3<f64>> {
+    let ab = s.end_m - s.start_m;
+    let t = ((p - s.start_m).dot(&ab) / ab.norm_squared()).clamp(0.0, 1.0);
+    let dist = (s.start_m + ab * t - p).norm();
+    if dist <= s.wire_radius_m || dist == 0.0 {
+        return None;
+    }
+    Some(b_segment_point(&s.start_m, &s.end_m, s.current_a, p))
+}
+
+fn sheet_contribution(s: &SheetSource, p: &Point3<f64>) -> Option<Vector3<f64>> {
+    let (rho, z, rho_hat) = cylindrical(&s.base_centre_m, &s.axis, p);
+    if (rho - s.radius_m).abs() <= 1e-12 * s.radius_m && z >= 0.0 && z <= s.length_m {
+        return None;
+    }
+    // On the sheet's cylinder beyond its ends gamma = 0: step off by a relative 1e-9, whose
+    // effect on B is of that order.
+    let rho = if (rho - s.radius_m).abs() <= 1e-9 * s.radius_m {
+        s.radius_m * (1.0 + 1e-9)
+    } else {
+        rho
+    };
+    let half = 0.5 * s.length_m;
+    let (brho, bz) = b_sheet_point(
+        s.radius_m,
+        half,
+        s.current_per_length_a_per_m,
+        rho,
+        z - half,
+    );
+    Some(rho_hat * brho + s.axis.as_ref() * bz)
+}
+
+/// Distance (m) from `p` to a sheet's cylinder segment.
+fn distance_to_sheet(s: &SheetSource, p: &Point3<f64>) -> f64 {
+    let (rho, z, _) = cylindrical(&s.base_centre_m, &s.axis, p);
+    let dz = if z < 0.0 {
+        -z
+    } else if z > s.length_m {
+        z - s.length_m
+    } else {
+        0.0
+    };
+    (rho - s.radius_m).hypot(dz)
+}
+
+/// B (T) at one point from all sources; None when the point lies inside a wire.
+pub fn b_field_point(sources: &[Source], point_m: &Point3<f64>) -> Option<Vector3<f64>> {
+    let mut b = Vector3::zeros();
+    for s in sources {
+        b += match s {
+            Source::Ring(r) => ring_contribution(r, point_m)?,
+            Source::Segment(seg) => segment_contribution(seg, point_m)?,
+            Source::Sheet(sh) => sheet_contribution(sh, point_m)?,
+            Source::RingStack(stack) => {
+                if distance_to_sheet(&stack.sheet, point_m) > stack.near_m {
+                    sheet_contribution(&stack.sheet, point_m)?
+                } else {
+                    let mut sum = Vector3::zeros();
+                    for r in &stack.rings {
+                        sum += ring_contribution(r, point_m)?;
+                    }
+                    sum
+                }
+            }
+        };
+    }
+    Some(b)
+}
+
+/// B (T, peak of the drive) at each point; None where a point lies inside a wire.
+pub fn b_field(
+    sources: &[Source],
+    points_m: &[Point3<f64>],
+    par: Par,
+) -> Vec<Option<Vector3<f64>>> {
+    map_indexed(points_m.len(), par, |i| {
+        b_field_point(sources, &points_m[i])
+    })
+}
+
+/// Sources of one winding carrying `current_a`.
+pub fn sources_of_winding(winding: &Winding, current_a: f64) -> Vec<Source> {
+    let wire = winding.wire_radius_m();
+    let rings = match winding.model {
+        Model::Ring => ring_model(winding),
+        Model::Filament => None,
+    };
+    if let Some(model) = rings {
+        let ring_sources: Vec<RingSource> = model
+            .rings
+            .iter()
+            .map(|r| RingSource {
+                centre_m: r.centre_m,
+                axis: model.axis,
+                radius_m: r.radius_m,
+                current_a: current_a * r.weight,
+                wire_radius_m: wire,
+            })
+            .collect();
+        let whole = model.rings.iter().all(|r| r.weight == 1.0);
+        if let (Some(pitch), true, true) = (
+            model.uniform_pitch_m,
+            whole,
+            ring_sources.len() >= SHEET_MIN_TURNS,
+        ) {
+            let n = ring_sources.len() as f64;
+            let length = n * pitch;
+            let sheet = SheetSource {
+                base_centre_m: model.origin_m,
+                axis: model.axis,
+                radius_m: ring_sources[0].radius_m,
+                length_m: length,
+                current_per_length_a_per_m: n * current_a / length,
+            };
+            return vec![Source::RingStack(RingStack {
+                rings: ring_sources,
+                sheet,
+                near_m: SHEET_NEAR_PITCHES * pitch,
+            })];
+        }
+        return ring_sources.into_iter().map(Source::Ring).collect();
+    }
+    let f = filament_model(winding);
+    (0..f.n_segments())
+        .map(|k| {
+            let (a, b) = f.segment(k);
+            Source::Segment(SegmentSource {
+                start_m: a,
+                end_m: b,
+                current_a: current_a * f.weight,
+                wire_radius_m: wire,
+            })
+        })
+        .collect()
+}
+
+/// All sources of a design with its drive currents (`[drive] currents`, peak A), and the
+/// image windings when the ground plane is conducting. `source` labels messages.
+///
+/// Errors when no winding carries current ([`validate_drive`]).
+// The error is geometry's own type, returned once per design: its size costs nothing here.
+#[allow(clippy::result_large_err)]
+pub fn sources_from_design(design: &Design, source: &str) -> Result<Vec<Source>, DesignError> {
+    validate_drive(
+        design,
+        DriveNeeds {
+            currents: true,
+            ..Default::default()
+        },
+        "the magnetic field",
+        source,
+    )?;
+    let mut out = Vec::new();
+    for w in &design.windings {
+        let i = design.drive.current_a(&w.name);
+        if i != 0.0 {
+            out.extend(sources_of_winding(w, i));
+        }
+    }
+    if let Some(g) = design.ground.filter(|g| g.conducting) {
+        for (w, img) in design
+            .windings
+            .iter()
+            .zip(image_windings(&design.windings, &g))
+        {
+            let i = design.drive.current_a(&w.name);
+            if i != 0.0 {
+                out.extend(sources_of_winding(&img, i));
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// Inductance matrix (H, file order) with the image windings of a conducting ground plane:
+/// L'_ij = L_ij + M(winding i, image of winding j), the flux through winding i per ampere in
+/// winding j when the plane's induced currents (the images) flow too. Symmetric, since
+/// M(i, image j) = M(j, image i) by the mirror symmetry. None without a conducting plane.
+pub fn inductance_matrix_with_images(
+    design: &Design,
+    par: Par,
+) -> Result<Option<Vec<Vec<f64>>>, SolverError> {
+    let Some(g) = design.ground.filter(|g| g.conducting) else {
+        return Ok(None);
+    };
+    let report = inductance_report(design, par)?;
+    let models: Vec<WindingModel> = design.windings.iter().map(WindingModel::of).collect();
+    let images: Vec<WindingModel> = image_windings(&design.windings, &g)
+        .iter()
+        .map(WindingModel::of)
+        .collect();
+    let mut l = report.mutual_h;
+    for (i, mi) in models.iter().enumerate() {
+        for (j, mj) in images.iter().enumerate() {
+            l[i][j] += mutual_inductance(mi, mj, par)?.0;
+        }
+    }
+    Ok(Some(l))
+}
+
+/// The warning to print when B (and L, M) include image windings of a conducting plane.
+pub fn image_warning(design: &Design) -> Option<String> {
+    design.ground.filter(|g| g.conducting).map(|g| {
+        format!(
+            "the ground plane z = {} m is conducting: B includes image windings mirrored in it \
+             (a perfect conductor, normal B = 0 on the plane)",
+            g.z_m
+        )
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::mutual::{Circle, vector_potential_ring_point};
+
+    fn rel(a: f64, b: f64) -> f64 {
+        (a - b).abs() / b.abs().max(1e-300)
+    }
+
+    #[test]
+    fn ring_on_axis_is_exact() {
+        for &z in &[0.0, 0.3, 1.0, 5.0, -2.0] {
+            let (br, bz) = b_ring_point(1.0, 1.0, 0.0, z);
+            let want = MU0 / (2.0 * (1.0_f64 + z * z).powf(1.5));
+            assert!(rel(bz, want) < 1e-15, "z={z}: {bz} vs {want}");
+            assert_eq!(br, 0.0);
+        }
+        // Near the axis: no NaN, continuous.
+        let (br, bz) = b_ring_point(1.0, 1.0, 1e-12, 0.5);
+        assert!(br.is_finite() && bz.is_finite());
+        assert!(rel(bz, b_ring_point(1.0, 1.0, 0.0, 0.5).1) < 1e-12);
+    }
+
+    #[test]
+    fn ring_matches_check_values_section_7() {
+        // check-values.md s.7 (computed), regenerated in validation/fields_refs.py.
+        for &(rho, z, br, bz) in &[
+            (0.0, 0.0, 0.0, 6.28318530718e-7),
+            (0.0, 1.0, 0.0, 2.22144146908e-7),
+            (0.5, 0.5, 1.61689084076e-7, 4.34584893594e-7),
+            (2.0, 0.0, 0.0, -5.41731848613e-8),
+        ] {
+            let (gr, gz) = b_ring_point(1.0, 1.0, rho, z);
+            assert!(
+                (gr - br).abs() < 1e-11 * 1e-7 + 1e-11 * br.abs(),
+                "{rho},{z}: {gr}"
+            );
+            assert!(rel(gz, bz) < 1e-10, "{rho},{z}: {gz} vs {bz}");
+        }
+    }
+
+    #[test]
+    fn ring_is_the_curl_of_its_vector_potential() {
+        // Independent route: finite differences of the A_phi kernel of `mutual`.
+        let ring = Circle {
+            centre_m: Point3::origin(),
+            axis: Vector3::z_axis(),
+            radius_m: 0.7,
+        };
+        let h = 1e-5;
+        for &(x, z) in &[(0.3, 0.2), (1.1, -0.4), (0.69, 0.05)] {
+            let a = |x: f64, z: f64| vector_potential_ring_point(&ring, &Point3::new(x, 0.0, z)).y;
+            // B = curl A in cylindrical coordinates: B_rho = -dA/dz, B_z = (1/rho) d(rho A)/drho.
+            let brho = -(a(x, z + h) - a(x, z - h)) / (2.0 * h);
+            let bz = ((x + h) * a(x + h, z) - (x - h) * a(x - h, z)) / (2.0 * h * x);
+            let (gr, gz) = b_ring_point(0.7, 1.0, x, z);
+            assert!(rel(gr, brho) < 1e-6, "{gr} vs {brho}");
+            assert!(rel(gz, bz) < 1e-6, "{gz} vs {bz}");
+        }
+    }
+
+    #[test]
+    fn loop_and_sheet_match_the_mpmath_table() {
+        // validation/fields_b.csv (validation/fields_refs.py): Biot-Savart quadrature for the
+        // loop, the integral of loops over the length for the sheet.
+        let text = include_str!("../../validation/fields_b.csv");
+        let mut rows: Vec<(String, [f64; 5], String, f64, f64)> = Vec::new();
+        for line in text.lines().skip(1) {
+            let f: Vec<&str> = line.splitn(11, ',').collect();
+            let num = |i: usize| f[i].parse::<f64>().unwrap();
+            assert_eq!(f[9], "rel_to_magnitude");
+            rows.push((
+                f[0].to_string(),
+                [num(1), num(2), num(3), num(4), num(5)],
+                f[6].to_string(),
+                num(7),
+                num(8),
+            ));
+        }
+        assert!(rows.len() >= 20);
+        for (kind, x, quantity, reference, tol) in &rows {
+            let (br, bz) = if kind == "loop" {
+                b_ring_point(x[0], 1.0, x[3], x[4])
+            } else {
+                b_sheet_point(x[0], x[1], x[2], x[3], x[4])
+            };
+            let got = if quantity == "b_rho" { br } else { bz };
+            let magnitude = br.hypot(bz);
+            assert!(
+                (got - reference).abs() <= tol * magnitude,
+                "{kind} {x:?} {quantity}: {got} vs {reference}"
+            );
+        }
+    }
+
+    #[test]
+    fn helmholtz_pair_centre() {
+        // (8 / (5 sqrt 5)) mu0 N I / R (Helmholtz pair, textbook; e.g. Jackson problem 5.5).
+        let r = 0.2;
+        let mk = |z: f64| {
+            Source::Ring(RingSource {
+                centre_m: Point3::new(0.0, 0.0, z),
+                axis: Vector3::z_axis(),
+                radius_m: r,
+                current_a: 10.0 * 2.5,
+                wire_radius_m: 1e-3,
+            })
+        };
+        let b = b_field_point(&[mk(-r / 2.0), mk(r / 2.0)], &Point3::origin()).unwrap();
+        let want = 8.0 / (5.0 * 5.0_f64.sqrt()) * MU0 * 10.0 * 2.5 / r;
+        assert!(rel(b.z, want) < 1e-14, "{} vs {want}", b.z);
+    }
+
+    #[test]
+    fn sheet_matches_check_values_section_8() {
+        // check-values.md s.8: a = 1, length 2 (b = 1), n I = 1000 A/m.
+        let (br, bz) = b_sheet_point(1.0, 1.0, 1000.0, 0.0, 0.0);
+        assert_eq!(br, 0.0);
+        assert!(rel(bz, 8.88576587632e-4) < 1e-11, "{bz}");
+        let (br, bz) = b_sheet_point(1.0, 1.0, 1000.0, 0.5, 0.5);
+        assert!(rel(br, 8.62470791446e-5) < 1e-10, "{br}");
+        assert!(rel(bz, 8.49759136948e-4) < 1e-10, "{bz}");
+        let (_, bz) = b_sheet_point(1.0, 1.0, 1000.0, 2.0, 0.0);
+        assert!(rel(bz, -6.51600496907e-5) < 1e-10, "{bz}");
+    }
+
+    #[test]
+    fn sheet_on_axis_is_the_textbook_solenoid() {
+        // B_z = (mu0 n I / 2) [(z + b)/sqrt((z + b)^2 + a^2) - (z - b)/sqrt((z - b)^2 + a^2)].
+        for &z in &[0.0, 0.7, 1.0, 3.0] {
+            let (_, bz) = b_sheet_point(0.4, 1.0, 500.0, 0.0, z);
+            let f = |u: f64| u / (u * u + 0.16).sqrt();
+            let want = 0.5 * MU0 * 500.0 * (f(z + 1.0) - f(z - 1.0));
+            assert!(rel(bz, want) < 1e-14, "{bz} vs {want}");
+        }
+    }
+
+    #[test]
+    fn polygon_of_1024_segments_matches_the_ring() {
+        let n = 1024;
+        let r = 0.5;
+        let sources: Vec<Source> = (0..n)
+            .map(|k| {
+                let t0 = std::f64::consts::TAU * k as f64 / n as f64;
+                let t1 = std::f64::consts::TAU * (k + 1) as f64 / n as f64;
+                Source::Segment(SegmentSource {
+                    start_m: Point3::new(r * t0.cos(), r * t0.sin(), 0.0),
+                    end_m: Point3::new(r * t1.cos(), r * t1.sin(), 0.0),
+                    current_a: 1.0,
+                    wire_radius_m: 1e-3,
+                })
+            })
+            .collect();
+        let ring = [Source::Ring(RingSource {
+            centre_m: Point3::origin(),
+            axis: Vector3::z_axis(),
+            radius_m: r,
+            current_a: 1.0,
+            wire_radius_m: 1e-3,
+        })];
+        for p in [
+            Point3::new(0.0, 0.0, 0.0),
+            Point3::new(0.2, 0.1, 0.3),
+            Point3::new(1.0, -0.5, 0.2),
+            Point3::new(0.0, 0.9, 0.3),
+        ] {
+            // Away from the wire: the inscribed polygon differs from the circle by
+            // O((pi / n)^2) = 1e-5 at the wire's scale, less farther out.
+            let a = b_field_point(&sources, &p).unwrap();
+            let b = b_field_point(&ring, &p).unwrap();
+            assert!(
+                (a - b).norm() / b.norm() < 1e-5,
+                "{p}: {a} vs {b}: {}",
+                (a - b).norm() / b.norm()
+            );
+        }
+    }
+
+    #[test]
+    fn point_on_a_wire_has_no_answer() {
+        let ring = [Source::Ring(RingSource {
+            centre_m: Point3::origin(),
+            axis: Vector3::z_axis(),
+            radius_m: 0.5,
+            current_a: 1.0,
+            wire_radius_m: 1e-3,
+        })];
+        assert_eq!(b_field_point(&ring, &Point3::new(0.5, 0.0, 0.0)), None);
+        assert_eq!(b_field_point(&ring, &Point3::new(0.0, 0.5005, 0.0)), None);
+        assert!(b_field_point(&ring, &Point3::new(0.0, 0.502, 0.0)).is_some());
+    }
+
+    #[test]
+    fn stack_switches_to_the_sheet_smoothly() {
+        let text = "[[winding]]\nname = \"s\"\nshape = \"helix\"\nrole = \"secondary\"\norigin = [0.0, 0.0, 0.0]\naxis = [0.0, 0.0, 1.0]\nradius = 0.05\nlength = 0.2\nturns = 400\nwire_diameter = 0.0004\n";
+        let d = coilfield_geometry::parse_design(text, "t").unwrap();
+        let src = sources_of_winding(&d.windings[0], 1.0);
+        let Source::RingStack(stack) = &src[0] else {
+            panic!("expected a stack")
+        };
+        let rings: Vec<Source> = stack.rings.iter().copied().map(Source::Ring).collect();
+        for p in [
+            Point3::new(0.05 + stack.near_m * 1.01, 0.0, 0.1),
+            Point3::new(0.0, 0.0, 0.2 + stack.near_m * 1.01),
+            Point3::new(0.3, 0.2, 0.5),
+            Point3::new(0.0, 0.0, 0.1),
+        ] {
+            let a = b_field_point(&src, &p).unwrap();
+            let b = b_field_point(&rings, &p).unwrap();
+            assert!(
+                (a - b).norm() / b.norm() < 1e-5,
+                "{p}: {a} vs {b}: {}",
+                (a - b).norm() / b.norm()
+            );
+        }
+    }
+
+    #[test]
+    fn conducting_ground_cancels_the_normal_field_on_the_plane() {
+        let text = "[[winding]]\nname = \"loop\"\nshape = \"ring\"\norigin = [0.1, 0.0, 0.2]\naxis = [0.3, 0.0, 1.0]\nradius = 0.1\nwire_diameter = 0.001\n[[winding]]\nname = \"wire\"\nshape = \"polyline\"\npoints = [[0.0, 0.0, 0.1], [0.2, 0.1, 0.3]]\nwire_diameter = 0.001\n[ground]\nz = 0.0\nconducting = true\n[drive]\ncurrents = { loop = 2.0, wire = 1.0 }\n";
+        let d = coilfield_geometry::parse_design(text, "t").unwrap();
+        let sources = sources_from_design(&d, "t").unwrap();
+        assert!(image_warning(&d).unwrap().contains("image windings"));
+        for p in [
+            Point3::new(0.0, 0.0, 0.0),
+            Point3::new(0.3, -0.2, 0.0),
+            Point3::new(0.1, 0.05, 0.0),
+        ] {
+            let b = b_field_point(&sources, &p).unwrap();
+            assert!(b.z.abs() < 1e-12 * b.norm(), "{p}: {b}");
+            assert!(b.norm() > 0.0);
+        }
+    }
+
+    #[test]
+    fn image_of_a_ring_lowers_its_inductance_by_the_coaxial_mutual() {
+        // A ring at height h over a perfect conductor: L' = L - M(a, a, 2h) (Maxwell), the
+        // image circulating the other way.
+        let text = "[[winding]]\nname = \"loop\"\nshape = \"ring\"\norigin = [0.0, 0.0, 0.05]\naxis = [0.0, 0.0, 1.0]\nradius = 0.1\nwire_diameter = 0.001\n[ground]\nz = 0.0\nconducting = true\n";
+        let d = coilfield_geometry::parse_design(text, "t").unwrap();
+        let l = inductance_matrix_with_images(&d, Par::Seq)
+            .unwrap()
+            .unwrap();
+        let free = inductance_report(&d, Par::Seq).unwrap().mutual_h[0][0];
+        let m = crate::mutual::mutual_ring_ring_coaxial(0.1, 0.1, 0.1);
+        assert!(
+            ((l[0][0] - (free - m)) / free).abs() < 1e-9,
+            "{} vs {}",
+            l[0][0],
+            free - m
+        );
+    }
+
+    #[test]
+    fn missing_currents_are_an_error() {
+        let text = "[[winding]]\nname = \"loop\"\nshape = \"ring\"\norigin = [0.0, 0.0, 0.2]\naxis = [0.0, 0.0, 1.0]\nradius = 0.1\nwire_diameter = 0.001\n";
+        let d = coilfield_geometry::parse_design(text, "d.toml").unwrap();
+        let e = sources_from_design(&d, "d.toml").unwrap_err().to_string();
+        assert!(e.contains("d.toml: drive: key 'currents'"), "{e}");
+    }
+
+    #[test]
+    fn parallel_equals_sequential() {
+        let sources = [Source::Ring(RingSource {
+            centre_m: Point3::origin(),
+            axis: Vector3::z_axis(),
+            radius_m: 0.5,
+            current_a: 3.0,
+            wire_radius_m: 1e-3,
+        })];
+        let pts: Vec<Point3<f64>> = (0..500)
+            .map(|i| Point3::new(0.01 * i as f64, 0.1, 0.002 * i as f64))
+            .collect();
+        assert_eq!(
+            b_field(&sources, &pts, Par::Seq),
+            b_field(&sources, &pts, Par::Rayon)
+        );
+    }
+}

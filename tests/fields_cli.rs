@@ -1,0 +1,841 @@
+//! End-to-end tests of the field commands (`export`, `field`, `map`, `clearance`): VTK files read
+//! back with the real VTK library (validation/read_vtk.py), the bad-input contract (exit 2, the
+//! key named, nothing on stdout, no panic) and atomic replacement of outputs.
+
+mod common;
+
+use common::*;
+use serde_json::Value;
+use std::path::Path;
+use std::process::Command;
+
+/// A resonator with a torus on the secondary's top, a ground plane and a drive.
+const RESONATOR: &str = r#"
+[[winding]]
+name = "secondary"
+shape = "helix"
+role = "secondary"
+origin = [0.0, 0.0, 0.10]
+axis = [0.0, 0.0, 1.0]
+radius = "55 mm"
+length = "450 mm"
+turns = 900
+wire_diameter = "AWG 26"
+
+[[winding]]
+name = "primary"
+shape = "spiral"
+role = "primary"
+origin = [0.0, 0.0, 0.09]
+axis = [0.0, 0.0, 1.0]
+inner_radius = "80 mm"
+outer_radius = "140 mm"
+turns = 6
+wire_diameter = "4 mm"
+
+[[electrode]]
+name = "topload"
+shape = "torus"
+origin = [0.0, 0.0, 0.62]
+axis = [0.0, 0.0, 1.0]
+major_radius = "120 mm"
+minor_radius = "40 mm"
+connect = "secondary:top"
+
+[ground]
+z = 0.0
+
+[drive]
+frequency = 250e3
+currents = { primary = 40.0, secondary = 1.2 }
+potentials = { secondary = [0.0, 150e3] }
+"#;
+
+/// Read a VTK file with the real VTK library; the JSON of validation/read_vtk.py.
+fn read_vtk(path: &Path) -> Value {
+    let out = Command::new("python3")
+        .arg(root().join("validation/read_vtk.py"))
+        .arg(path)
+        .output()
+        .expect("run python3 (the tests need python3 with the vtk package: pip install vtk)");
+    assert!(
+        out.status.success(),
+        "read_vtk.py failed on {}: {}",
+        path.display(),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).expect("JSON from read_vtk.py")
+}
+
+/// Check the bad-input contract and return stderr.
+fn expect_bad(args: &[&str], parts: &[&str]) -> String {
+    let out = run(args);
+    let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
+    assert_eq!(
+        out.status.code(),
+        Some(2),
+        "args {args:?}, stderr:\n{stderr}"
+    );
+    assert!(!stderr.contains("panicked"), "panic:\n{stderr}");
+    assert!(stderr.starts_with("error: "), "stderr:\n{stderr}");
+    assert!(
+        out.stdout.is_empty(),
+        "stdout on bad input: {}",
+        String::from_utf8_lossy(&out.stdout)
+    );
+    for p in parts {
+        assert!(stderr.contains(p), "stderr lacks {p:?}:\n{stderr}");
+    }
+    stderr
+}
+
+#[test]
+fn export_writes_windings_electrodes_and_a_collection_that_vtk_reads() {
+    let dir = tempfile::tempdir().unwrap();
+    let design = design_file(dir.path(), "d.toml", RESONATOR);
+    let out_dir = dir.path().join("vtk");
+    let out = run(&[
+        "export",
+        design.to_str().unwrap(),
+        "--vtk",
+        out_dir.to_str().unwrap(),
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let j = read_vtk(&out_dir.join("design.pvd"));
+    let sets = j["collection"].as_array().unwrap();
+    let files: Vec<&str> = sets.iter().map(|s| s["file"].as_str().unwrap()).collect();
+    assert_eq!(
+        files,
+        [
+            "winding-secondary.vtp",
+            "winding-primary.vtp",
+            "electrode-topload.vtp"
+        ]
+    );
+
+    // The secondary: one polyline cell per turn, the current of the drive, and a first point
+    // at origin + r x_hat (the design file's convention), all as VTK reads them.
+    let sec = &sets[0];
+    assert_eq!(sec["class"], "vtkPolyData");
+    assert_eq!(sec["n_cells"], 900);
+    let turn = sec["cell_data"]["turn_index"]["values"].as_array().unwrap();
+    assert_eq!(turn[0].as_f64(), Some(0.0));
+    assert_eq!(turn[899].as_f64(), Some(899.0));
+    let current = &sec["point_data"]["current_peak_A"]["values"];
+    assert_eq!(current[0].as_f64(), Some(1.2));
+    let p0: Vec<f64> = sec["points"][0]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v.as_f64().unwrap())
+        .collect();
+    assert!((p0[0] - 0.055).abs() < 1e-12 && p0[1].abs() < 1e-12 && (p0[2] - 0.10).abs() < 1e-12);
+    // Every point of the helix lies on its cylinder, between its ends.
+    for p in sec["points"].as_array().unwrap() {
+        let (x, y, z) = (
+            p[0].as_f64().unwrap(),
+            p[1].as_f64().unwrap(),
+            p[2].as_f64().unwrap(),
+        );
+        assert!((x.hypot(y) - 0.055).abs() < 1e-12);
+        assert!((0.10 - 1e-12..=0.55 + 1e-12).contains(&z));
+    }
+    let pri = &sets[1];
+    assert_eq!(pri["n_cells"], 6);
+    assert_eq!(
+        pri["cell_data"]["current_peak_A"]["values"][5].as_f64(),
+        Some(40.0)
+    );
+
+    // The torus surface: every point at distance minor_radius from the tube's centre circle.
+    let torus = &sets[2];
+    assert!(torus["n_cells"].as_u64().unwrap() > 1000);
+    for p in torus["points"].as_array().unwrap() {
+        let (x, y, z) = (
+            p[0].as_f64().unwrap(),
+            p[1].as_f64().unwrap(),
+            p[2].as_f64().unwrap(),
+        );
+        let d = (x.hypot(y) - 0.12).hypot(z - 0.62);
+        assert!((d - 0.04).abs() < 1e-12, "{d}");
+    }
+    // Surface data: E_s = sigma / eps0 at every point, and its largest value is the peak
+    // surface field that `capacitance` reports (the mesh samples the panels, so within 1 %).
+    let eps0 = 8.854_187_812_8e-12;
+    let sigma = torus["point_data"]["sigma_C_per_m2"]["values"]
+        .as_array()
+        .unwrap();
+    let es = torus["point_data"]["E_surface_V_per_m"]["values"]
+        .as_array()
+        .unwrap();
+    let mut es_max = 0.0f64;
+    for (s, e) in sigma.iter().zip(es) {
+        assert!(rel(f(e), f(s).abs() / eps0) < 1e-9, "{s} {e}");
+        es_max = es_max.max(f(e));
+    }
+    let cap = field_json(&["capacitance", design.to_str().unwrap(), "--format", "json"]);
+    let peak = f(&cap["peak_surface_fields"][0]["field_v_per_m"]);
+    assert_eq!(cap["peak_surface_fields"][0]["name"], "topload");
+    assert!(rel(es_max, peak) < 0.01, "{es_max} vs {peak}");
+}
+
+#[test]
+fn capacitance_of_an_isolated_sphere_and_the_resonator_json() {
+    let dir = tempfile::tempdir().unwrap();
+    let sphere = "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 1.0]\nradius = 0.1\n";
+    let d = design_file(dir.path(), "s.toml", sphere);
+    let j = field_json(&["capacitance", d.to_str().unwrap(), "--format", "json"]);
+    // C = 4 pi eps0 a (closed form), to 0.1 %.
+    let exact = 4.0 * std::f64::consts::PI * 8.854_187_812_8e-12 * 0.1;
+    assert_eq!(j["conductors"][0]["name"], "ball");
+    let c = f(&j["conductors"][0]["capacitance_f"]);
+    assert!(rel(c, exact) < 1e-3, "{c} vs {exact}");
+    assert_eq!(f(&j["matrix_f"][0][0]), c);
+
+    let d = design_file(dir.path(), "r.toml", RESONATOR);
+    let out = dir.path().join("c.json");
+    let j = field_json(&[
+        "capacitance",
+        d.to_str().unwrap(),
+        "--format",
+        "json",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    let names: Vec<&str> = j["conductors"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c["name"].as_str().unwrap())
+        .collect();
+    assert_eq!(names, ["topload", "secondary"]);
+    let sec = &j["conductors"][1];
+    assert_eq!(sec["kind"], "secondary");
+    // Connecting the torus to the top adds capacitance.
+    assert!(f(&sec["with_connected_electrodes_f"]) > f(&sec["capacitance_f"]));
+    assert!(f(&sec["capacitance_f"]) > 1e-12 && f(&sec["capacitance_f"]) < 1e-10);
+    // The peak surface field lies on the torus.
+    let at = j["peak_surface_fields"][0]["at_m"].as_array().unwrap();
+    let (x, y, z) = (f(&at[0]), f(&at[1]), f(&at[2]));
+    assert!(((x.hypot(y) - 0.12).hypot(z - 0.62) - 0.04).abs() < 2e-3);
+    let saved: Value = serde_json::from_str(&std::fs::read_to_string(&out).unwrap()).unwrap();
+    assert_eq!(saved, j);
+}
+
+#[test]
+fn export_replaces_files_only_on_success() {
+    let dir = tempfile::tempdir().unwrap();
+    let out_dir = dir.path().join("vtk");
+    std::fs::create_dir(&out_dir).unwrap();
+    let old = out_dir.join("design.pvd");
+    std::fs::write(&old, "old contents").unwrap();
+    // An electrode through the secondary's wire is refused and nothing is written.
+    let bad = RESONATOR
+        .replace("major_radius = \"120 mm\"", "major_radius = \"55 mm\"")
+        .replace("origin = [0.0, 0.0, 0.62]", "origin = [0.0, 0.0, 0.30]");
+    let design = design_file(dir.path(), "bad.toml", &bad);
+    expect_bad(
+        &[
+            "export",
+            design.to_str().unwrap(),
+            "--vtk",
+            out_dir.to_str().unwrap(),
+        ],
+        &["topload"],
+    );
+    assert_eq!(std::fs::read_to_string(&old).unwrap(), "old contents");
+    assert_eq!(
+        std::fs::read_dir(&out_dir).unwrap().count(),
+        1,
+        "no stray files"
+    );
+    // A good run replaces it.
+    let good = design_file(dir.path(), "good.toml", RESONATOR);
+    let out = run(&[
+        "export",
+        good.to_str().unwrap(),
+        "--vtk",
+        out_dir.to_str().unwrap(),
+    ]);
+    assert!(out.status.success());
+    assert!(
+        std::fs::read_to_string(&old)
+            .unwrap()
+            .contains("Collection")
+    );
+    let leftovers: Vec<_> = std::fs::read_dir(&out_dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".tmp"))
+        .collect();
+    assert!(leftovers.is_empty(), "{leftovers:?}");
+}
+
+#[test]
+fn field_bad_points_name_the_option() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    expect_bad(&["field", d, "--at", "1,2"], &["--at", "3 comma-separated"]);
+    expect_bad(&["field", d, "--at", "1,2,abc"], &["--at", "abc"]);
+    expect_bad(&["field", d], &["--at", "--points"]);
+    // Inside the torus's tube: no field there, an error naming the option and the conductor.
+    expect_bad(
+        &["field", d, "--at", "0.12,0,0.62"],
+        &["--at 0.12,0,0.62", "inside", "topload"],
+    );
+    let csv = dir.path().join("p.csv");
+    std::fs::write(&csv, "x,y\n1,2\n").unwrap();
+    expect_bad(
+        &["field", d, "--points", csv.to_str().unwrap()],
+        &["--points", "header must be x,y,z"],
+    );
+    std::fs::write(&csv, "x,y,z\n1,2,3\n1,zz,3\n").unwrap();
+    expect_bad(
+        &["field", d, "--points", csv.to_str().unwrap()],
+        &["line 3", "column y"],
+    );
+}
+
+#[test]
+fn missing_or_zero_drive_names_the_key() {
+    let dir = tempfile::tempdir().unwrap();
+    let no_drive = RESONATOR.split("[drive]").next().unwrap().to_string();
+    let d = design_file(dir.path(), "nodrive.toml", &no_drive);
+    expect_bad(
+        &["field", d.to_str().unwrap(), "--at", "1,0,0.5"],
+        &["currents"],
+    );
+    let zero = RESONATOR
+        .replace(
+            "currents = { primary = 40.0, secondary = 1.2 }",
+            "currents = { primary = 0.0 }",
+        )
+        .replace(
+            "potentials = { secondary = [0.0, 150e3] }",
+            "potentials = { secondary = [0.0, 0.0] }",
+        );
+    let d = design_file(dir.path(), "zero.toml", &zero);
+    expect_bad(
+        &["field", d.to_str().unwrap(), "--at", "1,0,0.5"],
+        &["potentials", "all zero"],
+    );
+    let no_freq = RESONATOR.replace("frequency = 250e3\n", "");
+    let d = design_file(dir.path(), "nofreq.toml", &no_freq);
+    expect_bad(&["clearance", d.to_str().unwrap()], &["frequency"]);
+}
+
+#[test]
+fn map_refuses_bad_grids_with_the_size_and_the_limit() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    let vtr = dir.path().join("m.vtr");
+    let vtr = vtr.to_str().unwrap();
+    let e = expect_bad(
+        &[
+            "map",
+            d,
+            "--plane",
+            "xz",
+            "--extent",
+            "0,1,0,1",
+            "--resolution",
+            "5000,5000",
+            "--vtk",
+            vtr,
+        ],
+        &["--resolution", "25000000 points", "limit of 4000000 points"],
+    );
+    assert!(e.contains("MB"));
+    expect_bad(
+        &[
+            "map",
+            d,
+            "--box",
+            "0,1,0,1,0,1",
+            "--resolution",
+            "200,200,200",
+            "--vtk",
+            vtr,
+        ],
+        &["8000000 points"],
+    );
+    expect_bad(
+        &["map", d, "--resolution", "10,10", "--vtk", vtr],
+        &["--plane", "--box"],
+    );
+    expect_bad(
+        &[
+            "map",
+            d,
+            "--plane",
+            "xz",
+            "--extent",
+            "1,0,0,1",
+            "--resolution",
+            "10,10",
+            "--vtk",
+            vtr,
+        ],
+        &["--extent", "increase"],
+    );
+    expect_bad(
+        &[
+            "map",
+            d,
+            "--box",
+            "0,1,0,1,0,1",
+            "--resolution",
+            "4,4,4",
+            "--plot",
+            "p.png",
+        ],
+        &["--plot", "plane"],
+    );
+    expect_bad(
+        &[
+            "map",
+            d,
+            "--plane",
+            "xy",
+            "--extent",
+            "0,1,0,1",
+            "--resolution",
+            "4,4",
+            "--vtk",
+            "m.vti",
+        ],
+        &["--vtk", ".vtr"],
+    );
+    assert!(!Path::new(vtr).exists());
+    // An existing output survives bad input and is replaced by a good run.
+    std::fs::write(vtr, "old").unwrap();
+    expect_bad(
+        &[
+            "map",
+            d,
+            "--plane",
+            "xz",
+            "--extent",
+            "0,1,0,1",
+            "--resolution",
+            "5000,5000",
+            "--vtk",
+            vtr,
+        ],
+        &["--resolution"],
+    );
+    assert_eq!(std::fs::read_to_string(vtr).unwrap(), "old");
+    let out = run(&[
+        "map",
+        d,
+        "--plane",
+        "xz",
+        "--extent",
+        "0.3,1,0,1",
+        "--resolution",
+        "3,3",
+        "--vtk",
+        vtr,
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(
+        std::fs::read_to_string(vtr)
+            .unwrap()
+            .contains("RectilinearGrid")
+    );
+}
+
+#[test]
+fn clearance_refuses_bad_options() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    expect_bad(
+        &["clearance", d, "--distance", "1,-2"],
+        &["--distance", "negative"],
+    );
+    expect_bad(
+        &["clearance", d, "--threshold", "x,Q,1,rms"],
+        &["--threshold", "E or B"],
+    );
+    expect_bad(
+        &["clearance", d, "--long-gap-gradient", "0"],
+        &["--long-gap-gradient"],
+    );
+    // Without a secondary there is no axis for the rays.
+    let ball = "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 1.0]\nradius = 0.1\n\n[drive]\nfrequency = 1e6\npotentials = { ball = 1e4 }\n";
+    let b = design_file(dir.path(), "ball.toml", ball);
+    expect_bad(
+        &["clearance", b.to_str().unwrap()],
+        &["role = \"secondary\""],
+    );
+}
+
+/// A small ring loop as the secondary (it sets the axis), 1,000 A peak at 1 MHz: far from it
+/// the field is a magnetic dipole's.
+fn dipole_loop() -> String {
+    r#"
+[[winding]]
+name = "loop"
+shape = "ring"
+role = "secondary"
+origin = [0.0, 0.0, 1.0]
+axis = [0.0, 0.0, 1.0]
+radius = 0.01
+wire_diameter = 0.001
+
+[drive]
+frequency = 1e6
+currents = { loop = 1000.0 }
+"#
+    .to_string()
+}
+
+fn field_json(args: &[&str]) -> Value {
+    let out = run(args);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).expect("JSON")
+}
+
+fn f(v: &Value) -> f64 {
+    v.as_f64().unwrap_or(f64::NAN)
+}
+
+#[test]
+fn map_vtk_read_by_vtk_matches_field_json_at_the_same_points() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    let vtr = dir.path().join("m.vtr");
+    let svg = dir.path().join("m.svg");
+    let summary = field_json(&[
+        "map",
+        d,
+        "--plane",
+        "xz",
+        "--offset",
+        "0.02",
+        "--extent",
+        "-0.3,0.3,0.05,0.8",
+        "--resolution",
+        "7,5",
+        "--vtk",
+        vtr.to_str().unwrap(),
+        "--plot",
+        svg.to_str().unwrap(),
+        "--plot-quantity",
+        "b",
+    ]);
+    assert_eq!(summary["n_points"], 35);
+    let j = read_vtk(&vtr);
+    assert_eq!(j["class"], "vtkRectilinearGrid");
+    assert_eq!(j["dimensions"], serde_json::json!([7, 1, 5]));
+    for name in ["E_V_per_m", "E_mag_V_per_m", "B_T", "B_mag_T"] {
+        assert!(j["point_data"].get(name).is_some(), "no array {name}");
+    }
+    // The same points, as VTK reports them, through `field --points`; points without E in
+    // the grid (NaN, null here) must be inside the torus, and are left out since `field`
+    // refuses them.
+    let pts = j["points"].as_array().unwrap();
+    let em = j["point_data"]["E_mag_V_per_m"]["values"]
+        .as_array()
+        .unwrap();
+    let ev = j["point_data"]["E_V_per_m"]["values"].as_array().unwrap();
+    let bt = j["point_data"]["B_T"]["values"].as_array().unwrap();
+    let bm = j["point_data"]["B_mag_T"]["values"].as_array().unwrap();
+    let mut kept = Vec::new();
+    let mut text = String::from("x,y,z\n");
+    for (k, p) in pts.iter().enumerate() {
+        let (x, y, z) = (f(&p[0]), f(&p[1]), f(&p[2]));
+        let in_torus = (x.hypot(y) - 0.12).hypot(z - 0.62) < 0.04;
+        assert_eq!(em[k].is_null(), in_torus, "point {k} ({x}, {y}, {z})");
+        if !in_torus {
+            text.push_str(&format!("{x:?},{y:?},{z:?}\n"));
+            kept.push(k);
+        }
+    }
+    assert!(kept.len() >= 30 && kept.len() < pts.len(), "{}", kept.len());
+    let csv = dir.path().join("p.csv");
+    std::fs::write(&csv, text).unwrap();
+    let fj = field_json(&[
+        "field",
+        d,
+        "--points",
+        csv.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    let fp = fj["points"].as_array().unwrap();
+    assert_eq!(fp.len(), kept.len());
+    for (p, &k) in fp.iter().zip(&kept) {
+        let b = p["b_field_t"].as_array().expect("B off the wires");
+        let e = p["e_field_v_per_m"]
+            .as_array()
+            .expect("E outside the conductors");
+        for c in 0..3 {
+            let (a, v) = (f(&b[c]), f(&bt[k][c]));
+            assert!(
+                (a - v).abs() <= 1e-12 * f(&p["b_mag_t"]),
+                "point {k}: B {a} vs {v}"
+            );
+            let (a, v) = (f(&e[c]), f(&ev[k][c]));
+            assert!(
+                (a - v).abs() <= 1e-12 * f(&p["e_mag_v_per_m"]),
+                "point {k}: E {a} vs {v}"
+            );
+        }
+        assert!(rel(f(&bm[k]), f(&p["b_mag_t"])) < 1e-12);
+        assert!(rel(f(&em[k]), f(&p["e_mag_v_per_m"])) < 1e-12);
+    }
+    let svg_text = std::fs::read_to_string(&svg).unwrap();
+    assert!(svg_text.starts_with("<svg") && svg_text.contains("icnirp2010_public_b"));
+}
+
+#[test]
+fn field_on_a_wire_is_null_with_a_warning_and_out_is_atomic() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", &dipole_loop());
+    let d = d.to_str().unwrap();
+    let out = dir.path().join("f.json");
+    let j = field_json(&[
+        "field",
+        d,
+        "--at",
+        "0.01,0,1",
+        "--at",
+        "0,0,2",
+        "--format",
+        "json",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(j["points"][0]["b_field_t"].is_null());
+    assert!(j["points"][0]["b_mag_t"].is_null());
+    let w = j["warnings"].as_array().unwrap();
+    assert!(
+        w.iter()
+            .any(|w| w.as_str().unwrap().contains("--at 0.01,0,1")),
+        "{w:?}"
+    );
+    // On the axis 1 m from a ring: B = mu0 I a^2 / (2 (a^2 + z^2)^(3/2)).
+    let mu0 = 4e-7 * std::f64::consts::PI;
+    let exact = mu0 * 1000.0 * 1e-4 / (2.0 * (1e-4f64 + 1.0).powf(1.5));
+    assert!(rel(f(&j["points"][1]["b_field_t"][2]), exact) < 1e-9);
+    let saved: Value = serde_json::from_str(&std::fs::read_to_string(&out).unwrap()).unwrap();
+    assert_eq!(saved, j);
+    // Bad input leaves the old output in place.
+    expect_bad(
+        &["field", d, "--at", "0,0", "--out", out.to_str().unwrap()],
+        &["--at"],
+    );
+    let again: Value = serde_json::from_str(&std::fs::read_to_string(&out).unwrap()).unwrap();
+    assert_eq!(again, j);
+}
+
+#[test]
+fn clearance_of_a_small_loop_matches_the_dipole_equator() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", &dipole_loop());
+    let j = field_json(&[
+        "clearance",
+        d.to_str().unwrap(),
+        "--format",
+        "json",
+        "--distance",
+        "0.05,1",
+        "--threshold",
+        "test_b,B,2e-5,rms",
+    ]);
+    assert!(
+        j["caution"]
+            .as_str()
+            .unwrap()
+            .contains("not a safety certificate")
+    );
+    let t = j["thresholds"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|t| t["name"] == "test_b")
+        .unwrap()
+        .clone();
+    // Equatorial dipole field |B| = mu0 m / (4 pi r^3), m = I pi a^2, compared with the rms
+    // limit times sqrt(2). At r ~ 12 a the dipole is within (a/r)^2 ~ 1 % of the ring.
+    let limit_peak = 2e-5 * 2f64.sqrt();
+    let m = 1000.0 * std::f64::consts::PI * 1e-4;
+    let r = (1e-7 * m / limit_peak).cbrt();
+    let got = f(&t["distance_from_axis_m"]);
+    assert!(rel(got, r) < 0.02, "{got} vs dipole {r}");
+    assert_eq!(t["compared_with"], "peak / sqrt(2)");
+    assert_eq!(t["beyond_search"], false);
+    // At 1 m everything is below the test limit; at 5 cm it is above.
+    let at = j["at_distances"].as_array().unwrap();
+    assert!(
+        at[0]["exceeded"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|n| n == "test_b")
+    );
+    assert!(
+        !at[1]["exceeded"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|n| n == "test_b")
+    );
+    assert!(rel(f(&at[1]["b_rms_t"]) * 2f64.sqrt(), f(&at[1]["b_mag_t"])) < 1e-12);
+    // Every default family at 1 MHz is present with its source.
+    for n in [
+        "air_breakdown",
+        "icnirp2010_public_b",
+        "icnirp2020_public_whole_body_b",
+    ] {
+        let th = j["thresholds"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|t| t["name"] == n);
+        assert!(th.unwrap()["source"].as_str().unwrap().len() > 10);
+    }
+}
+
+#[test]
+fn clearance_of_the_resonator_is_consistent_with_field() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    let j = field_json(&["clearance", d, "--format", "json", "--distance", "0.5,2"]);
+    assert!(j["caution"].as_str().unwrap().contains("local regulations"));
+    let ths = j["thresholds"].as_array().unwrap();
+    let get = |n: &str| {
+        ths.iter()
+            .find(|t| t["name"] == n)
+            .unwrap_or_else(|| panic!("{n}"))
+    };
+    for t in ths {
+        for key in [
+            "quantity",
+            "limit",
+            "unit",
+            "source",
+            "distance_from_axis_m",
+            "distance_from_top_m",
+        ] {
+            assert!(!t[key].is_null(), "{} lacks {key}", t["name"]);
+        }
+    }
+    // A lower limit of the same quantity cannot give a smaller distance.
+    for (lo, hi) in [
+        ("icnirp2010_public_e", "icnirp2010_occupational_e"),
+        ("icnirp2010_public_b", "icnirp2010_occupational_b"),
+        (
+            "icnirp2020_public_local_e",
+            "icnirp2020_occupational_local_e",
+        ),
+    ] {
+        assert!(f(&get(lo)["distance_from_axis_m"]) >= f(&get(hi)["distance_from_axis_m"]));
+    }
+    // The long-gap distance is the peak potential over the gradient.
+    assert!(
+        rel(
+            f(&get("long_gap_mean_gradient")["distance_from_top_m"]),
+            150e3 / 300e3
+        ) < 1e-12
+    );
+    assert!(
+        get("icnirp2020_public_whole_body_e")["source"]
+            .as_str()
+            .unwrap()
+            .contains("from memory")
+    );
+    // At the crossing the field equals the limit: check one E distance with `field`.
+    let t = get("icnirp2010_public_e");
+    let best = t["by_height"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .max_by(|a, b| f(&a["distance_from_axis_m"]).total_cmp(&f(&b["distance_from_axis_m"])))
+        .unwrap();
+    let r = f(&best["distance_from_axis_m"]);
+    let h = 0.10 + f(&best["height_m"]);
+    let limit_peak = 83.0 * 2f64.sqrt();
+    let probe = |x: f64| {
+        let at = format!("{x},0,{h}");
+        let fj = field_json(&["field", d, "--at", &at, "--format", "json"]);
+        f(&fj["points"][0]["e_mag_v_per_m"])
+    };
+    // Searched at four azimuths; the field is axisymmetric, so +x is one of them.
+    assert!(probe(r + 0.01) < limit_peak, "beyond the crossing");
+    assert!(probe(r - 0.01) >= limit_peak * 0.999, "inside the crossing");
+    // `at_distances` are the fields `field` gives at the same points.
+    for a in j["at_distances"].as_array().unwrap() {
+        let p = a["position_m"].as_array().unwrap();
+        let at = format!("{},{},{}", f(&p[0]), f(&p[1]), f(&p[2]));
+        let fj = field_json(&["field", d, "--at", &at, "--format", "json"]);
+        assert!(rel(f(&a["e_mag_v_per_m"]), f(&fj["points"][0]["e_mag_v_per_m"])) < 1e-12);
+        assert!(rel(f(&a["b_mag_t"]), f(&fj["points"][0]["b_mag_t"])) < 1e-12);
+    }
+}
+
+#[test]
+fn field_csv_and_table_agree_with_json_and_the_box_grid_reads_back() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    let args = ["field", d, "--at", "0.5,0,0.3", "--at", "-0.2,0.1,0.9"];
+    let j = field_json(&[&args[..], &["--format", "json"]].concat());
+    let out = run(&[&args[..], &["--format", "csv"]].concat());
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    let mut lines = text.lines();
+    assert_eq!(
+        lines.next().unwrap(),
+        "x_m,y_m,z_m,ex_v_per_m,ey_v_per_m,ez_v_per_m,e_mag_v_per_m,bx_t,by_t,bz_t,b_mag_t"
+    );
+    for (k, line) in lines.enumerate() {
+        let v: Vec<f64> = line.split(',').map(|c| c.parse().unwrap()).collect();
+        let p = &j["points"][k];
+        // serde_json's default float parser may be 1 ulp off; the printed digits agree.
+        assert!(rel(v[6], f(&p["e_mag_v_per_m"])) < 1e-15);
+        assert!(rel(v[10], f(&p["b_mag_t"])) < 1e-15);
+        assert!(rel(v[3], f(&p["e_field_v_per_m"][0])) < 1e-15);
+    }
+    let out = run(&[&args[..], &["--format", "table"]].concat());
+    let table = String::from_utf8(out.stdout).unwrap();
+    assert!(table.contains("(0.5, 0, 0.3)") && table.contains("V/m") && table.contains("T"));
+
+    // The 3-D box form: a RectilinearGrid of NX x NY x NZ points, x fastest.
+    let vtr = dir.path().join("box.vtr");
+    let s = field_json(&[
+        "map",
+        d,
+        "--box",
+        "0.3,0.5,-0.1,0.1,0.2,0.4",
+        "--resolution",
+        "3,2,2",
+        "--vtk",
+        vtr.to_str().unwrap(),
+    ]);
+    assert_eq!(s["n_points"], 12);
+    let g = read_vtk(&vtr);
+    assert_eq!(g["dimensions"], serde_json::json!([3, 2, 2]));
+    let p1 = &g["points"][1];
+    assert_eq!((f(&p1[0]), f(&p1[1]), f(&p1[2])), (0.4, -0.1, 0.2));
+    let p3 = &g["points"][3];
+    assert_eq!((f(&p3[0]), f(&p3[1]), f(&p3[2])), (0.3, 0.1, 0.2));
+}
