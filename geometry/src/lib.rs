@@ -40,6 +40,7 @@ pub mod design;
 pub mod discretise;
 pub mod error;
 pub mod overlap;
+pub mod sweep;
 pub mod units;
 pub mod winding;
 

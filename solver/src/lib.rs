@@ -55,6 +55,8 @@ pub mod constants;
 pub mod coupling;
 pub mod elliptic;
 pub mod error;
+pub mod euler_maclaurin;
+pub mod metrics;
 pub mod mutual;
 pub mod par;
 pub mod quadrature;
