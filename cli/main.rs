@@ -7,6 +7,7 @@ mod inductance;
 mod load;
 mod output;
 mod report;
+mod sweep;
 mod verify;
 
 use clap::{Parser, Subcommand, ValueEnum};
@@ -20,7 +21,8 @@ use std::process::ExitCode;
 #[derive(Debug, Parser)]
 #[command(name = "coilfield", version)]
 struct Cli {
-    /// Worker threads for the parallel kernels (default: all cores).
+    /// Worker threads for the parallel kernels (default: SLURM_CPUS_PER_TASK when set, else all
+    /// cores).
     #[arg(long, global = true, value_name = "N")]
     threads: Option<usize>,
     #[command(subcommand)]
@@ -66,6 +68,35 @@ enum Command {
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
     },
+    /// Sweep numeric keys of a design over a grid or random points and write one row of metrics
+    /// per point (CSV or JSON Lines, by the extension of --out), append-only in point order.
+    Sweep {
+        /// Sweep file (TOML): base design, [[axis]] tables, metrics, constraints.
+        sweep: PathBuf,
+        /// Output file, .csv or .jsonl; `{shard}` is replaced by the shard number K.
+        #[arg(long, value_name = "FILE")]
+        out: PathBuf,
+        /// Continue an interrupted output: skip the points already in it, redo a torn last line.
+        #[arg(long)]
+        resume: bool,
+        /// Run only the points with index % N == K (default: from a Slurm array task's
+        /// variables, else all points).
+        #[arg(long, value_name = "K/N")]
+        shard: Option<String>,
+    },
+    /// Join the outputs of the shards of one sweep into the file a single run would write;
+    /// every point must be present exactly once.
+    Merge {
+        /// Shard outputs (all .csv or all .jsonl).
+        #[arg(required = true)]
+        files: Vec<PathBuf>,
+        /// Merged output (written atomically).
+        #[arg(long, value_name = "FILE")]
+        out: PathBuf,
+        /// The sweep file: gives the number of points, so missing last points are found too.
+        #[arg(long, value_name = "SWEEP")]
+        sweep: Option<PathBuf>,
+    },
 }
 
 /// An error the user can fix in their input: exit code 2.
@@ -81,7 +112,19 @@ impl std::fmt::Display for BadInput {
 impl std::error::Error for BadInput {}
 
 fn run(cli: Cli) -> anyhow::Result<ExitCode> {
-    if let Some(n) = cli.threads {
+    let threads = match cli.threads {
+        Some(n) => Some(n),
+        // A Slurm task may use the CPUs it was given, not the whole node.
+        None => match std::env::var("SLURM_CPUS_PER_TASK") {
+            Ok(v) => Some(v.trim().parse::<usize>().map_err(|_| {
+                BadInput(format!(
+                    "environment variable SLURM_CPUS_PER_TASK = `{v}` is not a whole number"
+                ))
+            })?),
+            Err(_) => None,
+        },
+    };
+    if let Some(n) = threads {
         if n == 0 {
             return Err(BadInput("--threads: must be at least 1".into()).into());
         }
@@ -98,6 +141,16 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
         } => inductance::run(&design, format, out.as_deref()),
         Command::Report { design } => report::run(&design),
         Command::Verify { tables, format } => verify::run(tables.as_deref(), format),
+        Command::Sweep {
+            sweep,
+            out,
+            resume,
+            shard,
+        } => {
+            let shard = shard.as_deref().map(sweep::parse_shard).transpose()?;
+            sweep::run(&sweep, &out, resume, shard)
+        }
+        Command::Merge { files, out, sweep } => sweep::merge(&files, &out, sweep.as_deref()),
     }
 }
 

@@ -250,9 +250,17 @@ impl Evaluator {
         if let Some(&(_, v)) = s.mutual_h.iter().find(|(k, _)| *k == key) {
             return Ok(v);
         }
-        let ma = self.model(s, a).clone();
-        let mb = self.model(s, b);
-        let (v, _, converged) = mutual_inductance(&ma, mb, Par::Seq).map_err(|e| e.to_string())?;
+        // Build both models first, then borrow them together (no copy of a long model).
+        self.model(s, a);
+        self.model(s, b);
+        let get = |i: usize| -> &WindingModel {
+            match self.unchanged(s.design, i) {
+                Some(c) => c.model.get().expect("built above"),
+                None => s.models[i].as_ref().expect("built above"),
+            }
+        };
+        let (v, _, converged) =
+            mutual_inductance(get(a), get(b), Par::Seq).map_err(|e| e.to_string())?;
         if !converged {
             s.notes.push(format!(
                 "mutual.{}.{}: the quadrature did not reach its tolerance (wires very close)",
