@@ -7,6 +7,7 @@ mod inductance;
 mod load;
 mod output;
 mod report;
+mod seek;
 mod sweep;
 mod verify;
 
@@ -71,7 +72,7 @@ enum Command {
     /// Sweep numeric keys of a design over a grid or random points and write one row of metrics
     /// per point (CSV or JSON Lines, by the extension of --out), append-only in point order.
     Sweep {
-        /// Sweep file (TOML): base design, [[axis]] tables, metrics, constraints.
+        /// Sweep file (TOML): base design, `[[axis]]` tables, metrics, constraints.
         sweep: PathBuf,
         /// Output file, .csv or .jsonl; `{shard}` is replaced by the shard number K.
         #[arg(long, value_name = "FILE")]
@@ -83,6 +84,18 @@ enum Command {
         /// variables, else all points).
         #[arg(long, value_name = "K/N")]
         shard: Option<String>,
+    },
+    /// Goal seeking on a design: the value of one parameter that reaches a target metric
+    /// (Brent's method), or the minimum / maximum of a metric over 2-4 bounded parameters under
+    /// constraints (Nelder-Mead). Reports the optimum, the metric there, evaluations, and why
+    /// the search stopped.
+    Seek {
+        /// Seek file (TOML): base design, `[[axis]]` bounds, target | minimise | maximise,
+        /// constraints.
+        seek: PathBuf,
+        /// table or json.
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
     },
     /// Join the outputs of the shards of one sweep into the file a single run would write;
     /// every point must be present exactly once.
@@ -150,6 +163,7 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             let shard = shard.as_deref().map(sweep::parse_shard).transpose()?;
             sweep::run(&sweep, &out, resume, shard)
         }
+        Command::Seek { seek, format } => seek::run(&seek, format),
         Command::Merge { files, out, sweep } => sweep::merge(&files, &out, sweep.as_deref()),
     }
 }

@@ -41,7 +41,7 @@ impl OutFormat {
     }
 }
 
-fn read_text(path: &Path, what: &str) -> anyhow::Result<String> {
+pub fn read_text(path: &Path, what: &str) -> anyhow::Result<String> {
     let label = path.display();
     let meta = std::fs::metadata(path)
         .map_err(|e| BadInput(format!("{label}: cannot read the {what}: {e}")))?;
@@ -70,9 +70,14 @@ pub struct Plan {
 impl Plan {
     /// Read the sweep file and its base, and check every axis value alone.
     pub fn load(path: &Path) -> anyhow::Result<Plan> {
-        let sweep_label = path.display().to_string();
         let text = read_text(path, "sweep file")?;
-        let sweep = parse_sweep(&text, &sweep_label).map_err(|e| BadInput(e.to_string()))?;
+        Plan::from_text(&text, path)
+    }
+
+    /// As [`Plan::load`], with the text of the file at `path` given.
+    pub fn from_text(text: &str, path: &Path) -> anyhow::Result<Plan> {
+        let sweep_label = path.display().to_string();
+        let sweep = parse_sweep(text, &sweep_label).map_err(|e| BadInput(e.to_string()))?;
         let base_path = path.parent().unwrap_or(Path::new(".")).join(&sweep.base);
         let base_label = base_path.display().to_string();
         let base_text = read_text(&base_path, "base design named by `base`")?;
@@ -156,8 +161,13 @@ impl Plan {
     /// base's, and the checks between windings (wires apart) run on the whole design with
     /// [`check_overlaps`], as [`parse_design`] does. Names cannot be swept, so they stay unique.
     pub fn design_at(&self, i: usize) -> Result<Design, String> {
-        let table = apply(&self.base_table, &self.sweep.axes, &self.points[i])?;
-        let label = format!("point {i}");
+        self.design_for(&self.points[i], &format!("point {i}"))
+    }
+
+    /// The design with the axes at `values` (see [`Plan::design_at`]); `label` names it in
+    /// messages.
+    pub fn design_for(&self, values: &[f64], label: &str) -> Result<Design, String> {
+        let table = apply(&self.base_table, &self.sweep.axes, values)?;
         let empty = Vec::new();
         let base_ws = self
             .base_table
@@ -185,14 +195,14 @@ impl Plan {
                 toml::Value::Array(vec![toml::Value::Table(wt)]),
             );
             let text = toml::to_string(&doc).map_err(|e| e.to_string())?;
-            let one = parse_design(&text, &label).map_err(|e| e.to_string())?;
+            let one = parse_design(&text, label).map_err(|e| e.to_string())?;
             windings.extend(one.windings);
         }
         let design = Design {
             version: self.base_design.version,
             windings,
         };
-        check_overlaps(&design, &label).map_err(|e| e.to_string())?;
+        check_overlaps(&design, label).map_err(|e| e.to_string())?;
         Ok(design)
     }
 

@@ -319,3 +319,34 @@ values = [0.9995, 0.7]
         assert!(r.contains(",ok,"), "{r}");
     }
 }
+
+#[test]
+fn seek_finds_the_distance_of_a_known_mutual_inductance() {
+    // Two rings of 1 m radius 1 m apart: M = 4.94078463079826907e-7 H (Maxwell 1873, mpmath
+    // 30 digits). Brent's method must find the distance 1 m from that M.
+    let dir = tempfile::tempdir().unwrap();
+    design_file(dir.path(), "base.toml", BASE);
+    let s = design_file(
+        dir.path(),
+        "seek.toml",
+        "base = \"base.toml\"\ntarget = \"mutual.a.b = 4.94078463079826907e-7\"\n\
+         [[axis]]\nkey = \"winding.b.origin[2]\"\nfrom = 0.5\nto = 3.0\n",
+    );
+    let o = run(&["seek", s.to_str().unwrap(), "--format", "json"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let j: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let z = j["params"]["winding.b.origin[2]"].as_f64().unwrap();
+    assert!((z - 1.0).abs() < 1e-9, "{j}");
+    assert!(j["evaluations"].as_u64().unwrap() < 40);
+    assert!(j["stop"].as_str().unwrap().starts_with("converged"));
+    // A target outside the range of the metric is bad input, with the range named.
+    let s = design_file(
+        dir.path(),
+        "seek2.toml",
+        "base = \"base.toml\"\ntarget = \"mutual.a.b = 1.0\"\n\
+         [[axis]]\nkey = \"winding.b.origin[2]\"\nfrom = 0.5\nto = 3.0\n",
+    );
+    let o = run(&["seek", s.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("is not between them"));
+}

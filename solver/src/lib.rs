@@ -58,6 +58,7 @@ pub mod error;
 pub mod euler_maclaurin;
 pub mod metrics;
 pub mod mutual;
+pub mod optimise;
 pub mod par;
 pub mod quadrature;
 pub mod segment;

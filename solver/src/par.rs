@@ -19,7 +19,7 @@ pub enum Par {
 /// reproducible bit for bit.
 const CHUNK: usize = 64;
 
-/// Sum `f(i)` for `i` in `0..n` in a fixed order (chunks of [`CHUNK`], chunk sums added in
+/// Sum `f(i)` for `i` in `0..n` in a fixed order (chunks of `CHUNK`, chunk sums added in
 /// index order), sequentially or with rayon.
 pub fn sum_indexed<F>(n: usize, par: Par, f: F) -> f64
 where

@@ -132,7 +132,7 @@ const MAX_INTERVALS: usize = 2000;
 /// The interval with the largest Kronrod-Gauss difference is bisected until the summed
 /// difference meets the tolerance (QUADPACK's QAG strategy: R. Piessens et al., *QUADPACK*,
 /// Springer 1983), which also copes with integrable endpoint singularities; after
-/// [`MAX_INTERVALS`] intervals `converged` is false.
+/// `MAX_INTERVALS` intervals `converged` is false.
 pub fn integrate_adaptive<F: FnMut(f64) -> f64>(
     mut f: F,
     a: f64,

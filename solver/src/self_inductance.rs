@@ -196,7 +196,7 @@ pub fn rosa_solenoid(radius_m: f64, turns: usize, pitch_m: f64, wire_diameter_m:
         - MU0 * radius_m * n * (rosa_a(pitch_m, wire_diameter_m) + rosa_b(turns))
 }
 
-/// Wheeler's approximation (H) for a flat spiral: L[uH] = a^2 n^2 / (8a + 11c), a mean radius and
+/// Wheeler's approximation (H) for a flat spiral: L (uH) = a^2 n^2 / (8a + 11c), a mean radius and
 /// c radial depth in inches (H. A. Wheeler, "Simple inductance formulas for radio coils",
 /// Proc. IRE 16(10), 1928; "within 5 %"). A plausibility check only.
 pub fn wheeler_spiral(inner_radius_m: f64, outer_radius_m: f64, turns: f64) -> f64 {
