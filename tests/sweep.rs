@@ -350,3 +350,73 @@ fn seek_finds_the_distance_of_a_known_mutual_inductance() {
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("is not between them"));
 }
+
+#[test]
+fn ctrl_c_keeps_the_finished_points_and_resume_completes_the_file() {
+    // The demo design with a slow metric (the wire gap samples the 900-turn helix), so the
+    // interrupt lands mid-sweep.
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::copy(
+        root().join("meshes-demo/tabletop-resonator.toml"),
+        dir.path().join("tabletop-resonator.toml"),
+    )
+    .unwrap();
+    let s = design_file(
+        dir.path(),
+        "sweep.toml",
+        "base = \"tabletop-resonator.toml\"\nmetrics = [\"gap.secondary.primary\", \
+         \"coupling.secondary.primary\"]\n[[axis]]\nkey = \"winding.primary.origin[2]\"\n\
+         from = 0.0\nto = 0.09\nsteps = 60\n",
+    );
+    let full = dir.path().join("full.csv");
+    assert!(
+        sweep(&[
+            s.to_str().unwrap(),
+            "--out",
+            full.to_str().unwrap(),
+            "--threads",
+            "1"
+        ])
+        .status
+        .success()
+    );
+    let whole = std::fs::read(&full).unwrap();
+    let part = dir.path().join("part.csv");
+    let mut child = std::process::Command::new(bin())
+        .args([
+            "sweep",
+            s.to_str().unwrap(),
+            "--out",
+            part.to_str().unwrap(),
+            "--threads",
+            "1",
+        ])
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    std::thread::sleep(std::time::Duration::from_millis(400));
+    let killed = std::process::Command::new("kill")
+        .args(["-INT", &child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(killed.success());
+    let status = child.wait().unwrap();
+    let got = std::fs::read(&part).unwrap();
+    if status.code() == Some(130) {
+        // Interrupted: the file is an exact prefix of whole lines of the full output.
+        assert!(got.len() < whole.len() && whole.starts_with(&got));
+        assert!(got.ends_with(b"\n"));
+    } else {
+        // The machine was fast enough to finish first: then the file is complete.
+        assert_eq!(status.code(), Some(0));
+        assert_eq!(got, whole);
+    }
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        part.to_str().unwrap(),
+        "--resume",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(std::fs::read(&part).unwrap(), whole);
+}
