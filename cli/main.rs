@@ -6,6 +6,7 @@
 mod inductance;
 mod load;
 mod output;
+mod plot;
 mod report;
 mod seek;
 mod sweep;
@@ -84,6 +85,10 @@ enum Command {
         /// variables, else all points).
         #[arg(long, value_name = "K/N")]
         shard: Option<String>,
+        /// Also draw the first metric (SVG): against the parameter of a one-axis grid, or as a
+        /// heat map with contours over a two-axis grid.
+        #[arg(long, value_name = "FILE.svg")]
+        plot: Option<PathBuf>,
     },
     /// Goal seeking on a design: the value of one parameter that reaches a target metric
     /// (Brent's method), or the minimum / maximum of a metric over 2-4 bounded parameters under
@@ -159,9 +164,10 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             out,
             resume,
             shard,
+            plot,
         } => {
             let shard = shard.as_deref().map(sweep::parse_shard).transpose()?;
-            sweep::run(&sweep, &out, resume, shard)
+            sweep::run(&sweep, &out, resume, shard, plot.as_deref())
         }
         Command::Seek { seek, format } => seek::run(&seek, format),
         Command::Merge { files, out, sweep } => sweep::merge(&files, &out, sweep.as_deref()),

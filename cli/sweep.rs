@@ -434,6 +434,7 @@ pub fn run(
     out: &Path,
     resume: bool,
     shard: Option<Shard>,
+    plot: Option<&Path>,
 ) -> anyhow::Result<ExitCode> {
     let format = OutFormat::of(out)?;
     let plan = Plan::load(sweep_path)?;
@@ -441,6 +442,22 @@ pub fn run(
         Some(s) => s,
         None => slurm_shard()?.unwrap_or(Shard { k: 0, n: 1 }),
     };
+    let grids: Option<Vec<Vec<f64>>> =
+        if plan.sweep.sample.is_none() && plan.sweep.axes.iter().all(|a| a.group.is_none()) {
+            plan.sweep.axes.iter().map(|a| a.grid_values()).collect()
+        } else {
+            None
+        };
+    if let Some(p) = plot {
+        let counts: Option<Vec<usize>> = grids.as_ref().map(|g| g.iter().map(Vec::len).collect());
+        crate::plot::check(p, counts.as_deref())?;
+        if shard.n > 1 {
+            return Err(BadInput(
+                "--plot: plot the merged file's sweep in one run, not a shard".into(),
+            )
+            .into());
+        }
+    }
     let out: PathBuf = PathBuf::from(
         out.to_string_lossy()
             .replace("{shard}", &shard.k.to_string()),
@@ -586,6 +603,30 @@ pub fn run(
         start.elapsed().as_secs_f64(),
         out.display()
     );
+    if let (Some(p), Some(grids)) = (plot, grids) {
+        // The first metric of every point, read back from the finished output.
+        let text = read_text(&out, "sweep output")?;
+        let n_axes = plan.sweep.axes.len();
+        let name = &plan.sweep.metrics[0];
+        let values: Vec<f64> = text
+            .lines()
+            .skip(usize::from(format == OutFormat::Csv))
+            .map(|line| match format {
+                OutFormat::Csv => line
+                    .split(',')
+                    .nth(1 + n_axes)
+                    .and_then(|v| v.parse().ok())
+                    .unwrap_or(f64::NAN),
+                OutFormat::JsonLines => serde_json::from_str::<serde_json::Value>(line)
+                    .ok()
+                    .and_then(|v| v["metrics"][name].as_f64())
+                    .unwrap_or(f64::NAN),
+            })
+            .collect();
+        let names: Vec<&str> = plan.sweep.axes.iter().map(|a| a.key.as_str()).collect();
+        crate::plot::write(p, &names, &grids, name, &values)?;
+        eprintln!("sweep: plot of {name} in {}", p.display());
+    }
     Ok(ExitCode::SUCCESS)
 }
 

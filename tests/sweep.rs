@@ -420,3 +420,33 @@ fn ctrl_c_keeps_the_finished_points_and_resume_completes_the_file() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     assert_eq!(std::fs::read(&part).unwrap(), whole);
 }
+
+#[test]
+fn plots_are_svg_heat_maps_or_lines_and_png_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let s = setup(dir.path(), SWEEP);
+    let out = dir.path().join("r.csv");
+    let svg = dir.path().join("k.svg");
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--plot",
+        svg.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert!(text.starts_with("<svg") && text.trim_end().ends_with("</svg>"));
+    // 3 x 5 grid: 15 cells, 50 colour-bar steps, the background and the frame.
+    assert_eq!(text.matches("<rect").count(), 15 + 50 + 2);
+    assert!(text.contains("mutual.a.b") && text.contains("winding.b.radius"));
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        dir.path().join("r2.csv").to_str().unwrap(),
+        "--plot",
+        dir.path().join("k.png").to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("only .svg"));
+}
