@@ -176,14 +176,14 @@ pub fn heat(xs: &[f64], ys: &[f64], z: &[Vec<f64>], names: [&str; 3]) -> String 
     }
     let _ = writeln!(
         s,
-        "<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"11\">{}</text>\n<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"11\">{}</text>\n<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"11\">{}</text>",
+        "<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"11\">{}</text>\n<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"11\">{}</text>\n<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"11\" text-anchor=\"end\">{}</text>",
         W - RIGHT + 40.0,
         TOP + 10.0,
         label(z1),
         W - RIGHT + 40.0,
         H - BOTTOM,
         label(z0),
-        W - RIGHT + 10.0,
+        W - 5.0,
         TOP - 10.0,
         esc(names[2])
     );

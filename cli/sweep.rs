@@ -167,25 +167,27 @@ impl Plan {
     /// The design with the axes at `values` (see [`Plan::design_at`]); `label` names it in
     /// messages.
     pub fn design_for(&self, values: &[f64], label: &str) -> Result<Design, String> {
-        let table = apply(&self.base_table, &self.sweep.axes, values)?;
+        let mut table = apply(&self.base_table, &self.sweep.axes, values)?;
         let empty = Vec::new();
         let base_ws = self
             .base_table
             .get("winding")
             .and_then(|w| w.as_array())
             .unwrap_or(&empty);
-        let ws = table
-            .get("winding")
-            .and_then(|w| w.as_array())
-            .unwrap_or(&empty);
+        let ws = match table.remove("winding") {
+            Some(toml::Value::Array(ws)) => ws,
+            _ => Vec::new(),
+        };
         let mut windings = Vec::with_capacity(ws.len());
-        for (k, w) in ws.iter().enumerate() {
+        for (k, w) in ws.into_iter().enumerate() {
             let base = &self.base_design.windings[k];
-            if base_ws.get(k) == Some(w) {
+            if base_ws.get(k) == Some(&w) {
                 windings.push(base.clone());
                 continue;
             }
-            let mut wt = w.as_table().cloned().unwrap_or_default();
+            let toml::Value::Table(mut wt) = w else {
+                return Err(format!("winding #{}: not a table", k + 1));
+            };
             // A winding without a name is named by its place in the file.
             wt.entry("name")
                 .or_insert_with(|| toml::Value::String(base.name.clone()));
