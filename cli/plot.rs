@@ -98,11 +98,10 @@ pub fn heat(xs: &[f64], ys: &[f64], z: &[Vec<f64>], names: [&str; 3]) -> String 
         };
         (lo, hi)
     };
-    for i in 0..nx {
-        for j in 0..ny {
+    for (i, column) in z.iter().enumerate().take(nx) {
+        for (j, &v) in column.iter().enumerate().take(ny) {
             let (xa, xb) = edge(xs, i);
             let (ya, yb) = edge(ys, j);
-            let v = z[i][j];
             let colour = if v.is_finite() {
                 ramp((v - z0) / (z1 - z0).max(f64::MIN_POSITIVE))
             } else {

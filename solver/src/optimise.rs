@@ -221,12 +221,12 @@ pub fn nelder_mead<F: FnMut(&[f64]) -> f64>(
                 simplex[n] = (uc, fc);
             } else {
                 let best_u = simplex[0].0.clone();
-                for k in 1..=n {
+                for vertex in simplex.iter_mut().skip(1) {
                     let u: Vec<f64> = (0..n)
-                        .map(|i| best_u[i] + 0.5 * (simplex[k].0[i] - best_u[i]))
+                        .map(|i| best_u[i] + 0.5 * (vertex.0[i] - best_u[i]))
                         .collect();
                     let v = eval(&u, &mut evaluations);
-                    simplex[k] = (u, v);
+                    *vertex = (u, v);
                 }
             }
         }
