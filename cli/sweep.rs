@@ -360,6 +360,8 @@ struct Writer {
     /// Position (in this run's list of points) of the next row to write.
     next: usize,
     last_sync: Instant,
+    /// Rows written since the last sync.
+    dirty: bool,
     written: usize,
     progress: Progress,
 }
@@ -370,6 +372,16 @@ enum Progress {
 }
 
 impl Writer {
+    /// Sync written rows to disk when the last sync is half a second old.
+    fn sync_if_due(&mut self) -> std::io::Result<()> {
+        if self.dirty && self.last_sync.elapsed() >= Duration::from_millis(500) {
+            self.file.sync_data()?;
+            self.last_sync = Instant::now();
+            self.dirty = false;
+        }
+        Ok(())
+    }
+
     fn push(&mut self, pos: usize, row: String, total: usize) -> std::io::Result<()> {
         self.pending.insert(pos, row);
         let mut chunk = String::new();
@@ -380,10 +392,8 @@ impl Writer {
         }
         if !chunk.is_empty() {
             self.file.write_all(chunk.as_bytes())?;
-            if self.last_sync.elapsed() >= Duration::from_millis(500) {
-                self.file.sync_data()?;
-                self.last_sync = Instant::now();
-            }
+            self.dirty = true;
+            self.sync_if_due()?;
         }
         match &mut self.progress {
             Progress::Bar(bar) => bar.set_position(self.written as u64),
@@ -553,35 +563,56 @@ pub fn run(
         pending: BTreeMap::new(),
         next: 0,
         last_sync: Instant::now(),
+        dirty: false,
         written: 0,
         progress,
     });
     let next = AtomicUsize::new(0);
     let failure: Mutex<Option<std::io::Error>> = Mutex::new(None);
     let start = Instant::now();
-    // Points are handed out in order, so finished rows wait little for earlier ones.
-    rayon::scope(|s| {
-        for _ in 0..rayon::current_num_threads() {
-            s.spawn(|_| {
-                loop {
-                    if stop.load(Ordering::SeqCst) {
-                        break;
-                    }
-                    let pos = next.fetch_add(1, Ordering::SeqCst);
-                    if pos >= total {
-                        break;
-                    }
-                    let i = todo[pos];
-                    let row = plan.row(i, &plan.evaluate(i), format);
-                    let mut w = writer.lock().unwrap_or_else(|e| e.into_inner());
-                    if let Err(e) = w.push(pos, row, total) {
-                        stop.store(true, Ordering::SeqCst);
-                        *failure.lock().unwrap_or_else(|e| e.into_inner()) = Some(e);
-                        break;
-                    }
+    // Dropping `finished` wakes the syncer at once when the workers are done.
+    let (finished, finished_rx) = std::sync::mpsc::channel::<()>();
+    std::thread::scope(|outer| {
+        // Rows written while the workers are busy with slow points still reach the disk within a
+        // second.
+        let (writer_ref, failure_ref, stop_ref) = (&writer, &failure, &*stop);
+        outer.spawn(move || {
+            while let Err(std::sync::mpsc::RecvTimeoutError::Timeout) =
+                finished_rx.recv_timeout(Duration::from_millis(100))
+            {
+                let mut w = writer_ref.lock().unwrap_or_else(|e| e.into_inner());
+                if let Err(e) = w.sync_if_due() {
+                    *failure_ref.lock().unwrap_or_else(|e| e.into_inner()) = Some(e);
+                    stop_ref.store(true, Ordering::SeqCst);
+                    break;
                 }
-            });
-        }
+            }
+        });
+        // Points are handed out in order, so finished rows wait little for earlier ones.
+        rayon::scope(|s| {
+            for _ in 0..rayon::current_num_threads() {
+                s.spawn(|_| {
+                    loop {
+                        if stop.load(Ordering::SeqCst) {
+                            break;
+                        }
+                        let pos = next.fetch_add(1, Ordering::SeqCst);
+                        if pos >= total {
+                            break;
+                        }
+                        let i = todo[pos];
+                        let row = plan.row(i, &plan.evaluate(i), format);
+                        let mut w = writer.lock().unwrap_or_else(|e| e.into_inner());
+                        if let Err(e) = w.push(pos, row, total) {
+                            stop.store(true, Ordering::SeqCst);
+                            *failure.lock().unwrap_or_else(|e| e.into_inner()) = Some(e);
+                            break;
+                        }
+                    }
+                });
+            }
+        });
+        drop(finished);
     });
     let w = writer.into_inner().unwrap_or_else(|e| e.into_inner());
     w.file.sync_all()?;
