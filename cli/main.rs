@@ -17,6 +17,9 @@ mod sample;
 mod solve;
 #[allow(dead_code)]
 mod thresholds;
+mod seek;
+mod sweep;
+mod sweep_plot;
 mod verify;
 mod vtk;
 
@@ -31,7 +34,8 @@ use std::process::ExitCode;
 #[derive(Debug, Parser)]
 #[command(name = "coilfield", version)]
 struct Cli {
-    /// Worker threads for the parallel kernels (default: all cores).
+    /// Worker threads for the parallel kernels (default: SLURM_CPUS_PER_TASK when set, else all
+    /// cores).
     #[arg(long, global = true, value_name = "N")]
     threads: Option<usize>,
     #[command(subcommand)]
@@ -184,6 +188,51 @@ enum Command {
         #[arg(long, value_name = "DIR")]
         vtk: PathBuf,
     },
+    /// Sweep numeric keys of a design over a grid or random points and write one row of metrics
+    /// per point (CSV or JSON Lines, by the extension of --out), append-only in point order.
+    Sweep {
+        /// Sweep file (TOML): base design, `[[axis]]` tables, metrics, constraints.
+        sweep: PathBuf,
+        /// Output file, .csv or .jsonl; `{shard}` is replaced by the shard number K.
+        #[arg(long, value_name = "FILE")]
+        out: PathBuf,
+        /// Continue an interrupted output: skip the points already in it, redo a torn last line.
+        #[arg(long)]
+        resume: bool,
+        /// Run only the points with index % N == K (default: from a Slurm array task's
+        /// variables, else all points).
+        #[arg(long, value_name = "K/N")]
+        shard: Option<String>,
+        /// Also draw the first metric (SVG): against the parameter of a one-axis grid, or as a
+        /// heat map with contours over a two-axis grid.
+        #[arg(long, value_name = "FILE.svg")]
+        plot: Option<PathBuf>,
+    },
+    /// Goal seeking on a design: the value of one parameter that reaches a target metric
+    /// (Brent's method), or the minimum / maximum of a metric over 2-4 bounded parameters under
+    /// constraints (Nelder-Mead). Reports the optimum, the metric there, evaluations, and why
+    /// the search stopped.
+    Seek {
+        /// Seek file (TOML): base design, `[[axis]]` bounds, target | minimise | maximise,
+        /// constraints.
+        seek: PathBuf,
+        /// table or json.
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
+    /// Join the outputs of the shards of one sweep into the file a single run would write;
+    /// every point must be present exactly once.
+    Merge {
+        /// Shard outputs (all .csv or all .jsonl).
+        #[arg(required = true)]
+        files: Vec<PathBuf>,
+        /// Merged output (written atomically).
+        #[arg(long, value_name = "FILE")]
+        out: PathBuf,
+        /// The sweep file: gives the number of points, so missing last points are found too.
+        #[arg(long, value_name = "SWEEP")]
+        sweep: Option<PathBuf>,
+    },
 }
 
 /// An error the user can fix in their input: exit code 2.
@@ -199,7 +248,19 @@ impl std::fmt::Display for BadInput {
 impl std::error::Error for BadInput {}
 
 fn run(cli: Cli) -> anyhow::Result<ExitCode> {
-    if let Some(n) = cli.threads {
+    let threads = match cli.threads {
+        Some(n) => Some(n),
+        // A Slurm task may use the CPUs it was given, not the whole node.
+        None => match std::env::var("SLURM_CPUS_PER_TASK") {
+            Ok(v) => Some(v.trim().parse::<usize>().map_err(|_| {
+                BadInput(format!(
+                    "environment variable SLURM_CPUS_PER_TASK = `{v}` is not a whole number"
+                ))
+            })?),
+            Err(_) => None,
+        },
+    };
+    if let Some(n) = threads {
         if n == 0 {
             return Err(BadInput("--threads: must be at least 1".into()).into());
         }
@@ -265,6 +326,18 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             plot: plot.as_deref(),
             plot_quantity,
         }),
+        Command::Sweep {
+            sweep,
+            out,
+            resume,
+            shard,
+            plot,
+        } => {
+            let shard = shard.as_deref().map(sweep::parse_shard).transpose()?;
+            sweep::run(&sweep, &out, resume, shard, plot.as_deref())
+        }
+        Command::Seek { seek, format } => seek::run(&seek, format),
+        Command::Merge { files, out, sweep } => sweep::merge(&files, &out, sweep.as_deref()),
     }
 }
 

@@ -42,6 +42,7 @@ pub mod drive;
 pub mod electrode;
 pub mod error;
 pub mod overlap;
+pub mod sweep;
 pub mod units;
 pub mod winding;
 

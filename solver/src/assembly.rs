@@ -2,7 +2,8 @@
 
 use crate::coupling::coupling_matrix;
 use crate::error::SolverError;
-use crate::mutual::{Circle, mutual_ring_rings_coaxial, mutual_rings_ring};
+use crate::euler_maclaurin::mutual_ring_stack_coaxial;
+use crate::mutual::{Circle, mutual_ring_ring_coaxial, mutual_ring_rings_coaxial, mutual_rings_ring};
 use crate::par::{Par, map_indexed, sum_indexed};
 use crate::segment::{mutual_rings_segment, mutual_segment_segment};
 use crate::self_inductance::{rosa_solenoid, self_filament_model, self_ring_model, wheeler_spiral};
@@ -159,6 +160,48 @@ fn coaxial_sign(a: &RingModel, b: &RingModel) -> Option<f64> {
         .then(|| na.dot(nb).signum())
 }
 
+/// Coaxial mutual inductance (H, both currents taken right-handed about one common axis) when one of the two
+/// ring models is a long uniform stack: each ring of the other model against the stack's whole
+/// turns by [`mutual_ring_stack_coaxial`] (Euler-Maclaurin where safe, else the direct sum),
+/// plus the stack's partial last turn directly. None when neither model is such a stack.
+fn mutual_coaxial_stack(ra: &RingModel, rb: &RingModel, par: Par) -> Option<f64> {
+    let full = |r: &RingModel| r.rings.iter().take_while(|x| x.weight == 1.0).count();
+    let stack_len = |r: &RingModel| r.uniform_pitch_m.map(|_| full(r)).unwrap_or(0);
+    // The longer stack is summed by the formula; the other model's rings are the targets.
+    let (stack, other) = if stack_len(rb) >= stack_len(ra) {
+        (rb, ra)
+    } else {
+        (ra, rb)
+    };
+    let pitch_m = stack.uniform_pitch_m?;
+    let n_full = full(stack);
+    if n_full < crate::euler_maclaurin::MIN_RINGS {
+        return None;
+    }
+    let stack_axis = stack.axis.as_ref();
+    let radius_m = stack.rings[0].radius_m;
+    let tail = &stack.rings[n_full..];
+    Some(sum_indexed(other.rings.len(), par, |i| {
+        let ring = &other.rings[i];
+        // Axial position of the stack's base seen from this ring, along the stack's axis; M
+        // is even in z, so the direction of the other axis does not enter.
+        let z0_m = (stack.origin_m - ring.centre_m).dot(stack_axis);
+        let (body, _) = mutual_ring_stack_coaxial(radius_m, ring.radius_m, z0_m, pitch_m, n_full);
+        let rest: f64 = tail
+            .iter()
+            .map(|t| {
+                t.weight
+                    * mutual_ring_ring_coaxial(
+                        t.radius_m,
+                        ring.radius_m,
+                        (t.centre_m - ring.centre_m).dot(stack_axis),
+                    )
+            })
+            .sum();
+        ring.weight * (body + rest)
+    }))
+}
+
 /// Mutual inductance (H) of two winding models (unit currents) and the kernel used.
 pub fn mutual_inductance(
     a: &WindingModel,
@@ -168,6 +211,9 @@ pub fn mutual_inductance(
     Ok(match (a, b) {
         (WindingModel::Rings(ra), WindingModel::Rings(rb)) => {
             if let Some(sign) = coaxial_sign(ra, rb) {
+                if let Some(m) = mutual_coaxial_stack(ra, rb, par) {
+                    return Ok((sign * m, Kernel::MaxwellCoaxial, true));
+                }
                 let axis = ra.axis.as_ref();
                 let m = sum_indexed(ra.rings.len(), par, |i| {
                     let ri = &ra.rings[i];

@@ -20,3 +20,9 @@ pub fn coupling_matrix(inductance_h: &[Vec<f64>]) -> Vec<Vec<f64>> {
         })
         .collect()
 }
+
+/// Coupling coefficient k = M / sqrt(L_a L_b) of one pair (H in, dimensionless out), computed
+/// exactly as [`coupling_matrix`] does.
+pub fn coupling(mutual_h: f64, self_a_h: f64, self_b_h: f64) -> f64 {
+    mutual_h / (self_a_h * self_b_h).sqrt()
+}

@@ -36,7 +36,7 @@ const SERIES_BELOW_M: f64 = 0.02;
 
 /// Power-series coefficients of g(m) / (pi/2): c_n = 4n a_n/(2n-1) - a_{n-1}, n = 2, 3, ...,
 /// a_n = (binomial(2n, n)/4^n)^2, from the series of K and E in m (NIST DLMF 19.5.1, 19.5.2).
-const G_SERIES: [f64; 12] = [
+pub(crate) const G_SERIES: [f64; 12] = [
     0.125,
     0.09375,
     0.073_242_187_5,

@@ -1,0 +1,428 @@
+//! Named figures of a design for sweeps and goal seeking: `self_inductance.<w>` (H),
+//! `mutual.<a>.<b>` (H), `coupling.<a>.<b>` (dimensionless), `gap.<a>.<b>` (m, smallest
+//! distance between the two wires' surfaces), and constraints on them.
+//!
+//! An [`Evaluator`] is built once from the base design; the self-inductance and the model of a
+//! winding that a point leaves unchanged are taken from the base (computed once, on first use).
+//! Every figure is computed sequentially, so a point's results do not depend on threads.
+
+use crate::Par;
+use crate::assembly::{WindingModel, mutual_inductance, self_inductance};
+use crate::coupling::coupling;
+use coilfield_geometry::overlap::min_surface_gap_m;
+use coilfield_geometry::{Design, Winding};
+use std::sync::OnceLock;
+
+/// A figure of a design, by winding index (file order).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Metric {
+    /// Self-inductance (H).
+    SelfInductance(usize),
+    /// Mutual inductance (H), sign from the windings' current directions.
+    Mutual(usize, usize),
+    /// Coupling coefficient k = M / sqrt(L_a L_b).
+    Coupling(usize, usize),
+    /// Smallest surface-to-surface distance of the two wires (m).
+    Gap(usize, usize),
+}
+
+/// Parse a metric name against the windings of a design.
+pub fn parse_metric(name: &str, design: &Design) -> Result<Metric, String> {
+    let index = |w: &str| {
+        design
+            .windings
+            .iter()
+            .position(|x| x.name == w)
+            .ok_or_else(|| {
+                let names: Vec<&str> = design.windings.iter().map(|x| x.name.as_str()).collect();
+                format!(
+                    "`{name}`: no winding named `{w}` in the base design (windings: {})",
+                    names.join(", ")
+                )
+            })
+    };
+    let parts: Vec<&str> = name.split('.').collect();
+    let pair = |parts: &[&str]| -> Result<(usize, usize), String> {
+        let (a, b) = (index(parts[1])?, index(parts[2])?);
+        if a == b {
+            return Err(format!(
+                "`{name}`: a pair of two different windings is needed"
+            ));
+        }
+        Ok((a, b))
+    };
+    match parts.as_slice() {
+        ["self_inductance", w] => Ok(Metric::SelfInductance(index(w)?)),
+        ["mutual", _, _] => pair(&parts).map(|(a, b)| Metric::Mutual(a, b)),
+        ["coupling", _, _] => pair(&parts).map(|(a, b)| Metric::Coupling(a, b)),
+        ["gap", _, _] => pair(&parts).map(|(a, b)| Metric::Gap(a, b)),
+        _ => Err(format!(
+            "`{name}`: unknown metric; known: self_inductance.<w>, mutual.<a>.<b>, \
+             coupling.<a>.<b>, gap.<a>.<b>"
+        )),
+    }
+}
+
+/// Comparison of a constraint.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Op {
+    /// `<=`
+    Le,
+    /// `>=`
+    Ge,
+    /// `<`
+    Lt,
+    /// `>`
+    Gt,
+}
+
+/// A constraint `metric op bound`, e.g. `gap.sec.pri >= 0.005` (SI units).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Constraint {
+    /// The constrained figure.
+    pub metric: Metric,
+    /// The comparison.
+    pub op: Op,
+    /// The bound (SI units of the metric).
+    pub bound: f64,
+    /// The constraint as written.
+    pub text: String,
+}
+
+impl Constraint {
+    /// Whether `value` satisfies it (NaN never does).
+    pub fn holds(&self, value: f64) -> bool {
+        match self.op {
+            Op::Le => value <= self.bound,
+            Op::Ge => value >= self.bound,
+            Op::Lt => value < self.bound,
+            Op::Gt => value > self.bound,
+        }
+    }
+
+    /// How far `value` is on the wrong side of the bound (0 when it holds).
+    pub fn violation(&self, value: f64) -> f64 {
+        if self.holds(value) {
+            0.0
+        } else if value.is_nan() {
+            f64::INFINITY
+        } else {
+            (value - self.bound).abs()
+        }
+    }
+}
+
+/// Parse `metric op bound` against the windings of a design.
+pub fn parse_constraint(text: &str, design: &Design) -> Result<Constraint, String> {
+    let words: Vec<&str> = text.split_whitespace().collect();
+    let [metric, op, bound] = words.as_slice() else {
+        return Err(format!(
+            "`{text}`: expected `metric op number`, e.g. `gap.secondary.primary >= 0.005`"
+        ));
+    };
+    let op = match *op {
+        "<=" => Op::Le,
+        ">=" => Op::Ge,
+        "<" => Op::Lt,
+        ">" => Op::Gt,
+        other => return Err(format!("`{text}`: `{other}` is not one of <=, >=, <, >")),
+    };
+    let bound: f64 = bound
+        .parse()
+        .ok()
+        .filter(|b: &f64| b.is_finite())
+        .ok_or_else(|| format!("`{text}`: `{bound}` is not a finite number"))?;
+    Ok(Constraint {
+        metric: parse_metric(metric, design)?,
+        op,
+        bound,
+        text: text.to_string(),
+    })
+}
+
+/// Outcome of one point.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Status {
+    /// All figures computed, all constraints hold.
+    Ok,
+    /// A constraint does not hold (the message says which).
+    Infeasible,
+    /// The point could not be computed (the message says why).
+    Error,
+}
+
+impl Status {
+    /// `ok`, `infeasible` or `error`.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Status::Ok => "ok",
+            Status::Infeasible => "infeasible",
+            Status::Error => "error",
+        }
+    }
+}
+
+/// The figures of one point.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PointResult {
+    /// One value per requested metric (SI units); empty when `status` is `Error`.
+    pub values: Vec<f64>,
+    /// Outcome.
+    pub status: Status,
+    /// Reasons (violated constraints, the error, caveats), or empty.
+    pub message: String,
+}
+
+struct Cached {
+    winding: Winding,
+    model: OnceLock<WindingModel>,
+    self_h: OnceLock<f64>,
+}
+
+/// Evaluates metrics and constraints on variants of one base design.
+pub struct Evaluator {
+    base: Vec<Cached>,
+    metrics: Vec<Metric>,
+    constraints: Vec<Constraint>,
+}
+
+/// Quantities computed for one point, each at most once.
+struct Scratch<'a> {
+    design: &'a Design,
+    models: Vec<Option<WindingModel>>,
+    self_h: Vec<Option<f64>>,
+    mutual_h: Vec<((usize, usize), f64)>,
+    notes: Vec<String>,
+}
+
+impl Evaluator {
+    /// An evaluator of `metrics` and `constraints` (parsed against `base`).
+    pub fn new(base: &Design, metrics: Vec<Metric>, constraints: Vec<Constraint>) -> Evaluator {
+        Evaluator {
+            base: base
+                .windings
+                .iter()
+                .map(|w| Cached {
+                    winding: w.clone(),
+                    model: OnceLock::new(),
+                    self_h: OnceLock::new(),
+                })
+                .collect(),
+            metrics,
+            constraints,
+        }
+    }
+
+    /// The requested metrics.
+    pub fn metrics(&self) -> &[Metric] {
+        &self.metrics
+    }
+
+    fn unchanged(&self, design: &Design, i: usize) -> Option<&Cached> {
+        self.base
+            .get(i)
+            .filter(|c| design.windings.get(i) == Some(&c.winding))
+    }
+
+    fn model<'s>(&'s self, s: &'s mut Scratch<'_>, i: usize) -> &'s WindingModel {
+        if let Some(c) = self.unchanged(s.design, i) {
+            return c.model.get_or_init(|| WindingModel::of(&c.winding));
+        }
+        s.models[i].get_or_insert_with(|| WindingModel::of(&s.design.windings[i]))
+    }
+
+    fn self_h(&self, s: &mut Scratch<'_>, i: usize) -> f64 {
+        if let Some(c) = self.unchanged(s.design, i) {
+            return *c
+                .self_h
+                .get_or_init(|| self_inductance(&WindingModel::of(&c.winding), Par::Seq).0);
+        }
+        if let Some(v) = s.self_h[i] {
+            return v;
+        }
+        let v = self_inductance(self.model(s, i), Par::Seq).0;
+        s.self_h[i] = Some(v);
+        v
+    }
+
+    fn mutual_h(&self, s: &mut Scratch<'_>, a: usize, b: usize) -> Result<f64, String> {
+        let key = (a.min(b), a.max(b));
+        if let Some(&(_, v)) = s.mutual_h.iter().find(|(k, _)| *k == key) {
+            return Ok(v);
+        }
+        // Build both models first, then borrow them together (no copy of a long model).
+        self.model(s, a);
+        self.model(s, b);
+        let get = |i: usize| -> &WindingModel {
+            match self.unchanged(s.design, i) {
+                Some(c) => c.model.get().expect("built above"),
+                None => s.models[i].as_ref().expect("built above"),
+            }
+        };
+        let (v, _, converged) =
+            mutual_inductance(get(a), get(b), Par::Seq).map_err(|e| e.to_string())?;
+        if !converged {
+            s.notes.push(format!(
+                "mutual.{}.{}: the quadrature did not reach its tolerance (wires very close)",
+                s.design.windings[a].name, s.design.windings[b].name
+            ));
+        }
+        s.mutual_h.push((key, v));
+        Ok(v)
+    }
+
+    fn value(&self, s: &mut Scratch<'_>, m: Metric) -> Result<f64, String> {
+        Ok(match m {
+            Metric::SelfInductance(i) => self.self_h(s, i),
+            Metric::Mutual(a, b) => self.mutual_h(s, a, b)?,
+            Metric::Coupling(a, b) => {
+                let m = self.mutual_h(s, a, b)?;
+                coupling(m, self.self_h(s, a), self.self_h(s, b))
+            }
+            Metric::Gap(a, b) => min_surface_gap_m(&s.design.windings[a], &s.design.windings[b]),
+        })
+    }
+
+    /// Evaluate the metrics and constraints on `design`, a variant of the base design with the
+    /// same windings in the same order.
+    pub fn evaluate(&self, design: &Design) -> PointResult {
+        let n = design.windings.len();
+        let mut s = Scratch {
+            design,
+            models: vec![None; n],
+            self_h: vec![None; n],
+            mutual_h: Vec::new(),
+            notes: Vec::new(),
+        };
+        let error = |message: String| PointResult {
+            values: Vec::new(),
+            status: Status::Error,
+            message,
+        };
+        if n != self.base.len() {
+            return error("the point's design has another number of windings".into());
+        }
+        let mut values = Vec::with_capacity(self.metrics.len());
+        for &m in &self.metrics {
+            match self.value(&mut s, m) {
+                Ok(v) => values.push(v),
+                Err(e) => return error(e),
+            }
+        }
+        let mut violated = Vec::new();
+        for c in &self.constraints {
+            let v = match self.value(&mut s, c.metric) {
+                Ok(v) => v,
+                Err(e) => return error(e),
+            };
+            if !c.holds(v) {
+                violated.push(format!("{} (value {v})", c.text));
+            }
+        }
+        let status = if violated.is_empty() {
+            Status::Ok
+        } else {
+            Status::Infeasible
+        };
+        let mut message = if violated.is_empty() {
+            String::new()
+        } else {
+            format!("violates {}", violated.join("; "))
+        };
+        for note in s.notes {
+            if !message.is_empty() {
+                message.push_str("; ");
+            }
+            message.push_str(&note);
+        }
+        PointResult {
+            values,
+            status,
+            message,
+        }
+    }
+
+    /// Value of one metric on `design` (for goal seeking).
+    pub fn metric_value(&self, design: &Design, metric: Metric) -> Result<f64, String> {
+        let n = design.windings.len();
+        let mut s = Scratch {
+            design,
+            models: vec![None; n],
+            self_h: vec![None; n],
+            mutual_h: Vec::new(),
+            notes: Vec::new(),
+        };
+        self.value(&mut s, metric)
+    }
+
+    /// The constraints.
+    pub fn constraints(&self) -> &[Constraint] {
+        &self.constraints
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::assembly::inductance_report;
+    use crate::mutual::mutual_ring_ring_coaxial;
+
+    fn two_rings(z: f64) -> Design {
+        coilfield_geometry::parse_design(
+            &format!(
+                "[[winding]]\nname = \"a\"\nshape = \"ring\"\norigin = [0.0, 0.0, 0.0]\n\
+                 axis = [0.0, 0.0, 1.0]\nradius = 1.0\nwire_diameter = 0.001\n\n\
+                 [[winding]]\nname = \"b\"\nshape = \"ring\"\norigin = [0.0, 0.0, {z:?}]\n\
+                 axis = [0.0, 0.0, 1.0]\nradius = 1.0\nwire_diameter = 0.001\n"
+            ),
+            "t.toml",
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn metrics_agree_with_the_full_report_and_constraints_mark_points() {
+        let base = two_rings(1.0);
+        let names = ["mutual.a.b", "coupling.a.b", "self_inductance.b", "gap.a.b"];
+        let metrics = names
+            .iter()
+            .map(|n| parse_metric(n, &base).unwrap())
+            .collect();
+        let c = parse_constraint("coupling.a.b <= 0.05", &base).unwrap();
+        let ev = Evaluator::new(&base, metrics, vec![c]);
+        let moved = two_rings(0.5);
+        let r = ev.evaluate(&moved);
+        let full = inductance_report(&moved, Par::Seq).unwrap();
+        // Maxwell 1873 (two unit rings 1 m apart): 4.9407846308e-7 H, as in the crate docs.
+        let base_r = ev.evaluate(&base);
+        assert!((base_r.values[0] - 4.940_784_630_8e-7).abs() < 1e-16);
+        assert_eq!(r.values[0], mutual_ring_ring_coaxial(1.0, 1.0, 0.5));
+        assert_eq!(r.values[1], full.coupling[0][1]);
+        assert_eq!(r.values[2], full.mutual_h[1][1]);
+        // Coaxial rings of equal radius 0.5 m apart: the wires' surfaces are 0.5 m - 1 mm apart.
+        assert!((r.values[3] - 0.499).abs() < 1e-5, "{}", r.values[3]);
+        assert_eq!(r.status, Status::Infeasible);
+        assert!(r.message.contains("coupling.a.b <= 0.05"), "{}", r.message);
+        assert_eq!(base_r.status, Status::Ok);
+    }
+
+    #[test]
+    fn unknown_names_are_refused() {
+        let base = two_rings(1.0);
+        assert!(
+            parse_metric("coupling.a.c", &base)
+                .unwrap_err()
+                .contains("no winding named `c`")
+        );
+        assert!(
+            parse_metric("flux.a", &base)
+                .unwrap_err()
+                .contains("unknown metric")
+        );
+        assert!(
+            parse_constraint("coupling.a.b == 1", &base)
+                .unwrap_err()
+                .contains("not one of")
+        );
+    }
+}

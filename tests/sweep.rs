@@ -1,0 +1,452 @@
+//! End-to-end tests of `coilfield sweep` and `coilfield merge`: values against Maxwell's
+//! formula (checked by mpmath), thread independence, resume after a torn line, shards and
+//! merge, and bad input.
+
+mod common;
+
+use common::*;
+use std::path::Path;
+
+/// Two coaxial rings of 1 m radius; the sweep moves the second along the axis. Invented.
+const BASE: &str = r#"
+[[winding]]
+name = "a"
+shape = "ring"
+origin = [0.0, 0.0, 0.0]
+axis = [0.0, 0.0, 1.0]
+radius = 1.0
+wire_diameter = 0.001
+
+[[winding]]
+name = "b"
+shape = "ring"
+origin = [0.0, 0.0, 1.0]
+axis = [0.0, 0.0, 1.0]
+radius = 1.0
+wire_diameter = 0.001
+"#;
+
+const SWEEP: &str = r#"
+base = "base.toml"
+metrics = ["mutual.a.b", "coupling.a.b"]
+constraints = ["coupling.a.b <= 0.1"]
+
+[[axis]]
+key = "winding.b.origin[2]"
+values = [1.0, 0.5, 2.0]
+
+[[axis]]
+key = "winding.b.radius"
+from = 1.0
+to = 2.0
+steps = 5
+"#;
+
+fn setup(dir: &Path, sweep: &str) -> std::path::PathBuf {
+    design_file(dir, "base.toml", BASE);
+    design_file(dir, "sweep.toml", sweep)
+}
+
+fn sweep(args: &[&str]) -> std::process::Output {
+    let mut all = vec!["sweep"];
+    all.extend_from_slice(args);
+    run(&all)
+}
+
+#[test]
+fn csv_rows_hold_maxwell_values_in_point_order() {
+    let dir = tempfile::tempdir().unwrap();
+    let s = setup(dir.path(), SWEEP);
+    let out = dir.path().join("r.csv");
+    let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(&out).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(
+        lines[0],
+        "point,winding.b.origin[2],winding.b.radius,mutual.a.b,coupling.a.b,status,message"
+    );
+    assert_eq!(lines.len(), 1 + 15);
+    // Point 0: rings of 1 m, 1 m apart. Maxwell 1873; mpmath 30 digits: 4.9407846308e-7 H.
+    let f: Vec<&str> = lines[1].split(',').collect();
+    assert_eq!(&f[..3], &["0", "1", "1"]);
+    let m: f64 = f[3].parse().unwrap();
+    assert!((m - 4.940_784_630_8e-7).abs() < 1e-16, "{m}");
+    // Floats are written in shortest round-trip form.
+    assert_eq!(f[3], format!("{m}"));
+    // Point 5 (second height, first radius): 0.5 m apart, k above 0.1 -> infeasible.
+    let f5: Vec<&str> = lines[6].split(',').collect();
+    assert_eq!(&f5[..3], &["5", "0.5", "1"]);
+    assert_eq!(f5[5], "infeasible");
+    assert!(f5[6].contains("coupling.a.b <= 0.1"), "{}", lines[6]);
+    // Rings of 1 m radius 0.5 m apart: mpmath 30 digits (Maxwell in K and E): 1.1126108935e-6 H.
+    let m5: f64 = f5[3].parse().unwrap();
+    assert!(rel(m5, 1.112_610_893_52e-6) < 1e-11, "{m5}");
+}
+
+#[test]
+fn results_do_not_depend_on_threads_and_jsonl_matches_csv() {
+    let dir = tempfile::tempdir().unwrap();
+    let s = setup(dir.path(), SWEEP);
+    let mut outs = Vec::new();
+    for t in ["1", "2", "3"] {
+        let out = dir.path().join(format!("r{t}.csv"));
+        let o = sweep(&[
+            s.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+            "--threads",
+            t,
+        ]);
+        assert!(o.status.success());
+        outs.push(std::fs::read(&out).unwrap());
+    }
+    assert_eq!(outs[0], outs[1]);
+    assert_eq!(outs[0], outs[2]);
+    let out = dir.path().join("r.jsonl");
+    assert!(
+        sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()])
+            .status
+            .success()
+    );
+    let csv = String::from_utf8(outs[0].clone()).unwrap();
+    let jsonl = std::fs::read_to_string(&out).unwrap();
+    for (c, j) in csv.lines().skip(1).zip(jsonl.lines()) {
+        let v: serde_json::Value = serde_json::from_str(j).unwrap();
+        let f: Vec<&str> = c.split(',').collect();
+        assert_eq!(v["point"].as_u64().unwrap().to_string(), f[0]);
+        // serde_json's default float parser may be one ulp off the written shortest form.
+        let m: f64 = f[3].parse().unwrap();
+        assert!(
+            rel(v["metrics"]["mutual.a.b"].as_f64().unwrap(), m) < 4e-16,
+            "{j}"
+        );
+        let r: f64 = f[2].parse().unwrap();
+        assert!(
+            rel(v["params"]["winding.b.radius"].as_f64().unwrap(), r) < 4e-16,
+            "{j}"
+        );
+        assert_eq!(v["status"], f[5]);
+    }
+}
+
+#[test]
+fn resume_redoes_a_torn_line_and_yields_the_uninterrupted_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let s = setup(dir.path(), SWEEP);
+    let full = dir.path().join("full.csv");
+    assert!(
+        sweep(&[s.to_str().unwrap(), "--out", full.to_str().unwrap()])
+            .status
+            .success()
+    );
+    let whole = std::fs::read(&full).unwrap();
+    let text = String::from_utf8(whole.clone()).unwrap();
+    // A run killed in the middle of line 7: header + 6 rows + half a row.
+    let cut: usize = text.lines().take(7).map(|l| l.len() + 1).sum::<usize>() + 9;
+    let part = dir.path().join("part.csv");
+    std::fs::write(&part, &whole[..cut]).unwrap();
+    // Without --resume an existing output is refused.
+    let o = sweep(&[s.to_str().unwrap(), "--out", part.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--resume"));
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        part.to_str().unwrap(),
+        "--resume",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(std::fs::read(&part).unwrap(), whole);
+    // Resuming a finished file changes nothing.
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        part.to_str().unwrap(),
+        "--resume",
+    ]);
+    assert!(o.status.success());
+    assert_eq!(std::fs::read(&part).unwrap(), whole);
+}
+
+#[test]
+fn shards_merge_into_the_single_run_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let s = setup(dir.path(), SWEEP);
+    for ext in ["csv", "jsonl"] {
+        let full = dir.path().join(format!("full.{ext}"));
+        assert!(
+            sweep(&[s.to_str().unwrap(), "--out", full.to_str().unwrap()])
+                .status
+                .success()
+        );
+        let pattern = dir.path().join(format!("part-{{shard}}.{ext}"));
+        for k in 0..4 {
+            let o = sweep(&[
+                s.to_str().unwrap(),
+                "--out",
+                pattern.to_str().unwrap(),
+                "--shard",
+                &format!("{k}/4"),
+            ]);
+            assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        }
+        let parts: Vec<String> = (0..4)
+            .map(|k| {
+                dir.path()
+                    .join(format!("part-{k}.{ext}"))
+                    .display()
+                    .to_string()
+            })
+            .collect();
+        let merged = dir.path().join(format!("merged.{ext}"));
+        let mut args = vec!["merge"];
+        args.extend(parts.iter().map(String::as_str));
+        args.extend([
+            "--out",
+            merged.to_str().unwrap(),
+            "--sweep",
+            s.to_str().unwrap(),
+        ]);
+        let o = run(&args);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        assert_eq!(
+            std::fs::read(&merged).unwrap(),
+            std::fs::read(&full).unwrap()
+        );
+        // A missing shard and a doubled shard are named.
+        let mut missing = vec![
+            "merge",
+            parts[0].as_str(),
+            parts[1].as_str(),
+            parts[2].as_str(),
+        ];
+        missing.extend([
+            "--out",
+            merged.to_str().unwrap(),
+            "--sweep",
+            s.to_str().unwrap(),
+        ]);
+        let o = run(&missing);
+        assert_eq!(o.status.code(), Some(2));
+        let e = String::from_utf8_lossy(&o.stderr);
+        assert!(e.contains("missing") && e.contains("3, 7, 11"), "{e}");
+        let mut doubled = args.clone();
+        doubled.insert(1, parts[2].as_str());
+        let o = run(&doubled);
+        assert_eq!(o.status.code(), Some(2));
+        assert!(String::from_utf8_lossy(&o.stderr).contains("more than once"));
+    }
+}
+
+#[test]
+fn bad_sweeps_exit_2_naming_the_file_and_the_key() {
+    let dir = tempfile::tempdir().unwrap();
+    let cases = [
+        (
+            SWEEP.replace("winding.b.radius", "winding.c.radius"),
+            "no winding named `c`",
+        ),
+        (
+            SWEEP.replace("values = [1.0, 0.5, 2.0]", "values = []"),
+            "empty axis",
+        ),
+        (
+            SWEEP.replace("winding.b.origin[2]", "winding.b.origin[5]"),
+            "out of range",
+        ),
+        // A radius below the wire radius breaks the design on its own.
+        (
+            SWEEP.replace("from = 1.0", "from = 0.0001"),
+            "axis #2 `winding.b.radius` = 0.0001",
+        ),
+        (SWEEP.replace("mutual.a.b", "mutual.a.z"), "metrics[0]"),
+        (
+            SWEEP.replace("coupling.a.b <= 0.1", "coupling.a.b ~ 0.1"),
+            "constraints[0]",
+        ),
+    ];
+    for (i, (text, want)) in cases.iter().enumerate() {
+        let s = setup(dir.path(), text);
+        let out = dir.path().join(format!("bad{i}.csv"));
+        let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+        let e = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "case {i}: {e}");
+        assert!(
+            e.contains("sweep.toml") && e.contains(want),
+            "case {i}: {e}"
+        );
+        assert!(!out.exists(), "case {i}: no output before the checks pass");
+    }
+}
+
+#[test]
+fn a_point_that_breaks_the_design_is_recorded_and_the_sweep_goes_on() {
+    // Each value is fine alone, but ring b of radius 0.9995 m moved into ring a's plane
+    // (z = 0) touches ring a (1 m): status error at that point alone.
+    let dir = tempfile::tempdir().unwrap();
+    let text = r#"
+base = "base.toml"
+metrics = ["coupling.a.b"]
+[[axis]]
+key = "winding.b.origin[2]"
+values = [0.0, 1.0]
+[[axis]]
+key = "winding.b.radius"
+values = [0.9995, 0.7]
+"#;
+    // Alone, b at z = 0 (radius 0.5 m) and b of radius 0.9995 m (at z = 1 m) are fine.
+    design_file(
+        dir.path(),
+        "base.toml",
+        &BASE.replace(
+            "origin = [0.0, 0.0, 1.0]\naxis = [0.0, 0.0, 1.0]\nradius = 1.0",
+            "origin = [0.0, 0.0, 1.0]\naxis = [0.0, 0.0, 1.0]\nradius = 0.5",
+        ),
+    );
+    let s = design_file(dir.path(), "sweep.toml", text);
+    let out = dir.path().join("r.csv");
+    let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let rows: Vec<String> = std::fs::read_to_string(&out)
+        .unwrap()
+        .lines()
+        .map(str::to_owned)
+        .collect();
+    assert_eq!(rows.len(), 5);
+    assert!(rows[1].starts_with("0,0,0.9995,,error,"), "{}", rows[1]);
+    for r in &rows[2..] {
+        assert!(r.contains(",ok,"), "{r}");
+    }
+}
+
+#[test]
+fn seek_finds_the_distance_of_a_known_mutual_inductance() {
+    // Two rings of 1 m radius 1 m apart: M = 4.94078463079826907e-7 H (Maxwell 1873, mpmath
+    // 30 digits). Brent's method must find the distance 1 m from that M.
+    let dir = tempfile::tempdir().unwrap();
+    design_file(dir.path(), "base.toml", BASE);
+    let s = design_file(
+        dir.path(),
+        "seek.toml",
+        "base = \"base.toml\"\ntarget = \"mutual.a.b = 4.94078463079826907e-7\"\n\
+         [[axis]]\nkey = \"winding.b.origin[2]\"\nfrom = 0.5\nto = 3.0\n",
+    );
+    let o = run(&["seek", s.to_str().unwrap(), "--format", "json"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let j: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let z = j["params"]["winding.b.origin[2]"].as_f64().unwrap();
+    assert!((z - 1.0).abs() < 1e-9, "{j}");
+    assert!(j["evaluations"].as_u64().unwrap() < 40);
+    assert!(j["stop"].as_str().unwrap().starts_with("converged"));
+    // A target outside the range of the metric is bad input, with the range named.
+    let s = design_file(
+        dir.path(),
+        "seek2.toml",
+        "base = \"base.toml\"\ntarget = \"mutual.a.b = 1.0\"\n\
+         [[axis]]\nkey = \"winding.b.origin[2]\"\nfrom = 0.5\nto = 3.0\n",
+    );
+    let o = run(&["seek", s.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("is not between them"));
+}
+
+#[test]
+fn ctrl_c_keeps_the_finished_points_and_resume_completes_the_file() {
+    // The demo design with a slow metric (the wire gap samples the 900-turn helix), so the
+    // interrupt lands mid-sweep.
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::copy(
+        root().join("meshes-demo/tabletop-resonator.toml"),
+        dir.path().join("tabletop-resonator.toml"),
+    )
+    .unwrap();
+    let s = design_file(
+        dir.path(),
+        "sweep.toml",
+        "base = \"tabletop-resonator.toml\"\nmetrics = [\"gap.secondary.primary\", \
+         \"coupling.secondary.primary\"]\n[[axis]]\nkey = \"winding.primary.origin[2]\"\n\
+         from = 0.0\nto = 0.09\nsteps = 60\n",
+    );
+    let full = dir.path().join("full.csv");
+    assert!(
+        sweep(&[
+            s.to_str().unwrap(),
+            "--out",
+            full.to_str().unwrap(),
+            "--threads",
+            "1"
+        ])
+        .status
+        .success()
+    );
+    let whole = std::fs::read(&full).unwrap();
+    let part = dir.path().join("part.csv");
+    let mut child = std::process::Command::new(bin())
+        .args([
+            "sweep",
+            s.to_str().unwrap(),
+            "--out",
+            part.to_str().unwrap(),
+            "--threads",
+            "1",
+        ])
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    std::thread::sleep(std::time::Duration::from_millis(400));
+    let killed = std::process::Command::new("kill")
+        .args(["-INT", &child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(killed.success());
+    let status = child.wait().unwrap();
+    let got = std::fs::read(&part).unwrap();
+    if status.code() == Some(130) {
+        // Interrupted: the file is an exact prefix of whole lines of the full output.
+        assert!(got.len() < whole.len() && whole.starts_with(&got));
+        assert!(got.ends_with(b"\n"));
+    } else {
+        // The machine was fast enough to finish first: then the file is complete.
+        assert_eq!(status.code(), Some(0));
+        assert_eq!(got, whole);
+    }
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        part.to_str().unwrap(),
+        "--resume",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(std::fs::read(&part).unwrap(), whole);
+}
+
+#[test]
+fn plots_are_svg_heat_maps_or_lines_and_png_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let s = setup(dir.path(), SWEEP);
+    let out = dir.path().join("r.csv");
+    let svg = dir.path().join("k.svg");
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--plot",
+        svg.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert!(text.starts_with("<svg") && text.trim_end().ends_with("</svg>"));
+    // 3 x 5 grid: 15 cells, 50 colour-bar steps, the background and the frame.
+    assert_eq!(text.matches("<rect").count(), 15 + 50 + 2);
+    assert!(text.contains("mutual.a.b") && text.contains("winding.b.radius"));
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        dir.path().join("r2.csv").to_str().unwrap(),
+        "--plot",
+        dir.path().join("k.png").to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("only .svg"));
+}
