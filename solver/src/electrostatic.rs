@@ -1675,6 +1675,34 @@ mod tests {
     }
 
     #[test]
+    fn torus_peak_field_sits_on_its_outer_equator() {
+        // An isolated charged torus is most strongly curved outwards at its outer equator
+        // (rho = R + r, z = 0), where sigma and the surface field peak.
+        let text = "[[electrode]]\nname = \"ring\"\nshape = \"torus\"\norigin = [0.0, 0.0, 1.0]\naxis = [0.0, 0.0, 1.0]\nmajor_radius = 0.2\nminor_radius = 0.05\n[drive]\npotentials = { ring = 1e5 }\n";
+        let d = parse_design(text, "t").unwrap();
+        let s = Problem::from_design(
+            &d,
+            &Params {
+                panels: 200,
+                ..Default::default()
+            },
+            "t",
+        )
+        .unwrap()
+        .solve(Par::Rayon);
+        let peak = &s.peak_surface_fields()[0];
+        assert_eq!(peak.name, "ring");
+        let p = peak.at_m;
+        assert!(
+            (p.x.hypot(p.y) - 0.25).abs() < 2e-3 && (p.z - 1.0).abs() < 3e-3,
+            "{p}"
+        );
+        // Bracketed by the surface fields V / a of two spheres: one of the tube's radius (a
+        // smaller, more curved conductor) and one enclosing the torus (a larger one).
+        assert!(peak.field_v_per_m < 1e5 / 0.05 && peak.field_v_per_m > 1e5 / 0.25);
+    }
+
+    #[test]
     fn custom_profile_slot() {
         let text = "[[winding]]\nname = \"sec\"\nshape = \"helix\"\nrole = \"secondary\"\norigin = [0.0, 0.0, 0.05]\naxis = [0.0, 0.0, 1.0]\nradius = 0.05\nlength = 0.2\nturns = 400\nwire_diameter = 0.0004\n";
         let d = parse_design(text, "t").unwrap();
