@@ -14,12 +14,12 @@ mod output;
 mod plot;
 mod report;
 mod sample;
-mod solve;
-#[allow(dead_code)]
-mod thresholds;
 mod seek;
+mod solve;
 mod sweep;
 mod sweep_plot;
+#[allow(dead_code)]
+mod thresholds;
 mod verify;
 mod vtk;
 

@@ -204,7 +204,7 @@ impl Plan {
             version: self.base_design.version,
             windings,
             electrodes: self.base_design.electrodes.clone(),
-            ground: self.base_design.ground.clone(),
+            ground: self.base_design.ground,
             drive: self.base_design.drive.clone(),
         };
         check_overlaps(&design, label).map_err(|e| e.to_string())?;

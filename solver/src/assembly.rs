@@ -3,7 +3,9 @@
 use crate::coupling::coupling_matrix;
 use crate::error::SolverError;
 use crate::euler_maclaurin::mutual_ring_stack_coaxial;
-use crate::mutual::{Circle, mutual_ring_ring_coaxial, mutual_ring_rings_coaxial, mutual_rings_ring};
+use crate::mutual::{
+    Circle, mutual_ring_ring_coaxial, mutual_ring_rings_coaxial, mutual_rings_ring,
+};
 use crate::par::{Par, map_indexed, sum_indexed};
 use crate::segment::{mutual_rings_segment, mutual_segment_segment};
 use crate::self_inductance::{rosa_solenoid, self_filament_model, self_ring_model, wheeler_spiral};
