@@ -57,7 +57,7 @@ pub(crate) const G_SERIES: [f64; 12] = [
 /// Both m and kc (= sqrt(1 - m)) must be given, each computed from the geometry: for m < 0.02
 /// the power series in m is summed (the difference (2 - m)K - 2E would lose up to all digits
 /// there, and kc near 1 no longer carries m); otherwise the arithmetic-geometric mean runs on
-/// kc and m ([`cel_maxwell_agm`]), which keeps full precision as kc -> 0 (rings nearly
+/// kc and m (Gauss-Legendre arithmetic-geometric mean, see the private `cel_maxwell_agm`), which keeps full precision as kc -> 0 (rings nearly
 /// touching), where g ~ ln(4/kc) - 2.
 ///
 /// g(0) = pi/16. Relative accuracy: a few 1e-16 for m < 0.02, ~1e-14 elsewhere (tested against
