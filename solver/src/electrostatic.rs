@@ -1280,6 +1280,21 @@ pub fn validity_warnings(design: &Design, distances_m: &[f64]) -> Vec<String> {
 
 #[cfg(test)]
 mod tests {
+    /// Parse a design text and solve it with `panels` panels (the common test set-up).
+    fn solve_text(text: &str, panels: usize) -> Solution {
+        let d = parse_design(text, "t").unwrap();
+        Problem::from_design(
+            &d,
+            &Params {
+                panels,
+                ..Default::default()
+            },
+            "t",
+        )
+        .unwrap()
+        .solve(Par::Rayon)
+    }
+
     use super::*;
     use coilfield_geometry::parse_design;
 
@@ -1471,17 +1486,7 @@ mod tests {
     #[test]
     fn field_outside_an_isolated_sphere_is_coulomb() {
         let text = "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.0]\nradius = 0.1\n[drive]\npotentials = { ball = 1000.0 }\n";
-        let d = parse_design(text, "t").unwrap();
-        let s = Problem::from_design(
-            &d,
-            &Params {
-                panels: 200,
-                ..Default::default()
-            },
-            "t",
-        )
-        .unwrap()
-        .solve(Par::Rayon);
+        let s = solve_text(text, 200);
         let pts = [
             Point3::new(0.3, 0.0, 0.1),
             Point3::new(0.0, 0.0, -0.5),
@@ -1512,17 +1517,7 @@ mod tests {
     #[test]
     fn field_over_a_grounded_plane_meets_it_normally() {
         let text = "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.3]\nradius = 0.1\n[ground]\nz = 0.0\n[drive]\npotentials = { ball = 1000.0 }\n";
-        let d = parse_design(text, "t").unwrap();
-        let s = Problem::from_design(
-            &d,
-            &Params {
-                panels: 200,
-                ..Default::default()
-            },
-            "t",
-        )
-        .unwrap()
-        .solve(Par::Rayon);
+        let s = solve_text(text, 200);
         let pts = [
             Point3::new(0.2, 0.1, 0.0),
             Point3::new(0.0, 0.0, 0.0),
@@ -1543,17 +1538,7 @@ mod tests {
     #[test]
     fn clustered_field_matches_panel_by_panel() {
         let text = "[[winding]]\nname = \"sec\"\nshape = \"helix\"\nrole = \"secondary\"\norigin = [0.0, 0.0, 0.05]\naxis = [0.0, 0.0, 1.0]\nradius = 0.05\nlength = 0.3\nturns = 600\nwire_diameter = 0.0004\n[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.45]\nradius = 0.08\nconnect = \"sec:top\"\n[ground]\nz = 0.0\n[drive]\npotentials = { sec = [0.0, 1e5] }\n";
-        let d = parse_design(text, "t").unwrap();
-        let s = Problem::from_design(
-            &d,
-            &Params {
-                panels: 400,
-                ..Default::default()
-            },
-            "t",
-        )
-        .unwrap()
-        .solve(Par::Rayon);
+        let s = solve_text(text, 400);
         let clusters = s.clusters();
         let singles: Vec<Cluster> = (0..s.n_panels())
             .map(|k| Cluster {
@@ -1625,17 +1610,7 @@ mod tests {
     #[test]
     fn maxwell_matrix_of_two_spheres_is_reciprocal() {
         let text = "[[electrode]]\nname = \"a\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.0]\nradius = 0.1\n[[electrode]]\nname = \"b\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.3]\nradius = 0.05\n";
-        let d = parse_design(text, "t").unwrap();
-        let s = Problem::from_design(
-            &d,
-            &Params {
-                panels: 300,
-                ..Default::default()
-            },
-            "t",
-        )
-        .unwrap()
-        .solve(Par::Rayon);
+        let s = solve_text(text, 300);
         let c = s.capacitance_matrix_f();
         assert_eq!(s.conductor_names(), ["a", "b"]);
         // Green's reciprocity: C_ab = C_ba; induced charges are negative; each diagonal
@@ -1648,17 +1623,7 @@ mod tests {
     #[test]
     fn connected_topload_adds_to_the_self_capacitance() {
         let text = "[[winding]]\nname = \"sec\"\nshape = \"helix\"\nrole = \"secondary\"\norigin = [0.0, 0.0, 0.05]\naxis = [0.0, 0.0, 1.0]\nradius = 0.05\nlength = 0.2\nturns = 400\nwire_diameter = 0.0004\n[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.35]\nradius = 0.08\nconnect = \"sec:top\"\n";
-        let d = parse_design(text, "t").unwrap();
-        let s = Problem::from_design(
-            &d,
-            &Params {
-                panels: 300,
-                ..Default::default()
-            },
-            "t",
-        )
-        .unwrap()
-        .solve(Par::Rayon);
+        let s = solve_text(text, 300);
         let sc = s.self_capacitance_f().unwrap();
         // The sphere alone would hold 4 pi eps0 a = 8.9 pF at 1 V; with the coil beside it the
         // total lies above the bare coil's and below the sum of the two apart.
@@ -1679,17 +1644,7 @@ mod tests {
         // An isolated charged torus is most strongly curved outwards at its outer equator
         // (rho = R + r, z = 0), where sigma and the surface field peak.
         let text = "[[electrode]]\nname = \"ring\"\nshape = \"torus\"\norigin = [0.0, 0.0, 1.0]\naxis = [0.0, 0.0, 1.0]\nmajor_radius = 0.2\nminor_radius = 0.05\n[drive]\npotentials = { ring = 1e5 }\n";
-        let d = parse_design(text, "t").unwrap();
-        let s = Problem::from_design(
-            &d,
-            &Params {
-                panels: 200,
-                ..Default::default()
-            },
-            "t",
-        )
-        .unwrap()
-        .solve(Par::Rayon);
+        let s = solve_text(text, 200);
         let peak = &s.peak_surface_fields()[0];
         assert_eq!(peak.name, "ring");
         let p = peak.at_m;
