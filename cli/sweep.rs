@@ -2,9 +2,10 @@
 //! resumable, shardable over Slurm array tasks.
 
 use crate::BadInput;
-use coilfield_geometry::overlap::check_overlaps;
-use coilfield_geometry::sweep::{Sweep, Values, apply, parse_sweep, points};
-use coilfield_geometry::{Design, parse_design};
+use coilfield_geometry::sweep::{Part, Sweep, Values, apply_to_item, item_table, parse_sweep, points};
+use coilfield_geometry::{
+    Design, check_design, electrode_from_table, parse_design, winding_from_table,
+};
 use coilfield_solver::metrics::{Evaluator, PointResult, parse_constraint, parse_metric};
 use std::collections::BTreeMap;
 use std::fs::{File, OpenOptions};
@@ -56,15 +57,25 @@ pub fn read_text(path: &Path, what: &str) -> anyhow::Result<String> {
         .map_err(|e| BadInput(format!("{label}: cannot read the {what}: {e}")))?)
 }
 
+/// The base table of one winding or electrode that some axes edit, and those axes.
+struct Edit {
+    part: Part,
+    /// Place in the design (file order, from 0).
+    index: usize,
+    table: toml::Table,
+    /// The axes (indices into the sweep's axes) that edit it.
+    axes: Vec<usize>,
+}
+
 /// A sweep file with its base design, checked and ready to evaluate.
 pub struct Plan {
     pub sweep_label: String,
     pub base_label: String,
     pub sweep: Sweep,
-    pub base_table: toml::Table,
     pub base_design: Design,
     pub evaluator: Evaluator,
     pub points: Vec<Vec<f64>>,
+    edits: Vec<Edit>,
 }
 
 impl Plan {
@@ -100,23 +111,16 @@ impl Plan {
             );
         }
         let evaluator = Evaluator::new(&base_design, metrics, constraints);
-        if base_table
-            .get("winding")
-            .and_then(|w| w.as_array())
-            .map(|w| w.len())
-            != Some(base_design.windings.len())
-        {
-            return Err(BadInput(format!("{base_label}: expected [[winding]] tables")).into());
-        }
+        let edits = edits_of(&sweep, &base_table, &sweep_label)?;
         let pts = points(&sweep, &sweep_label).map_err(|e| BadInput(e.to_string()))?;
         let plan = Plan {
             sweep_label,
             base_label,
             sweep,
-            base_table,
             base_design,
             evaluator,
             points: pts,
+            edits,
         };
         plan.check_axes_alone()?;
         Ok(plan)
@@ -144,70 +148,55 @@ impl Plan {
                     axis.key,
                     self.base_label
                 );
-                let table = apply(&self.base_table, std::slice::from_ref(axis), &[v])
-                    .map_err(|e| BadInput(format!("{}: axis #{}: {e}", self.sweep_label, j + 1)))?;
-                let text = toml::to_string(&table)
-                    .map_err(|e| BadInput(format!("{label}: cannot write the design: {e}")))?;
-                parse_design(&text, &label)?;
+                self.design_with(&[(j, v)], &label)
+                    .map_err(|e| BadInput(prefixed(&label, e)))?;
             }
         }
         Ok(())
     }
 
     /// The design at point `i`, or the message of why there is none.
-    ///
-    /// The axes edit the base design's TOML; each winding whose table they changed goes through
-    /// [`parse_design`] alone (every per-winding check of a design file), the others are the
-    /// base's, and the checks between windings (wires apart) run on the whole design with
-    /// [`check_overlaps`], as [`parse_design`] does. Names cannot be swept, so they stay unique.
     pub fn design_at(&self, i: usize) -> Result<Design, String> {
         self.design_for(&self.points[i], &format!("point {i}"))
     }
 
-    /// The design with the axes at `values` (see [`Plan::design_at`]); `label` names it in
+    /// The design with the axes at `values` (see [`Plan::design_with`]); `label` names it in
     /// messages.
     pub fn design_for(&self, values: &[f64], label: &str) -> Result<Design, String> {
-        let mut table = apply(&self.base_table, &self.sweep.axes, values)?;
-        let empty = Vec::new();
-        let base_ws = self
-            .base_table
-            .get("winding")
-            .and_then(|w| w.as_array())
-            .unwrap_or(&empty);
-        let ws = match table.remove("winding") {
-            Some(toml::Value::Array(ws)) => ws,
-            _ => Vec::new(),
-        };
-        let mut windings = Vec::with_capacity(ws.len());
-        for (k, w) in ws.into_iter().enumerate() {
-            let base = &self.base_design.windings[k];
-            if base_ws.get(k) == Some(&w) {
-                windings.push(base.clone());
-                continue;
+        let pairs: Vec<(usize, f64)> = values.iter().copied().enumerate().collect();
+        self.design_with(&pairs, label)
+    }
+
+    /// The base design with the axes `(axis index, value)` set.
+    ///
+    /// Each winding or electrode that the axes edit is its base table with the values set, read
+    /// again with every check of a design file for one item ([`winding_from_table`],
+    /// [`electrode_from_table`]); the others are the base's. The checks between items run on
+    /// the whole result ([`check_design`]), as [`parse_design`] runs them. Names cannot be
+    /// swept, so they stay unique.
+    pub fn design_with(&self, values: &[(usize, f64)], label: &str) -> Result<Design, String> {
+        let mut design = self.base_design.clone();
+        for edit in &self.edits {
+            let mut table = None;
+            for &(j, v) in values.iter().filter(|(j, _)| edit.axes.contains(j)) {
+                let axis = &self.sweep.axes[j];
+                let t = table.get_or_insert_with(|| edit.table.clone());
+                apply_to_item(t, &axis.target, v).map_err(|e| format!("{}: {e}", axis.key))?;
             }
-            let toml::Value::Table(mut wt) = w else {
-                return Err(format!("winding #{}: not a table", k + 1));
-            };
-            // A winding without a name is named by its place in the file.
-            wt.entry("name")
-                .or_insert_with(|| toml::Value::String(base.name.clone()));
-            let mut doc = toml::Table::new();
-            doc.insert(
-                "winding".into(),
-                toml::Value::Array(vec![toml::Value::Table(wt)]),
-            );
-            let text = toml::to_string(&doc).map_err(|e| e.to_string())?;
-            let one = parse_design(&text, label).map_err(|e| e.to_string())?;
-            windings.extend(one.windings);
+            let Some(table) = table else { continue };
+            let number = edit.index + 1;
+            match edit.part {
+                Part::Winding => {
+                    design.windings[edit.index] =
+                        winding_from_table(table, number, label).map_err(|e| e.to_string())?;
+                }
+                Part::Electrode => {
+                    design.electrodes[edit.index] =
+                        electrode_from_table(table, number, label).map_err(|e| e.to_string())?;
+                }
+            }
         }
-        let design = Design {
-            version: self.base_design.version,
-            windings,
-            electrodes: self.base_design.electrodes.clone(),
-            ground: self.base_design.ground,
-            drive: self.base_design.drive.clone(),
-        };
-        check_overlaps(&design, label).map_err(|e| e.to_string())?;
+        check_design(&design, label).map_err(|e| e.to_string())?;
         Ok(design)
     }
 
@@ -284,6 +273,40 @@ impl Plan {
 }
 
 /// Shortest round-trip decimal form of a float (Rust's `Display`); NaN and infinities as words.
+/// The base tables the axes edit, one per winding or electrode, in the order of first use.
+fn edits_of(sweep: &Sweep, base: &toml::Table, sweep_label: &str) -> anyhow::Result<Vec<Edit>> {
+    let mut edits: Vec<Edit> = Vec::new();
+    for (j, axis) in sweep.axes.iter().enumerate() {
+        let part = axis.target.part();
+        let (index, table) = item_table(base, part, axis.target.name()).map_err(|e| {
+            BadInput(format!(
+                "{sweep_label}: axis #{} key `{}`: {e}",
+                j + 1,
+                axis.key
+            ))
+        })?;
+        match edits.iter_mut().find(|e| e.part == part && e.index == index) {
+            Some(e) => e.axes.push(j),
+            None => edits.push(Edit {
+                part,
+                index,
+                table: table.clone(),
+                axes: vec![j],
+            }),
+        }
+    }
+    Ok(edits)
+}
+
+/// A message with `label` in front unless it starts with it already.
+fn prefixed(label: &str, message: String) -> String {
+    if message.starts_with(label) {
+        message
+    } else {
+        format!("{label}: {message}")
+    }
+}
+
 fn num(v: f64) -> String {
     format!("{v}")
 }

@@ -231,10 +231,26 @@ pub fn parse_design(text: &str, source: &str) -> Result<Design, DesignError> {
         ground,
         drive,
     };
-    check_overlaps(&design, source)?;
-    check_electrodes(&design, source)?;
-    check_drive(&design, source)?;
+    check_design(&design, source)?;
     Ok(design)
+}
+
+/// The checks between the parts of a design: wires apart, electrodes clear of the wires, of
+/// each other and of the ground plane, and a drive that names existing conductors.
+///
+/// [`parse_design`] runs them; a caller that edits a parsed design (a sweep point) runs them
+/// again on the result. `source` labels messages.
+pub fn check_design(design: &Design, source: &str) -> Result<(), DesignError> {
+    check_overlaps(design, source)?;
+    check_electrodes(design, source)?;
+    check_drive(design, source)
+}
+
+/// Read one `[[winding]]` table alone, with every check a design file makes of a winding by
+/// itself. `number` counts windings from 1 in file order (it names a winding without a `name`
+/// and labels messages, as in a design file).
+pub fn winding_from_table(table: Table, number: usize, source: &str) -> Result<Winding, DesignError> {
+    parse_winding(table, number, source)
 }
 
 /// Whether a name matches `[A-Za-z0-9_-]+`.

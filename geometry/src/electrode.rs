@@ -310,6 +310,17 @@ pub(crate) fn parse_electrodes(value: Value, source: &str) -> Result<Vec<Electro
         .collect()
 }
 
+/// Read one `[[electrode]]` table alone, with every check a design file makes of an electrode by
+/// itself. `number` counts electrodes from 1 in file order (it names an electrode without a
+/// `name` and labels messages, as in a design file).
+pub fn electrode_from_table(
+    table: Table,
+    number: usize,
+    source: &str,
+) -> Result<Electrode, DesignError> {
+    parse_electrode(table, number, source)
+}
+
 fn parse_electrode(
     mut table: Table,
     number: usize,

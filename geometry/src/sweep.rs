@@ -8,7 +8,8 @@
 //! constraints = ["gap.secondary.primary >= 0.005"]
 //!
 //! [[axis]]
-//! key = "winding.primary.origin[2]" # winding.<name>.<key>, [i] for a vector component
+//! key = "winding.primary.origin[2]" # winding.<name>.<key> or electrode.<name>.<key>,
+//!                                    # [i] for a vector component
 //! from = 0.0                         # with `to` and `steps` (both ends included) ...
 //! to = 0.09
 //! steps = 10
@@ -21,12 +22,19 @@
 //! about = [0.0, 1.0, 0.0]            # ... about this direction through the origin
 //! values = [0.0, 15.0, 30.0]
 //!
+//! [[axis]]
+//! key = "electrode.topload.major_radius" # an electrode's size or place
+//! values = [0.05, 0.06]
+//!
 //! # Instead of a grid: random or Latin-hypercube points inside each axis's from/to.
 //! # [sample]
 //! # method = "lhs"                 # random | lhs
 //! # count = 1000
 //! # seed = 7
 //! ```
+//!
+//! A nameless winding or electrode is named as the design parser names it (`winding-2`,
+//! `electrode-1`). Names, shapes and `connect` cannot be swept.
 //!
 //! Grid points are the Cartesian product of the axes (groups count as one axis), the first
 //! axis varying slowest. Values are plain SI numbers (metres, turns, degrees for `tilt_deg`).
@@ -64,26 +72,64 @@ pub enum SweepError {
     },
 }
 
+/// The kind of design table a key path names.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Part {
+    /// A `[[winding]]` table.
+    Winding,
+    /// An `[[electrode]]` table.
+    Electrode,
+}
+
+impl Part {
+    /// The word of key paths and of the design file (`winding`, `electrode`).
+    pub fn word(self) -> &'static str {
+        match self {
+            Part::Winding => "winding",
+            Part::Electrode => "electrode",
+        }
+    }
+}
+
 /// Which part of the design an axis changes.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Target {
-    /// `winding.<name>.<key>` or `winding.<name>.<key>[index]`.
+    /// `<part>.<name>.<key>` or `<part>.<name>.<key>[index]`.
     Field {
-        /// Winding name.
-        winding: String,
-        /// Key inside the winding's table.
+        /// Winding or electrode.
+        part: Part,
+        /// Its name.
+        name: String,
+        /// Key inside its table.
         key: String,
         /// Component of a vector key.
         index: Option<usize>,
     },
-    /// `winding.<name>.tilt_deg`: the winding's axis turned by the value (degrees) about
-    /// `about`.
+    /// `<part>.<name>.tilt_deg`: the axis turned by the value (degrees) about `about`.
     Tilt {
-        /// Winding name.
-        winding: String,
+        /// Winding or electrode.
+        part: Part,
+        /// Its name.
+        name: String,
         /// Direction of the rotation axis (normalised).
         about: [f64; 3],
     },
+}
+
+impl Target {
+    /// The kind of table it edits.
+    pub fn part(&self) -> Part {
+        match self {
+            Target::Field { part, .. } | Target::Tilt { part, .. } => *part,
+        }
+    }
+
+    /// The name of the winding or electrode it edits.
+    pub fn name(&self) -> &str {
+        match self {
+            Target::Field { name, .. } | Target::Tilt { name, .. } => name,
+        }
+    }
 }
 
 /// The values of one axis.
@@ -217,16 +263,27 @@ fn number(v: &Value) -> Option<f64> {
     }
 }
 
-/// Parse a key path `winding.<name>.<key>` or `winding.<name>.<key>[i]`.
-pub fn parse_key(key: &str) -> Result<(String, String, Option<usize>), String> {
-    let rest = key.strip_prefix("winding.").ok_or_else(|| {
-        "a key path starts with `winding.` (e.g. `winding.primary.origin[2]`)".to_string()
-    })?;
+/// A parsed key path: the kind of table, its name, the key and the component.
+pub type KeyPath = (Part, String, String, Option<usize>);
+
+/// Parse a key path `winding.<name>.<key>`, `electrode.<name>.<key>`, with `[i]` for a vector
+/// component.
+pub fn parse_key(key: &str) -> Result<KeyPath, String> {
+    let (part, rest) = if let Some(rest) = key.strip_prefix("winding.") {
+        (Part::Winding, rest)
+    } else if let Some(rest) = key.strip_prefix("electrode.") {
+        (Part::Electrode, rest)
+    } else {
+        return Err("a key path starts with `winding.` or `electrode.` (e.g. \
+                    `winding.primary.origin[2]`)"
+            .to_string());
+    };
+    let word = part.word();
     let (name, field) = rest
         .split_once('.')
-        .ok_or_else(|| "expected `winding.<name>.<key>`".to_string())?;
+        .ok_or_else(|| format!("expected `{word}.<name>.<key>`"))?;
     if !crate::design::is_valid_name(name) {
-        return Err(format!("`{name}` is not a winding name ([A-Za-z0-9_-]+)"));
+        return Err(format!("`{name}` is not a {word} name ([A-Za-z0-9_-]+)"));
     }
     let (field, index) = match field.split_once('[') {
         Some((f, idx)) => {
@@ -241,7 +298,7 @@ pub fn parse_key(key: &str) -> Result<(String, String, Option<usize>), String> {
     if field.is_empty() || !field.bytes().all(|b| b.is_ascii_lowercase() || b == b'_') {
         return Err(format!("`{field}` is not a design key"));
     }
-    Ok((name.to_string(), field.to_string(), index))
+    Ok((part, name.to_string(), field.to_string(), index))
 }
 
 /// Parse and check the text of a sweep file (`source` labels messages). Names of windings and
@@ -396,7 +453,7 @@ fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<
         }
     };
     let bad_key = |reason: String| invalid(source, format!("{label} key `{key}`"), reason);
-    let (winding, field, index) = parse_key(&key).map_err(bad_key)?;
+    let (part, name, field, index) = parse_key(&key).map_err(bad_key)?;
     let about = t.remove("about");
     let target = if field == "tilt_deg" {
         if index.is_some() {
@@ -425,7 +482,8 @@ fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<
             ));
         }
         Target::Tilt {
-            winding,
+            part,
+            name,
             about: [v[0] / n, v[1] / n, v[2] / n],
         }
     } else {
@@ -436,11 +494,12 @@ fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<
                 "only a tilt_deg axis takes `about`",
             ));
         }
-        if field == "name" || field == "shape" {
+        if matches!(field.as_str(), "name" | "shape" | "connect") {
             return Err(bad_key(format!("`{field}` is not a number to sweep")));
         }
         Target::Field {
-            winding,
+            part,
+            name,
             key: field,
             index,
         }
@@ -717,93 +776,143 @@ pub fn points(sweep: &Sweep, source: &str) -> Result<Vec<Vec<f64>>, SweepError> 
 pub fn apply(base: &Table, axes: &[Axis], values: &[f64]) -> Result<Table, String> {
     let mut t = base.clone();
     for (axis, &v) in axes.iter().zip(values) {
-        apply_one(&mut t, axis, v).map_err(|e| format!("{}: {e}", axis.key))?;
+        let target = &axis.target;
+        let (_, item) = item_table_mut(&mut t, target.part(), target.name())
+            .map_err(|e| format!("{}: {e}", axis.key))?;
+        apply_to_item(item, target, v).map_err(|e| format!("{}: {e}", axis.key))?;
     }
     Ok(t)
 }
 
-fn winding_table<'t>(t: &'t mut Table, name: &str) -> Result<&'t mut Table, String> {
-    let Some(Value::Array(ws)) = t.get_mut("winding") else {
-        return Err("the base design has no [[winding]] tables".into());
-    };
-    let names: Vec<String> = ws
-        .iter()
-        .filter_map(|w| w.get("name").and_then(|n| n.as_str()).map(str::to_owned))
-        .collect();
-    ws.iter_mut()
-        .filter_map(|w| w.as_table_mut())
-        .find(|w| w.get("name").and_then(|n| n.as_str()) == Some(name))
-        .ok_or_else(|| {
-            format!(
-                "the base design has no winding named `{name}` (windings: {})",
-                names.join(", ")
-            )
-        })
+/// Name of the `number`-th (from 1) table of its kind when it has no `name` key, as the design
+/// parser names it.
+fn default_name(part: Part, number: usize) -> String {
+    format!("{}-{number}", part.word())
 }
 
-fn apply_one(t: &mut Table, axis: &Axis, v: f64) -> Result<(), String> {
-    match &axis.target {
+fn item_tables(t: &Table, part: Part) -> &[Value] {
+    match t.get(part.word()) {
+        Some(Value::Array(items)) => items,
+        _ => &[],
+    }
+}
+
+fn name_of(item: &Value, part: Part, index: usize) -> String {
+    match item.get("name").and_then(|n| n.as_str()) {
+        Some(n) => n.to_string(),
+        None => default_name(part, index + 1),
+    }
+}
+
+fn no_such_item(t: &Table, part: Part, name: &str) -> String {
+    let word = part.word();
+    let items = item_tables(t, part);
+    if items.is_empty() {
+        return format!("the base design has no [[{word}]] tables");
+    }
+    let names: Vec<String> = items
+        .iter()
+        .enumerate()
+        .map(|(i, w)| name_of(w, part, i))
+        .collect();
+    format!(
+        "the base design has no {word} named `{name}` ({word}s: {})",
+        names.join(", ")
+    )
+}
+
+/// The index (file order) and the table of the winding or electrode named `name` in a design
+/// table.
+pub fn item_table<'t>(t: &'t Table, part: Part, name: &str) -> Result<(usize, &'t Table), String> {
+    item_tables(t, part)
+        .iter()
+        .enumerate()
+        .find(|(i, w)| name_of(w, part, *i) == name)
+        .and_then(|(i, w)| w.as_table().map(|w| (i, w)))
+        .ok_or_else(|| no_such_item(t, part, name))
+}
+
+fn item_table_mut<'t>(
+    t: &'t mut Table,
+    part: Part,
+    name: &str,
+) -> Result<(usize, &'t mut Table), String> {
+    let (index, _) = item_table(t, part, name)?;
+    match t.get_mut(part.word()) {
+        Some(Value::Array(items)) => items[index]
+            .as_table_mut()
+            .map(|w| (index, w))
+            .ok_or_else(|| format!("{} #{} is not a table", part.word(), index + 1)),
+        _ => Err(format!("the base design has no [[{}]] tables", part.word())),
+    }
+}
+
+/// Set one axis value in the table of the winding or electrode the axis names (`item`). The
+/// message of an error says why (no such key, not a vector, ...).
+pub fn apply_to_item(item: &mut Table, target: &Target, v: f64) -> Result<(), String> {
+    match target {
         Target::Field {
-            winding,
+            part,
+            name,
             key,
             index,
-        } => {
-            let w = winding_table(t, winding)?;
-            match index {
-                None => {
-                    let was_integer = matches!(w.get(key), Some(Value::Integer(_)));
-                    let new = if was_integer && v.fract() == 0.0 && v.abs() < 9e15 {
-                        Value::Integer(v as i64)
-                    } else {
-                        Value::Float(v)
-                    };
-                    if matches!(w.get(key), Some(Value::Array(_))) {
-                        return Err(format!("`{key}` is a vector: name a component, `{key}[0]`"));
-                    }
-                    w.insert(key.clone(), new);
+        } => match index {
+            None => {
+                let was_integer = matches!(item.get(key), Some(Value::Integer(_)));
+                let new = if was_integer && v.fract() == 0.0 && v.abs() < 9e15 {
+                    Value::Integer(v as i64)
+                } else {
+                    Value::Float(v)
+                };
+                if matches!(item.get(key), Some(Value::Array(_))) {
+                    return Err(format!("`{key}` is a vector: name a component, `{key}[0]`"));
                 }
-                Some(i) => {
-                    let Some(Value::Array(a)) = w.get_mut(key) else {
-                        return Err(format!(
-                            "winding `{winding}` has no vector key `{key}` in the base design"
-                        ));
-                    };
-                    let len = a.len();
-                    let slot = a.get_mut(*i).ok_or_else(|| {
-                        format!("component [{i}] is out of range (`{key}` has {len})")
-                    })?;
-                    *slot = Value::Float(v);
-                }
+                item.insert(key.clone(), new);
             }
-        }
-        Target::Tilt { winding, about } => {
-            let w = winding_table(t, winding)?;
-            let axis_v: Option<Vec<f64>> = match w.get("axis") {
+            Some(i) => {
+                let Some(Value::Array(a)) = item.get_mut(key) else {
+                    return Err(format!(
+                        "{} `{name}` has no vector key `{key}` in the base design",
+                        part.word()
+                    ));
+                };
+                let len = a.len();
+                let slot = a
+                    .get_mut(*i)
+                    .ok_or_else(|| format!("component [{i}] is out of range (`{key}` has {len})"))?;
+                *slot = Value::Float(v);
+            }
+        },
+        Target::Tilt { part, name, about } => {
+            let axis_v: Option<Vec<f64>> = match item.get("axis") {
                 Some(Value::Array(a)) if a.len() == 3 => a.iter().map(number).collect(),
                 _ => None,
             };
             let Some(x) = axis_v else {
                 return Err(format!(
-                    "winding `{winding}` has no axis = [x, y, z] in the base design to tilt"
+                    "{} `{name}` has no axis = [x, y, z] in the base design to tilt",
+                    part.word()
                 ));
             };
-            // Rodrigues' rotation of x by angle v about the unit vector k:
-            // x cos + (k x x) sin + k (k . x)(1 - cos).
-            let (s, c) = v.to_radians().sin_cos();
-            let k = about;
-            let kx = [
-                k[1] * x[2] - k[2] * x[1],
-                k[2] * x[0] - k[0] * x[2],
-                k[0] * x[1] - k[1] * x[0],
-            ];
-            let kd = k[0] * x[0] + k[1] * x[1] + k[2] * x[2];
-            let r: Vec<Value> = (0..3)
-                .map(|i| Value::Float(x[i] * c + kx[i] * s + k[i] * kd * (1.0 - c)))
-                .collect();
-            w.insert("axis".into(), Value::Array(r));
+            item.insert("axis".into(), Value::Array(rotated(&x, about, v)));
         }
     }
     Ok(())
+}
+
+/// Rodrigues' rotation of x by `angle_deg` about the unit vector k:
+/// x cos + (k x x) sin + k (k . x)(1 - cos).
+fn rotated(x: &[f64], k: &[f64; 3], angle_deg: f64) -> Vec<Value> {
+    let (s, c) = angle_deg.to_radians().sin_cos();
+    let kx = [
+        k[1] * x[2] - k[2] * x[1],
+        k[2] * x[0] - k[0] * x[2],
+        k[0] * x[1] - k[1] * x[0],
+    ];
+    let kd = k[0] * x[0] + k[1] * x[1] + k[2] * x[2];
+    (0..3)
+        .map(|i| Value::Float(x[i] * c + kx[i] * s + k[i] * kd * (1.0 - c)))
+        .collect()
 }
 
 #[cfg(test)]
@@ -897,7 +1006,8 @@ scale = "log"
         let axis = Axis {
             key: "winding.a.tilt_deg".into(),
             target: Target::Tilt {
-                winding: "a".into(),
+                part: Part::Winding,
+                name: "a".into(),
                 about: [0.0, 1.0, 0.0],
             },
             values: Values::List(vec![90.0]),
@@ -913,7 +1023,8 @@ scale = "log"
     #[test]
     fn bad_key_paths_are_named() {
         for (key, want) in [
-            ("primary.radius", "starts with `winding.`"),
+            ("primary.radius", "starts with `winding.` or `electrode.`"),
+            ("electrode.top", "electrode.<name>.<key>"),
             ("winding.primary", "winding.<name>.<key>"),
             ("winding.primary.origin[x]", "component index"),
             ("winding.pri mary.radius", "not a winding name"),
