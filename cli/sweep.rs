@@ -307,8 +307,12 @@ fn prefixed(label: &str, message: String) -> String {
     }
 }
 
+/// Shortest round-trip text of a float: the fewest digits that read back to the same value, in
+/// plain or exponent form, whichever is shorter (plain on a tie).
 fn num(v: f64) -> String {
-    format!("{v}")
+    let plain = format!("{v}");
+    let exp = format!("{v:e}");
+    if exp.len() < plain.len() { exp } else { plain }
 }
 
 fn json_num(v: f64) -> serde_json::Value {

@@ -450,3 +450,130 @@ fn plots_are_svg_heat_maps_or_lines_and_png_is_refused() {
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("only .svg"));
 }
+
+/// A helix secondary with a sphere on its top, over a grounded plane. Invented.
+const RESONATOR: &str = r#"
+[[winding]]
+name = "sec"
+shape = "helix"
+role = "secondary"
+origin = [0.0, 0.0, 0.05]
+axis = [0.0, 0.0, 1.0]
+radius = 0.05
+length = 0.2
+turns = 200
+wire_diameter = 0.0005
+
+[[electrode]]
+name = "ball"
+shape = "sphere"
+origin = [0.0, 0.0, 0.4]
+radius = 0.08
+connect = "sec:top"
+
+[ground]
+z = 0.0
+
+[drive]
+potentials = { sec = [0.0, 1e5] }
+"#;
+
+fn csv_rows(path: &Path) -> Vec<Vec<String>> {
+    std::fs::read_to_string(path)
+        .unwrap()
+        .lines()
+        .map(|l| l.split(',').map(str::to_owned).collect())
+        .collect()
+}
+
+#[test]
+fn electrode_axes_give_the_capacitance_of_an_isolated_sphere() {
+    // C = 4 pi eps0 a, exact (check-values section 9; J. C. Maxwell, "A Treatise on Electricity
+    // and Magnetism", 1873, vol. 1, the sphere's capacity); the issue asks 0.1 %.
+    let dir = tempfile::tempdir().unwrap();
+    design_file(
+        dir.path(),
+        "base.toml",
+        "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.0]\nradius = 0.1\n",
+    );
+    let s = design_file(
+        dir.path(),
+        "sweep.toml",
+        "base = \"base.toml\"\nmetrics = [\"capacitance.ball\"]\n[[axis]]\nkey = \"electrode.ball.radius\"\nvalues = [0.05, 0.1, 0.2]\n",
+    );
+    let out = dir.path().join("r.csv");
+    let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let rows = csv_rows(&out);
+    assert_eq!(rows[0][1], "electrode.ball.radius");
+    assert_eq!(rows.len(), 4);
+    // eps0 = 8.8541878128e-12 F/m (CODATA 2018).
+    let eps0 = 8.854_187_812_8e-12;
+    for r in &rows[1..] {
+        let a: f64 = r[1].parse().unwrap();
+        let c: f64 = r[2].parse().unwrap();
+        let exact = 4.0 * std::f64::consts::PI * eps0 * a;
+        assert!(rel(c, exact) < 1e-3, "a = {a}: {c} vs {exact}");
+    }
+}
+
+#[test]
+fn electrode_sweeps_match_the_capacitance_command_and_recheck_the_wires() {
+    let dir = tempfile::tempdir().unwrap();
+    design_file(dir.path(), "base.toml", RESONATOR);
+    // Alone, the ball lowered to 0.36 m (its bottom at 0.28 m, over the coil's top at 0.25 m)
+    // and the longer coil (top at 0.30 m, under the ball's bottom at 0.32 m) are fine; together
+    // the ball cuts the wire.
+    let s = design_file(
+        dir.path(),
+        "sweep.toml",
+        "base = \"base.toml\"\nmetrics = [\"self_capacitance.sec\", \"surface_field.ball\"]\n\
+         [[axis]]\nkey = \"electrode.ball.origin[2]\"\nvalues = [0.4, 0.36]\n\
+         [[axis]]\nkey = \"winding.sec.length\"\nvalues = [0.2, 0.25]\n",
+    );
+    let out = dir.path().join("r.csv");
+    let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let rows = csv_rows(&out);
+    assert_eq!(rows.len(), 5);
+    for r in &rows[1..4] {
+        assert_eq!(r[r.len() - 2], "ok", "{r:?}");
+    }
+    let last = rows[4].join(",");
+    assert!(
+        last.contains(",error,") && last.contains("electrode 'ball'") && last.contains("sec"),
+        "{last}"
+    );
+    // Point 1 (ball at 0.4 m, coil 0.25 m long) against `coilfield capacitance` on that design.
+    let edited = design_file(
+        dir.path(),
+        "edited.toml",
+        &RESONATOR.replace("length = 0.2", "length = 0.25"),
+    );
+    let o = run(&["capacitance", edited.to_str().unwrap(), "--format", "json"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let total = v["conductors"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["name"] == "sec")
+        .and_then(|c| c["with_connected_electrodes_f"].as_f64())
+        .unwrap_or_else(|| panic!("no secondary total in {v}"));
+    let swept: f64 = rows[2][3].parse().unwrap();
+    assert!(rel(swept, total) < 1e-12, "{swept} vs {total}");
+    // Set alone, a ball that sits on the base coil's wire stops the sweep before any work.
+    let bad = design_file(
+        dir.path(),
+        "bad.toml",
+        "base = \"base.toml\"\nmetrics = [\"self_capacitance.sec\"]\n\
+         [[axis]]\nkey = \"electrode.ball.origin[2]\"\nvalues = [0.4, 0.3]\n",
+    );
+    let o = sweep(&[bad.to_str().unwrap(), "--out", dir.path().join("b.csv").to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("bad.toml") && err.contains("electrode.ball.origin[2]") && err.contains("ball"),
+        "{err}"
+    );
+}

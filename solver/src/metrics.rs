@@ -1,16 +1,25 @@
-//! Named figures of a design for sweeps and goal seeking: `self_inductance.<w>` (H),
-//! `mutual.<a>.<b>` (H), `coupling.<a>.<b>` (dimensionless), `gap.<a>.<b>` (m, smallest
-//! distance between the two wires' surfaces), and constraints on them.
+//! Named figures of a design for sweeps and goal seeking, and constraints on them.
+//!
+//! Magnetic: `self_inductance.<w>` (H), `mutual.<a>.<b>` (H), `coupling.<a>.<b>`
+//! (dimensionless), `gap.<a>.<b>` (m, smallest distance between the two wires' surfaces).
+//! Electric (the axisymmetric solve of [`crate::electrostatic`] with its default
+//! [`Params`]): `capacitance.<e>` (F, electrode e's diagonal entry of the Maxwell matrix, all
+//! other conductors at 0 V), `self_capacitance.<secondary>` (F, the secondary's equivalent
+//! self-capacitance at its top with its connected electrodes), `surface_field.<e>` (V/m, the
+//! largest surface field on electrode e at the `[drive]` potentials).
 //!
 //! An [`Evaluator`] is built once from the base design; the self-inductance and the model of a
-//! winding that a point leaves unchanged are taken from the base (computed once, on first use).
-//! Every figure is computed sequentially, so a point's results do not depend on threads.
+//! winding that a point leaves unchanged are taken from the base (computed once, on first use),
+//! and so is the electric solution of a point that leaves the secondary, the electrodes and the
+//! ground plane as they are. Every figure is computed sequentially, so a point's results do not
+//! depend on threads.
 
 use crate::Par;
 use crate::assembly::{WindingModel, mutual_inductance, self_inductance};
 use crate::coupling::coupling;
+use crate::electrostatic::{Params, Problem, Solution};
 use coilfield_geometry::overlap::min_surface_gap_m;
-use coilfield_geometry::{Design, Winding};
+use coilfield_geometry::{Design, Role, Winding};
 use std::sync::OnceLock;
 
 /// A figure of a design, by winding index (file order).
@@ -24,6 +33,35 @@ pub enum Metric {
     Coupling(usize, usize),
     /// Smallest surface-to-surface distance of the two wires (m).
     Gap(usize, usize),
+    /// Capacitance (F) of an electrode (index, file order): its diagonal Maxwell entry.
+    Capacitance(usize),
+    /// Equivalent self-capacitance (F) of the secondary winding (index) at its top, with its
+    /// connected electrodes.
+    SelfCapacitance(usize),
+    /// Largest surface field (V/m) on an electrode (index) at the drive potentials.
+    SurfaceField(usize),
+}
+
+const KNOWN_METRICS: &str = "self_inductance.<w>, mutual.<a>.<b>, coupling.<a>.<b>, \
+                             gap.<a>.<b>, capacitance.<electrode>, self_capacitance.<secondary>, \
+                             surface_field.<electrode>";
+
+fn electrode_index(name: &str, e: &str, design: &Design) -> Result<usize, String> {
+    design
+        .electrodes
+        .iter()
+        .position(|x| x.name == e)
+        .ok_or_else(|| {
+            let names: Vec<&str> = design.electrodes.iter().map(|x| x.name.as_str()).collect();
+            format!(
+                "`{name}`: no electrode named `{e}` in the base design (electrodes: {})",
+                if names.is_empty() {
+                    "(none)".to_string()
+                } else {
+                    names.join(", ")
+                }
+            )
+        })
 }
 
 /// Parse a metric name against the windings of a design.
@@ -56,10 +94,26 @@ pub fn parse_metric(name: &str, design: &Design) -> Result<Metric, String> {
         ["mutual", _, _] => pair(&parts).map(|(a, b)| Metric::Mutual(a, b)),
         ["coupling", _, _] => pair(&parts).map(|(a, b)| Metric::Coupling(a, b)),
         ["gap", _, _] => pair(&parts).map(|(a, b)| Metric::Gap(a, b)),
-        _ => Err(format!(
-            "`{name}`: unknown metric; known: self_inductance.<w>, mutual.<a>.<b>, \
-             coupling.<a>.<b>, gap.<a>.<b>"
-        )),
+        ["capacitance", e] => Ok(Metric::Capacitance(electrode_index(name, e, design)?)),
+        ["surface_field", e] => {
+            let i = electrode_index(name, e, design)?;
+            if design.drive.potentials_v.is_empty() {
+                return Err(format!(
+                    "`{name}`: needs [drive] potentials in the base design (peak V)"
+                ));
+            }
+            Ok(Metric::SurfaceField(i))
+        }
+        ["self_capacitance", w] => {
+            let i = index(w)?;
+            if design.windings[i].role != Role::Secondary {
+                return Err(format!(
+                    "`{name}`: winding `{w}` is not the secondary (role = \"secondary\")"
+                ));
+            }
+            Ok(Metric::SelfCapacitance(i))
+        }
+        _ => Err(format!("`{name}`: unknown metric; known: {KNOWN_METRICS}")),
     }
 }
 
@@ -182,6 +236,8 @@ struct Cached {
 /// Evaluates metrics and constraints on variants of one base design.
 pub struct Evaluator {
     base: Vec<Cached>,
+    base_design: Design,
+    base_electric: OnceLock<Result<Solution, String>>,
     metrics: Vec<Metric>,
     constraints: Vec<Constraint>,
 }
@@ -192,7 +248,45 @@ struct Scratch<'a> {
     models: Vec<Option<WindingModel>>,
     self_h: Vec<Option<f64>>,
     mutual_h: Vec<((usize, usize), f64)>,
+    electric: Option<Result<Solution, String>>,
     notes: Vec<String>,
+}
+
+impl<'a> Scratch<'a> {
+    fn new(design: &'a Design) -> Scratch<'a> {
+        let n = design.windings.len();
+        Scratch {
+            design,
+            models: vec![None; n],
+            self_h: vec![None; n],
+            mutual_h: Vec::new(),
+            electric: None,
+            notes: Vec::new(),
+        }
+    }
+}
+
+/// The electric solution of a design, or why there is none.
+fn solve_electric(design: &Design) -> Result<Solution, String> {
+    Problem::from_design(design, &Params::default(), "the point's design")
+        .map(|p| p.solve(crate::Par::Seq))
+        .map_err(|e| e.to_string())
+}
+
+/// Whether the electric model of `a` and `b` is the same: the secondary windings, the
+/// electrodes, the ground plane and the drive.
+fn same_electric_model(a: &Design, b: &Design) -> bool {
+    let secondaries = |d: &Design| -> Vec<Winding> {
+        d.windings
+            .iter()
+            .filter(|w| w.role == Role::Secondary)
+            .cloned()
+            .collect()
+    };
+    a.electrodes == b.electrodes
+        && a.ground == b.ground
+        && a.drive == b.drive
+        && secondaries(a) == secondaries(b)
 }
 
 impl Evaluator {
@@ -208,8 +302,53 @@ impl Evaluator {
                     self_h: OnceLock::new(),
                 })
                 .collect(),
+            base_design: base.clone(),
+            base_electric: OnceLock::new(),
             metrics,
             constraints,
+        }
+    }
+
+    /// The point's electric solution: the base's when its electric model is the base's.
+    fn electric<'s>(&'s self, s: &'s mut Scratch<'_>) -> Result<&'s Solution, String> {
+        if same_electric_model(s.design, &self.base_design) {
+            return self
+                .base_electric
+                .get_or_init(|| solve_electric(&self.base_design))
+                .as_ref()
+                .map_err(Clone::clone);
+        }
+        let design = s.design;
+        s.electric
+            .get_or_insert_with(|| solve_electric(design))
+            .as_ref()
+            .map_err(Clone::clone)
+    }
+
+    fn electric_value(&self, s: &mut Scratch<'_>, m: Metric) -> Result<f64, String> {
+        let design = s.design;
+        let sol = self.electric(s)?;
+        let position = |e: usize| {
+            let name = &design.electrodes[e].name;
+            sol.conductor_names().iter().position(|n| n == name).ok_or_else(|| {
+                format!("electrode `{name}` is not an equipotential conductor of the solve")
+            })
+        };
+        match m {
+            Metric::Capacitance(e) => Ok(sol.capacitances_f()[position(e)?]),
+            Metric::SelfCapacitance(_) => sol
+                .self_capacitance_f()
+                .map(|c| c.total_f)
+                .ok_or_else(|| "the electric model has no secondary".to_string()),
+            Metric::SurfaceField(e) => {
+                let name = &design.electrodes[e].name;
+                sol.peak_surface_fields()
+                    .into_iter()
+                    .find(|p| &p.name == name)
+                    .map(|p| p.field_v_per_m)
+                    .ok_or_else(|| format!("electrode `{name}` has no panels in the solve"))
+            }
+            _ => Err(format!("{m:?} is not an electric metric")),
         }
     }
 
@@ -280,6 +419,9 @@ impl Evaluator {
                 coupling(m, self.self_h(s, a), self.self_h(s, b))
             }
             Metric::Gap(a, b) => min_surface_gap_m(&s.design.windings[a], &s.design.windings[b]),
+            Metric::Capacitance(_) | Metric::SelfCapacitance(_) | Metric::SurfaceField(_) => {
+                self.electric_value(s, m)?
+            }
         })
     }
 
@@ -287,13 +429,7 @@ impl Evaluator {
     /// same windings in the same order.
     pub fn evaluate(&self, design: &Design) -> PointResult {
         let n = design.windings.len();
-        let mut s = Scratch {
-            design,
-            models: vec![None; n],
-            self_h: vec![None; n],
-            mutual_h: Vec::new(),
-            notes: Vec::new(),
-        };
+        let mut s = Scratch::new(design);
         let error = |message: String| PointResult {
             values: Vec::new(),
             status: Status::Error,
@@ -344,14 +480,7 @@ impl Evaluator {
 
     /// Value of one metric on `design` (for goal seeking).
     pub fn metric_value(&self, design: &Design, metric: Metric) -> Result<f64, String> {
-        let n = design.windings.len();
-        let mut s = Scratch {
-            design,
-            models: vec![None; n],
-            self_h: vec![None; n],
-            mutual_h: Vec::new(),
-            notes: Vec::new(),
-        };
+        let mut s = Scratch::new(design);
         self.value(&mut s, metric)
     }
 
@@ -418,6 +547,27 @@ mod tests {
             parse_metric("flux.a", &base)
                 .unwrap_err()
                 .contains("unknown metric")
+        );
+        assert!(
+            parse_metric("capacitance.top", &base)
+                .unwrap_err()
+                .contains("no electrode named `top`")
+        );
+        assert!(
+            parse_metric("self_capacitance.a", &base)
+                .unwrap_err()
+                .contains("not the secondary")
+        );
+        let with_ball = coilfield_geometry::parse_design(
+            "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.0]\n\
+             radius = 0.1\n",
+            "t.toml",
+        )
+        .unwrap();
+        assert!(
+            parse_metric("surface_field.ball", &with_ball)
+                .unwrap_err()
+                .contains("needs [drive] potentials")
         );
         assert!(
             parse_constraint("coupling.a.b == 1", &base)
