@@ -188,6 +188,9 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
             println!("{}", found.stop.describe());
         }
     }
+    if plan.has_electric_figures() {
+        eprintln!("{}", crate::report::CAUTION);
+    }
     if !value.is_finite() {
         eprintln!("seek: no feasible point found");
         return Ok(ExitCode::from(1));

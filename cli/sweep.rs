@@ -200,6 +200,18 @@ impl Plan {
         Ok(design)
     }
 
+    /// Whether the sweep computes electric figures (capacitances, surface fields): outputs that
+    /// show them carry the caution.
+    pub fn has_electric_figures(&self) -> bool {
+        let electric = |t: &str| {
+            ["capacitance.", "self_capacitance.", "surface_field."]
+                .iter()
+                .any(|p| t.trim_start().starts_with(p))
+        };
+        self.sweep.metrics.iter().any(|m| electric(m))
+            || self.sweep.constraints.iter().any(|c| electric(c))
+    }
+
     /// Evaluate point `i`.
     pub fn evaluate(&self, i: usize) -> PointResult {
         match self.design_at(i) {
@@ -666,6 +678,9 @@ pub fn run(
         start.elapsed().as_secs_f64(),
         out.display()
     );
+    if plan.has_electric_figures() {
+        eprintln!("{}", crate::report::CAUTION);
+    }
     if let (Some(p), Some(grids)) = (plot, grids) {
         // The first metric of every point, read back from the finished output.
         let text = read_text(&out, "sweep output")?;

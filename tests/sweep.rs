@@ -534,6 +534,8 @@ fn electrode_sweeps_match_the_capacitance_command_and_recheck_the_wires() {
     let out = dir.path().join("r.csv");
     let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    // Surface fields are high-voltage figures: the caution goes with them.
+    assert!(String::from_utf8_lossy(&o.stderr).contains("CAUTION"));
     let rows = csv_rows(&out);
     assert_eq!(rows.len(), 5);
     for r in &rows[1..4] {
