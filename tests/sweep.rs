@@ -72,8 +72,10 @@ fn csv_rows_hold_maxwell_values_in_point_order() {
     assert_eq!(&f[..3], &["0", "1", "1"]);
     let m: f64 = f[3].parse().unwrap();
     assert!((m - 4.940_784_630_8e-7).abs() < 1e-16, "{m}");
-    // Floats are written in shortest round-trip form.
-    assert_eq!(f[3], format!("{m}"));
+    // Floats are written in shortest round-trip form: the fewest digits, and the exponent form
+    // when it is shorter.
+    assert_eq!(f[3], format!("{m:e}"));
+    assert_eq!(f[2], "1");
     // Point 5 (second height, first radius): 0.5 m apart, k above 0.1 -> infeasible.
     let f5: Vec<&str> = lines[6].split(',').collect();
     assert_eq!(&f5[..3], &["5", "0.5", "1"]);
