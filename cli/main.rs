@@ -203,9 +203,9 @@ enum Command {
         /// variables, else all points).
         #[arg(long, value_name = "K/N")]
         shard: Option<String>,
-        /// Also draw the first metric (SVG): against the parameter of a one-axis grid, or as a
-        /// heat map with contours over a two-axis grid.
-        #[arg(long, value_name = "FILE.svg")]
+        /// Also draw the first metric (.svg or .png, replaced atomically): against the
+        /// parameter of a one-axis grid, or as a heat map with contours over a two-axis grid.
+        #[arg(long, value_name = "FILE.svg|FILE.png")]
         plot: Option<PathBuf>,
     },
     /// Goal seeking on a design: the value of one parameter that reaches a target metric

@@ -211,6 +211,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
                 u_m: u,
                 v_m: v,
                 values,
+                scale: plot::Scale::Log,
                 u_label: ul,
                 v_label: vl,
                 title,

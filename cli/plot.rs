@@ -1,10 +1,11 @@
-//! Heat maps of a field magnitude on a plane, with contour lines at threshold levels, as PNG or
-//! SVG (plotters, no system libraries; the DejaVu Sans font is embedded, licence beside it in
-//! `cli/assets/`).
+//! Plots as PNG or SVG (plotters, no system libraries; the DejaVu Sans font is embedded, licence
+//! beside it in `cli/assets/`): heat maps with contour lines (field magnitudes on a plane, a
+//! metric over a two-axis sweep) and line plots (a metric against one swept parameter).
 //!
 //! Colours: the Viridis map (van der Walt and Smith, matplotlib, 2015), chosen because it
-//! stays readable in grey and for colour-blind readers; logarithmic, since near fields span
-//! decades. Cells without a value (inside a conductor, on a wire) are grey.
+//! stays readable in grey and for colour-blind readers; logarithmic for near fields, which span
+//! decades, linear for sweep metrics. Cells without a value (inside a conductor, on a wire, a
+//! sweep point that failed) are grey.
 
 use plotters::prelude::*;
 use plotters::style::colors::colormaps::ViridisRGB;
@@ -22,15 +23,38 @@ fn register_font() {
     });
 }
 
-/// A sampled scalar field on a plane.
+/// How values map to colours and contour levels are interpolated.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Scale {
+    /// log10 of the value; non-positive values have none.
+    Log,
+    /// The value itself.
+    Linear,
+}
+
+impl Scale {
+    /// The coordinate of `x` on this scale, NaN where it has none.
+    fn of(self, x: f64) -> f64 {
+        match self {
+            Scale::Log if x > 0.0 => x.log10(),
+            Scale::Log => f64::NAN,
+            Scale::Linear => x,
+        }
+    }
+}
+
+/// A sampled scalar on a rectangular grid.
 #[derive(Debug, Clone)]
 pub struct HeatMap<'a> {
-    /// Coordinates (m) of the columns, increasing.
+    /// Coordinates of the columns, increasing (m for a plane; a swept parameter's unit).
     pub u_m: &'a [f64],
-    /// Coordinates (m) of the rows, increasing.
+    /// Coordinates of the rows, increasing.
     pub v_m: &'a [f64],
-    /// Values, `u` fastest: `values[j * u_m.len() + i]`; NaN or non-positive = no value.
+    /// Values, `u` fastest: `values[j * u_m.len() + i]`; NaN (or non-positive on a log scale)
+    /// = no value.
     pub values: &'a [f64],
+    /// Colour and contour scale.
+    pub scale: Scale,
     /// Axis labels, e.g. `x (m)`.
     pub u_label: &'a str,
     /// Axis labels, e.g. `z (m)`.
@@ -45,11 +69,18 @@ pub struct HeatMap<'a> {
 pub type Segment = ((f64, f64), (f64, f64));
 
 /// Marching squares: the pieces of the level line `level` of `values` on the grid.
-/// Interpolates log10 of the values along cell edges (fields vary by decades); cells with a
-/// missing corner are skipped, so a line stops at a conductor instead of crossing it.
-pub fn contour_segments(u: &[f64], v: &[f64], values: &[f64], level: f64) -> Vec<Segment> {
+/// Interpolates the values on `scale` along cell edges (log10 for fields, which vary by
+/// decades); cells with a missing corner are skipped, so a line stops at a conductor instead of
+/// crossing it.
+pub fn contour_segments(
+    u: &[f64],
+    v: &[f64],
+    values: &[f64],
+    level: f64,
+    scale: Scale,
+) -> Vec<Segment> {
     let nu = u.len();
-    let lg = |x: f64| if x > 0.0 { x.log10() } else { f64::NAN };
+    let lg = |x: f64| scale.of(x);
     let l = lg(level);
     let mut out = Vec::new();
     if nu < 2 || v.len() < 2 || !l.is_finite() {
@@ -85,17 +116,42 @@ pub fn contour_segments(u: &[f64], v: &[f64], values: &[f64], level: f64) -> Vec
     out
 }
 
-/// Draw `map` as SVG (`svg = true`) or PNG and return the bytes, so the caller can write
+/// Something drawn on a plotters drawing area of any backend.
+pub trait Figure {
+    /// Draw on `root`.
+    fn draw_on<DB: DrawingBackend>(
+        &self,
+        root: &DrawingArea<DB, plotters::coord::Shift>,
+    ) -> anyhow::Result<()>
+    where
+        DB::ErrorType: 'static;
+}
+
+impl Figure for HeatMap<'_> {
+    fn draw_on<DB: DrawingBackend>(
+        &self,
+        root: &DrawingArea<DB, plotters::coord::Shift>,
+    ) -> anyhow::Result<()>
+    where
+        DB::ErrorType: 'static,
+    {
+        draw(root, self)
+    }
+}
+
+/// Size (pixels) of every figure.
+const W: u32 = 900;
+const H: u32 = 760;
+
+/// Draw `figure` as SVG (`svg = true`) or PNG and return the bytes, so the caller can write
 /// them atomically.
-pub fn heat_map_bytes(map: &HeatMap<'_>, svg: bool) -> anyhow::Result<Vec<u8>> {
+pub fn figure_bytes(figure: &impl Figure, svg: bool) -> anyhow::Result<Vec<u8>> {
     register_font();
-    const W: u32 = 900;
-    const H: u32 = 760;
     if svg {
         let mut s = String::new();
         {
             let root = SVGBackend::with_string(&mut s, (W, H)).into_drawing_area();
-            draw(&root, map)?;
+            figure.draw_on(&root)?;
             root.present()
                 .map_err(|e| anyhow::anyhow!("cannot draw the SVG: {e}"))?;
         }
@@ -104,11 +160,103 @@ pub fn heat_map_bytes(map: &HeatMap<'_>, svg: bool) -> anyhow::Result<Vec<u8>> {
         let mut buf = vec![0u8; (W * H * 3) as usize];
         {
             let root = BitMapBackend::with_buffer(&mut buf, (W, H)).into_drawing_area();
-            draw(&root, map)?;
+            figure.draw_on(&root)?;
             root.present()
                 .map_err(|e| anyhow::anyhow!("cannot draw the PNG: {e}"))?;
         }
         encode_png(&buf, W, H)
+    }
+}
+
+/// [`figure_bytes`] of a heat map.
+pub fn heat_map_bytes(map: &HeatMap<'_>, svg: bool) -> anyhow::Result<Vec<u8>> {
+    figure_bytes(map, svg)
+}
+
+/// A curve y(x): a metric against one swept parameter.
+#[derive(Debug, Clone)]
+pub struct LinePlot<'a> {
+    /// Abscissae, increasing.
+    pub x: &'a [f64],
+    /// Ordinates; NaN = no value (a gap in the line).
+    pub y: &'a [f64],
+    /// Axis label of x, with its unit.
+    pub x_label: &'a str,
+    /// Axis label of y, with its unit.
+    pub y_label: &'a str,
+    /// Title.
+    pub title: &'a str,
+}
+
+/// The smallest and largest finite value, widened when they are equal; (0, 1) when none.
+fn finite_range(v: impl Iterator<Item = f64>) -> (f64, f64) {
+    let (lo, hi) = v
+        .filter(|x| x.is_finite())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+            (a.min(x), b.max(x))
+        });
+    if lo > hi {
+        // No finite value (the fold's start).
+        (0.0, 1.0)
+    } else if hi > lo {
+        (lo, hi)
+    } else {
+        let pad = if lo == 0.0 { 0.5 } else { 0.05 * lo.abs() };
+        (lo - pad, hi + pad)
+    }
+}
+
+impl Figure for LinePlot<'_> {
+    fn draw_on<DB: DrawingBackend>(
+        &self,
+        root: &DrawingArea<DB, plotters::coord::Shift>,
+    ) -> anyhow::Result<()>
+    where
+        DB::ErrorType: 'static,
+    {
+        let err = |e: DrawingAreaErrorKind<DB::ErrorType>| anyhow::anyhow!("cannot draw: {e:?}");
+        anyhow::ensure!(
+            self.x.len() == self.y.len() && !self.x.is_empty(),
+            "a line plot needs as many values as parameters"
+        );
+        root.fill(&WHITE).map_err(err)?;
+        let (x0, x1) = finite_range(self.x.iter().copied());
+        let (y0, y1) = finite_range(self.y.iter().copied());
+        let mut chart = ChartBuilder::on(root)
+            .caption(self.title, ("sans-serif", 20))
+            .margin(16)
+            .x_label_area_size(44)
+            .y_label_area_size(90)
+            .build_cartesian_2d(x0..x1, y0..y1)
+            .map_err(err)?;
+        chart
+            .configure_mesh()
+            .x_desc(self.x_label)
+            .y_desc(self.y_label)
+            .label_style(("sans-serif", 14))
+            .draw()
+            .map_err(err)?;
+        // Runs of finite values, each its own line, so a failed point leaves a gap.
+        let mut runs: Vec<Vec<(f64, f64)>> = vec![Vec::new()];
+        for (&x, &y) in self.x.iter().zip(self.y) {
+            if y.is_finite() {
+                if let Some(r) = runs.last_mut() {
+                    r.push((x, y));
+                }
+            } else if runs.last().is_some_and(|r| !r.is_empty()) {
+                runs.push(Vec::new());
+            }
+        }
+        let blue = RGBColor(31, 95, 168);
+        for run in runs.into_iter().filter(|r| !r.is_empty()) {
+            chart
+                .draw_series(LineSeries::new(run.iter().copied(), blue.stroke_width(2)))
+                .map_err(err)?;
+            chart
+                .draw_series(run.iter().map(|&p| Circle::new(p, 3, blue.filled())))
+                .map_err(err)?;
+        }
+        Ok(())
     }
 }
 
@@ -140,27 +288,7 @@ where
         map.values.len() == nu * nv,
         "heat map values do not fill the grid"
     );
-    let finite: Vec<f64> = map
-        .values
-        .iter()
-        .copied()
-        .filter(|x| x.is_finite() && *x > 0.0)
-        .collect();
-    let (lo, hi) = if finite.is_empty() {
-        (0.0, 1.0)
-    } else {
-        let lo = finite.iter().copied().fold(f64::INFINITY, f64::min).log10();
-        let hi = finite
-            .iter()
-            .copied()
-            .fold(f64::NEG_INFINITY, f64::max)
-            .log10();
-        if hi > lo {
-            (lo, hi)
-        } else {
-            (lo - 0.5, lo + 0.5)
-        }
-    };
+    let (lo, hi) = finite_range(map.values.iter().map(|&x| map.scale.of(x)));
     let (plot_area, bar_area) = root.split_horizontally(780);
     let (u0, u1) = (map.u_m[0], map.u_m[nu - 1]);
     let (v0, v1) = (map.v_m[0], map.v_m[nv - 1]);
@@ -201,9 +329,9 @@ where
                 .map(|(i, j)| {
                     let (a, b) = edge(map.u_m, i);
                     let (c, d) = edge(map.v_m, j);
-                    let x = map.values[j * nu + i];
-                    let colour = if x.is_finite() && x > 0.0 {
-                        ViridisRGB::get_color_normalized(x.log10(), lo, hi)
+                    let x = map.scale.of(map.values[j * nu + i]);
+                    let colour = if x.is_finite() {
+                        ViridisRGB::get_color_normalized(x, lo, hi)
                     } else {
                         grey
                     };
@@ -225,7 +353,7 @@ where
     ];
     for (k, (level, name)) in map.contours.iter().enumerate() {
         let colour = palette[k % palette.len()];
-        let segs = contour_segments(map.u_m, map.v_m, map.values, *level);
+        let segs = contour_segments(map.u_m, map.v_m, map.values, *level, map.scale);
         chart
             .draw_series(
                 segs.iter()
@@ -247,13 +375,19 @@ where
             .draw()
             .map_err(err)?;
     }
-    // Colour bar: log10 of the value.
+    // Colour bar: the value on its scale.
     let mut bar = ChartBuilder::on(&bar_area)
         .margin_top(44)
         .margin_bottom(52)
         .margin_right(8)
         .y_label_area_size(58)
-        .caption("log10", ("sans-serif", 14))
+        .caption(
+            match map.scale {
+                Scale::Log => "log10",
+                Scale::Linear => "value",
+            },
+            ("sans-serif", 14),
+        )
         .build_cartesian_2d(0.0..1.0, lo..hi)
         .map_err(err)?;
     bar.configure_mesh()
@@ -292,7 +426,7 @@ mod tests {
                 1.0 / (x * x + y * y)
             })
             .collect();
-        let segs = contour_segments(&c, &c, &vals, 1.0);
+        let segs = contour_segments(&c, &c, &vals, 1.0, Scale::Log);
         assert!(segs.len() > 40);
         for ((x0, y0), (x1, y1)) in segs {
             for r in [x0.hypot(y0), x1.hypot(y1)] {
@@ -312,6 +446,7 @@ mod tests {
             u_m: &u,
             v_m: &v,
             values: &vals,
+            scale: Scale::Log,
             u_label: "x (m)",
             v_label: "z (m)",
             title: "|E| (V/m)",
@@ -322,5 +457,40 @@ mod tests {
         assert!(svg.contains("level 2.5"));
         let png = heat_map_bytes(&map, false).unwrap();
         assert_eq!(&png[1..4], b"PNG");
+    }
+
+    #[test]
+    fn line_plots_leave_gaps_at_missing_values() {
+        let x = [0.0, 1.0, 2.0, 3.0, 4.0];
+        let y = [1.0, 2.0, f64::NAN, 3.0, 2.5];
+        let plot = LinePlot {
+            x: &x,
+            y: &y,
+            x_label: "h (m)",
+            y_label: "k",
+            title: "k against h",
+        };
+        let svg = String::from_utf8(figure_bytes(&plot, true).unwrap()).unwrap();
+        // Two runs (before and after the gap), one marker per finite value.
+        let curves = svg
+            .lines()
+            .filter(|l| l.starts_with("<polyline") && l.contains("#1F5FA8"))
+            .count();
+        assert_eq!(curves, 2, "{svg}");
+        assert_eq!(svg.matches("<circle").count(), 4);
+        assert!(svg.contains("k against h"));
+        assert_eq!(&figure_bytes(&plot, false).unwrap()[1..4], b"PNG");
+    }
+
+    #[test]
+    fn linear_contours_interpolate_the_values_themselves() {
+        // f = x on [0, 1] x [0, 1]: the level 0.25 line is x = 0.25 exactly on a linear scale.
+        let c = [0.0, 0.5, 1.0];
+        let vals: Vec<f64> = (0..9).map(|k| c[k % 3]).collect();
+        let segs = contour_segments(&c, &c, &vals, 0.25, Scale::Linear);
+        assert_eq!(segs.len(), 2);
+        for ((x0, _), (x1, _)) in segs {
+            assert!((x0 - 0.25).abs() < 1e-15 && (x1 - 0.25).abs() < 1e-15);
+        }
     }
 }

@@ -2,7 +2,9 @@
 //! resumable, shardable over Slurm array tasks.
 
 use crate::BadInput;
-use coilfield_geometry::sweep::{Part, Sweep, Values, apply_to_item, item_table, parse_sweep, points};
+use coilfield_geometry::sweep::{
+    Part, Sweep, Values, apply_to_item, item_table, parse_sweep, points,
+};
 use coilfield_geometry::{
     Design, check_design, electrode_from_table, parse_design, winding_from_table,
 };
@@ -297,7 +299,10 @@ fn edits_of(sweep: &Sweep, base: &toml::Table, sweep_label: &str) -> anyhow::Res
                 axis.key
             ))
         })?;
-        match edits.iter_mut().find(|e| e.part == part && e.index == index) {
+        match edits
+            .iter_mut()
+            .find(|e| e.part == part && e.index == index)
+        {
             Some(e) => e.axes.push(j),
             None => edits.push(Edit {
                 part,

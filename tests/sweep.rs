@@ -424,7 +424,7 @@ fn ctrl_c_keeps_the_finished_points_and_resume_completes_the_file() {
 }
 
 #[test]
-fn plots_are_svg_heat_maps_or_lines_and_png_is_refused() {
+fn plots_are_heat_maps_or_lines_as_svg_or_png() {
     let dir = tempfile::tempdir().unwrap();
     let s = setup(dir.path(), SWEEP);
     let out = dir.path().join("r.csv");
@@ -439,18 +439,54 @@ fn plots_are_svg_heat_maps_or_lines_and_png_is_refused() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let text = std::fs::read_to_string(&svg).unwrap();
     assert!(text.starts_with("<svg") && text.trim_end().ends_with("</svg>"));
-    // 3 x 5 grid: 15 cells, 50 colour-bar steps, the background and the frame.
-    assert_eq!(text.matches("<rect").count(), 15 + 50 + 2);
+    // 3 x 5 grid: 15 cells, 100 colour-bar steps, the two backgrounds.
+    assert!(text.matches("<rect").count() >= 15 + 100, "{text}");
     assert!(text.contains("mutual.a.b") && text.contains("winding.b.radius"));
+    // Contour lines between the smallest and largest M.
+    assert!(text.contains("<polyline"), "no contour lines");
+    let png = dir.path().join("k.png");
     let o = sweep(&[
         s.to_str().unwrap(),
         "--out",
         dir.path().join("r2.csv").to_str().unwrap(),
         "--plot",
-        dir.path().join("k.png").to_str().unwrap(),
+        png.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let decoder = png::Decoder::new(std::io::BufReader::new(std::fs::File::open(&png).unwrap()));
+    let mut reader = decoder.read_info().unwrap();
+    let mut buf = vec![0; reader.output_buffer_size()];
+    let info = reader.next_frame(&mut buf).unwrap();
+    assert!(info.width >= 600 && info.height >= 400);
+    let distinct: std::collections::BTreeSet<&[u8]> = buf.chunks(3).collect();
+    assert!(distinct.len() > 20, "a heat map has many colours");
+    // One axis: a line.
+    let one = design_file(
+        dir.path(),
+        "one.toml",
+        "base = \"base.toml\"\nmetrics = [\"coupling.a.b\"]\n[[axis]]\nkey = \"winding.b.origin[2]\"\nvalues = [1.0, 0.5, 2.0]\n",
+    );
+    let line = dir.path().join("line.svg");
+    let o = sweep(&[
+        one.to_str().unwrap(),
+        "--out",
+        dir.path().join("r3.csv").to_str().unwrap(),
+        "--plot",
+        line.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(&line).unwrap();
+    assert_eq!(text.matches("<circle").count(), 3);
+    assert!(text.contains("coupling.a.b against winding.b.origin[2]"));
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        dir.path().join("r4.csv").to_str().unwrap(),
+        "--plot",
+        dir.path().join("k.pdf").to_str().unwrap(),
     ]);
     assert_eq!(o.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&o.stderr).contains("only .svg"));
+    assert!(String::from_utf8_lossy(&o.stderr).contains(".svg or .png"));
 }
 
 /// A helix secondary with a sphere on its top, over a grounded plane. Invented.
@@ -573,11 +609,17 @@ fn electrode_sweeps_match_the_capacitance_command_and_recheck_the_wires() {
         "base = \"base.toml\"\nmetrics = [\"self_capacitance.sec\"]\n\
          [[axis]]\nkey = \"electrode.ball.origin[2]\"\nvalues = [0.4, 0.3]\n",
     );
-    let o = sweep(&[bad.to_str().unwrap(), "--out", dir.path().join("b.csv").to_str().unwrap()]);
+    let o = sweep(&[
+        bad.to_str().unwrap(),
+        "--out",
+        dir.path().join("b.csv").to_str().unwrap(),
+    ]);
     assert_eq!(o.status.code(), Some(2));
     let err = String::from_utf8_lossy(&o.stderr);
     assert!(
-        err.contains("bad.toml") && err.contains("electrode.ball.origin[2]") && err.contains("ball"),
+        err.contains("bad.toml")
+            && err.contains("electrode.ball.origin[2]")
+            && err.contains("ball"),
         "{err}"
     );
 }

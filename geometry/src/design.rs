@@ -249,7 +249,11 @@ pub fn check_design(design: &Design, source: &str) -> Result<(), DesignError> {
 /// Read one `[[winding]]` table alone, with every check a design file makes of a winding by
 /// itself. `number` counts windings from 1 in file order (it names a winding without a `name`
 /// and labels messages, as in a design file).
-pub fn winding_from_table(table: Table, number: usize, source: &str) -> Result<Winding, DesignError> {
+pub fn winding_from_table(
+    table: Table,
+    number: usize,
+    source: &str,
+) -> Result<Winding, DesignError> {
     parse_winding(table, number, source)
 }
 

@@ -50,7 +50,8 @@ pub use design::{CURRENT_VERSION, Design, check_design, parse_design, winding_fr
 pub use discretise::{FilamentModel, Ring, RingModel};
 pub use drive::{Drive, DriveNeeds, PotentialSpec, image_windings, validate_drive};
 pub use electrode::{
-    Axis, Electrode, ElectrodeShape, End, Ground, Terminal, check_axisymmetric, electrode_from_table,
+    Axis, Electrode, ElectrodeShape, End, Ground, Terminal, check_axisymmetric,
+    electrode_from_table,
 };
 pub use error::DesignError;
 pub use winding::{Model, Role, Shape, Winding, local_frame};

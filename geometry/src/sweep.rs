@@ -877,9 +877,9 @@ pub fn apply_to_item(item: &mut Table, target: &Target, v: f64) -> Result<(), St
                     ));
                 };
                 let len = a.len();
-                let slot = a
-                    .get_mut(*i)
-                    .ok_or_else(|| format!("component [{i}] is out of range (`{key}` has {len})"))?;
+                let slot = a.get_mut(*i).ok_or_else(|| {
+                    format!("component [{i}] is out of range (`{key}` has {len})")
+                })?;
                 *slot = Value::Float(v);
             }
         },

@@ -330,9 +330,12 @@ impl Evaluator {
         let sol = self.electric(s)?;
         let position = |e: usize| {
             let name = &design.electrodes[e].name;
-            sol.conductor_names().iter().position(|n| n == name).ok_or_else(|| {
-                format!("electrode `{name}` is not an equipotential conductor of the solve")
-            })
+            sol.conductor_names()
+                .iter()
+                .position(|n| n == name)
+                .ok_or_else(|| {
+                    format!("electrode `{name}` is not an equipotential conductor of the solve")
+                })
         };
         match m {
             Metric::Capacitance(e) => Ok(sol.capacitances_f()[position(e)?]),
