@@ -46,38 +46,43 @@ const KNOWN_METRICS: &str = "self_inductance.<w>, mutual.<a>.<b>, coupling.<a>.<
                              gap.<a>.<b>, capacitance.<electrode>, self_capacitance.<secondary>, \
                              surface_field.<electrode>";
 
+/// Position of `wanted` among `names` (a design's windings or electrodes, `kind` says which), or
+/// a message for metric `metric` that lists the names there are.
+fn position_of<'a>(
+    metric: &str,
+    kind: &str,
+    wanted: &str,
+    names: impl Iterator<Item = &'a str> + Clone,
+) -> Result<usize, String> {
+    names.clone().position(|n| n == wanted).ok_or_else(|| {
+        let all: Vec<&str> = names.collect();
+        let listed = if all.is_empty() {
+            "(none)".to_string()
+        } else {
+            all.join(", ")
+        };
+        format!("`{metric}`: no {kind} named `{wanted}` in the base design ({kind}s: {listed})")
+    })
+}
+
 fn electrode_index(name: &str, e: &str, design: &Design) -> Result<usize, String> {
-    design
-        .electrodes
-        .iter()
-        .position(|x| x.name == e)
-        .ok_or_else(|| {
-            let names: Vec<&str> = design.electrodes.iter().map(|x| x.name.as_str()).collect();
-            format!(
-                "`{name}`: no electrode named `{e}` in the base design (electrodes: {})",
-                if names.is_empty() {
-                    "(none)".to_string()
-                } else {
-                    names.join(", ")
-                }
-            )
-        })
+    position_of(
+        name,
+        "electrode",
+        e,
+        design.electrodes.iter().map(|x| x.name.as_str()),
+    )
 }
 
 /// Parse a metric name against the windings of a design.
 pub fn parse_metric(name: &str, design: &Design) -> Result<Metric, String> {
     let index = |w: &str| {
-        design
-            .windings
-            .iter()
-            .position(|x| x.name == w)
-            .ok_or_else(|| {
-                let names: Vec<&str> = design.windings.iter().map(|x| x.name.as_str()).collect();
-                format!(
-                    "`{name}`: no winding named `{w}` in the base design (windings: {})",
-                    names.join(", ")
-                )
-            })
+        position_of(
+            name,
+            "winding",
+            w,
+            design.windings.iter().map(|x| x.name.as_str()),
+        )
     };
     let parts: Vec<&str> = name.split('.').collect();
     let pair = |parts: &[&str]| -> Result<(usize, usize), String> {
