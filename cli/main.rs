@@ -83,7 +83,9 @@ enum Command {
     },
     /// Peak E (V/m) and B (T) vectors and magnitudes of the drive at points: `--at x,y,z`
     /// (metres, repeatable) and/or `--points FILE.csv` (header x,y,z). A point on a wire gets
-    /// no value and a warning; a point inside a conductor is an error.
+    /// no value and a warning; a point inside an electrode or below the ground plane is an
+    /// error with `--at` and gets no E (null in JSON, NaN in CSV and table) and a warning in
+    /// `--points`.
     Field {
         /// Design file (TOML).
         design: PathBuf,

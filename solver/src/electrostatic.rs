@@ -21,7 +21,7 @@
 //!     pub fn axis(&self) -> Axis;                           // to revolve the generatrix for VTK
 //!     pub fn peak_surface_fields(&self) -> Vec<PeakField>;   // per electrode
 //! }
-//! pub enum FieldSample { Field(Vector3<f64>), InsideConductor(String) }
+//! pub enum FieldSample { Field(Vector3<f64>), InsideConductor(String), BelowGround }
 //! pub fn validity_warnings(design: &Design, distances_m: &[f64]) -> Vec<String>;
 //! ```
 //!
@@ -247,8 +247,10 @@ pub struct ErrorEstimate {
 pub enum FieldSample {
     /// The field (V/m, peak of the drive).
     Field(Vector3<f64>),
-    /// The point is inside the named conductor (or below the ground plane, "ground").
+    /// The point is inside the named electrode.
     InsideConductor(String),
+    /// The point is below the grounded plane.
+    BelowGround,
 }
 
 /// A discretised electrostatic problem (plan once, solve once, evaluate many).
@@ -1244,7 +1246,7 @@ impl Solution {
             let z = r.dot(n_hat.as_ref());
             if let Some(zg) = pr.ground_z {
                 if z < zg {
-                    return FieldSample::InsideConductor("ground".to_string());
+                    return FieldSample::BelowGround;
                 }
             }
             let perp = r - n_hat.as_ref() * z;
@@ -1627,7 +1629,7 @@ mod tests {
             assert!(e.x.hypot(e.y) < 1e-9 * e.norm(), "{e}");
             assert!(e.z < 0.0);
         }
-        assert_eq!(got[2], FieldSample::InsideConductor("ground".to_string()));
+        assert_eq!(got[2], FieldSample::BelowGround);
     }
 
     #[test]
