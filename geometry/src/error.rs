@@ -460,10 +460,11 @@ pub enum DesignError {
         terminal: String,
     },
 
-    /// An electrode touches or crosses a winding's wire or another electrode. Move or resize it.
+    /// An electrode touches or crosses a winding's wire or another electrode, or comes closer
+    /// than the contact check resolves. Move or resize it.
     #[error(
-        "{source_name}: {item}: key '{key}': it touches or crosses {other} near {} m; move \
-         or resize one of them",
+        "{source_name}: {item}: key '{key}': it {contact} near {} m; move or resize one of \
+         them",
         point(.near_m)
     )]
     ElectrodeIntersects {
@@ -473,8 +474,8 @@ pub enum DesignError {
         item: String,
         /// The key that places it.
         key: &'static str,
-        /// The other conductor.
-        other: String,
+        /// How and what it meets, e.g. "touches or crosses electrode 'topload'".
+        contact: String,
         /// A point of the contact (m).
         near_m: [f64; 3],
     },

@@ -36,6 +36,7 @@
 //! - Multi-layer windings must be described as several single-layer windings.
 #![deny(missing_docs)]
 
+pub mod contact;
 pub mod design;
 pub mod discretise;
 pub mod drive;
