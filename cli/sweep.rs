@@ -206,6 +206,7 @@ impl Plan {
             electrodes: self.base_design.electrodes.clone(),
             ground: self.base_design.ground,
             drive: self.base_design.drive.clone(),
+            clearance: self.base_design.clearance.clone(),
         };
         check_overlaps(&design, label).map_err(|e| e.to_string())?;
         Ok(design)

@@ -810,6 +810,128 @@ fn clearance_of_a_small_loop_matches_the_dipole_equator() {
 }
 
 #[test]
+fn clearance_table_in_the_design_sets_thresholds_and_the_command_line_overrides_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let text = format!(
+        "{}\n[clearance]\ndefaults = [\"breakdown\", \"long_gap_gradient\"]\nlong_gap_gradient = \"200 kV/m\"\nmax_distance = \"5 m\"\nheights = [\"50 cm\"]\ndistances = [0.05, 1.0]\n\n[[clearance.threshold]]\nname = \"fence\"\nquantity = \"B\"\nlimit = \"20 uT\"\nbasis = \"rms\"\nsource = \"invented for this test\"\n",
+        dipole_loop()
+    );
+    let d = design_file(dir.path(), "d.toml", &text);
+    let d = d.to_str().unwrap();
+    let j = field_json(&["clearance", d, "--format", "json"]);
+    let ths = j["thresholds"].as_array().unwrap();
+    let names: Vec<&str> = ths.iter().map(|t| t["name"].as_str().unwrap()).collect();
+    // Only the sets asked for, then the file's own threshold; no exposure levels.
+    assert_eq!(names, ["air_breakdown", "long_gap_mean_gradient", "fence"]);
+    let get = |ths: &[Value], n: &str| ths.iter().find(|t| t["name"] == n).unwrap().clone();
+    assert_eq!(get(ths, "air_breakdown")["set_by"], "built-in default");
+    let gap = get(ths, "long_gap_mean_gradient");
+    assert_eq!(f(&gap["limit"]), 200e3);
+    assert!(
+        gap["set_by"]
+            .as_str()
+            .unwrap()
+            .contains("[clearance] long_gap_gradient")
+    );
+    let fence = get(ths, "fence");
+    assert!(fence["set_by"].as_str().unwrap().contains("design file"));
+    assert_eq!(fence["source"], "invented for this test");
+    assert_eq!(fence["basis"], "rms");
+    // The file's limit is the one searched for: the equatorial dipole distance, as in the
+    // command-line test above (20 uT rms = 2e-5 T).
+    let m = 1000.0 * std::f64::consts::PI * 1e-4;
+    let r = (1e-7 * m / (2e-5 * 2f64.sqrt())).cbrt();
+    assert!(rel(f(&fence["distance_from_axis_m"]), r) < 0.02);
+    // The extra height is searched, and labelled as coming from the file.
+    let heights = fence["by_height"].as_array().unwrap();
+    assert!(heights.iter().any(|h| {
+        h["label"].as_str().unwrap().contains("[clearance] heights") && f(&h["height_m"]) == 0.5
+    }));
+    let at = j["at_distances"].as_array().unwrap();
+    assert_eq!(at.len(), 2);
+    assert_eq!(f(&at[1]["distance_from_axis_m"]), 1.0);
+
+    // The command line overrides the file: a threshold of the same name, distances, gradient.
+    let j = field_json(&[
+        "clearance",
+        d,
+        "--format",
+        "json",
+        "--threshold",
+        "fence,B,1e-5,rms",
+        "--distance",
+        "2",
+        "--long-gap-gradient",
+        "1e5",
+    ]);
+    let ths = j["thresholds"].as_array().unwrap();
+    assert_eq!(ths.len(), 3);
+    let fence = get(ths, "fence");
+    assert_eq!(f(&fence["limit"]), 1e-5);
+    assert!(fence["set_by"].as_str().unwrap().contains("command line"));
+    let gap = get(ths, "long_gap_mean_gradient");
+    assert_eq!(f(&gap["limit"]), 1e5);
+    assert!(gap["set_by"].as_str().unwrap().contains("command line"));
+    assert_eq!(j["at_distances"].as_array().unwrap().len(), 1);
+    // The table says who set each threshold.
+    let out = run(&["clearance", d]);
+    let table = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        table.contains("fence: invented for this test [set by design file"),
+        "{table}"
+    );
+    assert!(table.contains("not a safety certificate"));
+
+    // The map's contour lines follow the same thresholds.
+    let svg = dir.path().join("m.svg");
+    field_json(&[
+        "map",
+        d,
+        "--plane",
+        "xz",
+        "--extent",
+        "-0.2,0.2,0.8,1.2",
+        "--resolution",
+        "9,9",
+        "--plot",
+        svg.to_str().unwrap(),
+        "--plot-quantity",
+        "b",
+    ]);
+    let svg_text = std::fs::read_to_string(&svg).unwrap();
+    assert!(svg_text.contains("fence") && !svg_text.contains("icnirp"));
+
+    // Bad values exit 2 naming the file and the key.
+    for (from, to, parts) in [
+        (
+            "max_distance = \"5 m\"",
+            "max_distanse = 5.0",
+            &["d.toml", "clearance", "max_distanse", "unknown key"][..],
+        ),
+        (
+            "distances = [0.05, 1.0]",
+            "distances = [0.05, -1.0]",
+            &["d.toml", "distances[1]", "negative"][..],
+        ),
+        (
+            "quantity = \"B\"",
+            "quantity = \"H\"",
+            &["d.toml", "clearance threshold 'fence'", "quantity"][..],
+        ),
+        (
+            "limit = \"20 uT\"",
+            "limit = nan",
+            &["d.toml", "limit", "not finite"][..],
+        ),
+    ] {
+        let bad = design_file(dir.path(), "bad.toml", &text.replace(from, to));
+        let mut want = parts.to_vec();
+        want[0] = "bad.toml";
+        expect_bad(&["clearance", bad.to_str().unwrap()], &want);
+    }
+}
+
+#[test]
 fn clearance_of_the_resonator_is_consistent_with_field() {
     let dir = tempfile::tempdir().unwrap();
     let d = design_file(dir.path(), "d.toml", RESONATOR);

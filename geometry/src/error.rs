@@ -480,6 +480,20 @@ pub enum DesignError {
         near_m: [f64; 3],
     },
 
+    /// A setting (e.g. in `[clearance]`) with a value outside its range or with a wrong unit.
+    /// Fix the value as the message says.
+    #[error("{source_name}: {item}: key '{key}': {reason}")]
+    BadSetting {
+        /// File label.
+        source_name: String,
+        /// Which table (`clearance`, `clearance threshold 'fence'`).
+        item: String,
+        /// The key, with an index for list elements.
+        key: String,
+        /// What is wrong and what to give.
+        reason: String,
+    },
+
     /// A conductor reaches down to or through the ground plane. Raise it or lower the plane.
     #[error(
         "{source_name}: {item}: key '{key}': it reaches down to z = {} m, at or below the \
