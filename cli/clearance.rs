@@ -9,6 +9,7 @@
 use crate::fields::{FieldModel, Sample};
 use crate::thresholds::{self, Method, Quantity};
 use crate::{BadInput, Format, load, output};
+use coilfield_geometry::clearance::MIN_MAX_DISTANCE_M;
 use coilfield_geometry::{Design, Electrode, End, Role, local_frame};
 use coilfield_solver::clearance::{
     RayClearance, RayOutcome, RayParams, clearance_along_ray, ladder_m, ray_point,
@@ -20,18 +21,22 @@ use std::collections::HashMap;
 use std::path::Path;
 use std::process::ExitCode;
 
+/// Farthest distance searched along a ray (m) when neither the command line nor the design
+/// file sets one.
+pub const MAX_DISTANCE_M: f64 = 30.0;
+
 /// Options of `clearance`.
 pub struct ClearanceArgs<'a> {
     /// Design file.
     pub design: &'a Path,
     /// Distances (m) from the axis at the top electrode's height.
     pub distances: Option<&'a str>,
-    /// Mean breakdown gradient of long gaps (V/m).
-    pub long_gap_v_per_m: f64,
+    /// Mean breakdown gradient of long gaps (V/m); None: the design file's, else the default.
+    pub long_gap_v_per_m: Option<f64>,
     /// Extra thresholds.
     pub extra: &'a [String],
-    /// Farthest distance searched (m).
-    pub max_distance_m: f64,
+    /// Farthest distance searched (m); None: the design file's, else [`MAX_DISTANCE_M`].
+    pub max_distance_m: Option<f64>,
     /// Output format.
     pub format: Format,
 }
@@ -91,6 +96,12 @@ fn frame(design: &Design, label: &str) -> Result<Frame, BadInput> {
         (0.5 * h_top, format!("{} middle", secondary.name)),
         (h_top, format!("{} top", secondary.name)),
     ];
+    heights.extend(design.clearance.heights_m.iter().map(|h| {
+        (
+            *h,
+            format!("{h} m above {} base ([clearance] heights)", secondary.name),
+        )
+    }));
     let (top_m, top_name) = match &top_electrode {
         Some(e) => {
             let c = e.shape.origin_axis().0;
@@ -144,6 +155,7 @@ struct ThresholdOut {
     compared_with: &'static str,
     peak_limit: f64,
     source: String,
+    set_by: String,
     method: Method,
     distance_from_axis_m: f64,
     distance_from_top_m: f64,
@@ -188,16 +200,26 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             "{label}: [drive] frequency: clearance needs the drive frequency (Hz) for the exposure reference levels; add frequency = <Hz> to [drive]"
         ))
     })?;
-    if !(args.long_gap_v_per_m.is_finite() && args.long_gap_v_per_m > 0.0) {
+    if let Some(g) = args.long_gap_v_per_m
+        && !(g.is_finite() && g > 0.0)
+    {
         return Err(
             BadInput("--long-gap-gradient: must be a positive number of V/m".into()).into(),
         );
     }
-    if !(args.max_distance_m.is_finite() && args.max_distance_m > 0.01) {
-        return Err(
-            BadInput("--max-distance: must be a number of metres above 0.01".into()).into(),
-        );
+    if let Some(d) = args.max_distance_m
+        && !(d.is_finite() && d >= MIN_MAX_DISTANCE_M)
+    {
+        return Err(BadInput(format!(
+            "--max-distance: must be a number of metres, at least {MIN_MAX_DISTANCE_M}"
+        ))
+        .into());
     }
+    // The command line overrides the design file's [clearance], which overrides the default.
+    let max_distance_m = args
+        .max_distance_m
+        .or(design.clearance.max_distance_m)
+        .unwrap_or(MAX_DISTANCE_M);
     let distances: Vec<f64> = match args.distances {
         Some(t) => {
             let n = t.split(',').count();
@@ -210,19 +232,22 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             }
             v
         }
-        None => Vec::new(),
+        None => design.clearance.distances_m.clone(),
     };
-    let (mut ths, mut warnings) = thresholds::defaults(frequency_hz, args.long_gap_v_per_m);
-    for t in args.extra {
-        ths.push(thresholds::parse_user(t)?);
-    }
+    let (ths, mut warnings) = thresholds::for_design(
+        &design,
+        &label,
+        Some(frequency_hz),
+        args.long_gap_v_per_m,
+        args.extra,
+    )?;
     let fr = frame(&design, &label)?;
     let model = FieldModel::from_design(&design, &label)?;
     warnings.extend(model.warnings.iter().cloned());
     let (x_hat, y_hat) = local_frame(&fr.axis);
     let params = RayParams {
         t_min_m: 1e-3,
-        t_max_m: args.max_distance_m,
+        t_max_m: max_distance_m,
         step_ratio: 1.05,
         tolerance_m: 1e-3,
     };
@@ -301,6 +326,7 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
                 compared_with: "peak potential of the top conductor / distance",
                 peak_limit: t.peak_limit(),
                 source: t.source.clone(),
+                set_by: t.set_by.clone(),
                 method: t.method,
                 distance_from_axis_m: r_top + d,
                 distance_from_top_m: d,
@@ -361,6 +387,7 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             },
             peak_limit: limit,
             source: t.source.clone(),
+            set_by: t.set_by.clone(),
             method: t.method,
             distance_from_axis_m: by_height
                 .iter()
@@ -372,8 +399,8 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
         });
         if beyond {
             warnings.push(format!(
-                "{}: the field is still above the limit at the end of the search ({} m); the distance given is a lower bound (raise --max-distance)",
-                t.name, args.max_distance_m
+                "{}: the field is still above the limit at the end of the search ({} m); the distance given is a lower bound (raise --max-distance or [clearance] max_distance)",
+                t.name, max_distance_m
             ));
         }
     }
@@ -453,7 +480,10 @@ fn table(r: &ClearanceOut) -> String {
     }
     s.push_str("\nSources:\n");
     for t in &r.thresholds {
-        s.push_str(&format!("  {}: {}\n", t.name, t.source));
+        s.push_str(&format!(
+            "  {}: {} [set by {}]\n",
+            t.name, t.source, t.set_by
+        ));
     }
     if !r.at_distances.is_empty() {
         s.push_str("\nAt the top conductor's height (peak; rms = peak / sqrt(2)):\n");

@@ -14,8 +14,10 @@ use std::process::ExitCode;
 pub enum EValue {
     /// Peak E (V/m).
     Field(Vector3<f64>),
-    /// The point lies inside the named conductor (or below the ground plane, "ground").
+    /// The point lies inside the named electrode.
     Inside(String),
+    /// The point lies below the grounded plane.
+    BelowGround,
 }
 
 /// E and B at one point (peak values of the drive).
@@ -148,40 +150,9 @@ pub fn run(
     ));
     let mut rows = Vec::with_capacity(pts.len());
     for ((p, s), o) in pts.iter().zip(&samples).zip(&origins) {
-        let position_m = [p.x, p.y, p.z];
-        if let EValue::Inside(name) = &s.e {
-            return Err(BadInput(format!(
-                "{}: the point ({}, {}, {}) m lies inside the conductor {name}, where the field is not defined; move it outside",
-                o.label(),
-                p.x,
-                p.y,
-                p.z
-            ))
-            .into());
-        }
-        let on_wire = s.b.is_none();
-        if on_wire {
-            warnings.push(format!(
-                "{}: the point ({}, {}, {}) m lies on a winding's wire: no field given",
-                o.label(),
-                p.x,
-                p.y,
-                p.z
-            ));
-        }
-        let answered = !on_wire;
-        let e = match &s.e {
-            EValue::Field(v) if answered => Some(*v),
-            _ => None,
-        };
-        let b = if answered { s.b } else { None };
-        rows.push(PointOut {
-            position_m,
-            e_field_v_per_m: e.map(arr),
-            e_mag_v_per_m: e.map(|v| v.norm()),
-            b_field_t: b.map(arr),
-            b_mag_t: b.map(|v| v.norm()),
-        });
+        let (row, warning) = point_row(p, s, o)?;
+        warnings.extend(warning);
+        rows.push(row);
     }
     let result = FieldOut {
         points: rows,
@@ -204,8 +175,60 @@ pub fn run(
     Ok(ExitCode::SUCCESS)
 }
 
+/// The output row of one point, and the warning it raises, if any.
+///
+/// A point inside a conductor is bad input when it was typed with `--at` (the user asked for
+/// that point alone), but on a list of points (`--points`) it is one sample among many, as on a
+/// grid: E is left without a value and a warning names the point and the conductor. B keeps
+/// its value there, as on a `map` grid: the magnetic model does not see the electrodes. A
+/// point on a wire has no value for either field.
+fn point_row(
+    p: &Point3<f64>,
+    s: &Sample,
+    o: &Origin,
+) -> Result<(PointOut, Option<String>), BadInput> {
+    let position_m = [p.x, p.y, p.z];
+    let at = format!("{}: the point ({}, {}, {}) m", o.label(), p.x, p.y, p.z);
+    let mut warning = None;
+    let inside = match &s.e {
+        EValue::Inside(name) => Some(format!("electrode '{name}'")),
+        EValue::BelowGround => Some("the ground (below the ground plane)".to_string()),
+        EValue::Field(_) => None,
+    };
+    if let Some(what) = inside {
+        if let Origin::At(_) = o {
+            return Err(BadInput(format!(
+                "{at} lies inside {what}, where the field is not defined; move it outside"
+            )));
+        }
+        warning = Some(format!(
+            "{at} lies inside {what}: E is not defined there (null in JSON, NaN in CSV and \
+             table); B is the windings' field, which does not see the electrodes"
+        ));
+    }
+    let on_wire = s.b.is_none();
+    if on_wire {
+        warning = Some(format!(
+            "{at} lies on a winding's wire: no field given (null in JSON, NaN in CSV and table)"
+        ));
+    }
+    let e = match &s.e {
+        EValue::Field(v) if !on_wire => Some(*v),
+        _ => None,
+    };
+    let row = PointOut {
+        position_m,
+        e_field_v_per_m: e.map(arr),
+        e_mag_v_per_m: e.map(|v| v.norm()),
+        b_field_t: s.b.map(arr),
+        b_mag_t: s.b.map(|v| v.norm()),
+    };
+    Ok((row, warning))
+}
+
+/// A value for CSV and table output: NaN where there is none (JSON has null instead).
 fn opt(v: Option<f64>) -> String {
-    v.map_or(String::new(), |x| format!("{x:e}"))
+    v.map_or("NaN".to_string(), |x| format!("{x:e}"))
 }
 
 fn csv_text(r: &FieldOut) -> String {
@@ -246,8 +269,10 @@ fn table_text(r: &FieldOut) -> String {
         );
         let e = p
             .e_mag_v_per_m
-            .map_or("-".to_string(), |x| output::si(x, "V/m", 4));
-        let b = p.b_mag_t.map_or("-".to_string(), |x| output::si(x, "T", 4));
+            .map_or("NaN".to_string(), |x| output::si(x, "V/m", 4));
+        let b = p
+            .b_mag_t
+            .map_or("NaN".to_string(), |x| output::si(x, "T", 4));
         s.push_str(&format!("{pos:>30}  {e:>12}  {b:>12}\n"));
     }
     s

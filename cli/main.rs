@@ -83,7 +83,9 @@ enum Command {
     },
     /// Peak E (V/m) and B (T) vectors and magnitudes of the drive at points: `--at x,y,z`
     /// (metres, repeatable) and/or `--points FILE.csv` (header x,y,z). A point on a wire gets
-    /// no value and a warning; a point inside a conductor is an error.
+    /// no value and a warning; a point inside an electrode or below the ground plane is an
+    /// error with `--at` and gets no E (null in JSON, NaN in CSV and table) and a warning in
+    /// `--points`.
     Field {
         /// Design file (TOML).
         design: PathBuf,
@@ -161,19 +163,23 @@ enum Command {
     Clearance {
         /// Design file (TOML).
         design: PathBuf,
-        /// Distances from the axis (m) at the top electrode's height, comma-separated.
+        /// Distances from the axis (m) at the top electrode's height, comma-separated; replaces
+        /// [clearance] distances.
         #[arg(long, value_name = "D1,D2,...")]
         distance: Option<String>,
         /// Mean breakdown gradient of long gaps (V/m, peak); common practice, no published
-        /// source: set it for your conditions.
-        #[arg(long, value_name = "V_PER_M", default_value_t = thresholds::LONG_GAP_GRADIENT_V_PER_M)]
-        long_gap_gradient: f64,
-        /// Extra threshold NAME,E|B,LIMIT,rms|peak (LIMIT in V/m or T), repeatable.
+        /// source: set it for your conditions. Overrides [clearance] long_gap_gradient
+        /// (default 300 kV/m).
+        #[arg(long, value_name = "V_PER_M")]
+        long_gap_gradient: Option<f64>,
+        /// Extra threshold NAME,E|B,LIMIT,rms|peak (LIMIT in V/m or T), repeatable; replaces a
+        /// threshold of the same name from the defaults or [clearance].
         #[arg(long, value_name = "NAME,Q,LIMIT,BASIS")]
         threshold: Vec<String>,
-        /// Farthest distance searched along each ray (m).
-        #[arg(long, value_name = "M", default_value_t = 30.0)]
-        max_distance: f64,
+        /// Farthest distance searched along each ray (m); overrides [clearance] max_distance
+        /// (default 30 m).
+        #[arg(long, value_name = "M")]
+        max_distance: Option<f64>,
         /// table or json.
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,

@@ -178,19 +178,10 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
             PlotQuantity::E => (&e_mag, Quantity::E, "V/m"),
             PlotQuantity::B => (&b_mag, Quantity::B, "T"),
         };
-        let (ths, th_warnings) = match design.drive.frequency_hz {
-            Some(f) => thresholds::defaults(f, thresholds::LONG_GAP_GRADIENT_V_PER_M),
-            None => {
-                let (t, _) = thresholds::defaults(0.0, thresholds::LONG_GAP_GRADIENT_V_PER_M);
-                (
-                    t,
-                    vec![
-                        "no [drive] frequency: contour lines at exposure reference levels left out"
-                            .into(),
-                    ],
-                )
-            }
-        };
+        // The same thresholds as `clearance` without command-line additions: the design's
+        // [clearance] sets and thresholds.
+        let (ths, th_warnings) =
+            thresholds::for_design(&design, &label, design.drive.frequency_hz, None, &[])?;
         warnings.extend(th_warnings);
         let contours: Vec<(f64, String)> = ths
             .iter()

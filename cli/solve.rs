@@ -4,7 +4,7 @@
 //! A drive without currents gives B = 0 and one without potentials E = 0, each with a warning.
 
 use crate::fields::{EValue, FieldModel, Sample};
-use coilfield_geometry::{Design, DriveNeeds, PotentialSpec, validate_drive};
+use coilfield_geometry::{Design, DriveNeeds, Electrode, Ground, PotentialSpec, validate_drive};
 use coilfield_solver::electrostatic::{self, FieldSample, Params, Problem, Solution};
 use coilfield_solver::{Par, field};
 use nalgebra::{Point3, Vector3};
@@ -55,6 +55,7 @@ pub fn field_model(design: &Design, label: &str) -> anyhow::Result<FieldModel> {
         warnings.push("no conductor has a potential in [drive] potentials: E is zero".into());
         None
     };
+    let design_geometry = (design.electrodes.clone(), design.ground);
     let eval = move |pts: &[Point3<f64>]| -> Vec<Sample> {
         let b = field::b_field(&sources, pts, Par::Rayon);
         let e: Vec<EValue> = match &solution {
@@ -64,13 +65,32 @@ pub fn field_model(design: &Design, label: &str) -> anyhow::Result<FieldModel> {
                 .map(|s| match s {
                     FieldSample::Field(v) => EValue::Field(v),
                     FieldSample::InsideConductor(name) => EValue::Inside(name),
+                    FieldSample::BelowGround => EValue::BelowGround,
                 })
                 .collect(),
-            None => vec![EValue::Field(Vector3::zeros()); pts.len()],
+            // E is zero without potentials, but still undefined inside a conductor: the
+            // points are told apart the same way as with a solution.
+            None => pts.iter().map(|p| zero_e_at(&design_geometry, p)).collect(),
         };
         e.into_iter().zip(b).map(|(e, b)| Sample { e, b }).collect()
     };
     Ok(FieldModel::from_fn(Box::new(eval), warnings))
+}
+
+/// E = 0 at `p` when no conductor has a potential, or no value inside an electrode or below
+/// the ground plane (as `Solution::e_field` reports them).
+fn zero_e_at(geometry: &(Vec<Electrode>, Option<Ground>), p: &Point3<f64>) -> EValue {
+    let (electrodes, ground) = geometry;
+    if let Some(e) = electrodes
+        .iter()
+        .find(|e| e.shape.signed_distance_m(p) < 0.0)
+    {
+        return EValue::Inside(e.name.clone());
+    }
+    if ground.is_some_and(|g| p.z < g.z_m) {
+        return EValue::BelowGround;
+    }
+    EValue::Field(Vector3::zeros())
 }
 
 /// Warnings on the quasi-static assumption for fields at `distances_m` from the coil.

@@ -6,6 +6,7 @@
 //! compared with the peak field directly.
 
 use crate::BadInput;
+use coilfield_geometry::{ClearanceSettings, DefaultSet, Design, FieldQuantity, LimitBasis};
 use serde::Serialize;
 
 /// mu0 (H/m), classical value, to turn an H reference level (A/m) into B (T).
@@ -57,6 +58,8 @@ pub struct Threshold {
     pub source: String,
     /// How its clearance is found.
     pub method: Method,
+    /// Who set it: a built-in default, the design file or the command line.
+    pub set_by: String,
 }
 
 impl Threshold {
@@ -89,8 +92,12 @@ fn e(name: &str, limit: f64, basis: Basis, source: &str) -> Threshold {
         basis,
         source: source.into(),
         method: Method::FieldSearch,
+        set_by: BUILT_IN.into(),
     }
 }
+
+/// `set_by` of a built-in threshold.
+pub const BUILT_IN: &str = "built-in default";
 
 fn b(name: &str, limit: f64, source: &str) -> Threshold {
     Threshold {
@@ -101,10 +108,11 @@ fn b(name: &str, limit: f64, source: &str) -> Threshold {
         basis: Basis::Rms,
         source: source.into(),
         method: Method::FieldSearch,
+        set_by: BUILT_IN.into(),
     }
 }
 
-/// The default thresholds at drive frequency `frequency_hz`, with a warning for each family
+/// Every built-in threshold at drive frequency `frequency_hz`, with a warning for each family
 /// whose frequency range does not cover it.
 pub fn defaults(frequency_hz: f64, long_gap_v_per_m: f64) -> (Vec<Threshold>, Vec<String>) {
     let mut out = vec![
@@ -120,7 +128,7 @@ pub fn defaults(frequency_hz: f64, long_gap_v_per_m: f64) -> (Vec<Threshold>, Ve
                 "long_gap_mean_gradient",
                 long_gap_v_per_m,
                 Basis::Peak,
-                "common practice, no published source: mean breakdown gradient of gaps of metres (user setting --long-gap-gradient)",
+                "common practice, no published source: mean breakdown gradient of gaps of metres (a user setting: [clearance] long_gap_gradient or --long-gap-gradient)",
             )
         },
     ];
@@ -194,6 +202,114 @@ pub fn defaults(frequency_hz: f64, long_gap_v_per_m: f64) -> (Vec<Threshold>, Ve
     (out, warnings)
 }
 
+/// The built-in set a default threshold belongs to.
+fn set_of(name: &str) -> DefaultSet {
+    if name == "air_breakdown" {
+        DefaultSet::Breakdown
+    } else if name == "long_gap_mean_gradient" {
+        DefaultSet::LongGapGradient
+    } else if name.contains("_public_") {
+        DefaultSet::IcnirpPublic
+    } else {
+        DefaultSet::IcnirpOccupational
+    }
+}
+
+/// Where the long-gap gradient came from, for `set_by`.
+fn long_gap_origin(cli: Option<f64>, settings: &ClearanceSettings, label: &str) -> (f64, String) {
+    match (cli, settings.long_gap_gradient_v_per_m) {
+        (Some(v), _) => (v, "command line (--long-gap-gradient)".into()),
+        (None, Some(v)) => (
+            v,
+            format!("design file {label} ([clearance] long_gap_gradient)"),
+        ),
+        (None, None) => (LONG_GAP_GRADIENT_V_PER_M, BUILT_IN.into()),
+    }
+}
+
+/// A threshold of the design file's `[[clearance.threshold]]`.
+fn from_design(t: &coilfield_geometry::ThresholdSpec, label: &str) -> Threshold {
+    let (quantity, unit) = match t.quantity {
+        FieldQuantity::E => (Quantity::E, "V/m"),
+        FieldQuantity::B => (Quantity::B, "T"),
+    };
+    Threshold {
+        name: t.name.clone(),
+        quantity,
+        limit: t.limit_si,
+        unit,
+        basis: match t.basis {
+            LimitBasis::Rms => Basis::Rms,
+            LimitBasis::Peak => Basis::Peak,
+        },
+        source: t.source.clone(),
+        method: Method::FieldSearch,
+        set_by: format!("design file {label} ([[clearance.threshold]])"),
+    }
+}
+
+/// Put `t` in `list`, replacing a threshold of the same name.
+fn put(list: &mut Vec<Threshold>, t: Threshold) {
+    match list.iter_mut().find(|o| o.name == t.name) {
+        Some(slot) => *slot = t,
+        None => list.push(t),
+    }
+}
+
+/// The thresholds of a run: the built-in sets the design's `[clearance] defaults` keeps, then
+/// its own thresholds, then the command line's (`--threshold`); a later one with the name of
+/// an earlier one replaces it. The long-gap gradient comes from `cli_long_gap_v_per_m`, else
+/// the design file, else the default. Without a drive frequency the exposure levels are left
+/// out with a warning. `label` names the design file in `set_by`.
+pub fn for_design(
+    design: &Design,
+    label: &str,
+    frequency_hz: Option<f64>,
+    cli_long_gap_v_per_m: Option<f64>,
+    cli_extra: &[String],
+) -> Result<(Vec<Threshold>, Vec<String>), BadInput> {
+    let settings = &design.clearance;
+    let (long_gap, long_gap_by) = long_gap_origin(cli_long_gap_v_per_m, settings, label);
+    let wanted = |set: DefaultSet| settings.defaults.contains(&set);
+    let icnirp = wanted(DefaultSet::IcnirpPublic) || wanted(DefaultSet::IcnirpOccupational);
+    let (all, mut warnings) = match frequency_hz {
+        Some(f) => defaults(f, long_gap),
+        None => {
+            let mut w = Vec::new();
+            if icnirp {
+                w.push("no [drive] frequency: exposure reference levels left out".to_string());
+            }
+            (defaults(0.0, long_gap).0, w)
+        }
+    };
+    if !icnirp {
+        // Out-of-range warnings are about sets the user left out.
+        warnings.clear();
+    }
+    let mut out: Vec<Threshold> = all
+        .into_iter()
+        .filter(|t| wanted(set_of(&t.name)))
+        .map(|mut t| {
+            if t.method == Method::MeanGradient {
+                t.set_by = long_gap_by.clone();
+            }
+            t
+        })
+        .collect();
+    for t in &settings.thresholds {
+        put(&mut out, from_design(t, label));
+    }
+    for text in cli_extra {
+        put(&mut out, parse_user(text)?);
+    }
+    if out.is_empty() {
+        warnings.push(format!(
+            "no thresholds: {label} [clearance] defaults = [] and no threshold given"
+        ));
+    }
+    Ok((out, warnings))
+}
+
 /// A user threshold from `--threshold NAME,E|B,LIMIT,rms|peak` (limit in V/m or T).
 pub fn parse_user(text: &str) -> Result<Threshold, BadInput> {
     let parts: Vec<&str> = text.split(',').map(str::trim).collect();
@@ -234,8 +350,9 @@ pub fn parse_user(text: &str) -> Result<Threshold, BadInput> {
         limit,
         unit,
         basis,
-        source: "user setting (--threshold)".into(),
+        source: "user setting (--threshold), no source given".into(),
         method: Method::FieldSearch,
+        set_by: "command line (--threshold)".into(),
     })
 }
 
@@ -267,6 +384,23 @@ mod tests {
         let (t, w) = defaults(50e6, LONG_GAP_GRADIENT_V_PER_M);
         assert_eq!(t.len(), 2);
         assert_eq!(w.len(), 2);
+    }
+
+    #[test]
+    fn design_sets_pick_their_thresholds() {
+        let text = "[[winding]]\nshape = \"ring\"\norigin = [0.0, 0.0, 1.0]\naxis = [0.0, 0.0, 1.0]\nradius = 0.1\nwire_diameter = 0.001\n[clearance]\ndefaults = [\"icnirp_public\"]\n";
+        let d = coilfield_geometry::parse_design(text, "d.toml").unwrap();
+        let (t, w) = for_design(&d, "d.toml", Some(1e6), None, &[]).unwrap();
+        assert!(w.is_empty());
+        assert_eq!(t.len(), 6, "{t:?}");
+        assert!(
+            t.iter()
+                .all(|x| x.name.contains("_public_") && x.set_by == BUILT_IN)
+        );
+        // No frequency: the exposure sets fall away with a warning.
+        let (t, w) = for_design(&d, "d.toml", None, None, &["x,E,1,peak".into()]).unwrap();
+        assert_eq!(t.len(), 1);
+        assert!(w[0].contains("no [drive] frequency"));
     }
 
     #[test]

@@ -28,7 +28,8 @@
 //! - polyline: `points` = [[x, y, z], ...] in absolute coordinates, `closed` (default false)
 //!
 //! Besides `[[winding]]`, a design may have `[[electrode]]` tables and a `[ground]` table (keys
-//! and units in [`crate::electrode`]) and a `[drive]` table (in [`crate::drive`]). A design of
+//! and units in [`crate::electrode`]), a `[drive]` table (in [`crate::drive`]) and a
+//! `[clearance]` table of thresholds and search settings (in [`crate::clearance`]). A design of
 //! electrodes alone (no winding) is accepted.
 //!
 //! # Checks
@@ -39,6 +40,7 @@
 //! each other, nothing may reach the ground plane, and every name in `connect` and `[drive]`
 //! must exist (see [`crate::electrode`], [`crate::drive`]).
 
+use crate::clearance::{ClearanceSettings, parse_clearance};
 use crate::drive::{Drive, check_drive, parse_drive};
 use crate::electrode::{Electrode, Ground, check_electrodes, parse_electrodes, parse_ground};
 use crate::error::DesignError;
@@ -56,7 +58,14 @@ pub const CURRENT_VERSION: u32 = 1;
 /// Keys allowed at the top level of a design file.
 ///
 /// This is the one place to extend when the format grows (electrodes, ground, drive).
-pub const TOP_LEVEL_KEYS: &[&str] = &["version", "winding", "electrode", "ground", "drive"];
+pub const TOP_LEVEL_KEYS: &[&str] = &[
+    "version",
+    "winding",
+    "electrode",
+    "ground",
+    "drive",
+    "clearance",
+];
 
 /// Values of a winding's `shape` key.
 pub const SHAPE_NAMES: &[&str] = &["helix", "spiral", "cone", "ring", "polyline"];
@@ -89,6 +98,8 @@ pub struct Design {
     pub ground: Option<Ground>,
     /// The excitation (`[drive]`, see [`crate::drive`]).
     pub drive: Drive,
+    /// Clearance thresholds and search settings (`[clearance]`, see [`crate::clearance`]).
+    pub clearance: ClearanceSettings,
 }
 
 impl Default for Design {
@@ -99,6 +110,7 @@ impl Default for Design {
             electrodes: Vec::new(),
             ground: None,
             drive: Drive::default(),
+            clearance: ClearanceSettings::default(),
         }
     }
 }
@@ -140,6 +152,10 @@ pub fn parse_design(text: &str, source: &str) -> Result<Design, DesignError> {
     let drive = match table.remove("drive") {
         Some(value) => parse_drive(value, source)?,
         None => Drive::default(),
+    };
+    let clearance = match table.remove("clearance") {
+        Some(value) => parse_clearance(value, source)?,
+        None => ClearanceSettings::default(),
     };
     // A design of electrodes alone is useful for capacitance; without either there is nothing.
     let windings_value = match table.remove("winding") {
@@ -230,6 +246,7 @@ pub fn parse_design(text: &str, source: &str) -> Result<Design, DesignError> {
         electrodes,
         ground,
         drive,
+        clearance,
     };
     check_design(&design, source)?;
     Ok(design)

@@ -19,14 +19,16 @@
 //! false): whether it also mirrors currents (image windings) for B, L and M.
 //!
 //! # Checks and their resolution
-//! Contacts are found on sampled surfaces: each electrode's surface is sampled on a grid of
-//! [`SURFACE_SAMPLES`] x [`SURFACE_SAMPLES`] points (generatrix x azimuth), each winding's
-//! centreline at [`WINDING_SAMPLES_PER_TURN`] points per turn; a contact thinner than the
-//! sampling step can go unseen (a geometric check, not a proof).
+//! Contacts are found from closed-form distances to each surface, not from samples (see
+//! [`crate::contact`]): a wire is accepted only if its surface provably clears the electrode,
+//! and refused if it touches, crosses or comes within min(wire radius / 1000, 1 um) of it;
+//! two electrodes likewise, to 1e-9 of their size. The lowest point of an electrode, for the
+//! ground-plane check, is in closed form.
 
+use crate::contact::{self, Reach};
 use crate::design::{Ctx, Design, RawLength, RawNumber, is_valid_name, type_phrase};
 use crate::error::DesignError;
-use crate::winding::{Shape, local_frame};
+use crate::winding::Shape;
 use nalgebra::{Point3, Unit, Vector3};
 use serde::Deserialize;
 use std::f64::consts::{PI, TAU};
@@ -34,12 +36,6 @@ use toml::{Table, Value};
 
 /// Values of an electrode's `shape` key.
 pub const ELECTRODE_SHAPE_NAMES: &[&str] = &["torus", "sphere", "disc", "cylinder"];
-
-/// Surface samples per direction (generatrix and azimuth) of the contact checks.
-pub const SURFACE_SAMPLES: usize = 64;
-
-/// Centreline samples per turn of a winding in the contact checks.
-pub const WINDING_SAMPLES_PER_TURN: usize = 64;
 
 /// Shape of an electrode, with its sizes in metres.
 #[derive(Debug, Clone, PartialEq)]
@@ -216,22 +212,6 @@ impl ElectrodeShape {
                 }
             }
         }
-    }
-
-    /// Points (m) sampling the surface: [`SURFACE_SAMPLES`] along the generatrix times
-    /// [`SURFACE_SAMPLES`] in azimuth.
-    pub fn surface_samples(&self) -> Vec<Point3<f64>> {
-        let (o, n) = self.origin_axis();
-        let (x_hat, y_hat) = local_frame(&n);
-        let mut out = Vec::with_capacity(SURFACE_SAMPLES * SURFACE_SAMPLES);
-        for i in 0..=SURFACE_SAMPLES {
-            let (rho, zeta) = self.generatrix_at(i as f64 / SURFACE_SAMPLES as f64);
-            for j in 0..SURFACE_SAMPLES {
-                let phi = TAU * j as f64 / SURFACE_SAMPLES as f64;
-                out.push(o + n.as_ref() * zeta + (x_hat * phi.cos() + y_hat * phi.sin()) * rho);
-            }
-        }
-        out
     }
 
     /// Key that places the electrode, for messages.
@@ -565,48 +545,33 @@ pub(crate) fn check_electrodes(design: &Design, source: &str) -> Result<(), Desi
                 });
             }
         }
-        let samples = e.shape.surface_samples();
-        // Windings: every centreline sample must clear the surface by the wire radius.
+        // Windings: the wire must clear the surface (closed-form distances, see contact).
         for w in &design.windings {
-            let n = winding_samples(w);
-            for k in 0..=n {
-                let p = w.shape.point_at(k as f64 / n as f64);
-                if e.shape.signed_distance_m(&p) <= w.wire_radius_m() {
-                    return Err(DesignError::ElectrodeIntersects {
-                        source_name: source.to_string(),
-                        item: item(e),
-                        key: e.shape.placing_key(),
-                        other: format!("the wire of winding '{}'", w.name),
-                        near_m: p.coords.into(),
-                    });
-                }
-            }
-        }
-        // Earlier electrodes: no sample of one inside or on the other, both ways.
-        for other in &design.electrodes[..idx] {
-            let hit = samples
-                .iter()
-                .copied()
-                .find(|p| other.shape.signed_distance_m(p) <= 0.0)
-                .or_else(|| {
-                    other
-                        .shape
-                        .surface_samples()
-                        .into_iter()
-                        .find(|p| e.shape.signed_distance_m(p) <= 0.0)
-                });
-            if let Some(p) = hit {
+            let reach = contact::wire_electrode(w, &e.shape);
+            if let Some((how, at)) = refusal(reach) {
                 return Err(DesignError::ElectrodeIntersects {
                     source_name: source.to_string(),
                     item: item(e),
                     key: e.shape.placing_key(),
-                    other: item(other),
-                    near_m: p.coords.into(),
+                    contact: format!("{how} the wire of winding '{}'", w.name),
+                    near_m: at.coords.into(),
+                });
+            }
+        }
+        // Earlier electrodes: surfaces apart and neither inside the other.
+        for other in &design.electrodes[..idx] {
+            if let Some((how, at)) = refusal(contact::electrode_electrode(&e.shape, &other.shape)) {
+                return Err(DesignError::ElectrodeIntersects {
+                    source_name: source.to_string(),
+                    item: item(e),
+                    key: e.shape.placing_key(),
+                    contact: format!("{how} {}", item(other)),
+                    near_m: at.coords.into(),
                 });
             }
         }
         if let Some(g) = design.ground {
-            let lowest = samples.iter().map(|p| p.z).fold(f64::INFINITY, f64::min);
+            let lowest = e.shape.lowest_z_m();
             if lowest <= g.z_m {
                 return Err(DesignError::BelowGround {
                     source_name: source.to_string(),
@@ -620,11 +585,7 @@ pub(crate) fn check_electrodes(design: &Design, source: &str) -> Result<(), Desi
     }
     if let Some(g) = design.ground {
         for w in &design.windings {
-            let n = winding_samples(w);
-            let lowest = (0..=n)
-                .map(|k| w.shape.point_at(k as f64 / n as f64).z - w.wire_radius_m())
-                .fold(f64::INFINITY, f64::min);
-            if lowest <= g.z_m {
+            if let Some((_, at)) = refusal(contact::wire_ground(w, g.z_m)) {
                 return Err(DesignError::BelowGround {
                     source_name: source.to_string(),
                     item: format!("winding '{}'", w.name),
@@ -633,7 +594,7 @@ pub(crate) fn check_electrodes(design: &Design, source: &str) -> Result<(), Desi
                     } else {
                         "origin"
                     },
-                    lowest_z_m: lowest,
+                    lowest_z_m: at.z - w.wire_radius_m(),
                     ground_z_m: g.z_m,
                 });
             }
@@ -642,15 +603,25 @@ pub(crate) fn check_electrodes(design: &Design, source: &str) -> Result<(), Desi
     Ok(())
 }
 
-/// Centreline samples of a winding for the checks (a polyline: its vertices and midpoints).
-fn winding_samples(w: &crate::winding::Winding) -> usize {
-    match &w.shape {
-        Shape::Polyline { points_m, .. } => 2 * points_m.len(),
-        Shape::Ring { .. } => WINDING_SAMPLES_PER_TURN,
-        shape => {
-            let turns = shape.turns().unwrap_or(1.0);
-            ((turns * WINDING_SAMPLES_PER_TURN as f64).ceil() as usize).clamp(8, 4_000_000)
-        }
+/// The wording of a refused contact check and the point it names; None when apart.
+fn refusal(reach: Reach) -> Option<(String, Point3<f64>)> {
+    match reach {
+        Reach::Clear => None,
+        Reach::Contact(p) => Some(("touches or crosses".to_string(), p)),
+        Reach::WithinTolerance(p, tol) => Some((
+            format!(
+                "comes within {} m (the resolution of the contact check) of",
+                crate::error::sig(tol)
+            ),
+            p,
+        )),
+        Reach::Undecided(p) => Some((
+            format!(
+                "could not be shown apart (the contact check stopped after {} evaluations) from",
+                contact::MAX_EVALUATIONS
+            ),
+            p,
+        )),
     }
 }
 

@@ -460,10 +460,11 @@ pub enum DesignError {
         terminal: String,
     },
 
-    /// An electrode touches or crosses a winding's wire or another electrode. Move or resize it.
+    /// An electrode touches or crosses a winding's wire or another electrode, or comes closer
+    /// than the contact check resolves. Move or resize it.
     #[error(
-        "{source_name}: {item}: key '{key}': it touches or crosses {other} near {} m; move \
-         or resize one of them",
+        "{source_name}: {item}: key '{key}': it {contact} near {} m; move or resize one of \
+         them",
         point(.near_m)
     )]
     ElectrodeIntersects {
@@ -473,10 +474,24 @@ pub enum DesignError {
         item: String,
         /// The key that places it.
         key: &'static str,
-        /// The other conductor.
-        other: String,
+        /// How and what it meets, e.g. "touches or crosses electrode 'topload'".
+        contact: String,
         /// A point of the contact (m).
         near_m: [f64; 3],
+    },
+
+    /// A setting (e.g. in `[clearance]`) with a value outside its range or with a wrong unit.
+    /// Fix the value as the message says.
+    #[error("{source_name}: {item}: key '{key}': {reason}")]
+    BadSetting {
+        /// File label.
+        source_name: String,
+        /// Which table (`clearance`, `clearance threshold 'fence'`).
+        item: String,
+        /// The key, with an index for list elements.
+        key: String,
+        /// What is wrong and what to give.
+        reason: String,
     },
 
     /// A conductor reaches down to or through the ground plane. Raise it or lower the plane.

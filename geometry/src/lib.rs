@@ -36,6 +36,8 @@
 //! - Multi-layer windings must be described as several single-layer windings.
 #![deny(missing_docs)]
 
+pub mod clearance;
+pub mod contact;
 pub mod design;
 pub mod discretise;
 pub mod drive;
@@ -46,6 +48,7 @@ pub mod sweep;
 pub mod units;
 pub mod winding;
 
+pub use clearance::{ClearanceSettings, DefaultSet, FieldQuantity, LimitBasis, ThresholdSpec};
 pub use design::{CURRENT_VERSION, Design, check_design, parse_design, winding_from_table};
 pub use discretise::{FilamentModel, Ring, RingModel};
 pub use drive::{Drive, DriveNeeds, PotentialSpec, image_windings, validate_drive};
