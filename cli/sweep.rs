@@ -406,6 +406,10 @@ struct Writer {
     pending: BTreeMap<usize, String>,
     /// Position (in this run's list of points) of the next row to write.
     next: usize,
+    /// Rows in point order, finished and not yet handed to the file (one write call for many
+    /// rows: a call per row would cost more than a fast point).
+    ready: String,
+    last_write: Instant,
     last_sync: Instant,
     /// Rows written since the last sync.
     dirty: bool,
@@ -418,9 +422,29 @@ enum Progress {
     Lines { last: Instant, start: Instant },
 }
 
+/// Longest time a finished row waits in memory before it is written (the syncer thread also
+/// writes every 0.1 s, so no row waits longer than that).
+const WRITE_EVERY: Duration = Duration::from_millis(10);
+
+/// Most bytes of rows held before they are written.
+const WRITE_BYTES: usize = 1 << 16;
+
 impl Writer {
-    /// Sync written rows to disk when the last sync is half a second old.
+    /// Hand the ready rows to the file.
+    fn write_ready(&mut self) -> std::io::Result<()> {
+        if !self.ready.is_empty() {
+            self.file.write_all(self.ready.as_bytes())?;
+            self.ready.clear();
+            self.dirty = true;
+        }
+        self.last_write = Instant::now();
+        Ok(())
+    }
+
+    /// Write the ready rows, and sync written rows to disk when the last sync is half a
+    /// second old.
     fn sync_if_due(&mut self) -> std::io::Result<()> {
+        self.write_ready()?;
         if self.dirty && self.last_sync.elapsed() >= Duration::from_millis(500) {
             self.file.sync_data()?;
             self.last_sync = Instant::now();
@@ -430,16 +454,22 @@ impl Writer {
     }
 
     fn push(&mut self, pos: usize, row: String, total: usize) -> std::io::Result<()> {
-        self.pending.insert(pos, row);
-        let mut chunk = String::new();
+        if pos == self.next {
+            self.ready.push_str(&row);
+            self.next += 1;
+            self.written += 1;
+        } else {
+            self.pending.insert(pos, row);
+        }
         while let Some(row) = self.pending.remove(&self.next) {
-            chunk.push_str(&row);
+            self.ready.push_str(&row);
             self.next += 1;
             self.written += 1;
         }
-        if !chunk.is_empty() {
-            self.file.write_all(chunk.as_bytes())?;
-            self.dirty = true;
+        if self.ready.len() >= WRITE_BYTES
+            || self.last_write.elapsed() >= WRITE_EVERY
+            || self.written == total
+        {
             self.sync_if_due()?;
         }
         match &mut self.progress {
@@ -609,6 +639,8 @@ pub fn run(
         file,
         pending: BTreeMap::new(),
         next: 0,
+        ready: String::new(),
+        last_write: Instant::now(),
         last_sync: Instant::now(),
         dirty: false,
         written: 0,
@@ -661,8 +693,11 @@ pub fn run(
         });
         drop(finished);
     });
-    let w = writer.into_inner().unwrap_or_else(|e| e.into_inner());
+    let mut w = writer.into_inner().unwrap_or_else(|e| e.into_inner());
+    // Rows still in memory after a stop (Ctrl-C, a write error) go out first.
+    let tail = w.write_ready();
     w.file.sync_all()?;
+    tail?;
     if let Progress::Bar(bar) = &w.progress {
         bar.finish_and_clear();
     }
