@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # Whole-program benchmark of the 10,000-point sweep (meshes-demo/sweep-primary.toml): wall time
-# with 1 and 2 threads (best of 5), parallel efficiency, and the numpy/scipy baseline
+# with 1 and 2 threads (best of 9), parallel efficiency, and the numpy/scipy baseline
 # (validation/sweep_baseline.py, best of 3) with its agreement check. Figures go into README.md.
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -10,7 +10,7 @@ tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
 best() { sort -g | head -1; }
 run() {
-    for _ in 1 2 3 4 5; do
+    for _ in $(seq 9); do
         rm -f "$tmp/k.csv"
         # Wall time (s) of the whole process, start-up and file writing included.
         t0=$(date +%s%N)
