@@ -11,6 +11,7 @@ use crate::thresholds::{self, Method, Quantity};
 use crate::{BadInput, Format, load, output};
 use coilfield_geometry::clearance::MIN_MAX_DISTANCE_M;
 use coilfield_geometry::{Design, Electrode, End, Role, local_frame};
+use coilfield_solver::Par;
 use coilfield_solver::clearance::{
     RayClearance, RayOutcome, RayParams, clearance_along_ray, ladder_m, ray_point,
 };
@@ -191,59 +192,47 @@ fn magnitude(s: &Sample, q: Quantity) -> Option<f64> {
     }
 }
 
-/// Run `coilfield clearance`.
-pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
-    let design = load::design(args.design)?;
-    let label = args.design.display().to_string();
-    let frequency_hz = design.drive.frequency_hz.ok_or_else(|| {
-        BadInput(format!(
-            "{label}: [drive] frequency: clearance needs the drive frequency (Hz) for the exposure reference levels; add frequency = <Hz> to [drive]"
-        ))
-    })?;
-    if let Some(g) = args.long_gap_v_per_m
-        && !(g.is_finite() && g > 0.0)
-    {
-        return Err(
-            BadInput("--long-gap-gradient: must be a positive number of V/m".into()).into(),
-        );
+/// What the ray searches found for each threshold, with the field model and the rays' frame.
+pub struct Search {
+    frame: Frame,
+    model: FieldModel,
+    thresholds: Vec<ThresholdOut>,
+    warnings: Vec<String>,
+}
+
+impl Search {
+    /// Distance (m) from the axis, the largest over the heights, beyond which threshold
+    /// `name` holds; None when there is no such threshold.
+    pub fn distance_from_axis_m(&self, name: &str) -> Option<f64> {
+        self.thresholds
+            .iter()
+            .find(|t| t.name == name)
+            .map(|t| t.distance_from_axis_m)
     }
-    if let Some(d) = args.max_distance_m
-        && !(d.is_finite() && d >= MIN_MAX_DISTANCE_M)
-    {
-        return Err(BadInput(format!(
-            "--max-distance: must be a number of metres, at least {MIN_MAX_DISTANCE_M}"
-        ))
-        .into());
+
+    /// Distance (m) from the top electrode's surface (or the secondary's top) beyond which
+    /// threshold `name` holds; None when there is no such threshold.
+    pub fn distance_from_top_m(&self, name: &str) -> Option<f64> {
+        self.thresholds
+            .iter()
+            .find(|t| t.name == name)
+            .map(|t| t.distance_from_top_m)
     }
-    // The command line overrides the design file's [clearance], which overrides the default.
-    let max_distance_m = args
-        .max_distance_m
-        .or(design.clearance.max_distance_m)
-        .unwrap_or(MAX_DISTANCE_M);
-    let distances: Vec<f64> = match args.distances {
-        Some(t) => {
-            let n = t.split(',').count();
-            let v = crate::sample::numbers("--distance", t, n)?;
-            if let Some(bad) = v.iter().find(|d| **d < 0.0) {
-                return Err(BadInput(format!(
-                    "--distance: {bad} m is negative; distances are from the axis"
-                ))
-                .into());
-            }
-            v
-        }
-        None => design.clearance.distances_m.clone(),
-    };
-    let (ths, mut warnings) = thresholds::for_design(
-        &design,
-        &label,
-        Some(frequency_hz),
-        args.long_gap_v_per_m,
-        args.extra,
-    )?;
-    let fr = frame(&design, &label)?;
-    let model = FieldModel::from_design(&design, &label)?;
-    warnings.extend(model.warnings.iter().cloned());
+}
+
+/// The clearance of every threshold in `ths` for `design`: rays from the axis at each height
+/// and a fan from the top conductor, searched out to `max_distance_m`. `par` runs the field
+/// evaluations and the rays in parallel or not; the results do not depend on it.
+pub fn search(
+    design: &Design,
+    label: &str,
+    ths: &[thresholds::Threshold],
+    max_distance_m: f64,
+    par: Par,
+) -> anyhow::Result<Search> {
+    let fr = frame(design, label)?;
+    let model = crate::solve::field_model_with(design, label, par)?;
+    let mut warnings = model.warnings.clone();
     let (x_hat, y_hat) = local_frame(&fr.axis);
     let params = RayParams {
         t_min_m: 1e-3,
@@ -312,7 +301,7 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
         }
     };
     let mut out = Vec::new();
-    for t in &ths {
+    for t in ths {
         if t.method == Method::MeanGradient {
             // A spark bridges a gap d when the mean gradient V/d exceeds the threshold.
             let d = fr.top_v / t.limit;
@@ -341,11 +330,7 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
         let mut beyond = false;
         for (h, hl) in &fr.heights {
             let o = fr.origin_m + fr.axis.as_ref() * *h;
-            let rays: Vec<_> = azimuths
-                .par_iter()
-                .filter_map(|d| limited(o, *d).map(|p| (d, p)))
-                .map(|(d, p)| clearance_along_ray(f, o, *d, limit, p).map(|r| (r, p)))
-                .collect::<Result<_, _>>()?;
+            let rays = search_rays(&azimuths, o, limit, &f, &limited, par)?;
             let best = rays.iter().map(|(r, _)| r.distance_m).fold(0.0, f64::max);
             let hit_end = rays.iter().any(|(r, p)| beyond_search(r, p));
             beyond |= hit_end;
@@ -356,11 +341,7 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
                 beyond_search: hit_end,
             });
         }
-        let fan_rays: Vec<_> = fan
-            .par_iter()
-            .filter_map(|d| limited(fr.top_m, *d).map(|p| (d, p)))
-            .map(|(d, p)| clearance_along_ray(f, fr.top_m, *d, limit, p).map(|r| (r, p)))
-            .collect::<Result<_, _>>()?;
+        let fan_rays = search_rays(&fan, fr.top_m, limit, &f, &limited, par)?;
         let from_top = fan_rays
             .iter()
             .map(|(r, _)| {
@@ -404,6 +385,97 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             ));
         }
     }
+    Ok(Search {
+        frame: fr,
+        model,
+        thresholds: out,
+        warnings,
+    })
+}
+
+/// The outer crossing of `limit` along each ray from `origin` in `directions` (rays that
+/// would start below the ground plane are left out), with the ray's parameters.
+fn search_rays<F, L>(
+    directions: &[Vector3<f64>],
+    origin: Point3<f64>,
+    limit: f64,
+    field: &F,
+    limited: &L,
+    par: Par,
+) -> anyhow::Result<Vec<(RayClearance, RayParams)>>
+where
+    F: Fn(Point3<f64>) -> Option<f64> + Sync,
+    L: Fn(Point3<f64>, Vector3<f64>) -> Option<RayParams> + Sync,
+{
+    let one = |d: &Vector3<f64>| {
+        limited(origin, *d)
+            .map(|p| clearance_along_ray(field, origin, *d, limit, p).map(|r| (r, p)))
+    };
+    let found: Vec<_> = match par {
+        Par::Rayon => directions.par_iter().filter_map(one).collect(),
+        Par::Seq => directions.iter().filter_map(one).collect(),
+    };
+    Ok(found.into_iter().collect::<Result<_, _>>()?)
+}
+
+/// Run `coilfield clearance`.
+pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
+    let design = load::design(args.design)?;
+    let label = args.design.display().to_string();
+    let frequency_hz = design.drive.frequency_hz.ok_or_else(|| {
+        BadInput(format!(
+            "{label}: [drive] frequency: clearance needs the drive frequency (Hz) for the exposure reference levels; add frequency = <Hz> to [drive]"
+        ))
+    })?;
+    if let Some(g) = args.long_gap_v_per_m
+        && !(g.is_finite() && g > 0.0)
+    {
+        return Err(
+            BadInput("--long-gap-gradient: must be a positive number of V/m".into()).into(),
+        );
+    }
+    if let Some(d) = args.max_distance_m
+        && !(d.is_finite() && d >= MIN_MAX_DISTANCE_M)
+    {
+        return Err(BadInput(format!(
+            "--max-distance: must be a number of metres, at least {MIN_MAX_DISTANCE_M}"
+        ))
+        .into());
+    }
+    // The command line overrides the design file's [clearance], which overrides the default.
+    let max_distance_m = args
+        .max_distance_m
+        .or(design.clearance.max_distance_m)
+        .unwrap_or(MAX_DISTANCE_M);
+    let distances: Vec<f64> = match args.distances {
+        Some(t) => {
+            let n = t.split(',').count();
+            let v = crate::sample::numbers("--distance", t, n)?;
+            if let Some(bad) = v.iter().find(|d| **d < 0.0) {
+                return Err(BadInput(format!(
+                    "--distance: {bad} m is negative; distances are from the axis"
+                ))
+                .into());
+            }
+            v
+        }
+        None => design.clearance.distances_m.clone(),
+    };
+    let (ths, mut warnings) = thresholds::for_design(
+        &design,
+        &label,
+        Some(frequency_hz),
+        args.long_gap_v_per_m,
+        args.extra,
+    )?;
+    let Search {
+        frame: fr,
+        model,
+        thresholds: out,
+        warnings: found_warnings,
+    } = search(&design, &label, &ths, max_distance_m, Par::Rayon)?;
+    warnings.extend(found_warnings);
+    let (x_hat, _) = local_frame(&fr.axis);
     let at_pts: Vec<Point3<f64>> = distances.iter().map(|d| fr.top_m + x_hat * *d).collect();
     let at_samples = model.eval(&at_pts);
     let at_distances: Vec<AtDistanceOut> = distances
@@ -508,4 +580,111 @@ fn table(r: &ClearanceOut) -> String {
     }
     s.push_str(&format!("\n\nCAUTION: {}\n", r.caution));
     s
+}
+
+/// Which clearance distance a sweep metric is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Reach {
+    /// `clearance.<threshold>`: from the axis, the largest over the heights (m).
+    FromAxis,
+    /// `clearance_top.<threshold>`: from the top electrode's surface (m).
+    FromTop,
+}
+
+/// Clearance distances as sweep and seek metrics: `clearance.<threshold>` and
+/// `clearance_top.<threshold>` (m), for the thresholds `coilfield clearance` uses on the base
+/// design (its `[clearance]` table and the built-in sets), each point searched like the
+/// command, sequentially (a sweep is parallel over its points).
+pub struct ClearanceMetrics {
+    thresholds: Vec<thresholds::Threshold>,
+    /// Metric ids: the threshold (index into `thresholds`) and the distance.
+    ids: std::sync::Mutex<Vec<(usize, Reach)>>,
+    max_distance_m: f64,
+}
+
+impl ClearanceMetrics {
+    /// The metrics of `base` (labelled `label` in messages).
+    pub fn new(base: &Design, label: &str) -> anyhow::Result<ClearanceMetrics> {
+        let (ths, _) = thresholds::for_design(base, label, base.drive.frequency_hz, None, &[])?;
+        Ok(ClearanceMetrics {
+            thresholds: ths,
+            ids: std::sync::Mutex::new(Vec::new()),
+            max_distance_m: base.clearance.max_distance_m.unwrap_or(MAX_DISTANCE_M),
+        })
+    }
+
+    fn ids(&self) -> std::sync::MutexGuard<'_, Vec<(usize, Reach)>> {
+        self.ids.lock().unwrap_or_else(|e| e.into_inner())
+    }
+}
+
+impl coilfield_solver::metrics::External for ClearanceMetrics {
+    fn parse(&self, name: &str, _design: &Design) -> Option<Result<usize, String>> {
+        let (reach, threshold) = if let Some(t) = name.strip_prefix("clearance.") {
+            (Reach::FromAxis, t)
+        } else if let Some(t) = name.strip_prefix("clearance_top.") {
+            (Reach::FromTop, t)
+        } else {
+            return None;
+        };
+        let Some(k) = self.thresholds.iter().position(|t| t.name == threshold) else {
+            let names: Vec<&str> = self.thresholds.iter().map(|t| t.name.as_str()).collect();
+            return Some(Err(format!(
+                "`{name}`: no threshold named `{threshold}` for the base design (thresholds: {}; \
+                 the exposure levels need a [drive] frequency)",
+                if names.is_empty() {
+                    "(none)".to_string()
+                } else {
+                    names.join(", ")
+                }
+            )));
+        };
+        let mut ids = self.ids();
+        let id = match ids.iter().position(|&x| x == (k, reach)) {
+            Some(id) => id,
+            None => {
+                ids.push((k, reach));
+                ids.len() - 1
+            }
+        };
+        Some(Ok(id))
+    }
+
+    fn values(&self, ids: &[usize], design: &Design) -> Result<Vec<f64>, String> {
+        let known = self.ids().clone();
+        let wanted: Vec<(usize, Reach)> = ids
+            .iter()
+            .map(|&id| {
+                known
+                    .get(id)
+                    .copied()
+                    .ok_or_else(|| format!("no clearance metric #{id}"))
+            })
+            .collect::<Result<_, _>>()?;
+        let mut ths: Vec<thresholds::Threshold> = Vec::new();
+        for &(k, _) in &wanted {
+            if !ths.iter().any(|t| t.name == self.thresholds[k].name) {
+                ths.push(self.thresholds[k].clone());
+            }
+        }
+        let found = search(
+            design,
+            "the point's design",
+            &ths,
+            self.max_distance_m,
+            Par::Seq,
+        )
+        .map_err(|e| e.to_string())?;
+        wanted
+            .iter()
+            .map(|&(k, reach)| {
+                let name = &self.thresholds[k].name;
+                match reach {
+                    Reach::FromAxis => found.distance_from_axis_m(name),
+                    Reach::FromTop => found.distance_from_top_m(name),
+                }
+                .ok_or_else(|| format!("threshold `{name}` was not searched"))
+            })
+            .collect()
+    }
 }

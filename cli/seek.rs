@@ -9,7 +9,7 @@
 use crate::BadInput;
 use crate::Format;
 use crate::sweep::{Plan, read_text};
-use coilfield_solver::metrics::{Metric, parse_metric};
+use coilfield_solver::metrics::Metric;
 use coilfield_solver::optimise::{Found, brent_root, nelder_mead};
 use std::path::Path;
 use std::process::ExitCode;
@@ -88,8 +88,10 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
     table.insert("sample".into(), toml::Value::Table(sample));
     let plan = Plan::from_text(&toml::to_string(&table)?, path)?;
     let base = plan.base_design.clone();
-    let metric: Metric =
-        parse_metric(&metric_name, &base).map_err(|e| BadInput(format!("{label}: {kind}: {e}")))?;
+    let metric: Metric = plan
+        .evaluator
+        .parse_metric(&metric_name, &base)
+        .map_err(|e| BadInput(format!("{label}: {kind}: {e}")))?;
     let bounds: Vec<(f64, f64)> = plan
         .sweep
         .axes
@@ -188,9 +190,7 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
             println!("{}", found.stop.describe());
         }
     }
-    if plan.has_electric_figures() {
-        eprintln!("{}", crate::report::CAUTION);
-    }
+    eprint!("{}", plan.cautions());
     if !value.is_finite() {
         eprintln!("seek: no feasible point found");
         return Ok(ExitCode::from(1));

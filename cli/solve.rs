@@ -31,13 +31,23 @@ pub fn has_potentials(design: &Design) -> bool {
 
 /// The electrostatic solution of a design at the default panel count.
 pub fn electrostatic_solution(design: &Design, label: &str) -> anyhow::Result<Solution> {
+    electrostatic_solution_with(design, label, Par::Rayon)
+}
+
+fn electrostatic_solution_with(design: &Design, label: &str, par: Par) -> anyhow::Result<Solution> {
     let problem = Problem::from_design(design, &Params::default(), label)?;
-    Ok(problem.solve(Par::Rayon))
+    Ok(problem.solve(par))
 }
 
 /// The field model of a validated design: B from `solver::field` (zero when no winding
 /// carries current); E from `solver::electrostatic` (zero when no conductor has a potential).
 pub fn field_model(design: &Design, label: &str) -> anyhow::Result<FieldModel> {
+    field_model_with(design, label, Par::Rayon)
+}
+
+/// As [`field_model`], solving and evaluating in parallel or not (`par`); a sweep, parallel
+/// over its points, builds one model per point sequentially.
+pub fn field_model_with(design: &Design, label: &str, par: Par) -> anyhow::Result<FieldModel> {
     check_drive(design, label, "the field")?;
     let has_currents = design.drive.currents_a.iter().any(|(_, i)| *i != 0.0);
     let sources = if has_currents {
@@ -50,17 +60,17 @@ pub fn field_model(design: &Design, label: &str) -> anyhow::Result<FieldModel> {
         warnings.push("no winding carries current in [drive] currents: B is zero".into());
     }
     let solution = if has_potentials(design) {
-        Some(electrostatic_solution(design, label)?)
+        Some(electrostatic_solution_with(design, label, par)?)
     } else {
         warnings.push("no conductor has a potential in [drive] potentials: E is zero".into());
         None
     };
     let design_geometry = (design.electrodes.clone(), design.ground);
     let eval = move |pts: &[Point3<f64>]| -> Vec<Sample> {
-        let b = field::b_field(&sources, pts, Par::Rayon);
+        let b = field::b_field(&sources, pts, par);
         let e: Vec<EValue> = match &solution {
             Some(sol) => sol
-                .e_field(pts, Par::Rayon)
+                .e_field(pts, par)
                 .into_iter()
                 .map(|s| match s {
                     FieldSample::Field(v) => EValue::Field(v),

@@ -2,13 +2,14 @@
 //! resumable, shardable over Slurm array tasks.
 
 use crate::BadInput;
+use crate::clearance::ClearanceMetrics;
 use coilfield_geometry::sweep::{
     Part, Sweep, Values, apply_to_item, item_table, parse_sweep, points,
 };
 use coilfield_geometry::{
     Design, check_design, electrode_from_table, parse_design, winding_from_table,
 };
-use coilfield_solver::metrics::{Evaluator, PointResult, parse_constraint, parse_metric};
+use coilfield_solver::metrics::{Evaluator, PointResult, parse_constraint_with, parse_metric_with};
 use std::collections::BTreeMap;
 use std::fs::{File, OpenOptions};
 use std::io::{IsTerminal, Read, Seek, SeekFrom, Write};
@@ -98,21 +99,27 @@ impl Plan {
         let base_table: toml::Table = base_text
             .parse()
             .map_err(|e| BadInput(format!("{base_label}: {e}")))?;
+        let clearance = ClearanceMetrics::new(&base_design, &base_label)?;
         let mut metrics = Vec::new();
         for (i, m) in sweep.metrics.iter().enumerate() {
             metrics.push(
-                parse_metric(m, &base_design)
+                parse_metric_with(m, &base_design, Some(&clearance))
                     .map_err(|e| BadInput(format!("{sweep_label}: metrics[{i}]: {e}")))?,
             );
         }
         let mut constraints = Vec::new();
         for (i, c) in sweep.constraints.iter().enumerate() {
             constraints.push(
-                parse_constraint(c, &base_design)
+                parse_constraint_with(c, &base_design, Some(&clearance))
                     .map_err(|e| BadInput(format!("{sweep_label}: constraints[{i}]: {e}")))?,
             );
         }
-        let evaluator = Evaluator::new(&base_design, metrics, constraints);
+        let evaluator = Evaluator::with_external(
+            &base_design,
+            metrics,
+            constraints,
+            Some(Box::new(clearance)),
+        );
         let edits = edits_of(&sweep, &base_table, &sweep_label)?;
         let pts = points(&sweep, &sweep_label).map_err(|e| BadInput(e.to_string()))?;
         let plan = Plan {
@@ -202,16 +209,40 @@ impl Plan {
         Ok(design)
     }
 
-    /// Whether the sweep computes electric figures (capacitances, surface fields): outputs that
-    /// show them carry the caution.
+    /// Whether a metric or constraint starts with one of `prefixes`.
+    fn uses(&self, prefixes: &[&str]) -> bool {
+        let hit = |t: &str| prefixes.iter().any(|p| t.trim_start().starts_with(p));
+        self.sweep.metrics.iter().any(|m| hit(m)) || self.sweep.constraints.iter().any(|c| hit(c))
+    }
+
+    /// Whether the sweep computes high-voltage figures (capacitances, surface fields,
+    /// clearances): outputs that show them carry the caution.
     pub fn has_electric_figures(&self) -> bool {
-        let electric = |t: &str| {
-            ["capacitance.", "self_capacitance.", "surface_field."]
-                .iter()
-                .any(|p| t.trim_start().starts_with(p))
-        };
-        self.sweep.metrics.iter().any(|m| electric(m))
-            || self.sweep.constraints.iter().any(|c| electric(c))
+        self.uses(&[
+            "capacitance.",
+            "self_capacitance.",
+            "surface_field.",
+            "clearance.",
+            "clearance_top.",
+        ])
+    }
+
+    /// Whether the sweep computes clearance distances (they carry the screening caution).
+    pub fn has_clearance_figures(&self) -> bool {
+        self.uses(&["clearance.", "clearance_top."])
+    }
+
+    /// The cautions its outputs carry, one per line, or nothing.
+    pub fn cautions(&self) -> String {
+        let mut s = String::new();
+        if self.has_electric_figures() {
+            s.push_str(crate::report::CAUTION);
+            s.push('\n');
+        }
+        if self.has_clearance_figures() {
+            s.push_str(&format!("CAUTION: {}\n", crate::thresholds::CAUTION));
+        }
+        s
     }
 
     /// Evaluate point `i`.
@@ -718,9 +749,7 @@ pub fn run(
         start.elapsed().as_secs_f64(),
         out.display()
     );
-    if plan.has_electric_figures() {
-        eprintln!("{}", crate::report::CAUTION);
-    }
+    eprint!("{}", plan.cautions());
     if let (Some(p), Some(grids)) = (plot, grids) {
         // The first metric of every point, read back from the finished output.
         let text = read_text(&out, "sweep output")?;

@@ -623,3 +623,77 @@ fn electrode_sweeps_match_the_capacitance_command_and_recheck_the_wires() {
         "{err}"
     );
 }
+
+#[test]
+fn clearance_metrics_match_the_clearance_command() {
+    // The sweep's clearance figures are the `clearance` command's, point by point; a
+    // constraint on them marks points.
+    let dir = tempfile::tempdir().unwrap();
+    let base = RESONATOR.replace(
+        "[drive]\n",
+        "[clearance]\ndefaults = [\"breakdown\"]\n[[clearance.threshold]]\nname = \"fence\"\n\
+         quantity = \"E\"\nlimit = \"20 kV/m\"\nbasis = \"peak\"\n\
+         source = \"invented test value\"\n[drive]\nfrequency = 1e6\n",
+    );
+    design_file(dir.path(), "base.toml", &base);
+    let s = design_file(
+        dir.path(),
+        "sweep.toml",
+        "base = \"base.toml\"\n\
+         metrics = [\"clearance.fence\", \"clearance_top.air_breakdown\"]\n\
+         constraints = [\"clearance.fence <= 0.5\"]\n\
+         [[axis]]\nkey = \"electrode.ball.radius\"\nvalues = [0.08, 0.05]\n",
+    );
+    let out = dir.path().join("r.csv");
+    let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert!(stderr.contains("screening estimates"), "{stderr}");
+    let rows = csv_rows(&out);
+    assert_eq!(
+        rows[0][2..4],
+        ["clearance.fence", "clearance_top.air_breakdown"]
+    );
+    for (row, design) in [
+        (1, base.clone()),
+        (2, base.replace("radius = 0.08", "radius = 0.05")),
+    ] {
+        let path = design_file(dir.path(), "point.toml", &design);
+        let o = run(&["clearance", path.to_str().unwrap(), "--format", "json"]);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        let t = |name: &str, key: &str| {
+            v["thresholds"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .find(|t| t["name"] == name)
+                .and_then(|t| t[key].as_f64())
+                .unwrap_or_else(|| panic!("{name} {key} in {v}"))
+        };
+        let fence: f64 = rows[row][2].parse().unwrap();
+        let top: f64 = rows[row][3].parse().unwrap();
+        assert_eq!(fence, t("fence", "distance_from_axis_m"), "row {row}");
+        assert_eq!(top, t("air_breakdown", "distance_from_top_m"), "row {row}");
+        let status = &rows[row][rows[row].len() - 2];
+        assert_eq!(status == "ok", fence <= 0.5, "row {row}: {status}, {fence}");
+    }
+    // A threshold the base design does not have is named, with the ones it has.
+    let bad = design_file(
+        dir.path(),
+        "bad.toml",
+        "base = \"base.toml\"\nmetrics = [\"clearance.icnirp2010_public_e\"]\n\
+         [[axis]]\nkey = \"electrode.ball.radius\"\nvalues = [0.08]\n",
+    );
+    let o = sweep(&[
+        bad.to_str().unwrap(),
+        "--out",
+        dir.path().join("b.csv").to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("icnirp2010_public_e") && err.contains("fence"),
+        "{err}"
+    );
+}

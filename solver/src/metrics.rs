@@ -40,6 +40,20 @@ pub enum Metric {
     SelfCapacitance(usize),
     /// Largest surface field (V/m) on an electrode (index) at the drive potentials.
     SurfaceField(usize),
+    /// A figure the caller computes ([`External`]), by the caller's id.
+    External(usize),
+}
+
+/// Figures the caller computes and the evaluator knows by name: e.g. clearance distances,
+/// whose thresholds are the caller's settings. Values are SI.
+pub trait External: Send + Sync {
+    /// The caller's id of metric `name`: None when the name is not one of these, an error
+    /// when it is but does not fit `design` (the base design).
+    fn parse(&self, name: &str, design: &Design) -> Option<Result<usize, String>>;
+
+    /// The values of the metrics `ids` on `design`, in that order: computed together, since
+    /// they usually share one expensive model. Must not depend on the number of threads.
+    fn values(&self, ids: &[usize], design: &Design) -> Result<Vec<f64>, String>;
 }
 
 const KNOWN_METRICS: &str = "self_inductance.<w>, mutual.<a>.<b>, coupling.<a>.<b>, \
@@ -74,8 +88,20 @@ fn electrode_index(name: &str, e: &str, design: &Design) -> Result<usize, String
     )
 }
 
-/// Parse a metric name against the windings of a design.
+/// Parse a metric name against the windings and electrodes of a design.
 pub fn parse_metric(name: &str, design: &Design) -> Result<Metric, String> {
+    parse_metric_with(name, design, None)
+}
+
+/// As [`parse_metric`], with the caller's own figures (`external`) known too.
+pub fn parse_metric_with(
+    name: &str,
+    design: &Design,
+    external: Option<&dyn External>,
+) -> Result<Metric, String> {
+    if let Some(found) = external.and_then(|x| x.parse(name, design)) {
+        return found.map(Metric::External);
+    }
     let index = |w: &str| {
         position_of(
             name,
@@ -173,6 +199,15 @@ impl Constraint {
 
 /// Parse `metric op bound` against the windings of a design.
 pub fn parse_constraint(text: &str, design: &Design) -> Result<Constraint, String> {
+    parse_constraint_with(text, design, None)
+}
+
+/// As [`parse_constraint`], with the caller's own figures (`external`) known too.
+pub fn parse_constraint_with(
+    text: &str,
+    design: &Design,
+    external: Option<&dyn External>,
+) -> Result<Constraint, String> {
     let words: Vec<&str> = text.split_whitespace().collect();
     let [metric, op, bound] = words.as_slice() else {
         return Err(format!(
@@ -192,7 +227,7 @@ pub fn parse_constraint(text: &str, design: &Design) -> Result<Constraint, Strin
         .filter(|b: &f64| b.is_finite())
         .ok_or_else(|| format!("`{text}`: `{bound}` is not a finite number"))?;
     Ok(Constraint {
-        metric: parse_metric(metric, design)?,
+        metric: parse_metric_with(metric, design, external)?,
         op,
         bound,
         text: text.to_string(),
@@ -245,6 +280,9 @@ pub struct Evaluator {
     base_electric: OnceLock<Result<Solution, String>>,
     metrics: Vec<Metric>,
     constraints: Vec<Constraint>,
+    external: Option<Box<dyn External>>,
+    /// The external ids the metrics and constraints use, each once.
+    external_ids: Vec<usize>,
 }
 
 /// Quantities computed for one point, each at most once.
@@ -254,6 +292,8 @@ struct Scratch<'a> {
     self_h: Vec<Option<f64>>,
     mutual_h: Vec<((usize, usize), f64)>,
     electric: Option<Result<Solution, String>>,
+    /// The external figures of the point (ids as `Evaluator::external_ids`).
+    external: Option<Result<Vec<f64>, String>>,
     notes: Vec<String>,
 }
 
@@ -266,6 +306,7 @@ impl<'a> Scratch<'a> {
             self_h: vec![None; n],
             mutual_h: Vec::new(),
             electric: None,
+            external: None,
             notes: Vec::new(),
         }
     }
@@ -297,6 +338,25 @@ fn same_electric_model(a: &Design, b: &Design) -> bool {
 impl Evaluator {
     /// An evaluator of `metrics` and `constraints` (parsed against `base`).
     pub fn new(base: &Design, metrics: Vec<Metric>, constraints: Vec<Constraint>) -> Evaluator {
+        Evaluator::with_external(base, metrics, constraints, None)
+    }
+
+    /// As [`Evaluator::new`], with the caller's figures (`Metric::External` ids of
+    /// `external`).
+    pub fn with_external(
+        base: &Design,
+        metrics: Vec<Metric>,
+        constraints: Vec<Constraint>,
+        external: Option<Box<dyn External>>,
+    ) -> Evaluator {
+        let mut external_ids: Vec<usize> = Vec::new();
+        for m in metrics.iter().chain(constraints.iter().map(|c| &c.metric)) {
+            if let Metric::External(id) = *m
+                && !external_ids.contains(&id)
+            {
+                external_ids.push(id);
+            }
+        }
         Evaluator {
             base: base
                 .windings
@@ -311,7 +371,35 @@ impl Evaluator {
             base_electric: OnceLock::new(),
             metrics,
             constraints,
+            external,
+            external_ids,
         }
+    }
+
+    /// Value of the caller's figure `id` at the point; all of the point's external figures
+    /// are computed on the first request.
+    fn external_value(&self, s: &mut Scratch<'_>, id: usize) -> Result<f64, String> {
+        let Some(ext) = &self.external else {
+            return Err(format!("external metric #{id} without its evaluator"));
+        };
+        let design = s.design;
+        let Some(k) = self.external_ids.iter().position(|&x| x == id) else {
+            // Not among the metrics and constraints (a goal-seeking target): alone.
+            let v = ext.values(&[id], design)?;
+            return v
+                .first()
+                .copied()
+                .ok_or_else(|| format!("external metric #{id} was not computed"));
+        };
+        let values = s
+            .external
+            .get_or_insert_with(|| ext.values(&self.external_ids, design))
+            .as_ref()
+            .map_err(Clone::clone)?;
+        values
+            .get(k)
+            .copied()
+            .ok_or_else(|| format!("external metric #{id} was not computed"))
     }
 
     /// The point's electric solution: the base's when its electric model is the base's.
@@ -358,6 +446,11 @@ impl Evaluator {
             }
             _ => Err(format!("{m:?} is not an electric metric")),
         }
+    }
+
+    /// Parse a metric name against `design` with this evaluator's external figures known.
+    pub fn parse_metric(&self, name: &str, design: &Design) -> Result<Metric, String> {
+        parse_metric_with(name, design, self.external.as_deref())
     }
 
     /// The requested metrics.
@@ -430,6 +523,7 @@ impl Evaluator {
             Metric::Capacitance(_) | Metric::SelfCapacitance(_) | Metric::SurfaceField(_) => {
                 self.electric_value(s, m)?
             }
+            Metric::External(id) => self.external_value(s, id)?,
         })
     }
 
