@@ -678,6 +678,17 @@ fn clearance_metrics_match_the_clearance_command() {
         let status = &rows[row][rows[row].len() - 2];
         assert_eq!(status == "ok", fence <= 0.5, "row {row}: {status}, {fence}");
     }
+    // Each point's searches run sequentially: the file does not depend on the threads.
+    let one = dir.path().join("r1.csv");
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        one.to_str().unwrap(),
+        "--threads",
+        "1",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(std::fs::read(&one).unwrap(), std::fs::read(&out).unwrap());
     // A threshold the base design does not have is named, with the ones it has.
     let bad = design_file(
         dir.path(),
