@@ -179,9 +179,10 @@ pub fn run(
 ///
 /// A point inside a conductor is bad input when it was typed with `--at` (the user asked for
 /// that point alone), but on a list of points (`--points`) it is one sample among many, as on a
-/// grid: E is left without a value and a warning names the point and the conductor. B keeps
-/// its value there, as on a `map` grid: the magnetic model does not see the electrodes. A
-/// point on a wire has no value for either field.
+/// grid: inside an electrode E and B are left without a value (the free-space magnetic model
+/// does not see the conductor, which shuts the field out at the drive frequency), below the
+/// ground plane E alone, and a warning names the point and the conductor. A point on a wire has
+/// no value for either field.
 fn point_row(
     p: &Point3<f64>,
     s: &Sample,
@@ -195,18 +196,23 @@ fn point_row(
         EValue::BelowGround => Some("the ground (below the ground plane)".to_string()),
         EValue::Field(_) => None,
     };
-    if let Some(what) = inside {
+    if let Some(what) = &inside {
         if let Origin::At(_) = o {
             return Err(BadInput(format!(
                 "{at} lies inside {what}, where the field is not defined; move it outside"
             )));
         }
+        let which = if matches!(s.e, EValue::Inside(_)) {
+            "E and B are"
+        } else {
+            "E is"
+        };
         warning = Some(format!(
-            "{at} lies inside {what}: E is not defined there (null in JSON, NaN in CSV and \
-             table); B is the windings' field, which does not see the electrodes"
+            "{at} lies inside {what}: {which} not defined there (null in JSON, NaN in CSV and \
+             table)"
         ));
     }
-    let on_wire = s.b.is_none();
+    let on_wire = inside.is_none() && s.b.is_none();
     if on_wire {
         warning = Some(format!(
             "{at} lies on a winding's wire: no field given (null in JSON, NaN in CSV and table)"

@@ -82,7 +82,15 @@ pub fn field_model_with(design: &Design, label: &str, par: Par) -> anyhow::Resul
             // points are told apart the same way as with a solution.
             None => pts.iter().map(|p| zero_e_at(&design_geometry, p)).collect(),
         };
-        e.into_iter().zip(b).map(|(e, b)| Sample { e, b }).collect()
+        // Inside an electrode B has no value either: a conductor at the drive frequency shuts
+        // the field out (skin effect), which the free-space magnetic model does not see.
+        e.into_iter()
+            .zip(b)
+            .map(|(e, b)| match e {
+                EValue::Inside(_) => Sample { e, b: None },
+                _ => Sample { e, b },
+            })
+            .collect()
     };
     Ok(FieldModel::from_fn(Box::new(eval), warnings))
 }
