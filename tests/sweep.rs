@@ -708,3 +708,30 @@ fn clearance_metrics_match_the_clearance_command() {
         "{err}"
     );
 }
+
+#[test]
+fn seek_finds_the_sphere_radius_of_a_capacitance() {
+    // C = 4 pi eps0 a (exact; J. C. Maxwell, "A Treatise on Electricity and Magnetism", 1873,
+    // vol. 1): 10 pF needs a = 10e-12 / (4 pi eps0) = 0.0898755 m (eps0 CODATA 2018).
+    let dir = tempfile::tempdir().unwrap();
+    design_file(
+        dir.path(),
+        "base.toml",
+        "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.0]\nradius = 0.1\n",
+    );
+    let s = design_file(
+        dir.path(),
+        "seek.toml",
+        "base = \"base.toml\"\ntarget = \"capacitance.ball = 10e-12\"\n\
+         [[axis]]\nkey = \"electrode.ball.radius\"\nfrom = 0.01\nto = 0.5\n",
+    );
+    let o = run(&["seek", s.to_str().unwrap(), "--format", "json"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let a = v["params"]["electrode.ball.radius"]
+        .as_f64()
+        .unwrap_or_else(|| panic!("{v}"));
+    let exact = 10e-12 / (4.0 * std::f64::consts::PI * 8.854_187_812_8e-12);
+    assert!(rel(a, exact) < 1e-3, "{a} vs {exact}");
+    assert!(String::from_utf8_lossy(&o.stderr).contains("CAUTION"));
+}
