@@ -597,6 +597,8 @@ enum Reach {
 /// command, sequentially (a sweep is parallel over its points).
 pub struct ClearanceMetrics {
     thresholds: Vec<thresholds::Threshold>,
+    /// Why built-in thresholds are missing (no frequency, out of range), for messages.
+    left_out: Vec<String>,
     /// Metric ids: the threshold (index into `thresholds`) and the distance.
     ids: std::sync::Mutex<Vec<(usize, Reach)>>,
     max_distance_m: f64,
@@ -605,9 +607,11 @@ pub struct ClearanceMetrics {
 impl ClearanceMetrics {
     /// The metrics of `base` (labelled `label` in messages).
     pub fn new(base: &Design, label: &str) -> anyhow::Result<ClearanceMetrics> {
-        let (ths, _) = thresholds::for_design(base, label, base.drive.frequency_hz, None, &[])?;
+        let (ths, left_out) =
+            thresholds::for_design(base, label, base.drive.frequency_hz, None, &[])?;
         Ok(ClearanceMetrics {
             thresholds: ths,
+            left_out,
             ids: std::sync::Mutex::new(Vec::new()),
             max_distance_m: base.clearance.max_distance_m.unwrap_or(MAX_DISTANCE_M),
         })
@@ -616,10 +620,35 @@ impl ClearanceMetrics {
     fn ids(&self) -> std::sync::MutexGuard<'_, Vec<(usize, Reach)>> {
         self.ids.lock().unwrap_or_else(|e| e.into_inner())
     }
+
+    /// Why a threshold named `threshold` is not there, listing those that are.
+    fn no_threshold(&self, name: &str, threshold: &str) -> String {
+        let names: Vec<&str> = self.thresholds.iter().map(|t| t.name.as_str()).collect();
+        let listed = if names.is_empty() {
+            "(none)".to_string()
+        } else {
+            names.join(", ")
+        };
+        let mut m = format!(
+            "`{name}`: no threshold named `{threshold}` for the base design (thresholds: {listed})"
+        );
+        for why in &self.left_out {
+            m.push_str(&format!("; {why}"));
+        }
+        m
+    }
+}
+
+/// The checks `coilfield clearance` makes of a design before any search: a secondary with an
+/// axis for the rays, and a drive with currents or potentials.
+fn searchable(design: &Design, name: &str) -> Result<(), String> {
+    let label = "the base design";
+    frame(design, label).map_err(|e| format!("`{name}`: {}", e.0))?;
+    crate::solve::check_drive(design, label, "clearance").map_err(|e| format!("`{name}`: {e}"))
 }
 
 impl coilfield_solver::metrics::External for ClearanceMetrics {
-    fn parse(&self, name: &str, _design: &Design) -> Option<Result<usize, String>> {
+    fn parse(&self, name: &str, design: &Design) -> Option<Result<usize, String>> {
         let (reach, threshold) = if let Some(t) = name.strip_prefix("clearance.") {
             (Reach::FromAxis, t)
         } else if let Some(t) = name.strip_prefix("clearance_top.") {
@@ -628,17 +657,11 @@ impl coilfield_solver::metrics::External for ClearanceMetrics {
             return None;
         };
         let Some(k) = self.thresholds.iter().position(|t| t.name == threshold) else {
-            let names: Vec<&str> = self.thresholds.iter().map(|t| t.name.as_str()).collect();
-            return Some(Err(format!(
-                "`{name}`: no threshold named `{threshold}` for the base design (thresholds: {}; \
-                 the exposure levels need a [drive] frequency)",
-                if names.is_empty() {
-                    "(none)".to_string()
-                } else {
-                    names.join(", ")
-                }
-            )));
+            return Some(Err(self.no_threshold(name, threshold)));
         };
+        if let Err(e) = searchable(design, name) {
+            return Some(Err(e));
+        }
         let mut ids = self.ids();
         let id = match ids.iter().position(|&x| x == (k, reach)) {
             Some(id) => id,
@@ -650,7 +673,7 @@ impl coilfield_solver::metrics::External for ClearanceMetrics {
         Some(Ok(id))
     }
 
-    fn values(&self, ids: &[usize], design: &Design) -> Result<Vec<f64>, String> {
+    fn values(&self, ids: &[usize], design: &Design) -> Result<(Vec<f64>, Vec<String>), String> {
         let known = self.ids().clone();
         let wanted: Vec<(usize, Reach)> = ids
             .iter()
@@ -675,7 +698,7 @@ impl coilfield_solver::metrics::External for ClearanceMetrics {
             Par::Seq,
         )
         .map_err(|e| e.to_string())?;
-        wanted
+        let values: Vec<f64> = wanted
             .iter()
             .map(|&(k, reach)| {
                 let name = &self.thresholds[k].name;
@@ -685,6 +708,11 @@ impl coilfield_solver::metrics::External for ClearanceMetrics {
                 }
                 .ok_or_else(|| format!("threshold `{name}` was not searched"))
             })
-            .collect()
+            .collect::<Result<_, _>>()?;
+        // The search's own warnings (a lower bound at the end of the search, a model without
+        // currents or potentials) and the quasi-static limits at the distances found.
+        let mut notes: Vec<String> = found.warnings.clone();
+        notes.extend(crate::solve::validity_warnings(design, &values));
+        Ok((values, notes))
     }
 }

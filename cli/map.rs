@@ -199,8 +199,8 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
         };
         let bytes = plot::heat_map_bytes(
             &HeatMap {
-                u_m: u,
-                v_m: v,
+                u,
+                v,
                 values,
                 scale: plot::Scale::Log,
                 u_label: ul,

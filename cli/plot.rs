@@ -47,10 +47,10 @@ impl Scale {
 #[derive(Debug, Clone)]
 pub struct HeatMap<'a> {
     /// Coordinates of the columns, increasing (m for a plane; a swept parameter's unit).
-    pub u_m: &'a [f64],
+    pub u: &'a [f64],
     /// Coordinates of the rows, increasing.
-    pub v_m: &'a [f64],
-    /// Values, `u` fastest: `values[j * u_m.len() + i]`; NaN (or non-positive on a log scale)
+    pub v: &'a [f64],
+    /// Values, `u` fastest: `values[j * u.len() + i]`; NaN (or non-positive on a log scale)
     /// = no value.
     pub values: &'a [f64],
     /// Colour and contour scale.
@@ -282,7 +282,7 @@ where
 {
     let err = |e: DrawingAreaErrorKind<DB::ErrorType>| anyhow::anyhow!("cannot draw: {e:?}");
     root.fill(&WHITE).map_err(err)?;
-    let (nu, nv) = (map.u_m.len(), map.v_m.len());
+    let (nu, nv) = (map.u.len(), map.v.len());
     anyhow::ensure!(nu >= 2 && nv >= 2, "a heat map needs at least 2 x 2 points");
     anyhow::ensure!(
         map.values.len() == nu * nv,
@@ -290,8 +290,8 @@ where
     );
     let (lo, hi) = finite_range(map.values.iter().map(|&x| map.scale.of(x)));
     let (plot_area, bar_area) = root.split_horizontally(780);
-    let (u0, u1) = (map.u_m[0], map.u_m[nu - 1]);
-    let (v0, v1) = (map.v_m[0], map.v_m[nv - 1]);
+    let (u0, u1) = (map.u[0], map.u[nu - 1]);
+    let (v0, v1) = (map.v[0], map.v[nv - 1]);
     let mut chart = ChartBuilder::on(&plot_area)
         .caption(map.title, ("sans-serif", 20))
         .margin(12)
@@ -327,8 +327,8 @@ where
             (0..nv)
                 .flat_map(|j| (0..nu).map(move |i| (i, j)))
                 .map(|(i, j)| {
-                    let (a, b) = edge(map.u_m, i);
-                    let (c, d) = edge(map.v_m, j);
+                    let (a, b) = edge(map.u, i);
+                    let (c, d) = edge(map.v, j);
                     let x = map.scale.of(map.values[j * nu + i]);
                     let colour = if x.is_finite() {
                         ViridisRGB::get_color_normalized(x, lo, hi)
@@ -353,7 +353,7 @@ where
     ];
     for (k, (level, name)) in map.contours.iter().enumerate() {
         let colour = palette[k % palette.len()];
-        let segs = contour_segments(map.u_m, map.v_m, map.values, *level, map.scale);
+        let segs = contour_segments(map.u, map.v, map.values, *level, map.scale);
         chart
             .draw_series(
                 segs.iter()
@@ -443,8 +443,8 @@ mod tests {
         let vals = [1.0, 2.0, f64::NAN, 3.0, 4.0, 5.0];
         let contours = [(2.5, "level 2.5".to_string())];
         let map = HeatMap {
-            u_m: &u,
-            v_m: &v,
+            u: &u,
+            v: &v,
             values: &vals,
             scale: Scale::Log,
             u_label: "x (m)",

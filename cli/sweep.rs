@@ -209,40 +209,10 @@ impl Plan {
         Ok(design)
     }
 
-    /// Whether a metric or constraint starts with one of `prefixes`.
-    fn uses(&self, prefixes: &[&str]) -> bool {
-        let hit = |t: &str| prefixes.iter().any(|p| t.trim_start().starts_with(p));
-        self.sweep.metrics.iter().any(|m| hit(m)) || self.sweep.constraints.iter().any(|c| hit(c))
-    }
-
-    /// Whether the sweep computes high-voltage figures (capacitances, surface fields,
-    /// clearances): outputs that show them carry the caution.
-    pub fn has_electric_figures(&self) -> bool {
-        self.uses(&[
-            "capacitance.",
-            "self_capacitance.",
-            "surface_field.",
-            "clearance.",
-            "clearance_top.",
-        ])
-    }
-
-    /// Whether the sweep computes clearance distances (they carry the screening caution).
-    pub fn has_clearance_figures(&self) -> bool {
-        self.uses(&["clearance.", "clearance_top."])
-    }
-
     /// The cautions its outputs carry, one per line, or nothing.
     pub fn cautions(&self) -> String {
-        let mut s = String::new();
-        if self.has_electric_figures() {
-            s.push_str(crate::report::CAUTION);
-            s.push('\n');
-        }
-        if self.has_clearance_figures() {
-            s.push_str(&format!("CAUTION: {}\n", crate::thresholds::CAUTION));
-        }
-        s
+        let names = self.sweep.metrics.iter().chain(&self.sweep.constraints);
+        cautions_for(names.map(String::as_str))
     }
 
     /// Evaluate point `i`.
@@ -317,7 +287,37 @@ impl Plan {
     }
 }
 
-/// Shortest round-trip decimal form of a float (Rust's `Display`); NaN and infinities as words.
+/// Metrics of high-voltage figures (capacitances, surface fields, clearances).
+const ELECTRIC_PREFIXES: &[&str] = &[
+    "capacitance.",
+    "self_capacitance.",
+    "surface_field.",
+    "clearance.",
+    "clearance_top.",
+];
+
+/// Metrics of clearance distances (screening estimates).
+const CLEARANCE_PREFIXES: &[&str] = &["clearance.", "clearance_top."];
+
+/// The cautions that outputs showing the metrics or constraints `names` carry, one per line,
+/// or nothing.
+pub fn cautions_for<'a>(names: impl Iterator<Item = &'a str> + Clone) -> String {
+    let uses = |prefixes: &[&str]| {
+        names
+            .clone()
+            .any(|t| prefixes.iter().any(|p| t.trim_start().starts_with(p)))
+    };
+    let mut s = String::new();
+    if uses(ELECTRIC_PREFIXES) {
+        s.push_str(crate::report::CAUTION);
+        s.push('\n');
+    }
+    if uses(CLEARANCE_PREFIXES) {
+        s.push_str(&format!("CAUTION: {}\n", crate::thresholds::CAUTION));
+    }
+    s
+}
+
 /// The base tables the axes edit, one per winding or electrode, in the order of first use.
 fn edits_of(sweep: &Sweep, base: &toml::Table, sweep_label: &str) -> anyhow::Result<Vec<Edit>> {
     let mut edits: Vec<Edit> = Vec::new();
@@ -441,6 +441,8 @@ struct Writer {
     /// rows: a call per row would cost more than a fast point).
     ready: String,
     last_write: Instant,
+    /// A write failed: write nothing more.
+    broken: bool,
     last_sync: Instant,
     /// Rows written since the last sync.
     dirty: bool,
@@ -462,9 +464,19 @@ const WRITE_BYTES: usize = 1 << 16;
 
 impl Writer {
     /// Hand the ready rows to the file.
+    ///
+    /// After a failed write nothing more is written: the file may end in part of a row, which
+    /// `--resume` cuts off and computes again, and writing the same rows once more would glue
+    /// them to that part.
     fn write_ready(&mut self) -> std::io::Result<()> {
+        if self.broken {
+            return Ok(());
+        }
         if !self.ready.is_empty() {
-            self.file.write_all(self.ready.as_bytes())?;
+            if let Err(e) = self.file.write_all(self.ready.as_bytes()) {
+                self.broken = true;
+                return Err(e);
+            }
             self.ready.clear();
             self.dirty = true;
         }
@@ -672,6 +684,7 @@ pub fn run(
         next: 0,
         ready: String::new(),
         last_write: Instant::now(),
+        broken: false,
         last_sync: Instant::now(),
         dirty: false,
         written: 0,
@@ -736,6 +749,7 @@ pub fn run(
         anyhow::bail!("{}: cannot write: {e}", out.display());
     }
     let written = done + w.written;
+    eprint!("{}", plan.cautions());
     if w.written < total {
         eprintln!(
             "sweep: interrupted; {written} of {} points are in {}; rerun with --resume to finish",
@@ -749,7 +763,6 @@ pub fn run(
         start.elapsed().as_secs_f64(),
         out.display()
     );
-    eprint!("{}", plan.cautions());
     if let (Some(p), Some(grids)) = (plot, grids) {
         // The first metric of every point, read back from the finished output.
         let text = read_text(&out, "sweep output")?;
@@ -900,6 +913,9 @@ pub fn merge(files: &[PathBuf], out: &Path, sweep: Option<&Path>) -> anyhow::Res
         files.len(),
         out.display()
     );
+    // The metric names are in the CSV header, or quoted keys of the JSON lines.
+    let first = text.lines().next().unwrap_or("");
+    eprint!("{}", cautions_for(first.split([',', '"'])));
     Ok(ExitCode::SUCCESS)
 }
 

@@ -26,6 +26,13 @@ fn is_svg(plot: &Path) -> anyhow::Result<bool> {
 pub fn check(plot: &Path, grid_counts: Option<&[usize]>) -> anyhow::Result<()> {
     is_svg(plot)?;
     match grid_counts {
+        Some(c) if c.len() == 2 && c.iter().any(|&n| n < 2) => Err(BadInput(format!(
+            "--plot {}: a heat map needs at least 2 values on each axis (the axes have {} and {})",
+            plot.display(),
+            c[0],
+            c[1]
+        ))
+        .into()),
         Some(c) if c.len() == 1 || c.len() == 2 => Ok(()),
         _ => Err(BadInput(format!(
             "--plot {}: plots need a grid of one or two axes (no groups, no [sample])",
@@ -33,6 +40,34 @@ pub fn check(plot: &Path, grid_counts: Option<&[usize]>) -> anyhow::Result<()> {
         ))
         .into()),
     }
+}
+
+/// An axis key with its unit: lengths in m, tilts in degrees, turn counts in turns.
+fn axis_label(key: &str) -> String {
+    let field = key.rsplit('.').next().unwrap_or(key);
+    let unit = if field == "tilt_deg" {
+        "deg"
+    } else if field == "turns" {
+        "turns"
+    } else if field == "segments_per_turn" {
+        "per turn"
+    } else {
+        "m"
+    };
+    format!("{key} ({unit})")
+}
+
+/// A metric name with its unit.
+fn metric_label(name: &str) -> String {
+    let unit = match name.split('.').next().unwrap_or("") {
+        "self_inductance" | "mutual" => "H",
+        "coupling" => "1",
+        "gap" | "clearance" | "clearance_top" => "m",
+        "capacitance" | "self_capacitance" => "F",
+        "surface_field" => "V/m",
+        _ => return name.to_string(),
+    };
+    format!("{name} ({unit})")
 }
 
 /// Indices that sort `v` increasing (grid values may be listed in any order).
@@ -76,12 +111,13 @@ pub fn write(
         let x: Vec<f64> = order.iter().map(|&i| grids[0][i]).collect();
         let y: Vec<f64> = order.iter().map(|&i| values[i]).collect();
         let title = format!("{metric_name} against {}", axis_names[0]);
+        let (x_label, y_label) = (axis_label(axis_names[0]), metric_label(metric_name));
         plot::figure_bytes(
             &LinePlot {
                 x: &x,
                 y: &y,
-                x_label: axis_names[0],
-                y_label: metric_name,
+                x_label: &x_label,
+                y_label: &y_label,
                 title: &title,
             },
             svg,
@@ -97,15 +133,17 @@ pub fn write(
             .flat_map(|&j| ou.iter().map(move |&i| values[i * nv + j]))
             .collect();
         let contours = contour_levels(&z);
+        let (u_label, v_label) = (axis_label(axis_names[0]), axis_label(axis_names[1]));
+        let title = metric_label(metric_name);
         plot::figure_bytes(
             &HeatMap {
-                u_m: &u,
-                v_m: &v,
+                u: &u,
+                v: &v,
                 values: &z,
                 scale: Scale::Linear,
-                u_label: axis_names[0],
-                v_label: axis_names[1],
-                title: metric_name,
+                u_label: &u_label,
+                v_label: &v_label,
+                title: &title,
                 contours: &contours,
             },
             svg,
@@ -124,6 +162,14 @@ mod tests {
         assert_eq!(l.len(), CONTOURS);
         assert!(l.iter().all(|(x, _)| *x > 1.0 && *x < 10.0));
         assert!(contour_levels(&[2.0, 2.0]).is_empty());
+    }
+
+    #[test]
+    fn labels_carry_units() {
+        assert_eq!(axis_label("winding.p.origin[2]"), "winding.p.origin[2] (m)");
+        assert_eq!(axis_label("winding.p.tilt_deg"), "winding.p.tilt_deg (deg)");
+        assert_eq!(metric_label("coupling.a.b"), "coupling.a.b (1)");
+        assert_eq!(metric_label("surface_field.t"), "surface_field.t (V/m)");
     }
 
     #[test]

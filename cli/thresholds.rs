@@ -120,7 +120,7 @@ pub fn defaults(frequency_hz: f64, long_gap_v_per_m: f64) -> (Vec<Threshold>, Ve
             "air_breakdown",
             AIR_BREAKDOWN_V_PER_M,
             Basis::Peak,
-            "American Meteorological Society, Glossary of Meteorology, \"dielectric strength\": about 3 MV/m for dry air at sea level in a uniform field",
+            "American Meteorological Society, Glossary of Meteorology, 2nd ed., 2000 (edition and year from memory), entry \"dielectric strength\": about 3 MV/m for dry air at sea level in a uniform field",
         ),
         Threshold {
             method: Method::MeanGradient,
@@ -134,8 +134,7 @@ pub fn defaults(frequency_hz: f64, long_gap_v_per_m: f64) -> (Vec<Threshold>, Ve
     ];
     let mut warnings = Vec::new();
     let f_mhz = frequency_hz / 1e6;
-    const S2010: &str =
-        "ICNIRP 2010, Health Phys. 99(6):818-836, reference level 3 kHz-10 MHz (rms, unperturbed)";
+    const S2010: &str = "ICNIRP 2010, Guidelines for limiting exposure to time-varying electric and magnetic fields (1 Hz to 100 kHz), Health Phys. 99(6):818-836, reference level 3 kHz-10 MHz (rms, unperturbed)";
     if (3e3..=10e6).contains(&frequency_hz) {
         out.push(e("icnirp2010_occupational_e", 170.0, Basis::Rms, S2010));
         out.push(b("icnirp2010_occupational_b", 100e-6, S2010));
@@ -147,8 +146,8 @@ pub fn defaults(frequency_hz: f64, long_gap_v_per_m: f64) -> (Vec<Threshold>, Ve
         ));
     }
     if (0.1e6..=30e6).contains(&frequency_hz) {
-        const L2020: &str = "ICNIRP 2020, Health Phys. 118(5):483-524, local exposure reference level 0.1-30 MHz (rms, unperturbed; B = mu0 H)";
-        const W2020: &str = "ICNIRP 2020, Health Phys. 118(5):483-524, whole-body reference level 0.1-30 MHz (rms, 30-min average; B = mu0 H); values quoted from memory, check them against the published table";
+        const L2020: &str = "ICNIRP 2020, Guidelines for limiting exposure to electromagnetic fields (100 kHz to 300 GHz), Health Phys. 118(5):483-524, local exposure reference level 0.1-30 MHz (rms, unperturbed; B = mu0 H)";
+        const W2020: &str = "ICNIRP 2020, Guidelines for limiting exposure to electromagnetic fields (100 kHz to 300 GHz), Health Phys. 118(5):483-524, whole-body reference level 0.1-30 MHz (rms, 30-min average; B = mu0 H); values quoted from memory, check them against the published table";
         let ef = f_mhz.powf(0.7);
         out.push(e(
             "icnirp2020_occupational_local_e",

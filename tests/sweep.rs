@@ -442,8 +442,14 @@ fn plots_are_heat_maps_or_lines_as_svg_or_png() {
     // 3 x 5 grid: 15 cells, 100 colour-bar steps, the two backgrounds.
     assert!(text.matches("<rect").count() >= 15 + 100, "{text}");
     assert!(text.contains("mutual.a.b") && text.contains("winding.b.radius"));
-    // Contour lines between the smallest and largest M.
-    assert!(text.contains("<polyline"), "no contour lines");
+    // Contour lines between the smallest and largest M, in the legend's colours (the axes are
+    // polylines too, in black).
+    let contours = text
+        .lines()
+        .filter(|l| l.starts_with("<polyline") && l.contains("stroke=\"#FF0000\""))
+        .count();
+    assert!(contours > 1, "no contour lines");
+    assert!(text.contains("winding.b.radius (m)") && text.contains("mutual.a.b (H)"));
     let png = dir.path().join("k.png");
     let o = sweep(&[
         s.to_str().unwrap(),
@@ -679,16 +685,22 @@ fn clearance_metrics_match_the_clearance_command() {
         assert_eq!(status == "ok", fence <= 0.5, "row {row}: {status}, {fence}");
     }
     // Each point's searches run sequentially: the file does not depend on the threads.
-    let one = dir.path().join("r1.csv");
-    let o = sweep(&[
-        s.to_str().unwrap(),
-        "--out",
-        one.to_str().unwrap(),
-        "--threads",
-        "1",
-    ]);
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    assert_eq!(std::fs::read(&one).unwrap(), std::fs::read(&out).unwrap());
+    let mut files = Vec::new();
+    for threads in ["1", "2"] {
+        let f = dir.path().join(format!("r{threads}.csv"));
+        let args = [
+            s.to_str().unwrap(),
+            "--out",
+            f.to_str().unwrap(),
+            "--threads",
+            threads,
+        ];
+        let o = sweep(&args);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        files.push(std::fs::read(&f).unwrap());
+    }
+    assert_eq!(files[0], files[1]);
+    assert_eq!(files[0], std::fs::read(&out).unwrap());
     // A threshold the base design does not have is named, with the ones it has.
     let bad = design_file(
         dir.path(),
@@ -734,4 +746,83 @@ fn seek_finds_the_sphere_radius_of_a_capacitance() {
     let exact = 10e-12 / (4.0 * std::f64::consts::PI * 8.854_187_812_8e-12);
     assert!(rel(a, exact) < 1e-3, "{a} vs {exact}");
     assert!(String::from_utf8_lossy(&o.stderr).contains("CAUTION"));
+}
+
+#[test]
+fn sweeps_that_cannot_give_their_figures_stop_before_any_work() {
+    let dir = tempfile::tempdir().unwrap();
+    // Two rings, no secondary, no electrodes: nothing to search or solve.
+    design_file(dir.path(), "base.toml", BASE);
+    // The sphere off the secondary's axis: no axisymmetric electric model.
+    design_file(
+        dir.path(),
+        "off.toml",
+        &RESONATOR.replace("origin = [0.0, 0.0, 0.4]", "origin = [0.02, 0.0, 0.4]"),
+    );
+    for (base, metric, want) in [
+        ("base.toml", "clearance.air_breakdown", "secondary"),
+        ("off.toml", "surface_field.ball", "ball"),
+        ("off.toml", "self_capacitance.sec", "ball"),
+    ] {
+        let text = format!(
+            "base = \"{base}\"\nmetrics = [\"{metric}\"]\n[[axis]]\nkey = \"winding.{w}.radius\"\nvalues = [0.9, 1.0]\n",
+            w = if base == "base.toml" { "b" } else { "sec" }
+        );
+        let s = design_file(dir.path(), "s.toml", &text);
+        let out = dir.path().join("r.csv");
+        let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{metric}: {err}");
+        assert!(
+            err.contains("s.toml") && err.contains(metric) && err.contains(want),
+            "{err}"
+        );
+        assert!(!out.exists(), "{metric}: output written");
+    }
+    // A heat map needs two values on each axis: refused before the sweep runs.
+    let s = design_file(
+        dir.path(),
+        "s.toml",
+        "base = \"base.toml\"\nmetrics = [\"mutual.a.b\"]\n\
+         [[axis]]\nkey = \"winding.b.radius\"\nvalues = [0.9, 1.0]\n\
+         [[axis]]\nkey = \"winding.b.origin[2]\"\nvalues = [1.0]\n",
+    );
+    let out = dir.path().join("r.csv");
+    let png = dir.path().join("k.png");
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--plot",
+        png.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("at least 2 values on each axis"));
+    assert!(!out.exists() && !png.exists());
+}
+
+#[test]
+fn a_clearance_beyond_the_search_is_marked_a_lower_bound() {
+    let dir = tempfile::tempdir().unwrap();
+    let base = RESONATOR.replace(
+        "[drive]\n",
+        "[clearance]\ndefaults = []\nmax_distance = \"0.2 m\"\n[[clearance.threshold]]\n\
+         name = \"tiny\"\nquantity = \"E\"\nlimit = \"1 V/m\"\nbasis = \"peak\"\n\
+         source = \"invented test value\"\n[drive]\n",
+    );
+    design_file(dir.path(), "base.toml", &base);
+    let s = design_file(
+        dir.path(),
+        "s.toml",
+        "base = \"base.toml\"\nmetrics = [\"clearance.tiny\"]\n\
+         [[axis]]\nkey = \"electrode.ball.radius\"\nvalues = [0.08]\n",
+    );
+    let out = dir.path().join("r.jsonl");
+    let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let line = std::fs::read_to_string(&out).unwrap();
+    let v: serde_json::Value = serde_json::from_str(line.trim()).unwrap();
+    assert_eq!(v["status"], "ok");
+    let m = v["message"].as_str().unwrap();
+    assert!(m.contains("tiny") && m.contains("lower bound"), "{m}");
 }

@@ -496,7 +496,7 @@ pub enum DesignError {
 
     /// A conductor reaches down to or through the ground plane. Raise it or lower the plane.
     #[error(
-        "{source_name}: {item}: key '{key}': it reaches down to z = {} m, at or below the \
+        "{source_name}: {item}: key '{key}': part of it is at z = {} m, at or below the \
          ground plane z = {} m; raise it or lower [ground] z",
         sig(*.lowest_z_m), sig(*.ground_z_m)
     )]
@@ -507,7 +507,8 @@ pub enum DesignError {
         item: String,
         /// The key that places it.
         key: &'static str,
-        /// Its lowest point (m).
+        /// The height (m) of a point of it at or below the plane: an electrode's lowest point,
+        /// a wire's first point found there.
         lowest_z_m: f64,
         /// The plane (m).
         ground_z_m: f64,

@@ -772,8 +772,10 @@ pub fn points(sweep: &Sweep, source: &str) -> Result<Vec<Vec<f64>>, SweepError> 
 }
 
 /// Set the axes' values in a copy of the base design's table. The message of an error names the
-/// key and says why (no such winding, no such key, not a vector, ...).
-pub fn apply(base: &Table, axes: &[Axis], values: &[f64]) -> Result<Table, String> {
+/// key and says why (no such winding, no such key, not a vector, ...). (The sweep command edits
+/// one item's table at a time with [`apply_to_item`]; this whole-design form serves the tests.)
+#[cfg(test)]
+fn apply(base: &Table, axes: &[Axis], values: &[f64]) -> Result<Table, String> {
     let mut t = base.clone();
     for (axis, &v) in axes.iter().zip(values) {
         let target = &axis.target;
@@ -832,6 +834,7 @@ pub fn item_table<'t>(t: &'t Table, part: Part, name: &str) -> Result<(usize, &'
         .ok_or_else(|| no_such_item(t, part, name))
 }
 
+#[cfg(test)]
 fn item_table_mut<'t>(
     t: &'t mut Table,
     part: Part,

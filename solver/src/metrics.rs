@@ -51,9 +51,10 @@ pub trait External: Send + Sync {
     /// when it is but does not fit `design` (the base design).
     fn parse(&self, name: &str, design: &Design) -> Option<Result<usize, String>>;
 
-    /// The values of the metrics `ids` on `design`, in that order: computed together, since
-    /// they usually share one expensive model. Must not depend on the number of threads.
-    fn values(&self, ids: &[usize], design: &Design) -> Result<Vec<f64>, String>;
+    /// The values of the metrics `ids` on `design`, in that order, and notes on them for the
+    /// point's message (e.g. "a lower bound"): computed together, since they usually share one
+    /// expensive model. Must not depend on the number of threads.
+    fn values(&self, ids: &[usize], design: &Design) -> Result<(Vec<f64>, Vec<String>), String>;
 }
 
 const KNOWN_METRICS: &str = "self_inductance.<w>, mutual.<a>.<b>, coupling.<a>.<b>, \
@@ -86,6 +87,14 @@ fn electrode_index(name: &str, e: &str, design: &Design) -> Result<usize, String
         e,
         design.electrodes.iter().map(|x| x.name.as_str()),
     )
+}
+
+/// The check that the electric model of `design` can be built (one axis, a helix secondary),
+/// made when an electric metric `name` is parsed, so that a sweep stops before any work.
+fn electric_model_of(name: &str, design: &Design) -> Result<(), String> {
+    Problem::from_design(design, &Params::default(), "the base design")
+        .map(|_| ())
+        .map_err(|e| format!("`{name}`: {e}"))
 }
 
 /// Parse a metric name against the windings and electrodes of a design.
@@ -125,9 +134,14 @@ pub fn parse_metric_with(
         ["mutual", _, _] => pair(&parts).map(|(a, b)| Metric::Mutual(a, b)),
         ["coupling", _, _] => pair(&parts).map(|(a, b)| Metric::Coupling(a, b)),
         ["gap", _, _] => pair(&parts).map(|(a, b)| Metric::Gap(a, b)),
-        ["capacitance", e] => Ok(Metric::Capacitance(electrode_index(name, e, design)?)),
+        ["capacitance", e] => {
+            let i = electrode_index(name, e, design)?;
+            electric_model_of(name, design)?;
+            Ok(Metric::Capacitance(i))
+        }
         ["surface_field", e] => {
             let i = electrode_index(name, e, design)?;
+            electric_model_of(name, design)?;
             if design.drive.potentials_v.is_empty() {
                 return Err(format!(
                     "`{name}`: needs [drive] potentials in the base design (peak V)"
@@ -142,6 +156,7 @@ pub fn parse_metric_with(
                     "`{name}`: winding `{w}` is not the secondary (role = \"secondary\")"
                 ));
             }
+            electric_model_of(name, design)?;
             Ok(Metric::SelfCapacitance(i))
         }
         _ => Err(format!("`{name}`: unknown metric; known: {KNOWN_METRICS}")),
@@ -385,17 +400,26 @@ impl Evaluator {
         let design = s.design;
         let Some(k) = self.external_ids.iter().position(|&x| x == id) else {
             // Not among the metrics and constraints (a goal-seeking target): alone.
-            let v = ext.values(&[id], design)?;
+            let (v, notes) = ext.values(&[id], design)?;
+            s.notes.extend(notes);
             return v
                 .first()
                 .copied()
                 .ok_or_else(|| format!("external metric #{id} was not computed"));
         };
+        if s.external.is_none() {
+            let found = ext.values(&self.external_ids, design).map(|(v, notes)| {
+                s.notes.extend(notes);
+                v
+            });
+            s.external = Some(found);
+        }
         let values = s
             .external
-            .get_or_insert_with(|| ext.values(&self.external_ids, design))
             .as_ref()
-            .map_err(Clone::clone)?;
+            .map_or(Err("external metrics not computed".to_string()), |r| {
+                r.as_ref().map_err(Clone::clone)
+            })?;
         values
             .get(k)
             .copied()
