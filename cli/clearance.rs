@@ -305,7 +305,10 @@ pub fn search(
         if t.method == Method::MeanGradient {
             // A spark bridges a gap d when the mean gradient V/d exceeds the threshold.
             let d = fr.top_v / t.limit;
-            let r_top = fr.top_electrode.as_ref().map_or(0.0, outer_radius_m);
+            let r_top = fr
+                .top_electrode
+                .as_ref()
+                .map_or(0.0, |e| e.shape.outer_radius_m());
             out.push(ThresholdOut {
                 name: t.name.clone(),
                 quantity: t.quantity,
@@ -518,13 +521,6 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
         Format::Table => print!("{}", table(&result)),
     }
     Ok(ExitCode::SUCCESS)
-}
-
-/// Largest distance (m) of an electrode's surface from the common axis.
-fn outer_radius_m(e: &Electrode) -> f64 {
-    (0..=64)
-        .map(|k| e.shape.generatrix_at(k as f64 / 64.0).0)
-        .fold(0.0, f64::max)
 }
 
 fn table(r: &ClearanceOut) -> String {

@@ -176,6 +176,21 @@ impl ElectrodeShape {
         }
     }
 
+    /// Largest distance (m) of the surface from its own axis: a torus's R + r, a sphere's,
+    /// disc's or cylinder's radius.
+    pub fn outer_radius_m(&self) -> f64 {
+        match *self {
+            ElectrodeShape::Torus {
+                major_radius_m,
+                minor_radius_m,
+                ..
+            } => major_radius_m + minor_radius_m,
+            ElectrodeShape::Sphere { radius_m, .. }
+            | ElectrodeShape::Disc { radius_m, .. }
+            | ElectrodeShape::Cylinder { radius_m, .. } => radius_m,
+        }
+    }
+
     /// The generatrix at s in [0, 1] as (rho, zeta) in the electrode's own frame (m): distance
     /// from the axis and height along it from the origin. Runs from the axis (or, for a
     /// torus, the tube's inner equator) around the meridian section.
@@ -762,6 +777,45 @@ mod tests {
     use crate::{Model, Shape};
 
     const FILE: &str = "design.toml";
+
+    #[test]
+    fn outer_radius_is_the_largest_rho_of_the_generatrix() {
+        let o = nalgebra::Point3::origin();
+        let n = nalgebra::Vector3::z_axis();
+        for shape in [
+            ElectrodeShape::Torus {
+                centre_m: o,
+                axis: n,
+                major_radius_m: 0.15,
+                minor_radius_m: 0.05,
+            },
+            ElectrodeShape::Sphere {
+                centre_m: o,
+                axis: n,
+                radius_m: 0.1,
+            },
+            ElectrodeShape::Disc {
+                centre_m: o,
+                axis: n,
+                radius_m: 0.2,
+            },
+            ElectrodeShape::Cylinder {
+                base_centre_m: o,
+                axis: n,
+                radius_m: 0.07,
+                length_m: 0.3,
+            },
+        ] {
+            let sampled = (0..=10_000)
+                .map(|k| shape.generatrix_at(k as f64 / 10_000.0).0)
+                .fold(0.0, f64::max);
+            let r = shape.outer_radius_m();
+            assert!(
+                r >= sampled && r - sampled < 1e-9,
+                "{shape:?}: {r} vs {sampled}"
+            );
+        }
+    }
 
     /// A secondary from z = 0.1 to 0.5 m, radius 5 cm, with a torus on its top and a ground.
     const BASE: &str = r#"
