@@ -15,6 +15,7 @@ use coilfield_solver::Par;
 use coilfield_solver::clearance::{
     RayClearance, RayOutcome, RayParams, clearance_along_ray, ladder_m, ray_point,
 };
+use coilfield_solver::electrostatic::Solution;
 use nalgebra::{Point3, Unit, Vector3};
 use rayon::prelude::*;
 use serde::Serialize;
@@ -222,16 +223,18 @@ impl Search {
 
 /// The clearance of every threshold in `ths` for `design`: rays from the axis at each height
 /// and a fan from the top conductor, searched out to `max_distance_m`. `par` runs the field
-/// evaluations and the rays in parallel or not; the results do not depend on it.
+/// evaluations and the rays in parallel or not; the results do not depend on it. `solved` is
+/// the design's electrostatic solution when the caller has it (default panels).
 pub fn search(
     design: &Design,
     label: &str,
     ths: &[thresholds::Threshold],
     max_distance_m: f64,
     par: Par,
+    solved: Option<Solution>,
 ) -> anyhow::Result<Search> {
     let fr = frame(design, label)?;
-    let model = crate::solve::field_model_with(design, label, par)?;
+    let model = crate::solve::field_model_with(design, label, par, solved)?;
     let mut warnings = model.warnings.clone();
     let (x_hat, y_hat) = local_frame(&fr.axis);
     let params = RayParams {
@@ -476,7 +479,7 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
         model,
         thresholds: out,
         warnings: found_warnings,
-    } = search(&design, &label, &ths, max_distance_m, Par::Rayon)?;
+    } = search(&design, &label, &ths, max_distance_m, Par::Rayon, None)?;
     warnings.extend(found_warnings);
     let (x_hat, _) = local_frame(&fr.axis);
     let at_pts: Vec<Point3<f64>> = distances.iter().map(|d| fr.top_m + x_hat * *d).collect();
@@ -669,7 +672,16 @@ impl coilfield_solver::metrics::External for ClearanceMetrics {
         Some(Ok(id))
     }
 
-    fn values(&self, ids: &[usize], design: &Design) -> Result<(Vec<f64>, Vec<String>), String> {
+    fn needs_electric(&self, design: &Design) -> bool {
+        crate::solve::has_potentials(design)
+    }
+
+    fn values(
+        &self,
+        ids: &[usize],
+        design: &Design,
+        electric: Option<&Solution>,
+    ) -> Result<(Vec<f64>, Vec<String>), String> {
         let known = self.ids().clone();
         let wanted: Vec<(usize, Reach)> = ids
             .iter()
@@ -692,6 +704,7 @@ impl coilfield_solver::metrics::External for ClearanceMetrics {
             &ths,
             self.max_distance_m,
             Par::Seq,
+            electric.cloned(),
         )
         .map_err(|e| e.to_string())?;
         let values: Vec<f64> = wanted

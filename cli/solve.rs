@@ -42,12 +42,18 @@ fn electrostatic_solution_with(design: &Design, label: &str, par: Par) -> anyhow
 /// The field model of a validated design: B from `solver::field` (zero when no winding
 /// carries current); E from `solver::electrostatic` (zero when no conductor has a potential).
 pub fn field_model(design: &Design, label: &str) -> anyhow::Result<FieldModel> {
-    field_model_with(design, label, Par::Rayon)
+    field_model_with(design, label, Par::Rayon, None)
 }
 
-/// As [`field_model`], solving and evaluating in parallel or not (`par`); a sweep, parallel
-/// over its points, builds one model per point sequentially.
-pub fn field_model_with(design: &Design, label: &str, par: Par) -> anyhow::Result<FieldModel> {
+/// As [`field_model`], solving and evaluating in parallel or not (`par`), with the design's
+/// electrostatic solution when the caller has it already (`solved`; default panels). A sweep,
+/// parallel over its points, builds one model per point sequentially.
+pub fn field_model_with(
+    design: &Design,
+    label: &str,
+    par: Par,
+    solved: Option<Solution>,
+) -> anyhow::Result<FieldModel> {
     check_drive(design, label, "the field")?;
     let has_currents = design.drive.currents_a.iter().any(|(_, i)| *i != 0.0);
     let sources = if has_currents {
@@ -60,7 +66,10 @@ pub fn field_model_with(design: &Design, label: &str, par: Par) -> anyhow::Resul
         warnings.push("no winding carries current in [drive] currents: B is zero".into());
     }
     let solution = if has_potentials(design) {
-        Some(electrostatic_solution_with(design, label, par)?)
+        match solved {
+            Some(sol) => Some(sol),
+            None => Some(electrostatic_solution_with(design, label, par)?),
+        }
     } else {
         warnings.push("no conductor has a potential in [drive] potentials: E is zero".into());
         None

@@ -51,10 +51,23 @@ pub trait External: Send + Sync {
     /// when it is but does not fit `design` (the base design).
     fn parse(&self, name: &str, design: &Design) -> Option<Result<usize, String>>;
 
+    /// Whether the metrics need the electric solution of `design`: the evaluator then passes
+    /// the one it has ([`Params`] default, solved sequentially), the base design's when the
+    /// point leaves the electric model as it is.
+    fn needs_electric(&self, _design: &Design) -> bool {
+        false
+    }
+
     /// The values of the metrics `ids` on `design`, in that order, and notes on them for the
     /// point's message (e.g. "a lower bound"): computed together, since they usually share one
-    /// expensive model. Must not depend on the number of threads.
-    fn values(&self, ids: &[usize], design: &Design) -> Result<(Vec<f64>, Vec<String>), String>;
+    /// expensive model. `electric` is the design's electric solution when
+    /// [`External::needs_electric`] asked for it. Must not depend on the number of threads.
+    fn values(
+        &self,
+        ids: &[usize],
+        design: &Design,
+        electric: Option<&Solution>,
+    ) -> Result<(Vec<f64>, Vec<String>), String>;
 }
 
 const KNOWN_METRICS: &str = "self_inductance.<w>, mutual.<a>.<b>, coupling.<a>.<b>, \
@@ -398,22 +411,38 @@ impl Evaluator {
             return Err(format!("external metric #{id} without its evaluator"));
         };
         let design = s.design;
-        let Some(k) = self.external_ids.iter().position(|&x| x == id) else {
-            // Not among the metrics and constraints (a goal-seeking target): alone.
-            let (v, notes) = ext.values(&[id], design)?;
+        let position = self.external_ids.iter().position(|&x| x == id);
+        if position.is_some() && s.external.is_some() {
+            return self.stored_external(s, position);
+        }
+        // Not among the metrics and constraints (a goal-seeking target): alone.
+        let ids = match position {
+            Some(_) => self.external_ids.clone(),
+            None => vec![id],
+        };
+        let found = if ext.needs_electric(design) {
+            let sol = self.electric(s)?;
+            ext.values(&ids, design, Some(sol))
+        } else {
+            ext.values(&ids, design, None)
+        };
+        let found = found.map(|(v, notes)| {
             s.notes.extend(notes);
-            return v
+            v
+        });
+        if position.is_none() {
+            return found?
                 .first()
                 .copied()
                 .ok_or_else(|| format!("external metric #{id} was not computed"));
-        };
-        if s.external.is_none() {
-            let found = ext.values(&self.external_ids, design).map(|(v, notes)| {
-                s.notes.extend(notes);
-                v
-            });
-            s.external = Some(found);
         }
+        s.external = Some(found);
+        self.stored_external(s, position)
+    }
+
+    /// The stored external value at `position` of the point's external figures.
+    fn stored_external(&self, s: &Scratch<'_>, position: Option<usize>) -> Result<f64, String> {
+        let k = position.ok_or("external metric not among the requested ones")?;
         let values = s
             .external
             .as_ref()
@@ -423,7 +452,7 @@ impl Evaluator {
         values
             .get(k)
             .copied()
-            .ok_or_else(|| format!("external metric #{id} was not computed"))
+            .ok_or_else(|| format!("external metric #{k} was not computed"))
     }
 
     /// The point's electric solution: the base's when its electric model is the base's.
