@@ -350,17 +350,13 @@ fn solve_electric(design: &Design) -> Result<Solution, String> {
 /// Whether the electric model of `a` and `b` is the same: the secondary windings, the
 /// electrodes, the ground plane and the drive.
 fn same_electric_model(a: &Design, b: &Design) -> bool {
-    let secondaries = |d: &Design| -> Vec<Winding> {
-        d.windings
-            .iter()
-            .filter(|w| w.role == Role::Secondary)
-            .cloned()
-            .collect()
-    };
+    fn secondaries(d: &Design) -> impl Iterator<Item = &Winding> {
+        d.windings.iter().filter(|w| w.role == Role::Secondary)
+    }
     a.electrodes == b.electrodes
         && a.ground == b.ground
         && a.drive == b.drive
-        && secondaries(a) == secondaries(b)
+        && secondaries(a).eq(secondaries(b))
 }
 
 impl Evaluator {
@@ -415,9 +411,9 @@ impl Evaluator {
         if position.is_some() && s.external.is_some() {
             return self.stored_external(s, position);
         }
-        // Not among the metrics and constraints (a goal-seeking target): alone.
         let ids = match position {
             Some(_) => self.external_ids.clone(),
+            // Not among the metrics and constraints (a goal-seeking target): alone.
             None => vec![id],
         };
         let found = if ext.needs_electric(design) {
