@@ -165,6 +165,28 @@ struct ThresholdOut {
     by_height: Vec<HeightOut>,
 }
 
+impl ThresholdOut {
+    /// The threshold's own fields, before any search (no distances yet).
+    fn of(t: &thresholds::Threshold) -> ThresholdOut {
+        ThresholdOut {
+            name: t.name.clone(),
+            quantity: t.quantity,
+            limit: t.limit,
+            unit: t.unit,
+            basis: t.basis,
+            compared_with: "peak",
+            peak_limit: t.peak_limit(),
+            source: t.source.clone(),
+            set_by: t.set_by.clone(),
+            method: t.method,
+            distance_from_axis_m: 0.0,
+            distance_from_top_m: 0.0,
+            beyond_search: false,
+            by_height: Vec::new(),
+        }
+    }
+}
+
 #[derive(Serialize)]
 struct AtDistanceOut {
     distance_from_axis_m: f64,
@@ -313,20 +335,12 @@ pub fn search(
                 .as_ref()
                 .map_or(0.0, |e| e.shape.outer_radius_m());
             out.push(ThresholdOut {
-                name: t.name.clone(),
-                quantity: t.quantity,
-                limit: t.limit,
-                unit: t.unit,
-                basis: t.basis,
                 compared_with: "peak potential of the top conductor / distance",
-                peak_limit: t.peak_limit(),
-                source: t.source.clone(),
-                set_by: t.set_by.clone(),
-                method: t.method,
                 distance_from_axis_m: r_top + d,
                 distance_from_top_m: d,
                 beyond_search: false,
                 by_height: Vec::new(),
+                ..ThresholdOut::of(t)
             });
             continue;
         }
@@ -363,19 +377,10 @@ pub fn search(
             .fold(0.0, f64::max);
         beyond |= fan_rays.iter().any(|(r, p)| beyond_search(r, p));
         out.push(ThresholdOut {
-            name: t.name.clone(),
-            quantity: t.quantity,
-            limit: t.limit,
-            unit: t.unit,
-            basis: t.basis,
             compared_with: match t.basis {
                 thresholds::Basis::Rms => "peak / sqrt(2)",
                 thresholds::Basis::Peak => "peak",
             },
-            peak_limit: limit,
-            source: t.source.clone(),
-            set_by: t.set_by.clone(),
-            method: t.method,
             distance_from_axis_m: by_height
                 .iter()
                 .map(|h| h.distance_from_axis_m)
@@ -383,6 +388,7 @@ pub fn search(
             distance_from_top_m: from_top,
             beyond_search: beyond,
             by_height,
+            ..ThresholdOut::of(t)
         });
         if beyond {
             warnings.push(format!(

@@ -4,23 +4,29 @@ use crate::BadInput;
 use coilfield_geometry::{Design, parse_design};
 use std::path::Path;
 
-/// Largest design file accepted (bytes). Real designs are a few kilobytes; a bigger file is a
-/// mistake (a wrong path, a data file) and would only waste memory.
-pub const MAX_DESIGN_BYTES: u64 = 16 * 1024 * 1024;
+/// Largest input file accepted (bytes): design, sweep, seek and shard files. Real designs are a
+/// few kilobytes; a bigger file is a mistake (a wrong path, a data file) and would only waste
+/// memory. (Sweep outputs of a few million points stay below it.)
+pub const MAX_FILE_BYTES: u64 = 16 * 1024 * 1024;
 
-/// Read and validate a design file.
-pub fn design(path: &Path) -> anyhow::Result<Design> {
-    let label = path.display().to_string();
+/// The text of the file at `path`, `what` naming it in messages ("design file", ...).
+pub fn text(path: &Path, what: &str) -> anyhow::Result<String> {
+    let label = path.display();
     let meta = std::fs::metadata(path)
-        .map_err(|e| BadInput(format!("{label}: cannot read the design file: {e}")))?;
-    if meta.len() > MAX_DESIGN_BYTES {
+        .map_err(|e| BadInput(format!("{label}: cannot read the {what}: {e}")))?;
+    if meta.len() > MAX_FILE_BYTES {
         return Err(BadInput(format!(
-            "{label}: file is {} bytes, larger than the limit of {MAX_DESIGN_BYTES} bytes for a design file",
+            "{label}: file is {} bytes, larger than the limit of {MAX_FILE_BYTES} bytes for a {what}",
             meta.len()
         ))
         .into());
     }
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| BadInput(format!("{label}: cannot read the design file: {e}")))?;
-    Ok(parse_design(&text, &label)?)
+    Ok(std::fs::read_to_string(path)
+        .map_err(|e| BadInput(format!("{label}: cannot read the {what}: {e}")))?)
+}
+
+/// Read and validate a design file.
+pub fn design(path: &Path) -> anyhow::Result<Design> {
+    let text = text(path, "design file")?;
+    Ok(parse_design(&text, &path.display().to_string())?)
 }

@@ -8,7 +8,7 @@
 
 use crate::BadInput;
 use crate::Format;
-use crate::sweep::{Plan, read_text};
+use crate::sweep::Plan;
 use coilfield_solver::metrics::Metric;
 use coilfield_solver::optimise::{Found, brent_root, nelder_mead};
 use std::path::Path;
@@ -22,7 +22,7 @@ enum Goal {
 
 pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
     let label = path.display().to_string();
-    let text = read_text(path, "seek file")?;
+    let text = crate::load::text(path, "seek file")?;
     let mut table: toml::Table = text
         .parse()
         .map_err(|e: toml::de::Error| BadInput(format!("{label}: {}", e.message())))?;

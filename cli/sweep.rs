@@ -19,9 +19,6 @@ use std::sync::Mutex;
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::time::{Duration, Instant};
 
-/// Largest sweep or design file read (bytes).
-const MAX_FILE_BYTES: u64 = 16 * 1024 * 1024;
-
 /// Output format, from the extension of `--out`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum OutFormat {
@@ -43,21 +40,6 @@ impl OutFormat {
             .into()),
         }
     }
-}
-
-pub fn read_text(path: &Path, what: &str) -> anyhow::Result<String> {
-    let label = path.display();
-    let meta = std::fs::metadata(path)
-        .map_err(|e| BadInput(format!("{label}: cannot read the {what}: {e}")))?;
-    if meta.len() > MAX_FILE_BYTES {
-        return Err(BadInput(format!(
-            "{label}: {} bytes, larger than the limit of {MAX_FILE_BYTES} for a {what}",
-            meta.len()
-        ))
-        .into());
-    }
-    Ok(std::fs::read_to_string(path)
-        .map_err(|e| BadInput(format!("{label}: cannot read the {what}: {e}")))?)
 }
 
 /// The base table of one winding or electrode that some axes edit, and those axes.
@@ -84,7 +66,7 @@ pub struct Plan {
 impl Plan {
     /// Read the sweep file and its base, and check every axis value alone.
     pub fn load(path: &Path) -> anyhow::Result<Plan> {
-        let text = read_text(path, "sweep file")?;
+        let text = crate::load::text(path, "sweep file")?;
         Plan::from_text(&text, path)
     }
 
@@ -94,7 +76,7 @@ impl Plan {
         let sweep = parse_sweep(text, &sweep_label).map_err(|e| BadInput(e.to_string()))?;
         let base_path = path.parent().unwrap_or(Path::new(".")).join(&sweep.base);
         let base_label = base_path.display().to_string();
-        let base_text = read_text(&base_path, "base design named by `base`")?;
+        let base_text = crate::load::text(&base_path, "base design named by `base`")?;
         let base_design = parse_design(&base_text, &base_label)?;
         let base_table: toml::Table = base_text
             .parse()
@@ -765,7 +747,7 @@ pub fn run(
     );
     if let (Some(p), Some(grids)) = (plot, grids) {
         // The first metric of every point, read back from the finished output.
-        let text = read_text(&out, "sweep output")?;
+        let text = crate::load::text(&out, "sweep output")?;
         let n_axes = plan.sweep.axes.len();
         let name = &plan.sweep.metrics[0];
         let values: Vec<f64> = text
@@ -812,7 +794,7 @@ pub fn merge(files: &[PathBuf], out: &Path, sweep: Option<&Path>) -> anyhow::Res
             ))
             .into());
         }
-        let text = read_text(f, "shard file")?;
+        let text = crate::load::text(f, "shard file")?;
         if !text.is_empty() && !text.ends_with('\n') {
             return Err(BadInput(format!(
                 "{}: the last line is torn (the run was stopped); finish it with --resume first",

@@ -53,6 +53,18 @@ fn sweep(args: &[&str]) -> std::process::Output {
     run(&all)
 }
 
+/// Run the sweep file `text` (written as `name` in `dir`) that must be refused before any work:
+/// exit 2, no output file. Returns the message.
+fn refused(dir: &Path, name: &str, text: &str) -> String {
+    let s = design_file(dir, name, text);
+    let out = dir.join("refused.csv");
+    let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    let err = String::from_utf8_lossy(&o.stderr).into_owned();
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(!out.exists(), "output written: {err}");
+    err
+}
+
 #[test]
 fn csv_rows_hold_maxwell_values_in_point_order() {
     let dir = tempfile::tempdir().unwrap();
@@ -609,19 +621,12 @@ fn electrode_sweeps_match_the_capacitance_command_and_recheck_the_wires() {
     let swept: f64 = rows[2][3].parse().unwrap();
     assert!(rel(swept, total) < 1e-12, "{swept} vs {total}");
     // Set alone, a ball that sits on the base coil's wire stops the sweep before any work.
-    let bad = design_file(
+    let err = refused(
         dir.path(),
         "bad.toml",
         "base = \"base.toml\"\nmetrics = [\"self_capacitance.sec\"]\n\
          [[axis]]\nkey = \"electrode.ball.origin[2]\"\nvalues = [0.4, 0.3]\n",
     );
-    let o = sweep(&[
-        bad.to_str().unwrap(),
-        "--out",
-        dir.path().join("b.csv").to_str().unwrap(),
-    ]);
-    assert_eq!(o.status.code(), Some(2));
-    let err = String::from_utf8_lossy(&o.stderr);
     assert!(
         err.contains("bad.toml")
             && err.contains("electrode.ball.origin[2]")
@@ -702,19 +707,12 @@ fn clearance_metrics_match_the_clearance_command() {
     assert_eq!(files[0], files[1]);
     assert_eq!(files[0], std::fs::read(&out).unwrap());
     // A threshold the base design does not have is named, with the ones it has.
-    let bad = design_file(
+    let err = refused(
         dir.path(),
         "bad.toml",
         "base = \"base.toml\"\nmetrics = [\"clearance.icnirp2010_public_e\"]\n\
          [[axis]]\nkey = \"electrode.ball.radius\"\nvalues = [0.08]\n",
     );
-    let o = sweep(&[
-        bad.to_str().unwrap(),
-        "--out",
-        dir.path().join("b.csv").to_str().unwrap(),
-    ]);
-    assert_eq!(o.status.code(), Some(2));
-    let err = String::from_utf8_lossy(&o.stderr);
     assert!(
         err.contains("icnirp2010_public_e") && err.contains("fence"),
         "{err}"
@@ -768,16 +766,11 @@ fn sweeps_that_cannot_give_their_figures_stop_before_any_work() {
             "base = \"{base}\"\nmetrics = [\"{metric}\"]\n[[axis]]\nkey = \"winding.{w}.radius\"\nvalues = [0.9, 1.0]\n",
             w = if base == "base.toml" { "b" } else { "sec" }
         );
-        let s = design_file(dir.path(), "s.toml", &text);
-        let out = dir.path().join("r.csv");
-        let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
-        let err = String::from_utf8_lossy(&o.stderr);
-        assert_eq!(o.status.code(), Some(2), "{metric}: {err}");
+        let err = refused(dir.path(), "s.toml", &text);
         assert!(
             err.contains("s.toml") && err.contains(metric) && err.contains(want),
             "{err}"
         );
-        assert!(!out.exists(), "{metric}: output written");
     }
     // A heat map needs two values on each axis: refused before the sweep runs.
     let s = design_file(
