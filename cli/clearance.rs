@@ -9,7 +9,7 @@
 use crate::fields::{FieldModel, Sample};
 use crate::thresholds::{self, Method, Quantity};
 use crate::{BadInput, Format, load, output};
-use coilfield_geometry::clearance::MIN_MAX_DISTANCE_M;
+use coilfield_geometry::model::clearance::MIN_MAX_DISTANCE_M;
 use coilfield_geometry::{Design, Electrode, End, Role, local_frame};
 use coilfield_solver::Par;
 use coilfield_solver::clearance::{

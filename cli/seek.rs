@@ -97,7 +97,7 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
         .axes
         .iter()
         .map(|a| match a.values {
-            coilfield_geometry::sweep::Values::Range { from, to, .. } => (from, to),
+            coilfield_geometry::file::sweep::Values::Range { from, to, .. } => (from, to),
             _ => (f64::NAN, f64::NAN),
         })
         .collect();

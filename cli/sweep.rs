@@ -3,7 +3,7 @@
 
 use crate::BadInput;
 use crate::clearance::ClearanceMetrics;
-use coilfield_geometry::sweep::{
+use coilfield_geometry::file::sweep::{
     Part, Sweep, Values, apply_to_item, item_table, parse_sweep, points,
 };
 use coilfield_geometry::{

@@ -7,10 +7,8 @@
 
 use crate::BadInput;
 use coilfield_geometry::{ClearanceSettings, DefaultSet, Design, FieldQuantity, LimitBasis};
+use coilfield_solver::constants::MU0;
 use serde::Serialize;
-
-/// mu0 (H/m), classical value, to turn an H reference level (A/m) into B (T).
-const MU0_H_PER_M: f64 = 4.0e-7 * std::f64::consts::PI;
 
 /// Which field a threshold limits.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -157,7 +155,7 @@ pub fn defaults(frequency_hz: f64, long_gap_v_per_m: f64) -> (Vec<Threshold>, Ve
         ));
         out.push(b(
             "icnirp2020_occupational_local_b",
-            MU0_H_PER_M * 10.8 / f_mhz,
+            MU0 * 10.8 / f_mhz,
             L2020,
         ));
         out.push(e(
@@ -166,11 +164,7 @@ pub fn defaults(frequency_hz: f64, long_gap_v_per_m: f64) -> (Vec<Threshold>, Ve
             Basis::Rms,
             L2020,
         ));
-        out.push(b(
-            "icnirp2020_public_local_b",
-            MU0_H_PER_M * 4.9 / f_mhz,
-            L2020,
-        ));
+        out.push(b("icnirp2020_public_local_b", MU0 * 4.9 / f_mhz, L2020));
         out.push(e(
             "icnirp2020_occupational_whole_body_e",
             660.0 / ef,
@@ -179,7 +173,7 @@ pub fn defaults(frequency_hz: f64, long_gap_v_per_m: f64) -> (Vec<Threshold>, Ve
         ));
         out.push(b(
             "icnirp2020_occupational_whole_body_b",
-            MU0_H_PER_M * 4.9 / f_mhz,
+            MU0 * 4.9 / f_mhz,
             W2020,
         ));
         out.push(e(
@@ -190,7 +184,7 @@ pub fn defaults(frequency_hz: f64, long_gap_v_per_m: f64) -> (Vec<Threshold>, Ve
         ));
         out.push(b(
             "icnirp2020_public_whole_body_b",
-            MU0_H_PER_M * 2.2 / f_mhz,
+            MU0 * 2.2 / f_mhz,
             W2020,
         ));
     } else {
@@ -366,7 +360,7 @@ mod tests {
         let get = |n: &str| t.iter().find(|x| x.name == n).unwrap();
         // At 1 MHz the 2020 formulas reduce to their coefficients.
         assert_eq!(get("icnirp2020_public_local_e").limit, 671.0);
-        assert!((get("icnirp2020_occupational_local_b").limit - 10.8 * MU0_H_PER_M).abs() < 1e-18);
+        assert!((get("icnirp2020_occupational_local_b").limit - 10.8 * MU0).abs() < 1e-18);
         assert!(
             get("icnirp2020_public_whole_body_e")
                 .source

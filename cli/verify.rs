@@ -182,7 +182,7 @@ fn compute(table: &str, row: &Row) -> anyhow::Result<f64> {
         }
         "awg" => {
             let gauge = num(row, "gauge")?;
-            coilfield_geometry::units::awg_diameter_m(gauge as i32)
+            coilfield_geometry::file::units::awg_diameter_m(gauge as i32)
                 .ok_or_else(|| BadInput(format!("gauge {gauge} out of range")))?
         }
         other => anyhow::bail!(BadInput(format!("unknown table '{other}'"))),

@@ -1,11 +1,10 @@
-//! Errors in a design: each names the file, the item and the key, and says what to fix.
+//! Errors of the geometry crate, the one error type for every input file (design, sweep, seek):
+//! each names the file, the item and the key, and says what to fix.
 //!
 //! Every message starts `<file>: <item>: key '<key>': ...`, where the item is
 //! `winding '<name>'`, or `winding #<n>` (counted from 1 in file order) for a winding without a
 //! usable name, or `top level` for keys outside any winding. Messages about the whole file
 //! (syntax, no windings) start with the file label alone.
-
-use crate::units::UnitError;
 
 /// A design file that cannot be used. Each variant's doc says how to fix it.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -125,17 +124,29 @@ pub enum DesignError {
         reason: String,
     },
 
-    /// A length string that cannot be read (unknown unit, no number, misplaced gauge).
-    #[error("{source_name}: {item}: key '{key}': {error}")]
-    BadLength {
+    /// A quantity string that cannot be read (unknown unit, a unit of another quantity, no
+    /// number, misplaced gauge). Write a number and one of the units named.
+    #[error("{source_name}: {item}: key '{key}': {reason}")]
+    BadUnit {
         /// File label.
         source_name: String,
-        /// Which winding.
+        /// Which winding or table.
         item: String,
         /// The key, with an index for array elements.
         key: String,
-        /// What is wrong with the string (boxed to keep the error type small).
-        error: Box<UnitError>,
+        /// What is wrong with the string and what to write instead.
+        reason: String,
+    },
+
+    /// A sweep or seek file, or one of its keys, is wrong (the key path says where).
+    #[error("{source_name}: {key}: {reason}")]
+    SweepFile {
+        /// The sweep or seek file.
+        source_name: String,
+        /// The key at fault (`axis #2 key`, `sample.count`, ...).
+        key: String,
+        /// What is wrong and how to fix it.
+        reason: String,
     },
 
     /// A size or count that is zero or negative. Give a positive value.

@@ -1,9 +1,19 @@
 //! Typed, validated design model of coilfield.
 //!
 //! A design file (TOML) is parsed and checked by [`parse_design`] into a [`Design`]: a list of
-//! [`Winding`]s, each with an exact [`Shape`]. The [`discretise`] module turns a winding into the
-//! values the solver works on: coaxial rings ([`RingModel`]) or chains of straight filaments
-//! ([`FilamentModel`]).
+//! [`Winding`]s, each with an exact [`Shape`], electrodes, a ground plane, a drive and clearance
+//! settings. The [`discretise`] module turns a winding into the values the solver works on:
+//! coaxial rings ([`RingModel`]) or chains of straight filaments ([`FilamentModel`]).
+//!
+//! # Layers
+//! Imports run one way, top to bottom (a test checks it):
+//! - [`file`]: the design-file layer (TOML text, units, key paths in messages; design, sweep and
+//!   seek files);
+//! - [`query`]: geometric queries on the model (distances, wire overlap, electrode contact, the
+//!   common axis) and the checks between the parts of a design;
+//! - [`model`]: the typed model (windings, electrodes, drive, clearance settings) and its
+//!   discretisation;
+//! - [`error`] and [`constants`], which import nothing of the crate.
 //!
 //! This crate knows nothing of the solver, reads no files and prints nothing: the caller hands it
 //! the text of a design file and a label for messages.
@@ -36,25 +46,24 @@
 //! - Multi-layer windings must be described as several single-layer windings.
 #![deny(missing_docs)]
 
-pub mod clearance;
-pub mod contact;
-pub mod design;
-pub mod discretise;
-pub mod drive;
-pub mod electrode;
+pub mod constants;
 pub mod error;
-pub mod overlap;
-pub mod sweep;
-pub mod units;
-pub mod winding;
+pub mod file;
+pub mod model;
+pub mod query;
 
-pub use clearance::{ClearanceSettings, DefaultSet, FieldQuantity, LimitBasis, ThresholdSpec};
-pub use design::{CURRENT_VERSION, Design, check_design, parse_design, winding_from_table};
-pub use discretise::{FilamentModel, Ring, RingModel};
-pub use drive::{Drive, DriveNeeds, PotentialSpec, image_windings, validate_drive};
-pub use electrode::{
-    Axis, Electrode, ElectrodeShape, End, Ground, Terminal, check_axisymmetric,
-    electrode_from_table,
-};
 pub use error::DesignError;
-pub use winding::{Model, Role, Shape, Winding, local_frame};
+pub use file::design::parse_design;
+pub use file::electrode::electrode_from_table;
+pub use file::winding::winding_from_table;
+pub use model::clearance::{
+    ClearanceSettings, DefaultSet, FieldQuantity, LimitBasis, ThresholdSpec,
+};
+pub use model::design::{CURRENT_VERSION, Design};
+pub use model::discretise::{self, FilamentModel, Ring, RingModel};
+pub use model::drive::{Drive, DriveNeeds, PotentialSpec, validate_drive};
+pub use model::electrode::{Axis, Electrode, ElectrodeShape, End, Ground, Terminal};
+pub use model::images::image_windings;
+pub use model::winding::{Model, Role, Shape, Winding, local_frame};
+pub use query::axisymmetric::check_axisymmetric;
+pub use query::checks::check_design;

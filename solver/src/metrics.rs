@@ -18,7 +18,7 @@ use crate::Par;
 use crate::assembly::{WindingModel, mutual_inductance, self_inductance};
 use crate::coupling::coupling;
 use crate::electrostatic::{Params, Problem, Solution};
-use coilfield_geometry::overlap::min_surface_gap_m;
+use coilfield_geometry::query::overlap::min_surface_gap_m;
 use coilfield_geometry::{Design, Role, Winding};
 use std::sync::OnceLock;
 

@@ -4,6 +4,7 @@
 use crate::constants::MU0_OVER_4PI;
 use crate::mutual::{Circle, vector_potential_ring_point};
 use crate::quadrature::{integrate_adaptive, integrate_gl};
+use coilfield_geometry::query::distance::distance_segment_segment;
 use nalgebra::Point3;
 
 /// Integral of 1/|p - r| (1/m * m = dimensionless) over the straight piece from `a` to `b`.
@@ -51,55 +52,6 @@ pub fn mutual_segment_segment_adjacent(
     let n = (b1 - a0).norm();
     let cos = ua.dot(&ub) / (la * lb);
     2.0 * MU0_OVER_4PI * cos * (la * (lb / (la + n)).atanh() + lb * (la / (lb + n)).atanh())
-}
-
-/// Smallest distance (m) between two straight pieces [p0, p1] and [q0, q1].
-pub fn distance_segment_segment(
-    p0: &Point3<f64>,
-    p1: &Point3<f64>,
-    q0: &Point3<f64>,
-    q1: &Point3<f64>,
-) -> f64 {
-    // Closest points of two segments (D. Eberly's clamped parameter method).
-    let d1 = p1 - p0;
-    let d2 = q1 - q0;
-    let r = p0 - q0;
-    let a = d1.dot(&d1);
-    let e = d2.dot(&d2);
-    let f = d2.dot(&r);
-    let (s, t);
-    if a <= f64::EPSILON && e <= f64::EPSILON {
-        return r.norm();
-    }
-    if a <= f64::EPSILON {
-        s = 0.0;
-        t = (f / e).clamp(0.0, 1.0);
-    } else {
-        let c = d1.dot(&r);
-        if e <= f64::EPSILON {
-            t = 0.0;
-            s = (-c / a).clamp(0.0, 1.0);
-        } else {
-            let b = d1.dot(&d2);
-            let denom = a * e - b * b;
-            let mut s0 = if denom > 0.0 {
-                ((b * f - c * e) / denom).clamp(0.0, 1.0)
-            } else {
-                0.0
-            };
-            let mut t0 = (b * s0 + f) / e;
-            if t0 < 0.0 {
-                t0 = 0.0;
-                s0 = (-c / a).clamp(0.0, 1.0);
-            } else if t0 > 1.0 {
-                t0 = 1.0;
-                s0 = ((b - c) / a).clamp(0.0, 1.0);
-            }
-            s = s0;
-            t = t0;
-        }
-    }
-    ((p0 + d1 * s) - (q0 + d2 * t)).norm()
 }
 
 /// Gauss-Legendre order for a smooth integrand along a piece of length `len` whose nearest

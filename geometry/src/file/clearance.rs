@@ -24,106 +24,14 @@
 //! A threshold with the name of a built-in one replaces it. `heights` adds horizontal rays to
 //! those at the secondary's base, middle and top and the top electrode's centre.
 
-use crate::design::{Ctx, RawLength, is_valid_name, type_phrase};
 use crate::error::DesignError;
+use crate::file::raw::{Ctx, RawLength, is_valid_name, type_phrase};
+use crate::file::units::{Quantity, parse_quantity};
+use crate::model::clearance::{
+    ALL_SETS, ClearanceSettings, DEFAULT_SET_NAMES, DefaultSet, FieldQuantity, LimitBasis,
+    MIN_MAX_DISTANCE_M, ThresholdSpec,
+};
 use toml::{Table, Value};
-
-/// mu0 (H/m), classical value, to turn a limit in A/m (H) into T (B).
-const MU0_H_PER_M: f64 = 4.0e-7 * std::f64::consts::PI;
-
-/// Which field a threshold limits.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum FieldQuantity {
-    /// Electric field (V/m).
-    E,
-    /// Magnetic flux density (T).
-    B,
-}
-
-/// Whether a limit is an rms or a peak value.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum LimitBasis {
-    /// rms of a sinusoid: compared with peak / sqrt(2).
-    Rms,
-    /// Peak: compared with the peak amplitude.
-    Peak,
-}
-
-/// A built-in threshold set.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum DefaultSet {
-    /// Air breakdown in a uniform field.
-    Breakdown,
-    /// The mean breakdown gradient of long gaps.
-    LongGapGradient,
-    /// ICNIRP reference levels for the general public.
-    IcnirpPublic,
-    /// ICNIRP reference levels for occupational exposure.
-    IcnirpOccupational,
-}
-
-/// Values of `defaults`, in the order of [`DefaultSet`].
-pub const DEFAULT_SET_NAMES: &[&str] = &[
-    "breakdown",
-    "long_gap_gradient",
-    "icnirp_public",
-    "icnirp_occupational",
-];
-
-const ALL_SETS: [DefaultSet; 4] = [
-    DefaultSet::Breakdown,
-    DefaultSet::LongGapGradient,
-    DefaultSet::IcnirpPublic,
-    DefaultSet::IcnirpOccupational,
-];
-
-/// A threshold from `[[clearance.threshold]]`.
-#[derive(Debug, Clone, PartialEq)]
-pub struct ThresholdSpec {
-    /// Unique name.
-    pub name: String,
-    /// E or B.
-    pub quantity: FieldQuantity,
-    /// The limit: V/m for E, T for B, on the `basis` given.
-    pub limit_si: f64,
-    /// rms or peak.
-    pub basis: LimitBasis,
-    /// Where the value comes from, as written.
-    pub source: String,
-}
-
-/// The validated `[clearance]` table.
-#[derive(Debug, Clone, PartialEq)]
-pub struct ClearanceSettings {
-    /// Built-in sets to include (all by default).
-    pub defaults: Vec<DefaultSet>,
-    /// User thresholds in file order.
-    pub thresholds: Vec<ThresholdSpec>,
-    /// Mean breakdown gradient of long gaps (V/m, peak), if set.
-    pub long_gap_gradient_v_per_m: Option<f64>,
-    /// Farthest distance searched (m), if set.
-    pub max_distance_m: Option<f64>,
-    /// Extra heights of horizontal rays (m along the secondary's axis from its base).
-    pub heights_m: Vec<f64>,
-    /// Distances (m) from the axis at the top electrode's height where fields are reported.
-    pub distances_m: Vec<f64>,
-}
-
-impl Default for ClearanceSettings {
-    fn default() -> Self {
-        ClearanceSettings {
-            defaults: ALL_SETS.to_vec(),
-            thresholds: Vec::new(),
-            long_gap_gradient_v_per_m: None,
-            max_distance_m: None,
-            heights_m: Vec::new(),
-            distances_m: Vec::new(),
-        }
-    }
-}
-
-/// Least `max_distance` (m): the ray search starts at 1 mm and needs room to bisect.
-pub const MIN_MAX_DISTANCE_M: f64 = 0.01;
 
 const KEYS: &[&str] = &[
     "defaults",
@@ -135,25 +43,6 @@ const KEYS: &[&str] = &[
 ];
 
 const THRESHOLD_KEYS: &[&str] = &["name", "quantity", "limit", "basis", "source"];
-
-/// Units of an E limit and their factor to V/m.
-const E_UNITS: &[(&str, f64)] = &[
-    ("V/m", 1.0),
-    ("kV/m", 1e3),
-    ("MV/m", 1e6),
-    ("V/cm", 1e2),
-    ("kV/cm", 1e5),
-];
-
-/// Units of a B limit and their factor to T (A/m: an H level, B = mu0 H).
-const B_UNITS: &[(&str, f64)] = &[
-    ("T", 1.0),
-    ("mT", 1e-3),
-    ("uT", 1e-6),
-    ("µT", 1e-6),
-    ("nT", 1e-9),
-    ("A/m", MU0_H_PER_M),
-];
 
 fn bad(ctx: &Ctx<'_>, key: &str, reason: String) -> DesignError {
     DesignError::BadSetting {
@@ -181,51 +70,24 @@ fn field_value(
     value: &Value,
     quantity: FieldQuantity,
 ) -> Result<f64, DesignError> {
-    let (units, unit_phrase) = match quantity {
-        FieldQuantity::E => (E_UNITS, "V/m, kV/m, MV/m, V/cm or kV/cm"),
-        FieldQuantity::B => (B_UNITS, "T, mT, uT, nT or A/m"),
+    let q = match quantity {
+        FieldQuantity::E => Quantity::ElectricField,
+        FieldQuantity::B => Quantity::FluxDensity,
     };
     let (v, shown) = match value {
         Value::Integer(n) => (*n as f64, n.to_string()),
         Value::Float(x) => (*x, x.to_string()),
-        Value::String(text) => {
-            let t = text.trim();
-            let split = t
-                .find(|c: char| !(c.is_ascii_digit() || "+-.eE".contains(c)))
-                .unwrap_or(t.len());
-            let (num, unit) = (t[..split].trim(), t[split..].trim());
-            let x: f64 = num.parse().map_err(|_| {
-                bad(
-                    ctx,
-                    key,
-                    format!("\"{text}\" does not start with a number (e.g. \"300 kV/m\")"),
-                )
-            })?;
-            let factor = units.iter().find(|(u, _)| *u == unit).map(|u| u.1);
-            let Some(factor) = factor else {
-                let other = match quantity {
-                    FieldQuantity::E => B_UNITS.iter().any(|(u, _)| *u == unit),
-                    FieldQuantity::B => E_UNITS.iter().any(|(u, _)| *u == unit),
-                };
-                let why = if other {
-                    format!("'{unit}' is a unit of the other field")
-                } else {
-                    format!("unknown unit '{unit}'")
-                };
-                return Err(bad(
-                    ctx,
-                    key,
-                    format!("\"{text}\": {why}; give one of {unit_phrase}"),
-                ));
-            };
-            (x * factor, format!("\"{text}\""))
-        }
+        Value::String(text) => (
+            parse_quantity(text, q).map_err(|reason| bad(ctx, key, reason))?,
+            format!("\"{text}\""),
+        ),
         other => {
             return Err(wrong(
                 ctx,
                 key,
                 format!(
-                    "expected a number or a string with a unit ({unit_phrase}), got {}",
+                    "expected a number or a string with a unit ({}), got {}",
+                    q.allowed_units(),
                     type_phrase(other)
                 ),
             ));
@@ -501,7 +363,8 @@ fn threshold(t: &Table, number: usize, source: &str) -> Result<ThresholdSpec, De
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::design::parse_design;
+    use crate::constants::MU0;
+    use crate::file::design::parse_design;
 
     const WINDING: &str = "[[winding]]\nname = \"loop\"\nshape = \"ring\"\norigin = [0.0, 0.0, 1.0]\naxis = [0.0, 0.0, 1.0]\nradius = 0.1\nwire_diameter = 0.001\n";
 
@@ -572,7 +435,7 @@ source = "from memory"
         assert_eq!(t[0].quantity, FieldQuantity::B);
         assert!((t[0].limit_si - 5e-6).abs() < 1e-20);
         assert_eq!(t[0].basis, LimitBasis::Rms);
-        assert!((t[1].limit_si - MU0_H_PER_M).abs() < 1e-20);
+        assert!((t[1].limit_si - MU0).abs() < 1e-20);
         assert_eq!(t[2].limit_si, 1.5e6);
         assert!(
             parse("[clearance]\ndefaults = []\n")
@@ -606,7 +469,7 @@ source = "from memory"
         );
         err(
             "[clearance]\nlong_gap_gradient = \"3 uT\"\n",
-            &["long_gap_gradient", "unit of the other field"],
+            &["long_gap_gradient", "is a unit of a magnetic flux density"],
         );
         err(
             "[clearance]\nmax_distance = 0.001\n",
@@ -626,7 +489,7 @@ source = "from memory"
             &[
                 "clearance threshold 'fence'",
                 "limit",
-                "unit of the other field",
+                "is a unit of an electric field strength",
             ],
         );
         err(

@@ -49,28 +49,13 @@
 //!   1979): axis by axis, a Fisher-Yates shuffle of the `count` strata (index j drawn as
 //!   `(next_u64 * (i + 1)) >> 64`), then one uniform offset per point inside its stratum.
 
+use crate::error::DesignError;
 use rand_chacha::ChaCha8Rng;
 use rand_core::{RngCore, SeedableRng};
 use toml::{Table, Value};
 
 /// Most points a sweep may have (bounds memory: every point's values are kept).
 pub const MAX_POINTS: usize = 50_000_000;
-
-/// A problem in a sweep file, or in applying a point to the base design.
-#[derive(Debug, Clone, PartialEq, thiserror::Error)]
-#[non_exhaustive]
-pub enum SweepError {
-    /// The sweep file or one of its keys is wrong.
-    #[error("{source_name}: {key}: {reason}")]
-    Invalid {
-        /// The sweep file.
-        source_name: String,
-        /// The key at fault (`axis #2 key`, `sample.count`, ...).
-        key: String,
-        /// What is wrong and how to fix it.
-        reason: String,
-    },
-}
 
 /// The kind of design table a key path names.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -247,8 +232,8 @@ pub struct Sweep {
     pub constraints: Vec<String>,
 }
 
-fn invalid(source: &str, key: impl Into<String>, reason: impl Into<String>) -> SweepError {
-    SweepError::Invalid {
+fn invalid(source: &str, key: impl Into<String>, reason: impl Into<String>) -> DesignError {
+    DesignError::SweepFile {
         source_name: source.to_string(),
         key: key.into(),
         reason: reason.into(),
@@ -282,7 +267,7 @@ pub fn parse_key(key: &str) -> Result<KeyPath, String> {
     let (name, field) = rest
         .split_once('.')
         .ok_or_else(|| format!("expected `{word}.<name>.<key>`"))?;
-    if !crate::design::is_valid_name(name) {
+    if !crate::file::raw::is_valid_name(name) {
         return Err(format!("`{name}` is not a {word} name ([A-Za-z0-9_-]+)"));
     }
     let (field, index) = match field.split_once('[') {
@@ -303,7 +288,7 @@ pub fn parse_key(key: &str) -> Result<KeyPath, String> {
 
 /// Parse and check the text of a sweep file (`source` labels messages). Names of windings and
 /// metrics are checked later, against the base design.
-pub fn parse_sweep(text: &str, source: &str) -> Result<Sweep, SweepError> {
+pub fn parse_sweep(text: &str, source: &str) -> Result<Sweep, DesignError> {
     let mut table: Table = text
         .parse()
         .map_err(|e: toml::de::Error| invalid(source, "syntax", e.message().to_string()))?;
@@ -326,7 +311,7 @@ pub fn parse_sweep(text: &str, source: &str) -> Result<Sweep, SweepError> {
             ));
         }
     };
-    let strings = |table: &mut Table, key: &str| -> Result<Vec<String>, SweepError> {
+    let strings = |table: &mut Table, key: &str| -> Result<Vec<String>, DesignError> {
         match table.remove(key) {
             None => Ok(Vec::new()),
             Some(Value::Array(a)) => a
@@ -395,7 +380,7 @@ pub fn parse_sweep(text: &str, source: &str) -> Result<Sweep, SweepError> {
     Ok(sweep)
 }
 
-fn parse_sample(mut t: Table, source: &str) -> Result<Sample, SweepError> {
+fn parse_sample(mut t: Table, source: &str) -> Result<Sample, DesignError> {
     let method = match t.remove("method") {
         Some(Value::String(s)) if s == "random" => Method::Random,
         Some(Value::String(s)) if s == "lhs" => Method::Lhs,
@@ -441,7 +426,7 @@ fn parse_sample(mut t: Table, source: &str) -> Result<Sample, SweepError> {
     })
 }
 
-fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<Axis, SweepError> {
+fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<Axis, DesignError> {
     let key = match t.remove("key") {
         Some(Value::String(s)) => s,
         _ => {
@@ -571,7 +556,7 @@ fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<
         }
         Values::List(out)
     } else {
-        let get = |v: Option<Value>, k: &str| -> Result<f64, SweepError> {
+        let get = |v: Option<Value>, k: &str| -> Result<f64, DesignError> {
             match v.as_ref().and_then(number) {
                 Some(f) if f.is_finite() => Ok(f),
                 _ => Err(invalid(
@@ -660,7 +645,7 @@ fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<
 
 /// Factors of the grid: groups of axis indices varying together, in order of first
 /// appearance, with their common count.
-fn factors(sweep: &Sweep, source: &str) -> Result<Vec<(Vec<usize>, usize)>, SweepError> {
+fn factors(sweep: &Sweep, source: &str) -> Result<Vec<(Vec<usize>, usize)>, DesignError> {
     let mut out: Vec<(Option<&str>, Vec<usize>, usize)> = Vec::new();
     for (i, a) in sweep.axes.iter().enumerate() {
         let n = a.grid_values().map(|v| v.len()).unwrap_or(0);
@@ -691,7 +676,7 @@ fn factors(sweep: &Sweep, source: &str) -> Result<Vec<(Vec<usize>, usize)>, Swee
 }
 
 /// Number of points of a sweep.
-pub fn n_points(sweep: &Sweep, source: &str) -> Result<usize, SweepError> {
+pub fn n_points(sweep: &Sweep, source: &str) -> Result<usize, DesignError> {
     if let Some(s) = sweep.sample {
         return Ok(s.count);
     }
@@ -712,7 +697,7 @@ pub fn n_points(sweep: &Sweep, source: &str) -> Result<usize, SweepError> {
 }
 
 /// The values of every axis at every point: `points[i][j]` is axis j's value at point i.
-pub fn points(sweep: &Sweep, source: &str) -> Result<Vec<Vec<f64>>, SweepError> {
+pub fn points(sweep: &Sweep, source: &str) -> Result<Vec<Vec<f64>>, DesignError> {
     let n = n_points(sweep, source)?;
     let n_axes = sweep.axes.len();
     if let Some(s) = sweep.sample {

@@ -5,7 +5,7 @@
 //!
 //! Both are plain values that can be inspected, compared and reused for many evaluations.
 
-use crate::winding::{Shape, Winding, local_frame};
+use crate::model::winding::{Shape, Winding, local_frame};
 use nalgebra::{Point3, Unit, Vector3};
 use std::f64::consts::TAU;
 

@@ -36,9 +36,10 @@
 //!   [`check_overlaps`]; whole, for [`min_surface_gap_m`]) is sampled at that count, with a
 //!   coarser sagitta than stated.
 
-use crate::design::Design;
 use crate::error::DesignError;
-use crate::winding::{Shape, Winding};
+use crate::model::design::Design;
+use crate::model::winding::{Shape, Winding};
+use crate::query::distance::segment_distance2;
 use nalgebra::{Point3, Vector3};
 use std::f64::consts::TAU;
 
@@ -480,56 +481,6 @@ impl Hit {
     }
 }
 
-/// Squared distance and closest points of segments p1-q1 and p2-q2.
-///
-/// The clamped closest-point method of Ericson, "Real-Time Collision Detection", 2005,
-/// section 5.1.9: minimise over s, t in [0, 1] by solving the unclamped 2x2 system, then clamping
-/// one parameter and re-solving the other.
-fn segment_distance2(
-    p1: &Point3<f64>,
-    q1: &Point3<f64>,
-    p2: &Point3<f64>,
-    q2: &Point3<f64>,
-) -> (f64, Point3<f64>, Point3<f64>) {
-    let d1 = q1 - p1;
-    let d2 = q2 - p2;
-    let r = p1 - p2;
-    let a = d1.norm_squared();
-    let e = d2.norm_squared();
-    let f = d2.dot(&r);
-    let tiny = f64::MIN_POSITIVE;
-    let (s, t) = if a <= tiny && e <= tiny {
-        (0.0, 0.0)
-    } else if a <= tiny {
-        (0.0, (f / e).clamp(0.0, 1.0))
-    } else {
-        let c = d1.dot(&r);
-        if e <= tiny {
-            ((-c / a).clamp(0.0, 1.0), 0.0)
-        } else {
-            let b = d1.dot(&d2);
-            let denom = a * e - b * b;
-            // Parallel pieces (denom 0): any s works; 0 is as good as another before clamping t.
-            let s = if denom > 0.0 {
-                ((b * f - c * e) / denom).clamp(0.0, 1.0)
-            } else {
-                0.0
-            };
-            let t = (b * s + f) / e;
-            if t < 0.0 {
-                ((-c / a).clamp(0.0, 1.0), 0.0)
-            } else if t > 1.0 {
-                (((b - c) / a).clamp(0.0, 1.0), 1.0)
-            } else {
-                (s, t)
-            }
-        }
-    };
-    let ca = p1 + d1 * s;
-    let cb = p2 + d2 * t;
-    ((ca - cb).norm_squared(), ca, cb)
-}
-
 type CellKey = [i64; 3];
 
 /// Most hash buckets of a grid (16 MB of offsets); beyond it cells share buckets more often,
@@ -840,7 +791,7 @@ fn nearest_tree(a: &Chain, b: &Chain) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::winding::{Model, Role};
+    use crate::model::winding::{Model, Role};
     use nalgebra::Unit;
 
     fn winding(name: &str, wire_diameter_m: f64, shape: Shape) -> Winding {

@@ -33,8 +33,8 @@
 //! The lowest point of an electrode (the ground-plane check) is in closed form; a wire's comes
 //! from the same branch and bound with the distance z - z_ground.
 
-use crate::electrode::ElectrodeShape;
-use crate::winding::{Shape, Winding, local_frame};
+use crate::model::electrode::ElectrodeShape;
+use crate::model::winding::{Shape, Winding, local_frame};
 use nalgebra::{Point3, Unit, Vector2, Vector3};
 use std::f64::consts::{FRAC_PI_2, PI, TAU};
 
@@ -226,58 +226,6 @@ pub fn wire_ground(w: &Winding, z_ground_m: f64) -> Reach {
         reach,
         wire_tolerance_m(reach),
     )
-}
-
-impl ElectrodeShape {
-    /// Lowest z (m) of the surface, in closed form: a circle of radius rho about the axis n
-    /// reaches down by rho sqrt(1 - n_z^2) from its centre; a torus is the union of spheres
-    /// of its tube radius on such a circle, a cylinder the union of discs along its axis.
-    pub fn lowest_z_m(&self) -> f64 {
-        let (o, n) = self.origin_axis();
-        let spread = (1.0 - n.z * n.z).max(0.0).sqrt();
-        match *self {
-            ElectrodeShape::Sphere { radius_m, .. } => o.z - radius_m,
-            ElectrodeShape::Torus {
-                major_radius_m,
-                minor_radius_m,
-                ..
-            } => o.z - major_radius_m * spread - minor_radius_m,
-            ElectrodeShape::Disc { radius_m, .. } => o.z - radius_m * spread,
-            ElectrodeShape::Cylinder {
-                radius_m, length_m, ..
-            } => o.z.min(o.z + length_m * n.z) - radius_m * spread,
-        }
-    }
-
-    /// A size (m) for tolerances: the largest radius or length.
-    fn size_m(&self) -> f64 {
-        match *self {
-            ElectrodeShape::Sphere { radius_m, .. } | ElectrodeShape::Disc { radius_m, .. } => {
-                radius_m
-            }
-            ElectrodeShape::Torus {
-                major_radius_m,
-                minor_radius_m,
-                ..
-            } => major_radius_m + minor_radius_m,
-            ElectrodeShape::Cylinder {
-                radius_m, length_m, ..
-            } => radius_m.max(length_m),
-        }
-    }
-
-    /// Length (m) of the generatrix: [`ElectrodeShape::generatrix_at`] runs at this constant
-    /// speed in s.
-    fn generatrix_length_m(&self) -> f64 {
-        match *self {
-            ElectrodeShape::Torus { minor_radius_m, .. } => TAU * minor_radius_m,
-            ElectrodeShape::Sphere { radius_m, .. } => PI * radius_m,
-            ElectrodeShape::Disc { radius_m, .. } => radius_m,
-            ElectrodeShape::Cylinder {
-                radius_m, length_m, ..
-            } => 2.0 * radius_m + length_m,
-        }
-    }
 }
 
 /// A piece of a meridian profile in (rho, z) (m): a segment, or an arc of centre `c` and
@@ -634,7 +582,7 @@ fn patches_within(a: &ElectrodeShape, b: &ElectrodeShape, tol: f64) -> Reach {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::winding::{Model, Role};
+    use crate::model::winding::{Model, Role};
 
     const WIRE_D: f64 = 0.4e-3;
     const R_W: f64 = 0.2e-3;

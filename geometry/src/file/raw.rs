@@ -1,0 +1,324 @@
+//! What every table of an input file shares: values as written (lengths with units, numbers
+//! that remember whether they were integers), the place a message points to, and how values
+//! read in messages.
+
+use crate::error::DesignError;
+use crate::file::units::{parse_length_m, parse_wire_diameter_m};
+use nalgebra::{Point3, Unit, Vector3};
+use serde::Deserialize;
+use toml::Value;
+
+/// Whether a name matches `[A-Za-z0-9_-]+`.
+///
+/// Names end up in file names, table headers and command lines; this set needs no quoting in any
+/// of them.
+pub fn is_valid_name(name: &str) -> bool {
+    !name.is_empty()
+        && name
+            .bytes()
+            .all(|b| b.is_ascii_alphanumeric() || b == b'_' || b == b'-')
+}
+
+/// Message for a TOML syntax error, with a 1-based line and column computed from the span.
+pub(crate) fn syntax_error(err: &toml::de::Error, text: &str, source: &str) -> DesignError {
+    let offset = err.span().map_or(0, |span| span.start).min(text.len());
+    // The span is a byte offset; step back to a character boundary before slicing.
+    let mut boundary = offset;
+    while !text.is_char_boundary(boundary) {
+        boundary -= 1;
+    }
+    let before = &text[..boundary];
+    let line = before.matches('\n').count() + 1;
+    let line_start = before.rfind('\n').map_or(0, |i| i + 1);
+    let column = before[line_start..].chars().count() + 1;
+    let mut reason = err.message().trim().to_string();
+    // The commonest slip: a length with a unit written without quotes (radius = 5 mm).
+    if reason.contains("must be quoted") {
+        reason.push_str("; a length with a unit is a string: write it in quotes, e.g. \"5 mm\"");
+    }
+    DesignError::Syntax {
+        source_name: source.to_string(),
+        line,
+        column,
+        reason,
+    }
+}
+
+/// "a string \"x\"", "an integer 3", ...: how a value reads in a message.
+pub(crate) fn type_phrase(value: &Value) -> String {
+    match value {
+        Value::String(s) => format!("the string \"{s}\""),
+        Value::Integer(n) => format!("the integer {n}"),
+        Value::Float(x) => format!("the number {x}"),
+        Value::Boolean(b) => format!("the boolean {b}"),
+        Value::Datetime(d) => format!("the date-time {d}"),
+        Value::Array(_) => "an array".to_string(),
+        Value::Table(_) => "a table".to_string(),
+    }
+}
+
+/// A length as written: a TOML number (metres) or a string with a unit, parsed later so that a
+/// bad unit gets its own message.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) enum RawLength {
+    Number(f64),
+    Text(String),
+}
+
+impl<'de> Deserialize<'de> for RawLength {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct Visitor;
+        impl serde::de::Visitor<'_> for Visitor {
+            type Value = RawLength;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("a length: a number in metres or a string with a unit, e.g. \"55 mm\"")
+            }
+            fn visit_f64<E>(self, v: f64) -> Result<RawLength, E> {
+                Ok(RawLength::Number(v))
+            }
+            fn visit_i64<E>(self, v: i64) -> Result<RawLength, E> {
+                // Lengths this large are refused later anyway; the rounding cannot matter.
+                Ok(RawLength::Number(v as f64))
+            }
+            fn visit_u64<E>(self, v: u64) -> Result<RawLength, E> {
+                Ok(RawLength::Number(v as f64))
+            }
+            fn visit_str<E>(self, v: &str) -> Result<RawLength, E> {
+                Ok(RawLength::Text(v.to_string()))
+            }
+        }
+        deserializer.deserialize_any(Visitor)
+    }
+}
+
+/// A number as written, keeping whether it was a TOML integer (counts must be whole numbers).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum RawNumber {
+    Int(i64),
+    Float(f64),
+}
+
+impl RawNumber {
+    pub(crate) fn as_f64(self) -> f64 {
+        match self {
+            RawNumber::Int(n) => n as f64,
+            RawNumber::Float(x) => x,
+        }
+    }
+
+    /// The value as a whole number, if it is one (an integer, or a float with no fraction).
+    pub(crate) fn as_whole(self) -> Option<i64> {
+        match self {
+            RawNumber::Int(n) => Some(n),
+            // The range test keeps the cast exact; out-of-range floats are not whole numbers
+            // this program could use.
+            RawNumber::Float(x) if x.is_finite() && x.fract() == 0.0 && x.abs() < 9e15 => {
+                Some(x as i64)
+            }
+            RawNumber::Float(_) => None,
+        }
+    }
+
+    pub(crate) fn shown(self) -> String {
+        match self {
+            RawNumber::Int(n) => n.to_string(),
+            RawNumber::Float(x) => x.to_string(),
+        }
+    }
+}
+
+impl<'de> Deserialize<'de> for RawNumber {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct Visitor;
+        impl serde::de::Visitor<'_> for Visitor {
+            type Value = RawNumber;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("a number")
+            }
+            fn visit_f64<E>(self, v: f64) -> Result<RawNumber, E> {
+                Ok(RawNumber::Float(v))
+            }
+            fn visit_i64<E>(self, v: i64) -> Result<RawNumber, E> {
+                Ok(RawNumber::Int(v))
+            }
+            fn visit_u64<E: serde::de::Error>(self, v: u64) -> Result<RawNumber, E> {
+                i64::try_from(v)
+                    .map(RawNumber::Int)
+                    .map_err(|_| E::custom(format!("the number {v} is too large")))
+            }
+        }
+        deserializer.deserialize_any(Visitor)
+    }
+}
+
+/// Where a message points: the file and the winding.
+pub(crate) struct Ctx<'a> {
+    pub(crate) source: &'a str,
+    pub(crate) item: String,
+}
+
+impl Ctx<'_> {
+    pub(crate) fn missing(&self, key: &str, hint: &str) -> DesignError {
+        DesignError::MissingKey {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            hint: hint.to_string(),
+        }
+    }
+
+    pub(crate) fn not_positive(&self, key: &str, expected: &str, value: String) -> DesignError {
+        DesignError::NotPositive {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            expected: expected.to_string(),
+            value,
+        }
+    }
+
+    pub(crate) fn not_finite(&self, key: &str, expected: &str, value: String) -> DesignError {
+        DesignError::NotFinite {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            expected: expected.to_string(),
+            value,
+        }
+    }
+
+    pub(crate) fn too_large(&self, key: &str, value: String, limit: String) -> DesignError {
+        DesignError::TooLarge {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            value,
+            limit,
+        }
+    }
+
+    pub(crate) fn bad_unit(&self, key: &str, reason: String) -> DesignError {
+        DesignError::BadUnit {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            reason,
+        }
+    }
+
+    pub(crate) fn unknown_value(&self, key: &str, value: &str, allowed: &[&str]) -> DesignError {
+        DesignError::UnknownValue {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            value: value.to_string(),
+            allowed: allowed.join(", "),
+        }
+    }
+
+    /// A length in metres plus how to show it: the number, or the string and its value in metres.
+    pub(crate) fn metres(
+        &self,
+        key: &str,
+        raw: &RawLength,
+        wire: bool,
+    ) -> Result<(f64, String), DesignError> {
+        match raw {
+            RawLength::Number(v) => Ok((*v, v.to_string())),
+            RawLength::Text(text) => {
+                let parsed = if wire {
+                    parse_wire_diameter_m(text)
+                } else {
+                    parse_length_m(text)
+                };
+                let v = parsed.map_err(|e| self.bad_unit(key, e))?;
+                Ok((v, format!("\"{text}\" (= {} m)", crate::error::sig(v))))
+            }
+        }
+    }
+
+    /// A finite length of any sign (coordinates).
+    pub(crate) fn coordinate(&self, key: &str, raw: &RawLength) -> Result<f64, DesignError> {
+        let (v, shown) = self.metres(key, raw, false)?;
+        if !v.is_finite() {
+            return Err(self.not_finite(key, "a finite length in metres", shown));
+        }
+        Ok(v)
+    }
+
+    /// A finite, positive length (sizes).
+    pub(crate) fn size(&self, key: &str, raw: &RawLength, wire: bool) -> Result<f64, DesignError> {
+        let (v, shown) = self.metres(key, raw, wire)?;
+        const EXPECTED: &str = "a positive length in metres";
+        if !v.is_finite() {
+            return Err(self.not_finite(key, EXPECTED, shown));
+        }
+        if v <= 0.0 {
+            return Err(self.not_positive(key, EXPECTED, shown));
+        }
+        Ok(v)
+    }
+
+    pub(crate) fn required_size(
+        &self,
+        key: &str,
+        raw: &Option<RawLength>,
+        hint: &str,
+    ) -> Result<f64, DesignError> {
+        let raw = raw.as_ref().ok_or_else(|| self.missing(key, hint))?;
+        self.size(key, raw, false)
+    }
+
+    pub(crate) fn point(
+        &self,
+        key: &str,
+        raw: &[RawLength; 3],
+    ) -> Result<Point3<f64>, DesignError> {
+        let mut xyz = [0.0; 3];
+        for (i, (slot, c)) in xyz.iter_mut().zip(raw).enumerate() {
+            *slot = self.coordinate(&format!("{key}[{i}]"), c)?;
+        }
+        Ok(Point3::from(xyz))
+    }
+
+    pub(crate) fn origin(&self, raw: &Option<[RawLength; 3]>) -> Result<Point3<f64>, DesignError> {
+        let raw = raw.as_ref().ok_or_else(|| {
+            self.missing(
+                "origin",
+                "give the centre of the winding's start as origin = [x, y, z] (lengths)",
+            )
+        })?;
+        self.point("origin", raw)
+    }
+
+    pub(crate) fn axis(
+        &self,
+        raw: &Option<[RawNumber; 3]>,
+    ) -> Result<Unit<Vector3<f64>>, DesignError> {
+        let raw = raw.ok_or_else(|| {
+            self.missing(
+                "axis",
+                "give the winding axis as axis = [x, y, z], e.g. [0.0, 0.0, 1.0]",
+            )
+        })?;
+        let mut v = Vector3::zeros();
+        for (i, c) in raw.iter().enumerate() {
+            let x = c.as_f64();
+            if !x.is_finite() {
+                return Err(self.not_finite(&format!("axis[{i}]"), "a finite number", c.shown()));
+            }
+            v[i] = x;
+        }
+        // Scale by the largest component before normalising, so that neither 1e-200 nor 1e200
+        // components under- or overflow the norm.
+        let largest = v.amax();
+        if largest == 0.0 {
+            return Err(DesignError::ZeroAxis {
+                source_name: self.source.to_string(),
+                item: self.item.clone(),
+                key: "axis".to_string(),
+            });
+        }
+        Ok(Unit::new_normalize(v / largest))
+    }
+}
