@@ -3,7 +3,8 @@
 //! surface field of each electrode at the drive potentials.
 
 use crate::thresholds::AIR_BREAKDOWN_V_PER_M;
-use crate::{Format, load, output, solve};
+use crate::{Format, load, output};
+use coilfield_solver::field_model;
 use serde::Serialize;
 use std::path::Path;
 use std::process::ExitCode;
@@ -45,7 +46,7 @@ struct CapOut {
 pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Result<ExitCode> {
     let design = load::design(design_path)?;
     let label = design_path.display().to_string();
-    let sol = solve::electrostatic_solution(&design, &label)?;
+    let sol = field_model::electrostatic_solution(&design, &label, coilfield_solver::Par::Rayon)?;
     let names = sol.conductor_names();
     let matrix = sol.capacitance_matrix_f().to_vec();
     let err = sol.error_estimate();
@@ -79,7 +80,7 @@ pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Re
         });
     }
     let mut warnings = Vec::new();
-    let peak_surface_fields = if solve::has_potentials(&design) {
+    let peak_surface_fields = if field_model::has_potentials(&design) {
         sol.peak_surface_fields()
             .into_iter()
             .map(|p| PeakOut {
@@ -105,7 +106,10 @@ pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Re
             ));
         }
     }
-    warnings.extend(solve::validity_warnings(&design, &[]));
+    warnings.extend(coilfield_solver::electrostatic::validity_warnings(
+        &design,
+        &[],
+    ));
     let result = CapOut {
         conductors,
         matrix_f: matrix,

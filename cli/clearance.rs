@@ -6,7 +6,6 @@
 //! electrode's centre (a fan in elevation); [`clearance_along_ray`] finds each ray's outer
 //! crossing. Points without a value (inside a conductor, on a wire) count as above the limit.
 
-use crate::fields::{FieldModel, Sample};
 use crate::thresholds::{self, Method, Quantity};
 use crate::{BadInput, Format, load, output};
 use coilfield_geometry::model::clearance::MIN_MAX_DISTANCE_M;
@@ -15,7 +14,8 @@ use coilfield_solver::Par;
 use coilfield_solver::clearance::{
     RayClearance, RayOutcome, RayParams, clearance_along_ray, ladder_m, ray_point,
 };
-use coilfield_solver::electrostatic::Solution;
+use coilfield_solver::electrostatic::{Solution, validity_warnings};
+use coilfield_solver::field_model::{self, FieldModel, Sample};
 use nalgebra::{Point3, Unit, Vector3};
 use rayon::prelude::*;
 use serde::Serialize;
@@ -256,7 +256,7 @@ pub fn search(
     solved: Option<Solution>,
 ) -> anyhow::Result<Search> {
     let fr = frame(design, label)?;
-    let model = crate::solve::field_model_with(design, label, par, solved)?;
+    let model = FieldModel::new(design, label, par, solved)?;
     let mut warnings = model.warnings.clone();
     let (x_hat, y_hat) = local_frame(&fr.axis);
     let params = RayParams {
@@ -516,7 +516,7 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
         .collect();
     let mut dist_all: Vec<f64> = out.iter().map(|t| t.distance_from_axis_m).collect();
     dist_all.extend(distances.iter().copied());
-    warnings.extend(crate::solve::validity_warnings(&design, &dist_all));
+    warnings.extend(validity_warnings(&design, &dist_all));
     let result = ClearanceOut {
         caution: thresholds::CAUTION,
         frequency_hz,
@@ -649,7 +649,7 @@ impl ClearanceMetrics {
 fn searchable(design: &Design, name: &str) -> Result<(), String> {
     let label = "the base design";
     frame(design, label).map_err(|e| format!("`{name}`: {}", e.0))?;
-    crate::solve::check_drive(design, label, "clearance").map_err(|e| format!("`{name}`: {e}"))
+    field_model::check_field_drive(design, label, "clearance").map_err(|e| format!("`{name}`: {e}"))
 }
 
 impl coilfield_solver::metrics::External for ClearanceMetrics {
@@ -679,7 +679,7 @@ impl coilfield_solver::metrics::External for ClearanceMetrics {
     }
 
     fn needs_electric(&self, design: &Design) -> bool {
-        crate::solve::has_potentials(design)
+        field_model::has_potentials(design)
     }
 
     fn values(
@@ -727,7 +727,7 @@ impl coilfield_solver::metrics::External for ClearanceMetrics {
         // The search's own warnings (a lower bound at the end of the search, a model without
         // currents or potentials) and the quasi-static limits at the distances found.
         let mut notes: Vec<String> = found.warnings.clone();
-        notes.extend(crate::solve::validity_warnings(design, &values));
+        notes.extend(validity_warnings(design, &values));
         Ok((values, notes))
     }
 }

@@ -5,10 +5,11 @@
 //! leaves the folder as it was.
 
 use crate::vtk::{self, Array, Cells};
-use crate::{BadInput, load, output, solve};
+use crate::{BadInput, load, output};
 use coilfield_geometry::discretise::filament_model;
 use coilfield_geometry::{Design, Electrode, Shape, Winding, local_frame};
 use coilfield_solver::electrostatic::Solution;
+use coilfield_solver::field_model;
 use std::f64::consts::TAU;
 use std::path::Path;
 
@@ -156,10 +157,11 @@ pub fn run(design_path: &Path, dir: &Path) -> anyhow::Result<std::process::ExitC
         files.push((format!("winding-{}.vtp", w.name), winding_vtp(w, i)?));
     }
     // Surface charge and field need the electrostatic solution, which needs a potential.
-    let solution = if !design.electrodes.is_empty() && solve::has_potentials(&design) {
-        Some(solve::electrostatic_solution(
+    let solution = if !design.electrodes.is_empty() && field_model::has_potentials(&design) {
+        Some(field_model::electrostatic_solution(
             &design,
             &design_path.display().to_string(),
+            coilfield_solver::Par::Rayon,
         )?)
     } else {
         if !design.electrodes.is_empty() {

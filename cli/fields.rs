@@ -1,74 +1,15 @@
-//! The field model of a design (E from the electrostatic solution, B from the windings) as
-//! one batch evaluator, and the `field` command that prints E and B at points.
+//! The `field` command: E and B at points, from the one field evaluator
+//! (`coilfield_solver::field_model`).
 
 use crate::sample;
 use crate::{BadInput, load, output};
-use coilfield_geometry::Design;
+use coilfield_solver::Par;
+use coilfield_solver::electrostatic::validity_warnings;
+use coilfield_solver::field_model::{EValue, FieldModel, Sample, distances_from_centre_m};
 use nalgebra::{Point3, Vector3};
 use serde::Serialize;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
-
-/// E at a point: a value, or why there is none.
-#[derive(Debug, Clone, PartialEq)]
-pub enum EValue {
-    /// Peak E (V/m).
-    Field(Vector3<f64>),
-    /// The point lies inside the named electrode.
-    Inside(String),
-    /// The point lies below the grounded plane.
-    BelowGround,
-}
-
-/// E and B at one point (peak values of the drive).
-#[derive(Debug, Clone, PartialEq)]
-pub struct Sample {
-    /// Electric field.
-    pub e: EValue,
-    /// Magnetic flux density (T); None on a wire.
-    pub b: Option<Vector3<f64>>,
-}
-
-impl Sample {
-    /// |E| (V/m), or None where E has no value.
-    pub fn e_mag(&self) -> Option<f64> {
-        match &self.e {
-            EValue::Field(v) => Some(v.norm()),
-            _ => None,
-        }
-    }
-
-    /// |B| (T), or None on a wire.
-    pub fn b_mag(&self) -> Option<f64> {
-        self.b.map(|v| v.norm())
-    }
-}
-
-type BatchFn = dyn Fn(&[Point3<f64>]) -> Vec<Sample> + Send + Sync;
-
-/// E and B of a design, ready to evaluate at any points.
-pub struct FieldModel {
-    eval: Box<BatchFn>,
-    /// Warnings about the model itself (image currents, quasi-static limits).
-    pub warnings: Vec<String>,
-}
-
-impl FieldModel {
-    /// Build the model from a wrapped evaluator (used by the solver wiring).
-    pub fn from_fn(eval: Box<BatchFn>, warnings: Vec<String>) -> Self {
-        Self { eval, warnings }
-    }
-
-    /// E and B at `points_m`.
-    pub fn eval(&self, points_m: &[Point3<f64>]) -> Vec<Sample> {
-        (self.eval)(points_m)
-    }
-
-    /// Build the field model of `design` (validated drive: at least currents or potentials).
-    pub fn from_design(design: &Design, label: &str) -> anyhow::Result<Self> {
-        crate::solve::field_model(design, label)
-    }
-}
 
 /// Output formats of `field`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
@@ -141,12 +82,17 @@ pub fn run(
             BadInput("field: give at least one --at x,y,z or --points FILE.csv".into()).into(),
         );
     }
-    let model = FieldModel::from_design(&design, &design_path.display().to_string())?;
+    let model = FieldModel::new(
+        &design,
+        &design_path.display().to_string(),
+        Par::Rayon,
+        None,
+    )?;
     let samples = model.eval(&pts);
     let mut warnings = model.warnings.clone();
-    warnings.extend(crate::solve::validity_warnings(
+    warnings.extend(validity_warnings(
         &design,
-        &crate::solve::distances_from_centre_m(&design, &pts),
+        &distances_from_centre_m(&design, &pts),
     ));
     let mut rows = Vec::with_capacity(pts.len());
     for ((p, s), o) in pts.iter().zip(&samples).zip(&origins) {

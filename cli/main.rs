@@ -15,7 +15,6 @@ mod plot;
 mod report;
 mod sample;
 mod seek;
-mod solve;
 mod sweep;
 mod sweep_plot;
 #[allow(dead_code)]

@@ -1,12 +1,12 @@
 //! `coilfield map`: E and B sampled on a plane or in a box, written as a VTK RectilinearGrid
 //! (`.vtr`) and, for a plane, a heat map (PNG or SVG) with contour lines at the thresholds.
 
-use crate::fields::{EValue, FieldModel};
 use crate::plot::{self, HeatMap};
 use crate::sample::{self, Grid, Plane};
 use crate::thresholds::{self, Quantity};
 use crate::vtk::{self, Array};
 use crate::{BadInput, load, output};
+use coilfield_solver::field_model::{EValue, FieldModel, distances_from_centre_m};
 use serde::Serialize;
 use std::path::Path;
 use std::process::ExitCode;
@@ -113,7 +113,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
         }
         None => false,
     };
-    let model = FieldModel::from_design(&design, &label)?;
+    let model = FieldModel::new(&design, &label, coilfield_solver::Par::Rayon, None)?;
     let pts = g.points();
     let samples = model.eval(&pts);
     let n = pts.len();
@@ -152,9 +152,9 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
             .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))))
     };
     let mut warnings = model.warnings.clone();
-    warnings.extend(crate::solve::validity_warnings(
+    warnings.extend(coilfield_solver::electrostatic::validity_warnings(
         &design,
-        &crate::solve::distances_from_centre_m(&design, &pts),
+        &distances_from_centre_m(&design, &pts),
     ));
     let mut files_out: Vec<(std::path::PathBuf, Vec<u8>)> = Vec::new();
     if let Some(p) = args.vtk {

@@ -61,9 +61,9 @@ pub use model::clearance::{
 };
 pub use model::design::{CURRENT_VERSION, Design};
 pub use model::discretise::{self, FilamentModel, Ring, RingModel};
-pub use model::drive::{Drive, DriveNeeds, PotentialSpec, validate_drive};
+pub use model::drive::{Drive, DriveNeeds, PotentialSpec};
 pub use model::electrode::{Axis, Electrode, ElectrodeShape, End, Ground, Terminal};
 pub use model::images::image_windings;
 pub use model::winding::{Model, Role, Shape, Winding, local_frame};
 pub use query::axisymmetric::check_axisymmetric;
-pub use query::checks::check_design;
+pub use query::checks::{check_design, validate_drive};

@@ -348,10 +348,11 @@ pub(crate) fn parse_ground(value: Value, source: &str) -> Result<Ground, DesignE
 mod tests {
     use crate::error::DesignError;
     use crate::file::design::parse_design;
-    use crate::model::drive::{DriveNeeds, PotentialSpec, validate_drive};
+    use crate::model::drive::{DriveNeeds, PotentialSpec};
     use crate::model::electrode::{ElectrodeShape, End};
     use crate::model::images::image_windings;
     use crate::query::axisymmetric::check_axisymmetric;
+    use crate::query::checks::validate_drive;
     use crate::{Model, Shape};
 
     const FILE: &str = "design.toml";

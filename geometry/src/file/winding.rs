@@ -267,6 +267,9 @@ impl Ctx<'_> {
 }
 
 /// Read one `[[winding]]` table. `number` counts windings from 1 in file order.
+///
+/// The name first (so that every later message names the winding), then the shape (it decides
+/// which keys are allowed), the keys, the types, and the shape's own validator.
 pub(crate) fn parse_winding(
     mut table: Table,
     number: usize,
@@ -276,125 +279,21 @@ pub(crate) fn parse_winding(
         source,
         item: format!("winding #{number}"),
     };
-
-    // The name comes first, so that every later message can say which winding it is about.
-    let name = match table.get("name") {
-        None => format!("winding-{number}"),
-        Some(Value::String(name)) => {
-            if !is_valid_name(name) {
-                return Err(DesignError::BadName {
-                    source_name: source.to_string(),
-                    item: ctx.item,
-                    name: name.clone(),
-                });
-            }
-            ctx.item = format!("winding '{name}'");
-            name.clone()
-        }
-        Some(other) => {
-            return Err(DesignError::WrongType {
-                source_name: source.to_string(),
-                item: ctx.item,
-                key: "name".to_string(),
-                reason: format!(
-                    "expected a string such as \"secondary\", got {}",
-                    type_phrase(other)
-                ),
-            });
-        }
-    };
-
-    // The shape next: it decides which keys are allowed.
-    let kind = match table.get("shape") {
-        None => {
-            return Err(ctx.missing(
-                "shape",
-                &format!("give shape = one of {}", SHAPE_NAMES.join(", ")),
-            ));
-        }
-        Some(Value::String(shape)) => ShapeKind::from_name(shape)
-            .ok_or_else(|| ctx.unknown_value("shape", shape, SHAPE_NAMES))?,
-        Some(other) => {
-            return Err(DesignError::WrongType {
-                source_name: source.to_string(),
-                item: ctx.item,
-                key: "shape".to_string(),
-                reason: format!(
-                    "expected one of the strings {}, got {}",
-                    SHAPE_NAMES.join(", "),
-                    type_phrase(other)
-                ),
-            });
-        }
-    };
-
-    // Keys checked against the shape by hand rather than by serde's deny_unknown_fields, which
-    // knows only the union of all shapes' keys and cannot say "this key is for polylines".
-    for key in table.keys() {
-        if kind.takes(key) {
-            continue;
-        }
-        let users: Vec<&str> = ShapeKind::ALL
-            .iter()
-            .filter(|k| k.takes(key))
-            .map(|k| k.name())
-            .collect();
-        return Err(if users.is_empty() {
-            DesignError::UnknownKey {
-                source_name: source.to_string(),
-                item: ctx.item,
-                key: key.clone(),
-                shape: kind.name().to_string(),
-                allowed: kind.allowed_keys(),
-            }
-        } else {
-            DesignError::KeyNotForShape {
-                source_name: source.to_string(),
-                item: ctx.item,
-                key: key.clone(),
-                shape: kind.name().to_string(),
-                applies_to: users.join(", "),
-            }
-        });
-    }
-
+    let name = winding_name(&table, number, &mut ctx)?;
+    let kind = shape_kind(&table, &ctx)?;
+    check_keys(&table, kind, &ctx)?;
     // Name and shape are read already; the raw struct does not carry them.
     table.remove("name");
     table.remove("shape");
-    let raw: RawWinding = serde_path_to_error::deserialize(table).map_err(|err| {
-        let key = err.path().to_string();
-        DesignError::WrongType {
+    let raw: RawWinding =
+        serde_path_to_error::deserialize(table).map_err(|err| DesignError::WrongType {
             source_name: source.to_string(),
             item: ctx.item.clone(),
-            key,
+            key: err.path().to_string(),
             reason: err.inner().message().to_string(),
-        }
-    })?;
-
-    let role = match raw.role.as_deref() {
-        None => Role::Other,
-        Some("secondary") => Role::Secondary,
-        Some("primary") => Role::Primary,
-        Some("other") => Role::Other,
-        Some(other) => {
-            return Err(ctx.unknown_value("role", other, &["secondary", "primary", "other"]));
-        }
-    };
-    let model = match (raw.model.as_deref(), kind) {
-        // A polyline has no axis, so its only model is the filament one.
-        (None, ShapeKind::Polyline) => Model::Filament,
-        (None, _) => Model::Ring,
-        (Some("ring"), ShapeKind::Polyline) => {
-            return Err(DesignError::ModelNotForShape {
-                source_name: source.to_string(),
-                item: ctx.item,
-            });
-        }
-        (Some("ring"), _) => Model::Ring,
-        (Some("filament"), _) => Model::Filament,
-        (Some(other), _) => return Err(ctx.unknown_value("model", other, &["ring", "filament"])),
-    };
-
+        })?;
+    let role = role_of(&raw, &ctx)?;
+    let model = model_of(&raw, kind, &ctx)?;
     let wire_raw = raw.wire_diameter.as_ref().ok_or_else(|| {
         ctx.missing(
             "wire_diameter",
@@ -402,191 +301,17 @@ pub(crate) fn parse_winding(
         )
     })?;
     let wire_diameter_m = ctx.size("wire_diameter", wire_raw, true)?;
-    let wire_radius_m = 0.5 * wire_diameter_m;
     let segments_per_turn = ctx.segments_per_turn(raw.segments_per_turn)?;
-
     let shape = match kind {
-        ShapeKind::Helix => {
-            let origin_m = ctx.origin(&raw.origin)?;
-            let axis = ctx.axis(&raw.axis)?;
-            let radius_m = ctx.required_size(
-                "radius",
-                &raw.radius,
-                "give the centreline radius, e.g. radius = \"50 mm\"",
-            )?;
-            let length_m = ctx.required_size(
-                "length",
-                &raw.length,
-                "give the winding length along the axis, e.g. length = \"400 mm\"",
-            )?;
-            let turns = ctx.turns(raw.turns)?;
-            if radius_m <= wire_radius_m {
-                return Err(ctx.radius_below_wire("radius", radius_m, wire_radius_m));
-            }
-            let pitch_m = length_m / turns;
-            if pitch_m <= wire_diameter_m {
-                return Err(ctx.thicker_than_pitch(wire_diameter_m, pitch_m, "length / turns"));
-            }
-            Shape::Helix {
-                origin_m,
-                axis,
-                radius_m,
-                length_m,
-                turns,
-            }
-        }
-        ShapeKind::Spiral | ShapeKind::Cone => {
-            let origin_m = ctx.origin(&raw.origin)?;
-            let axis = ctx.axis(&raw.axis)?;
-            let inner_radius_m = ctx.required_size(
-                "inner_radius",
-                &raw.inner_radius,
-                "give the centreline radius at the start, e.g. inner_radius = \"70 mm\"",
-            )?;
-            let outer_radius_m = ctx.required_size(
-                "outer_radius",
-                &raw.outer_radius,
-                "give the centreline radius at the end, e.g. outer_radius = \"130 mm\"",
-            )?;
-            let height_m = if kind == ShapeKind::Cone {
-                ctx.required_size(
-                    "height",
-                    &raw.height,
-                    "give the axial rise from start to end, e.g. height = \"60 mm\"",
-                )?
-            } else {
-                0.0
-            };
-            let turns = ctx.turns(raw.turns)?;
-            if inner_radius_m <= wire_radius_m {
-                return Err(ctx.radius_below_wire("inner_radius", inner_radius_m, wire_radius_m));
-            }
-            if outer_radius_m <= inner_radius_m {
-                return Err(DesignError::RadiiOrder {
-                    source_name: source.to_string(),
-                    item: ctx.item,
-                    inner_radius_m,
-                    outer_radius_m,
-                });
-            }
-            let radial_m = outer_radius_m - inner_radius_m;
-            if kind == ShapeKind::Spiral {
-                let pitch_m = radial_m / turns;
-                if pitch_m <= wire_diameter_m {
-                    return Err(ctx.thicker_than_pitch(
-                        wire_diameter_m,
-                        pitch_m,
-                        "(outer_radius - inner_radius) / turns",
-                    ));
-                }
-                Shape::Spiral {
-                    origin_m,
-                    axis,
-                    inner_radius_m,
-                    outer_radius_m,
-                    turns,
-                }
-            } else {
-                // Adjacent turns of a cone sit one slant length per turn apart along the cone's
-                // surface line.
-                let pitch_m = radial_m.hypot(height_m) / turns;
-                if pitch_m <= wire_diameter_m {
-                    return Err(ctx.thicker_than_pitch(
-                        wire_diameter_m,
-                        pitch_m,
-                        "sqrt((outer_radius - inner_radius)^2 + height^2) / turns, along the slant",
-                    ));
-                }
-                Shape::Cone {
-                    origin_m,
-                    axis,
-                    inner_radius_m,
-                    outer_radius_m,
-                    height_m,
-                    turns,
-                }
-            }
-        }
-        ShapeKind::Ring => {
-            let origin_m = ctx.origin(&raw.origin)?;
-            let axis = ctx.axis(&raw.axis)?;
-            let radius_m = ctx.required_size(
-                "radius",
-                &raw.radius,
-                "give the centreline radius, e.g. radius = \"100 mm\"",
-            )?;
-            let count = ctx.ring_count(raw.turns)?;
-            if radius_m <= wire_radius_m {
-                return Err(ctx.radius_below_wire("radius", radius_m, wire_radius_m));
-            }
-            Shape::Ring {
-                origin_m,
-                axis,
-                radius_m,
-                count,
-            }
-        }
-        ShapeKind::Polyline => {
-            let closed = raw.closed.unwrap_or(false);
-            let raw_points = raw.points.as_ref().ok_or_else(|| {
-                ctx.missing(
-                    "points",
-                    "give the vertices as points = [[x, y, z], ...] (lengths), in current order",
-                )
-            })?;
-            let points_m = raw_points
-                .iter()
-                .enumerate()
-                .map(|(i, p)| ctx.point(&format!("points[{i}]"), p))
-                .collect::<Result<Vec<_>, _>>()?;
-            let needed = if closed { 3 } else { 2 };
-            if points_m.len() < needed {
-                return Err(DesignError::TooFewPoints {
-                    source_name: source.to_string(),
-                    item: ctx.item,
-                    found: points_m.len(),
-                    needed,
-                    closed,
-                });
-            }
-            let n = points_m.len();
-            let n_pieces = if closed { n } else { n - 1 };
-            for i in 0..n_pieces {
-                let j = (i + 1) % n;
-                if coincident(&points_m[i], &points_m[j]) {
-                    return Err(DesignError::CoincidentPoints {
-                        source_name: source.to_string(),
-                        item: ctx.item,
-                        index_a: i,
-                        index_b: j,
-                        closing: j == 0,
-                    });
-                }
-            }
-            Shape::Polyline { points_m, closed }
-        }
+        ShapeKind::Helix => helix(&raw, &ctx, wire_diameter_m)?,
+        ShapeKind::Spiral => spiral(&raw, &ctx, wire_diameter_m)?,
+        ShapeKind::Cone => cone(&raw, &ctx, wire_diameter_m)?,
+        ShapeKind::Ring => ring(&raw, &ctx, wire_diameter_m)?,
+        ShapeKind::Polyline => polyline(&raw, &ctx)?,
     };
-
     if model == Model::Filament {
-        if let Some(turns) = shape.turns() {
-            // A ring's filament model is one turn whatever its count.
-            let turns = if kind == ShapeKind::Ring { 1.0 } else { turns };
-            let per_turn =
-                segments_per_turn.unwrap_or(crate::model::discretise::DEFAULT_SEGMENTS_PER_TURN);
-            let total = turns * per_turn as f64;
-            if total > MAX_FILAMENT_SEGMENTS {
-                return Err(ctx.too_large(
-                    "segments_per_turn",
-                    format!("{per_turn} segments per turn times {turns} turns"),
-                    format!(
-                        "a filament model may have at most {MAX_FILAMENT_SEGMENTS} segments; \
-                         give fewer segments_per_turn or use model = \"ring\""
-                    ),
-                ));
-            }
-        }
+        check_filament_count(&shape, segments_per_turn, &ctx)?;
     }
-
     Ok(Winding {
         name,
         role,
@@ -595,6 +320,335 @@ pub(crate) fn parse_winding(
         segments_per_turn,
         shape,
     })
+}
+
+/// The winding's name (default `winding-<number>`); names the winding in `ctx` from then on.
+fn winding_name(table: &Table, number: usize, ctx: &mut Ctx<'_>) -> Result<String, DesignError> {
+    match table.get("name") {
+        None => Ok(format!("winding-{number}")),
+        Some(Value::String(name)) => {
+            if !is_valid_name(name) {
+                return Err(DesignError::BadName {
+                    source_name: ctx.source.to_string(),
+                    item: ctx.item.clone(),
+                    name: name.clone(),
+                });
+            }
+            ctx.item = format!("winding '{name}'");
+            Ok(name.clone())
+        }
+        Some(other) => Err(DesignError::WrongType {
+            source_name: ctx.source.to_string(),
+            item: ctx.item.clone(),
+            key: "name".to_string(),
+            reason: format!(
+                "expected a string such as \"secondary\", got {}",
+                type_phrase(other)
+            ),
+        }),
+    }
+}
+
+/// The `shape` key.
+fn shape_kind(table: &Table, ctx: &Ctx<'_>) -> Result<ShapeKind, DesignError> {
+    match table.get("shape") {
+        None => Err(ctx.missing(
+            "shape",
+            &format!("give shape = one of {}", SHAPE_NAMES.join(", ")),
+        )),
+        Some(Value::String(shape)) => ShapeKind::from_name(shape)
+            .ok_or_else(|| ctx.unknown_value("shape", shape, SHAPE_NAMES)),
+        Some(other) => Err(DesignError::WrongType {
+            source_name: ctx.source.to_string(),
+            item: ctx.item.clone(),
+            key: "shape".to_string(),
+            reason: format!(
+                "expected one of the strings {}, got {}",
+                SHAPE_NAMES.join(", "),
+                type_phrase(other)
+            ),
+        }),
+    }
+}
+
+/// Keys checked against the shape by hand rather than by serde's deny_unknown_fields, which
+/// knows only the union of all shapes' keys and cannot say "this key is for polylines".
+fn check_keys(table: &Table, kind: ShapeKind, ctx: &Ctx<'_>) -> Result<(), DesignError> {
+    let Some(key) = table.keys().find(|key| !kind.takes(key)) else {
+        return Ok(());
+    };
+    let users: Vec<&str> = ShapeKind::ALL
+        .iter()
+        .filter(|k| k.takes(key))
+        .map(|k| k.name())
+        .collect();
+    Err(if users.is_empty() {
+        DesignError::UnknownKey {
+            source_name: ctx.source.to_string(),
+            item: ctx.item.clone(),
+            key: key.clone(),
+            shape: kind.name().to_string(),
+            allowed: kind.allowed_keys(),
+        }
+    } else {
+        DesignError::KeyNotForShape {
+            source_name: ctx.source.to_string(),
+            item: ctx.item.clone(),
+            key: key.clone(),
+            shape: kind.name().to_string(),
+            applies_to: users.join(", "),
+        }
+    })
+}
+
+fn role_of(raw: &RawWinding, ctx: &Ctx<'_>) -> Result<Role, DesignError> {
+    match raw.role.as_deref() {
+        None | Some("other") => Ok(Role::Other),
+        Some("secondary") => Ok(Role::Secondary),
+        Some("primary") => Ok(Role::Primary),
+        Some(other) => Err(ctx.unknown_value("role", other, &["secondary", "primary", "other"])),
+    }
+}
+
+fn model_of(raw: &RawWinding, kind: ShapeKind, ctx: &Ctx<'_>) -> Result<Model, DesignError> {
+    match (raw.model.as_deref(), kind) {
+        // A polyline has no axis, so its only model is the filament one.
+        (None, ShapeKind::Polyline) => Ok(Model::Filament),
+        (None, _) => Ok(Model::Ring),
+        (Some("ring"), ShapeKind::Polyline) => Err(DesignError::ModelNotForShape {
+            source_name: ctx.source.to_string(),
+            item: ctx.item.clone(),
+        }),
+        (Some("ring"), _) => Ok(Model::Ring),
+        (Some("filament"), _) => Ok(Model::Filament),
+        (Some(other), _) => Err(ctx.unknown_value("model", other, &["ring", "filament"])),
+    }
+}
+
+/// A helix: origin, axis, radius, length, turns; the wire thinner than the pitch.
+fn helix(raw: &RawWinding, ctx: &Ctx<'_>, wire_diameter_m: f64) -> Result<Shape, DesignError> {
+    let origin_m = ctx.origin(&raw.origin)?;
+    let axis = ctx.axis(&raw.axis)?;
+    let radius_m = ctx.required_size(
+        "radius",
+        &raw.radius,
+        "give the centreline radius, e.g. radius = \"50 mm\"",
+    )?;
+    let length_m = ctx.required_size(
+        "length",
+        &raw.length,
+        "give the winding length along the axis, e.g. length = \"400 mm\"",
+    )?;
+    let turns = ctx.turns(raw.turns)?;
+    let wire_radius_m = 0.5 * wire_diameter_m;
+    if radius_m <= wire_radius_m {
+        return Err(ctx.radius_below_wire("radius", radius_m, wire_radius_m));
+    }
+    let pitch_m = length_m / turns;
+    if pitch_m <= wire_diameter_m {
+        return Err(ctx.thicker_than_pitch(wire_diameter_m, pitch_m, "length / turns"));
+    }
+    Ok(Shape::Helix {
+        origin_m,
+        axis,
+        radius_m,
+        length_m,
+        turns,
+    })
+}
+
+/// The keys a flat spiral and a cone share: origin, axis, inner and outer radius (growing
+/// outwards, the inner one beyond the wire), turns.
+struct Flat {
+    origin_m: Point3<f64>,
+    axis: nalgebra::Unit<nalgebra::Vector3<f64>>,
+    inner_radius_m: f64,
+    outer_radius_m: f64,
+    turns: f64,
+}
+
+fn flat(raw: &RawWinding, ctx: &Ctx<'_>) -> Result<Flat, DesignError> {
+    Ok(Flat {
+        origin_m: ctx.origin(&raw.origin)?,
+        axis: ctx.axis(&raw.axis)?,
+        inner_radius_m: ctx.required_size(
+            "inner_radius",
+            &raw.inner_radius,
+            "give the centreline radius at the start, e.g. inner_radius = \"70 mm\"",
+        )?,
+        outer_radius_m: ctx.required_size(
+            "outer_radius",
+            &raw.outer_radius,
+            "give the centreline radius at the end, e.g. outer_radius = \"130 mm\"",
+        )?,
+        turns: 0.0,
+    })
+}
+
+/// Turns and radii of a spiral or cone, read after the keys of [`flat`] (and a cone's height,
+/// so that messages come in the order of the keys).
+fn check_radii(
+    mut f: Flat,
+    raw: &RawWinding,
+    ctx: &Ctx<'_>,
+    wire_diameter_m: f64,
+) -> Result<Flat, DesignError> {
+    f.turns = ctx.turns(raw.turns)?;
+    let wire_radius_m = 0.5 * wire_diameter_m;
+    if f.inner_radius_m <= wire_radius_m {
+        return Err(ctx.radius_below_wire("inner_radius", f.inner_radius_m, wire_radius_m));
+    }
+    if f.outer_radius_m <= f.inner_radius_m {
+        return Err(DesignError::RadiiOrder {
+            source_name: ctx.source.to_string(),
+            item: ctx.item.clone(),
+            inner_radius_m: f.inner_radius_m,
+            outer_radius_m: f.outer_radius_m,
+        });
+    }
+    Ok(f)
+}
+
+/// A flat Archimedean spiral: the wire thinner than the radial pitch.
+fn spiral(raw: &RawWinding, ctx: &Ctx<'_>, wire_diameter_m: f64) -> Result<Shape, DesignError> {
+    let f = check_radii(flat(raw, ctx)?, raw, ctx, wire_diameter_m)?;
+    let pitch_m = (f.outer_radius_m - f.inner_radius_m) / f.turns;
+    if pitch_m <= wire_diameter_m {
+        return Err(ctx.thicker_than_pitch(
+            wire_diameter_m,
+            pitch_m,
+            "(outer_radius - inner_radius) / turns",
+        ));
+    }
+    Ok(Shape::Spiral {
+        origin_m: f.origin_m,
+        axis: f.axis,
+        inner_radius_m: f.inner_radius_m,
+        outer_radius_m: f.outer_radius_m,
+        turns: f.turns,
+    })
+}
+
+/// A conical spiral: the wire thinner than the pitch along the slant.
+fn cone(raw: &RawWinding, ctx: &Ctx<'_>, wire_diameter_m: f64) -> Result<Shape, DesignError> {
+    let f = flat(raw, ctx)?;
+    let height_m = ctx.required_size(
+        "height",
+        &raw.height,
+        "give the axial rise from start to end, e.g. height = \"60 mm\"",
+    )?;
+    let f = check_radii(f, raw, ctx, wire_diameter_m)?;
+    // Adjacent turns of a cone sit one slant length per turn apart along the cone's surface
+    // line.
+    let pitch_m = (f.outer_radius_m - f.inner_radius_m).hypot(height_m) / f.turns;
+    if pitch_m <= wire_diameter_m {
+        return Err(ctx.thicker_than_pitch(
+            wire_diameter_m,
+            pitch_m,
+            "sqrt((outer_radius - inner_radius)^2 + height^2) / turns, along the slant",
+        ));
+    }
+    Ok(Shape::Cone {
+        origin_m: f.origin_m,
+        axis: f.axis,
+        inner_radius_m: f.inner_radius_m,
+        outer_radius_m: f.outer_radius_m,
+        height_m,
+        turns: f.turns,
+    })
+}
+
+/// A ring of coincident turns.
+fn ring(raw: &RawWinding, ctx: &Ctx<'_>, wire_diameter_m: f64) -> Result<Shape, DesignError> {
+    let origin_m = ctx.origin(&raw.origin)?;
+    let axis = ctx.axis(&raw.axis)?;
+    let radius_m = ctx.required_size(
+        "radius",
+        &raw.radius,
+        "give the centreline radius, e.g. radius = \"100 mm\"",
+    )?;
+    let count = ctx.ring_count(raw.turns)?;
+    let wire_radius_m = 0.5 * wire_diameter_m;
+    if radius_m <= wire_radius_m {
+        return Err(ctx.radius_below_wire("radius", radius_m, wire_radius_m));
+    }
+    Ok(Shape::Ring {
+        origin_m,
+        axis,
+        radius_m,
+        count,
+    })
+}
+
+/// A polyline: enough points, no piece of zero length.
+fn polyline(raw: &RawWinding, ctx: &Ctx<'_>) -> Result<Shape, DesignError> {
+    let closed = raw.closed.unwrap_or(false);
+    let raw_points = raw.points.as_ref().ok_or_else(|| {
+        ctx.missing(
+            "points",
+            "give the vertices as points = [[x, y, z], ...] (lengths), in current order",
+        )
+    })?;
+    let points_m = raw_points
+        .iter()
+        .enumerate()
+        .map(|(i, p)| ctx.point(&format!("points[{i}]"), p))
+        .collect::<Result<Vec<_>, _>>()?;
+    let needed = if closed { 3 } else { 2 };
+    if points_m.len() < needed {
+        return Err(DesignError::TooFewPoints {
+            source_name: ctx.source.to_string(),
+            item: ctx.item.clone(),
+            found: points_m.len(),
+            needed,
+            closed,
+        });
+    }
+    let n = points_m.len();
+    let n_pieces = if closed { n } else { n - 1 };
+    for i in 0..n_pieces {
+        let j = (i + 1) % n;
+        if coincident(&points_m[i], &points_m[j]) {
+            return Err(DesignError::CoincidentPoints {
+                source_name: ctx.source.to_string(),
+                item: ctx.item.clone(),
+                index_a: i,
+                index_b: j,
+                closing: j == 0,
+            });
+        }
+    }
+    Ok(Shape::Polyline { points_m, closed })
+}
+
+/// The filament model's size: turns times segments per turn within [`MAX_FILAMENT_SEGMENTS`].
+fn check_filament_count(
+    shape: &Shape,
+    segments_per_turn: Option<usize>,
+    ctx: &Ctx<'_>,
+) -> Result<(), DesignError> {
+    let Some(turns) = shape.turns() else {
+        return Ok(());
+    };
+    // A ring's filament model is one turn whatever its count.
+    let turns = if matches!(shape, Shape::Ring { .. }) {
+        1.0
+    } else {
+        turns
+    };
+    let per_turn = segments_per_turn.unwrap_or(crate::model::discretise::DEFAULT_SEGMENTS_PER_TURN);
+    let total = turns * per_turn as f64;
+    if total > MAX_FILAMENT_SEGMENTS {
+        return Err(ctx.too_large(
+            "segments_per_turn",
+            format!("{per_turn} segments per turn times {turns} turns"),
+            format!(
+                "a filament model may have at most {MAX_FILAMENT_SEGMENTS} segments; \
+                 give fewer segments_per_turn or use model = \"ring\""
+            ),
+        ));
+    }
+    Ok(())
 }
 
 /// Whether two points are the same up to rounding of their coordinates.

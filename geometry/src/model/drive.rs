@@ -1,7 +1,5 @@
 //! The excitation of a design: drive frequency, peak currents and peak potentials.
 
-use crate::error::DesignError;
-use crate::model::design::Design;
 use crate::model::electrode::End;
 
 /// A conductor's potential in `[drive] potentials` (peak V).
@@ -65,59 +63,4 @@ pub struct DriveNeeds {
     pub potentials: bool,
     /// A frequency (validity warnings, exposure limits).
     pub frequency: bool,
-}
-
-/// Check that `[drive]` has what a computation needs; `what` names the computation in the
-/// message (e.g. "the B field"), `source` labels it.
-pub fn validate_drive(
-    design: &Design,
-    needs: DriveNeeds,
-    what: &str,
-    source: &str,
-) -> Result<(), DesignError> {
-    let missing = |key: &str, reason: String| DesignError::MissingDrive {
-        source_name: source.to_string(),
-        key: key.to_string(),
-        reason,
-    };
-    let d = &design.drive;
-    if needs.frequency && d.frequency_hz.is_none() {
-        return Err(missing(
-            "frequency",
-            format!("{what} needs the drive frequency; add frequency = <Hz> to [drive]"),
-        ));
-    }
-    if needs.currents && d.currents_a.iter().all(|(_, i)| *i == 0.0) {
-        let why = if d.currents_a.is_empty() {
-            "missing"
-        } else {
-            "all zero"
-        };
-        return Err(missing(
-            "currents",
-            format!(
-                "{what} needs winding currents, and they are {why}; add currents = {{ <winding> = <peak A> }} to [drive]"
-            ),
-        ));
-    }
-    if needs.potentials {
-        let any = d.potentials_v.iter().any(|(_, p)| match *p {
-            PotentialSpec::Uniform(v) => v != 0.0,
-            PotentialSpec::Ends { base_v, top_v } => base_v != 0.0 || top_v != 0.0,
-        });
-        if !any {
-            let why = if d.potentials_v.is_empty() {
-                "missing"
-            } else {
-                "all zero"
-            };
-            return Err(missing(
-                "potentials",
-                format!(
-                    "{what} needs conductor potentials, and they are {why}; add potentials = {{ <electrode> = <peak V>, <secondary> = [<base V>, <top V>] }} to [drive]"
-                ),
-            ));
-        }
-    }
-    Ok(())
 }

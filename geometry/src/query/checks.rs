@@ -3,7 +3,7 @@
 
 use crate::error::DesignError;
 use crate::model::design::Design;
-use crate::model::drive::PotentialSpec;
+use crate::model::drive::{DriveNeeds, PotentialSpec};
 use crate::model::electrode::{Electrode, End};
 use crate::model::winding::{Role, Shape};
 use crate::query::contact::{self, Reach};
@@ -209,6 +209,61 @@ pub(crate) fn check_drive(design: &Design, source: &str) -> Result<(), DesignErr
                         .iter()
                         .map(|e| e.name.as_str())
                         .chain(design.windings.iter().map(|w| w.name.as_str())),
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// Check that `[drive]` has what a computation needs; `what` names the computation in the
+/// message (e.g. "the B field"), `source` labels it.
+pub fn validate_drive(
+    design: &Design,
+    needs: DriveNeeds,
+    what: &str,
+    source: &str,
+) -> Result<(), DesignError> {
+    let missing = |key: &str, reason: String| DesignError::MissingDrive {
+        source_name: source.to_string(),
+        key: key.to_string(),
+        reason,
+    };
+    let d = &design.drive;
+    if needs.frequency && d.frequency_hz.is_none() {
+        return Err(missing(
+            "frequency",
+            format!("{what} needs the drive frequency; add frequency = <Hz> to [drive]"),
+        ));
+    }
+    if needs.currents && d.currents_a.iter().all(|(_, i)| *i == 0.0) {
+        let why = if d.currents_a.is_empty() {
+            "missing"
+        } else {
+            "all zero"
+        };
+        return Err(missing(
+            "currents",
+            format!(
+                "{what} needs winding currents, and they are {why}; add currents = {{ <winding> = <peak A> }} to [drive]"
+            ),
+        ));
+    }
+    if needs.potentials {
+        let any = d.potentials_v.iter().any(|(_, p)| match *p {
+            PotentialSpec::Uniform(v) => v != 0.0,
+            PotentialSpec::Ends { base_v, top_v } => base_v != 0.0 || top_v != 0.0,
+        });
+        if !any {
+            let why = if d.potentials_v.is_empty() {
+                "missing"
+            } else {
+                "all zero"
+            };
+            return Err(missing(
+                "potentials",
+                format!(
+                    "{what} needs conductor potentials, and they are {why}; add potentials = {{ <electrode> = <peak V>, <secondary> = [<base V>, <top V>] }} to [drive]"
                 ),
             ));
         }
