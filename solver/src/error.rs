@@ -16,4 +16,109 @@ pub enum SolverError {
         /// The limit.
         limit: u128,
     },
+
+    /// A circuit quantity is not finite or lies outside its physical range.
+    #[error("{quantity} = {value} is not accepted: it must be {requirement}")]
+    InvalidCircuitValue {
+        /// Which quantity (with its index when it is an entry).
+        quantity: String,
+        /// The value given.
+        value: f64,
+        /// What it must be.
+        requirement: &'static str,
+    },
+    /// A vector or matrix of a circuit has the wrong size.
+    #[error("{quantity} is {found}, expected {expected}")]
+    CircuitSizeMismatch {
+        /// Which size (rows of a matrix, length of a list, ...).
+        quantity: String,
+        /// The size it must have.
+        expected: usize,
+        /// The size given.
+        found: usize,
+    },
+    /// A matrix that must be symmetric is not (beyond rounding).
+    #[error(
+        "{quantity} is not symmetric: entries ({row}, {col}) and ({col}, {row}) differ by \
+         {relative:e} of its largest entry (accepted: {limit:e}); symmetrise it first"
+    )]
+    NotSymmetric {
+        /// Which matrix.
+        quantity: String,
+        /// Row of the worst pair.
+        row: usize,
+        /// Column of the worst pair.
+        col: usize,
+        /// Their difference relative to the largest entry of the matrix.
+        relative: f64,
+        /// The accepted relative difference.
+        limit: f64,
+    },
+    /// A matrix that must be positive definite (a capacitance or inductance matrix) is not.
+    #[error("{quantity} is not positive definite (its Cholesky factorisation fails)")]
+    NotPositiveDefinite {
+        /// Which matrix.
+        quantity: String,
+    },
+    /// An index names no loop of the circuit.
+    #[error("loop {index} does not exist: the circuit has {loops} loops")]
+    NoSuchLoop {
+        /// The index given.
+        index: usize,
+        /// How many loops there are.
+        loops: usize,
+    },
+    /// A figure that needs a loop's capacitor was asked of a loop without one.
+    #[error("loop {index} has no capacitor, so it has no {figure}")]
+    LoopWithoutCapacitor {
+        /// The loop.
+        index: usize,
+        /// The figure asked for.
+        figure: &'static str,
+    },
+    /// A ladder mode cannot be referred to its top node or to its base.
+    #[error("ladder mode {mode} cannot be normalised: {reason}")]
+    DegenerateMode {
+        /// The mode (1 = lowest frequency).
+        mode: usize,
+        /// What vanishes.
+        reason: &'static str,
+    },
+    /// No sinusoidal steady state: the loop impedance matrix is singular at that frequency.
+    #[error(
+        "no steady state at {angular_frequency_rad_s} rad/s: the loop impedance matrix is \
+         singular there (a lossless circuit driven at one of its natural frequencies)"
+    )]
+    SingularCircuit {
+        /// The drive's angular frequency (rad/s).
+        angular_frequency_rad_s: f64,
+    },
+    /// A simulation would store more samples than allowed.
+    #[error(
+        "the simulation would store {values:e} values (samples x 2 x loops), more than the \
+         limit of {limit}; shorten the run"
+    )]
+    TooManySamples {
+        /// Values it would store.
+        values: f64,
+        /// The limit.
+        limit: usize,
+    },
+    /// A time outside the simulated interval.
+    #[error("time {time_s} s lies outside the simulated interval [0, {end_s}] s")]
+    TimeOutsideRun {
+        /// The time asked for (s).
+        time_s: f64,
+        /// The end of the run (s).
+        end_s: f64,
+    },
+    /// A linear-algebra step of a circuit computation did not converge or gave a non-finite
+    /// result.
+    #[error("{step} failed: {reason}")]
+    CircuitNumerical {
+        /// The step.
+        step: &'static str,
+        /// What went wrong.
+        reason: &'static str,
+    },
 }

@@ -10,7 +10,9 @@
 //! - [`segment::mutual_segment_segment`] (Neumann's integral for straight filaments);
 //! - [`self_inductance`]: rings of round wire, ring sums, filament chains, Lorenz/Nagaoka and
 //!   Rosa's corrections;
-//! - [`assembly::inductance_report`]: the whole inductance and coupling matrix of a design.
+//! - [`assembly::inductance_report`]: the whole inductance and coupling matrix of a design;
+//! - [`circuit`]: lumped circuits of the resonance model: a winding's ladder modes, coupled
+//!   resonant loops in time (exact propagation, spark-gap quench), phasors and normal modes.
 //!
 //! # Example
 //! ```
@@ -51,6 +53,7 @@
 #![deny(missing_docs)]
 
 pub mod assembly;
+pub mod circuit;
 pub mod clearance;
 pub mod constants;
 pub mod coupling;
