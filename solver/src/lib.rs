@@ -59,6 +59,7 @@ pub mod elliptic;
 pub mod error;
 pub mod euler_maclaurin;
 pub mod field;
+pub mod losses;
 pub mod metrics;
 pub mod mutual;
 pub mod optimise;
