@@ -11,6 +11,8 @@
 //! - [`self_inductance`]: rings of round wire, ring sums, filament chains, Lorenz/Nagaoka and
 //!   Rosa's corrections;
 //! - [`assembly::inductance_report`]: the whole inductance and coupling matrix of a design.
+//! - [`losses`]: skin effect in round wire and tubing, proximity in single-layer coils, radiation
+//!   resistance of short radiators, and the Q of a resonator.
 //!
 //! # Example
 //! ```
