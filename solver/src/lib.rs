@@ -13,6 +13,8 @@
 //! - [`assembly::inductance_report`]: the whole inductance and coupling matrix of a design;
 //! - [`circuit`]: lumped circuits of the resonance model: a winding's ladder modes, coupled
 //!   resonant loops in time (exact propagation, spark-gap quench), phasors and normal modes.
+//! - [`losses`]: skin effect in round wire and tubing, proximity in single-layer coils, radiation
+//!   resistance of short radiators, and the Q of a resonator.
 //!
 //! # Example
 //! ```
@@ -63,6 +65,7 @@ pub mod error;
 pub mod euler_maclaurin;
 pub mod field;
 pub mod field_model;
+pub mod losses;
 pub mod metrics;
 pub mod mutual;
 pub mod optimise;
