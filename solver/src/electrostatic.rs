@@ -2,10 +2,18 @@
 //!
 //! # Public API
 //! ```text
-//! pub struct Params { pub panels: usize, pub profile: Profile, pub panel_form: PanelForm }
-//!                                   // Default: 1000 panels, linear profile, curved panels
+//! pub struct Params { pub panels: usize, pub profile: Profile, pub panel_form: PanelForm,
+//!                     pub secondary_sections: Option<usize> }
+//!                                   // Default: 1000 panels, linear profile, curved panels, no sections
 //! pub enum PanelForm { Curved, Chord }  // panels on the exact generatrix, or straight chords
-//! pub enum Profile { Linear, Custom(fn(f64) -> f64) }  // V(t)/V_top, t = fraction of the length from the base
+//! pub enum Profile { Linear, Custom(fn(f64) -> f64), Nodes(NodeProfile) }
+//!                                   // V(t)/V_top, t = fraction of the length from the base
+//! impl Profile { pub fn nodes(values: &[f64]) -> Result<Profile, SolverError>; }
+//! impl NodeProfile {                // piecewise linear through n + 1 equally spaced node values
+//!     pub fn new(values: &[f64]) -> Result<NodeProfile, SolverError>; // normalised to 1 at the top
+//!     pub fn values(&self) -> &[f64];
+//!     pub fn sections(&self) -> usize;
+//! }
 //! impl Problem {
 //!     pub fn from_design(design: &Design, params: &Params, source: &str) -> Result<Problem, DesignError>;
 //!     pub fn solve(&self, par: Par) -> Solution;
@@ -20,6 +28,18 @@
 //!     pub fn panels(&self) -> Vec<PanelResult>;             // sigma (C/m^2), surface field (V/m)
 //!     pub fn axis(&self) -> Axis;                           // to revolve the generatrix for VTK
 //!     pub fn peak_surface_fields(&self) -> Vec<PeakField>;   // per electrode
+//!     pub fn nodal_capacitance(&self) -> Result<&NodalCapacitance, SolverError>;
+//! }
+//! pub struct NodalCapacitance {     // the secondary in n sections, W = v^T C v / 2
+//!     pub node_heights_m: Vec<f64>, pub node_points_m: Vec<Point3<f64>>,
+//!     pub matrix_f: DMatrix<f64>,   // (n + 1) x (n + 1), symmetric positive definite (F)
+//!     pub error_estimate_f: DMatrix<f64>, // |C(m) - C(m/2)| per entry (F)
+//!     pub asymmetry: f64, pub secondary_panels: usize,
+//! }
+//! impl NodalCapacitance {
+//!     pub fn sections(&self) -> usize;
+//!     pub fn energy_j(&self, node_v: &[f64]) -> Result<f64, SolverError>; // v^T C v / 2 (J)
+//!     pub fn linear_profile_capacitance_f(&self) -> f64;                  // v_j = j/n (F)
 //! }
 //! pub enum FieldSample { Field(Vector3<f64>), InsideConductor(String), BelowGround }
 //! pub fn validity_warnings(design: &Design, distances_m: &[f64]) -> Vec<String>;
@@ -48,6 +68,22 @@
 //! with at least [`MIN_PANELS_PER_PIECE`] per piece, so small radii of curvature (a thin torus)
 //! get their share.
 //!
+//! # Nodal capacitance matrix
+//! With [`Params::secondary_sections`] = n the secondary's panels are cut at the boundaries of
+//! n sections of equal height (nodes 0 = base .. n = top) and the solve also gives the nodal
+//! matrix C of [`NodalCapacitance`]: the potential on the tube is sum_j v_j h_j(z) with hat
+//! functions h_j, and W = v^T C v / 2. Column j comes from one more right-hand side (h_j on
+//! the tube, 1 V on electrodes connected at node j) with the same LU factors, and
+//! C_ij = sum_k q_k^(j) <h_i>_k over the tube's panels (+ the charge of electrodes connected at
+//! node i): the energy (1/2) integral of sigma phi dA of the piecewise-constant sigma, exact in
+//! the hats because every panel lies in one section. Collocation makes C slightly asymmetric
+//! (reported, then symmetrised). Its error estimate is again the change when the panels per
+//! section are halved. The model is the one described in the physics notes for a lumped
+//! ladder of the secondary (sections' surface bands with linear potential in each band); the
+//! hat-function (piecewise-linear finite element) form of the energy is the standard one
+//! (e.g. O. C. Zienkiewicz, *The Finite Element Method*, ch. on one-dimensional elements; from
+//! memory).
+//!
 //! # Limitations
 //! - The secondary is its outer surface (a cylinder of radius = winding radius + wire radius,
 //!   open at both ends) with a prescribed potential profile; the field close to individual
@@ -58,6 +94,7 @@
 //!   sigma / eps0, which is the outer field where the inner face holds little charge (a tube
 //!   longer than its diameter).
 
+use crate::SolverError;
 use crate::constants::{C0, EPS0};
 use crate::elliptic::cel_positive_p;
 use crate::par::{Par, map_indexed};
@@ -76,22 +113,95 @@ pub const MIN_PANELS_PER_PIECE: usize = 8;
 
 /// Potential profile along the secondary, as a fraction of (top - base) at the fraction t of
 /// its length from the base.
-#[derive(Debug, Clone, Copy, Default)]
+#[derive(Debug, Clone, Default)]
 pub enum Profile {
     /// V(t) = t (uniform current, no resonance).
     #[default]
     Linear,
-    /// A profile from elsewhere (e.g. a resonance model); must map [0, 1] to values with
+    /// A profile from elsewhere (e.g. a closed form); must map [0, 1] to values with
     /// f(0) = 0 and f(1) = 1.
     Custom(fn(f64) -> f64),
+    /// Piecewise linear through values at equally spaced nodes (e.g. a mode of a resonance
+    /// model on the nodes of [`Params::secondary_sections`]).
+    Nodes(NodeProfile),
 }
 
 impl Profile {
+    /// A [`Profile::Nodes`] through `values` (see [`NodeProfile::new`]).
+    pub fn nodes(values: &[f64]) -> Result<Profile, SolverError> {
+        NodeProfile::new(values).map(Profile::Nodes)
+    }
+
     fn at(&self, t: f64) -> f64 {
         match self {
             Profile::Linear => t,
             Profile::Custom(f) => f(t),
+            Profile::Nodes(p) => p.at(t),
         }
+    }
+}
+
+/// Values of a potential profile at n + 1 equally spaced nodes along the secondary, node 0 at
+/// the base (t = 0) and node n at the top (t = 1), normalised to 1 at the top; linear between
+/// neighbouring nodes (the hat-function interpolant). Built only by [`NodeProfile::new`], so it
+/// always has at least two finite values and a top value of 1.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NodeProfile {
+    values: Vec<f64>,
+}
+
+impl NodeProfile {
+    /// The profile through `values` (node 0 = base .. node n = top, n >= 1), divided by the
+    /// top value so that the top is 1 (a mode vector can be passed at any scale). The base
+    /// value is normally 0 (the profile is a fraction of top - base); other values are
+    /// accepted and scale the base end accordingly.
+    ///
+    /// Errors ([`SolverError::BadProfile`]): fewer than two values, a value that is not
+    /// finite, or a top value of 0 (nothing to normalise by).
+    pub fn new(values: &[f64]) -> Result<NodeProfile, SolverError> {
+        let bad = |reason: String| Err(SolverError::BadProfile { reason });
+        if values.len() < 2 {
+            return bad(format!(
+                "{} value(s) given; a profile needs at least two nodes (base and top)",
+                values.len()
+            ));
+        }
+        if let Some(i) = values.iter().position(|v| !v.is_finite()) {
+            return bad(format!("value {i} is {}", values[i]));
+        }
+        let top = values[values.len() - 1];
+        if top == 0.0 {
+            return bad(
+                "the top value is 0, so the profile cannot be normalised to 1 there".into(),
+            );
+        }
+        let values: Vec<f64> = values.iter().map(|v| v / top).collect();
+        if let Some(i) = values.iter().position(|v| !v.is_finite()) {
+            return bad(format!(
+                "value {i} overflows when divided by the top value {top}"
+            ));
+        }
+        Ok(NodeProfile { values })
+    }
+
+    /// The normalised node values (top = 1), base first.
+    pub fn values(&self) -> &[f64] {
+        &self.values
+    }
+
+    /// Number of sections n (nodes minus one).
+    pub fn sections(&self) -> usize {
+        self.values.len() - 1
+    }
+
+    /// The interpolant at t in [0, 1] (clamped): v_s + (v_(s+1) - v_s) (x - s), x = t n,
+    /// s = the section holding x.
+    fn at(&self, t: f64) -> f64 {
+        let n = self.sections();
+        let x = t.clamp(0.0, 1.0) * n as f64;
+        let s = (x.floor() as usize).min(n - 1);
+        let f = x - s as f64;
+        self.values[s] + (self.values[s + 1] - self.values[s]) * f
     }
 }
 
@@ -113,15 +223,30 @@ pub enum PanelForm {
     Chord,
 }
 
-/// Options of the electrostatic solve; every value is valid.
-#[derive(Debug, Clone, Copy)]
+/// Options of the electrostatic solve; every value is accepted (a `secondary_sections` out of
+/// range is reported by [`Solution::nodal_capacitance`], the mesh then being the default one).
+#[derive(Debug, Clone)]
 pub struct Params {
-    /// Panels in total (the coarse error estimate uses half as many).
+    /// Panels in total (the coarse error estimate uses half as many). With
+    /// `secondary_sections` the secondary may get more than its share, see there.
     pub panels: usize,
     /// The secondary's potential profile.
     pub profile: Profile,
     /// Curved (exact generatrix, default) or straight chord panels on arcs.
     pub panel_form: PanelForm,
+    /// Cut the secondary's panels at the boundaries of this many sections of equal height
+    /// (equal turns), 1..=[`MAX_SECONDARY_SECTIONS`], and compute the nodal capacitance matrix
+    /// ([`Solution::nodal_capacitance`]). `None` (default): panels graded over the whole tube
+    /// and no nodal matrix.
+    ///
+    /// The secondary's share s of `panels` (by length, as for every piece) is spread as m =
+    /// max(4, round(s / (n + 2))) panels in each interior section and 2 m in each end section,
+    /// graded quadratically towards the tube's end, where sigma is singular (the inner panel
+    /// of an end section is then about as long as an interior one). The minimum is
+    /// [`MIN_PANELS_PER_SECTION`]: 256 sections give 1032 panels on the secondary, ~0.75 s
+    /// with the coarse solve on 2 cores. With one section: the default grading towards both
+    /// ends, at least 8 panels. The coarse solve of the error estimate halves m (at least 2).
+    pub secondary_sections: Option<usize>,
 }
 
 impl Default for Params {
@@ -130,9 +255,17 @@ impl Default for Params {
             panels: 1000,
             profile: Profile::Linear,
             panel_form: PanelForm::Curved,
+            secondary_sections: None,
         }
     }
 }
+
+/// Most sections [`Params::secondary_sections`] accepts: at 4 panels per section, 512 sections
+/// are about 2,000 panels on the secondary, the size the solver handles in about a second.
+pub const MAX_SECONDARY_SECTIONS: usize = 512;
+
+/// Least panels per interior section of the secondary (twice as many in its end sections).
+pub const MIN_PANELS_PER_SECTION: usize = 4;
 
 /// A piece of generatrix in (rho, z) (m), z along the common axis from its origin.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -155,6 +288,66 @@ enum Grading {
     Uniform,
     AtEnd,
     AtBothEnds,
+    /// The secondary cut into this many sections of equal length (see
+    /// [`Params::secondary_sections`]).
+    Sections(usize),
+}
+
+impl Grading {
+    /// Parameters u_0 = 0 < u_1 < ... < u_count = 1 of the panel boundaries on a piece given
+    /// `count` panels; for `Sections`, `count` is the piece's share and `min_per_section` the
+    /// least panels per interior section.
+    fn breakpoints(self, count: usize, min_per_section: usize) -> Vec<f64> {
+        let map = |k: usize, n: usize| -> f64 {
+            let x = k as f64 / n as f64;
+            match self {
+                Grading::Uniform => x,
+                Grading::AtEnd => (FRAC_PI_2 * x).sin(),
+                Grading::AtBothEnds | Grading::Sections(_) => 0.5 * (1.0 - (PI * x).cos()),
+            }
+        };
+        match self {
+            Grading::Sections(n) if n >= 2 => section_breakpoints(n, count, min_per_section),
+            Grading::Sections(_) => {
+                let count = count.max(2 * min_per_section);
+                (0..=count).map(|k| map(k, count)).collect()
+            }
+            _ => (0..=count).map(|k| map(k, count)).collect(),
+        }
+    }
+}
+
+/// Panel boundaries on the secondary cut into `n` >= 2 sections (u = fraction of its length
+/// from the base): every section boundary s / n is a panel boundary; m = max(`min`,
+/// round(`share` / (n + 2))) equal panels in each interior section; 2 m in each end section at
+/// u = (k / 2m)^2 / n from the tube's end, a quadratic grading like the cosine grading of the
+/// whole tube near its ends (sigma ~ d^-1/2 there, d the distance from the end), whose inner
+/// panel, (4m - 1) / (4 m^2 n) long, nearly matches the interior ones (1 / (m n)).
+///
+/// Equal panels on both sides of every interior node matter: the kink of a hat function gives
+/// sigma a logarithmic singularity there, and a mesh that is symmetric about it keeps the
+/// error of constant panels second order (meshes whose panel count jumps at a node were
+/// tried and lost both accuracy and the reliability of the coarse-solve estimate).
+fn section_breakpoints(n: usize, share: usize, min: usize) -> Vec<f64> {
+    let m = ((share as f64 / (n + 2) as f64).round() as usize).max(min);
+    let m_end = 2 * m;
+    let nf = n as f64;
+    let mut u = Vec::with_capacity(n * m + 2 * m + 1);
+    for s in 0..n {
+        u.push(s as f64 / nf);
+        if s == 0 {
+            u.extend((1..m_end).map(|k| (k as f64 / m_end as f64).powi(2) / nf));
+        } else if s == n - 1 {
+            u.extend((1..m_end).map(|k| {
+                let x = 1.0 - k as f64 / m_end as f64;
+                (s as f64 + 1.0 - x * x) / nf
+            }));
+        } else {
+            u.extend((1..m).map(|k| (s as f64 + k as f64 / m as f64) / nf));
+        }
+    }
+    u.push(1.0);
+    u
 }
 
 impl Curve {
@@ -263,6 +456,8 @@ pub struct Problem {
     shapes: Vec<ElectrodeShape>,
     panels: Vec<Panel>,
     profile: Profile,
+    /// [`Params::secondary_sections`] as asked (the mesh follows it when it is in range).
+    sections_asked: Option<usize>,
     /// Potential (V) of each electrode under the drive.
     drive_electrode_v: Vec<f64>,
     /// Secondary base and top potentials (V) under the drive.
@@ -284,6 +479,89 @@ pub struct Solution {
     self_c: Option<SelfCapacitance>,
     sigma_drive: Vec<f64>,
     error: ErrorEstimate,
+    nodal: Result<NodalCapacitance, SolverError>,
+}
+
+/// The secondary's nodal capacitance matrix: the secondary cut into n sections of equal height
+/// (equal turns), nodes 0 = base .. n = top, the potential on its surface linear along each
+/// section between its end nodes, phi(z) = sum_j v_j h_j(z) with hat functions h_j. For node
+/// voltages v (V) the electric energy is W = v^T C v / 2 (J). Electrodes connected to the
+/// secondary's top (base) take node n's (node 0's) voltage and their charge is in that node's
+/// row; every other electrode and the ground plane are at 0 V.
+///
+/// C_ij = integral over the tube of sigma^(j) h_i dA (+ connected electrodes' charge), sigma^(j)
+/// the charge density for v = e_j: n + 1 solves with one factorisation. Symmetric (after
+/// symmetrisation, see `asymmetry`) and positive definite (the energy of any non-zero v is
+/// positive).
+#[derive(Debug, Clone, PartialEq)]
+pub struct NodalCapacitance {
+    /// Axial coordinate (m) of each node along [`Solution::axis`] from its origin (which is
+    /// the secondary's base), base first: z_j = j l / n for a secondary of length l.
+    pub node_heights_m: Vec<f64>,
+    /// The nodes as points on the axis (m), in the design's frame, base first.
+    pub node_points_m: Vec<Point3<f64>>,
+    /// The (n + 1) x (n + 1) matrix C (F), symmetric.
+    pub matrix_f: DMatrix<f64>,
+    /// |C(m) - C(m/2)| per entry (F): the change when the panels per section are halved (the
+    /// same estimate as [`ErrorEstimate`]).
+    pub error_estimate_f: DMatrix<f64>,
+    /// Largest |C_ij - C_ji| / sqrt(C_ii C_jj) of the collocation result before it was
+    /// symmetrised (dimensionless): a measure of its discretisation error.
+    pub asymmetry: f64,
+    /// Panels on the secondary in the solve.
+    pub secondary_panels: usize,
+}
+
+impl NodalCapacitance {
+    /// Number of sections n.
+    pub fn sections(&self) -> usize {
+        self.node_heights_m.len() - 1
+    }
+
+    /// Electric energy W = v^T C v / 2 (J) for node voltages `node_v` (V), base first.
+    ///
+    /// Errors ([`SolverError::NoNodalCapacitance`]): a vector of the wrong length, with a
+    /// value that is not finite, or so large that the energy overflows.
+    pub fn energy_j(&self, node_v: &[f64]) -> Result<f64, SolverError> {
+        let n1 = self.node_heights_m.len();
+        if node_v.len() != n1 || node_v.iter().any(|v| !v.is_finite()) {
+            return Err(SolverError::NoNodalCapacitance {
+                reason: format!(
+                    "node voltages: {} finite values needed, got {} ({})",
+                    n1,
+                    node_v.len(),
+                    if node_v.iter().all(|v| v.is_finite()) {
+                        "all finite"
+                    } else {
+                        "some not finite"
+                    }
+                ),
+            });
+        }
+        let w = 0.5 * self.quadratic_form(node_v);
+        if !w.is_finite() {
+            return Err(SolverError::NoNodalCapacitance {
+                reason: "node voltages so large that the energy overflows".into(),
+            });
+        }
+        Ok(w)
+    }
+
+    /// v^T C v for a vector of the right length.
+    fn quadratic_form(&self, v: &[f64]) -> f64 {
+        let v = nalgebra::DVector::from_column_slice(v);
+        v.dot(&(&self.matrix_f * &v))
+    }
+
+    /// The secondary's linear-profile self-capacitance v^T C v (F) with v_j = j / n (0 V at the
+    /// base, 1 V at the top): 2 W at 1 V, the quantity [`SelfCapacitance::total_f`] gives for
+    /// [`Profile::Linear`] (the hats reproduce a linear potential exactly, so the two differ
+    /// only by their meshes).
+    pub fn linear_profile_capacitance_f(&self) -> f64 {
+        let n = self.sections();
+        let v: Vec<f64> = (0..=n).map(|j| j as f64 / n as f64).collect();
+        self.quadratic_form(&v)
+    }
 }
 
 /// AGM triple: K(m), E(m) and K(m) - E(m) from kc (m = 1 - kc^2 given too, for E's sum).
@@ -581,7 +859,10 @@ impl Problem {
                     p0: (r, zb),
                     p1: (r, zt),
                 },
-                Grading::AtBothEnds,
+                match valid_sections(params.secondary_sections) {
+                    Some(n) => Grading::Sections(n),
+                    None => Grading::AtBothEnds,
+                },
             ));
             surfaces.push((
                 w.name.clone(),
@@ -626,19 +907,18 @@ impl Problem {
             .panels
             .max(MIN_PANELS_PER_PIECE * pieces.len().max(1));
         let mut panels = Vec::with_capacity(budget);
+        // The coarse solve of the error estimate halves the panels per section too.
+        let min_per_section = if top {
+            MIN_PANELS_PER_SECTION
+        } else {
+            MIN_PANELS_PER_SECTION / 2
+        };
         for (s, curve, grading) in &pieces {
             let n = ((budget as f64 * curve.length() / total_len).round() as usize)
                 .max(MIN_PANELS_PER_PIECE);
-            let map = |k: usize| -> f64 {
-                let x = k as f64 / n as f64;
-                match grading {
-                    Grading::Uniform => x,
-                    Grading::AtEnd => (FRAC_PI_2 * x).sin(),
-                    Grading::AtBothEnds => 0.5 * (1.0 - (PI * x).cos()),
-                }
-            };
-            for k in 0..n {
-                let (u0, u1) = (map(k), map(k + 1));
+            let us = grading.breakpoints(n, min_per_section);
+            for w in us.windows(2) {
+                let (u0, u1) = (w[0], w[1]);
                 let a = curve.at(u0);
                 let b = curve.at(u1);
                 panels.push(match (params.panel_form, curve) {
@@ -678,7 +958,8 @@ impl Problem {
             surfaces,
             shapes: design.electrodes.iter().map(|e| e.shape.clone()).collect(),
             panels,
-            profile: params.profile,
+            profile: params.profile.clone(),
+            sections_asked: params.secondary_sections,
             drive_electrode_v,
             drive_secondary_v,
             connected,
@@ -689,7 +970,7 @@ impl Problem {
         if top {
             let half = Params {
                 panels: params.panels / 2,
-                ..*params
+                ..params.clone()
             };
             problem.coarse = Some(Box::new(Self::build(design, &half, source, false)?));
             if !problem.connected.is_empty() {
@@ -724,6 +1005,8 @@ impl Problem {
         Problem {
             panels: keep.iter().map(|&k| self.panels[k].clone()).collect(),
             connected: Vec::new(),
+            // Only the full problem gives the nodal matrix.
+            sections_asked: None,
             coarse: None,
             bare: None,
             keep,
@@ -808,7 +1091,8 @@ impl Problem {
             .collect()
     }
 
-    /// Maxwell matrix, self-capacitances, drive sigma.
+    /// Maxwell matrix, self-capacitances, drive sigma, and the nodal matrix when the
+    /// secondary is cut into sections.
     fn solve_core(&self, a: DMatrix<f64>, par: Par) -> CoreResult {
         let lu = BlockedLu::new(a, par);
         let ne = self.names.len();
@@ -847,8 +1131,119 @@ impl Problem {
         } else {
             (None, None)
         };
+        let nodal = match (self.has_secondary(), valid_sections(self.sections_asked)) {
+            (true, Some(n)) => Some(self.nodal_matrix(&lu, n, par)),
+            _ => None,
+        };
         let sigma = lu.solve(&self.rhs(&self.drive_electrode_v, self.drive_secondary_v));
-        (matrix, self_bare, self_total, sigma)
+        CoreResult {
+            matrix,
+            self_bare,
+            self_total,
+            sigma,
+            nodal,
+        }
+    }
+
+    /// The node (0 = base, n = top) whose potential a connected electrode takes, if electrode
+    /// `index` is connected to the secondary.
+    fn connected_node(&self, index: usize, n: usize) -> Option<usize> {
+        self.connected
+            .iter()
+            .find(|(i, _)| *i == index)
+            .map(|(_, end)| match end {
+                End::Base => 0,
+                End::Top => n,
+            })
+    }
+
+    /// For each panel on the secondary, its section s and the means of the two hats that are
+    /// non-zero on it, (h_s, h_(s+1)), weighted like its charge (rho ds); `None` elsewhere.
+    ///
+    /// The panel's Gauss nodes make the mean exact for the hats, which are linear on a panel
+    /// that lies in one section (the mesh puts every section boundary on a panel boundary);
+    /// on the cylinder rho is constant, so the mean is the hats' value at the midpoint, and the
+    /// sum sum_k q_k h_i(z_k) integrates the piecewise-constant sigma against h_i exactly.
+    fn hat_means(&self, n: usize) -> Vec<Option<(usize, f64, f64)>> {
+        self.panels
+            .iter()
+            .map(|p| {
+                let SurfaceKind::Secondary { z_base_m, z_top_m } = self.surfaces[p.surface].1
+                else {
+                    return None;
+                };
+                let x_of = |z: f64| (z - z_base_m) / (z_top_m - z_base_m) * n as f64;
+                let s = (x_of(p.mid.1).floor().max(0.0) as usize).min(n - 1);
+                let (mut sum_w, mut sum_wx) = (0.0, 0.0);
+                for (_, z, w) in panel_nodes(p, 4, 0.0, 1.0) {
+                    sum_w += w;
+                    sum_wx += w * (x_of(z) - s as f64).clamp(0.0, 1.0);
+                }
+                let upper = sum_wx / sum_w;
+                Some((s, 1.0 - upper, upper))
+            })
+            .collect()
+    }
+
+    /// Potential (V) of each panel with 1 V on node `j` of n (the hat h_j on the secondary,
+    /// electrodes connected at node j at 1 V, every other conductor at 0 V).
+    fn rhs_hat(&self, j: usize, n: usize) -> Vec<f64> {
+        self.panels
+            .iter()
+            .map(|p| match self.surfaces[p.surface].1 {
+                SurfaceKind::Electrode { index, .. } => {
+                    if self.connected_node(index, n) == Some(j) {
+                        1.0
+                    } else {
+                        0.0
+                    }
+                }
+                SurfaceKind::Secondary { z_base_m, z_top_m } => {
+                    let x = (p.mid.1 - z_base_m) / (z_top_m - z_base_m) * n as f64;
+                    (1.0 - (x - j as f64).abs()).max(0.0)
+                }
+            })
+            .collect()
+    }
+
+    /// The nodal capacitance matrix (F) for n sections and the largest asymmetry of the
+    /// collocation result before symmetrisation.
+    ///
+    /// Column j: the charges for 1 V on node j (see [`Problem::rhs_hat`]);
+    /// C_ij = sum over secondary panels k of q_k^(j) <h_i>_k plus the charge of the electrodes
+    /// connected at node i, so that W = v^T C v / 2 = (1/2) integral of sigma phi dA for the
+    /// potential phi = sum_j v_j h_j on the tube (and v_i on electrodes connected at node i).
+    /// Collocation is not Galerkin, so C_ij and C_ji differ by the discretisation error; the
+    /// result is (C + C^T) / 2.
+    fn nodal_matrix(&self, lu: &BlockedLu, n: usize, par: Par) -> (DMatrix<f64>, f64) {
+        let means = self.hat_means(n);
+        let columns: Vec<Vec<f64>> = map_indexed(n + 1, par, |j| {
+            let sigma = lu.solve(&self.rhs_hat(j, n));
+            let q = self.charges(&sigma);
+            let mut col = vec![0.0; n + 1];
+            for (k, qk) in q.iter().enumerate() {
+                if let Some((s, lower, upper)) = means[k] {
+                    col[s] += qk * lower;
+                    col[s + 1] += qk * upper;
+                } else if let SurfaceKind::Electrode { index, .. } =
+                    self.surfaces[self.panels[k].surface].1
+                {
+                    if let Some(i) = self.connected_node(index, n) {
+                        col[i] += qk;
+                    }
+                }
+            }
+            col
+        });
+        let raw = DMatrix::from_fn(n + 1, n + 1, |i, j| columns[j][i]);
+        let mut asymmetry: f64 = 0.0;
+        for i in 0..=n {
+            for j in 0..i {
+                let scale = (raw[(i, i)] * raw[(j, j)]).abs().sqrt();
+                asymmetry = asymmetry.max((raw[(i, j)] - raw[(j, i)]).abs() / scale);
+            }
+        }
+        (0.5 * (&raw + raw.transpose()), asymmetry)
     }
 
     /// Solve: Maxwell matrix, self-capacitance, drive charges, and the coarse estimate.
@@ -860,31 +1255,35 @@ impl Problem {
             let bare = p
                 .bare
                 .as_ref()
-                .map(|b| b.solve_core(submatrix(&a, &b.keep), par).1);
+                .map(|b| b.solve_core(submatrix(&a, &b.keep), par).self_bare);
             let core = p.solve_core(a, par);
-            let bare = bare.unwrap_or(core.1);
+            let bare = bare.unwrap_or(core.self_bare);
             (core, bare)
         };
-        let ((matrix_f, _, total, sigma_drive), bare) = run(self);
+        let (core, bare) = run(self);
+        let total = core.self_total;
         let self_c = match (bare, total) {
             (Some(bare_f), Some(total_f)) => Some(SelfCapacitance { bare_f, total_f }),
             _ => None,
         };
+        let mut nodal_coarse = None;
         let error = match &self.coarse {
             Some(c) => {
-                let ((cm, _, ct, _), coarse_bare) = run(c);
-                let diff = matrix_f
+                let (coarse, coarse_bare) = run(c);
+                let diff = core
+                    .matrix
                     .iter()
-                    .zip(&cm)
+                    .zip(&coarse.matrix)
                     .map(|(r, s)| r.iter().zip(s).map(|(a, b)| (a - b).abs()).collect())
                     .collect();
-                let sc = match (self_c, coarse_bare, ct) {
+                let sc = match (self_c, coarse_bare, coarse.self_total) {
                     (Some(f), Some(b), Some(t)) => Some(SelfCapacitance {
                         bare_f: (f.bare_f - b).abs(),
                         total_f: (f.total_f - t).abs(),
                     }),
                     _ => None,
                 };
+                nodal_coarse = coarse.nodal.map(|(m, _)| m);
                 ErrorEstimate {
                     capacitance_matrix_f: diff,
                     self_capacitance_f: sc,
@@ -895,18 +1294,88 @@ impl Problem {
                 self_capacitance_f: None,
             },
         };
+        let nodal = self.nodal_result(core.nodal, nodal_coarse);
         Solution {
             problem: self.clone(),
-            matrix_f,
+            matrix_f: core.matrix,
             self_c,
-            sigma_drive,
+            sigma_drive: core.sigma,
             error,
+            nodal,
         }
+    }
+
+    /// The nodal capacitance with its error estimate, or why there is none.
+    fn nodal_result(
+        &self,
+        fine: Option<(DMatrix<f64>, f64)>,
+        coarse: Option<DMatrix<f64>>,
+    ) -> Result<NodalCapacitance, SolverError> {
+        let none = |reason: String| Err(SolverError::NoNodalCapacitance { reason });
+        let Some((z_base, z_top)) = self.surfaces.iter().find_map(|s| match s.1 {
+            SurfaceKind::Secondary { z_base_m, z_top_m } => Some((z_base_m, z_top_m)),
+            _ => None,
+        }) else {
+            return none("the design has no secondary winding".into());
+        };
+        let n = match self.sections_asked {
+            None => return none("Params::secondary_sections was not set".into()),
+            Some(n) => match valid_sections(Some(n)) {
+                Some(n) => n,
+                None => {
+                    return none(format!(
+                        "Params::secondary_sections = {n} is outside 1..={MAX_SECONDARY_SECTIONS}"
+                    ));
+                }
+            },
+        };
+        let Some((matrix_f, asymmetry)) = fine else {
+            return none("the solve produced no nodal matrix".into());
+        };
+        let error_estimate_f = match coarse {
+            Some(c) => (&matrix_f - c).abs(),
+            None => DMatrix::zeros(n + 1, n + 1),
+        };
+        let node_heights_m: Vec<f64> = (0..=n)
+            .map(|j| z_base + (z_top - z_base) * j as f64 / n as f64)
+            .collect();
+        let node_points_m = node_heights_m
+            .iter()
+            .map(|z| self.axis.origin_m + self.axis.direction.as_ref() * *z)
+            .collect();
+        Ok(NodalCapacitance {
+            node_heights_m,
+            node_points_m,
+            matrix_f,
+            error_estimate_f,
+            asymmetry,
+            secondary_panels: self
+                .panels
+                .iter()
+                .filter(|p| matches!(self.surfaces[p.surface].1, SurfaceKind::Secondary { .. }))
+                .count(),
+        })
     }
 }
 
-/// Maxwell matrix, bare and total self-capacitance, drive sigma.
-type CoreResult = (Vec<Vec<f64>>, Option<f64>, Option<f64>, Vec<f64>);
+/// `sections` if it is in 1..=[`MAX_SECONDARY_SECTIONS`].
+fn valid_sections(sections: Option<usize>) -> Option<usize> {
+    sections.filter(|n| (1..=MAX_SECONDARY_SECTIONS).contains(n))
+}
+
+/// What one factorisation gives.
+struct CoreResult {
+    /// Maxwell matrix of the electrodes (F).
+    matrix: Vec<Vec<f64>>,
+    /// Secondary's self-capacitance, connected electrodes at 0 V (F).
+    self_bare: Option<f64>,
+    /// Secondary's self-capacitance, connected electrodes at their terminal (F).
+    self_total: Option<f64>,
+    /// Drive sigma (C/m^2).
+    sigma: Vec<f64>,
+    /// Nodal matrix (F) and its asymmetry before symmetrisation.
+    nodal: Option<(DMatrix<f64>, f64)>,
+}
 
 /// The matrix of a bare problem: rows and columns `keep` of the full one.
 fn submatrix(a: &DMatrix<f64>, keep: &[usize]) -> DMatrix<f64> {
@@ -1098,6 +1567,15 @@ impl Solution {
     /// |C(n) - C(n/2)| for every result (F).
     pub fn error_estimate(&self) -> &ErrorEstimate {
         &self.error
+    }
+
+    /// The secondary's nodal capacitance matrix (see [`NodalCapacitance`]) for the sections of
+    /// [`Params::secondary_sections`].
+    ///
+    /// Errors ([`SolverError::NoNodalCapacitance`]): no secondary, `secondary_sections` not set
+    /// or outside 1..=[`MAX_SECONDARY_SECTIONS`].
+    pub fn nodal_capacitance(&self) -> Result<&NodalCapacitance, SolverError> {
+        self.nodal.as_ref().map_err(Clone::clone)
     }
 
     /// Number of panels of the solution.
@@ -1795,5 +2273,536 @@ mod tests {
         );
         assert!(w[1].contains("longer than lambda/10"), "{}", w[1]);
         assert!(validity_warnings(&d, &[1.0]).len() == 1);
+    }
+
+    /// A bare secondary as the open tube of radius `a` (winding radius + wire radius), length
+    /// `l`, base at height `zb`, over a grounded plane z = 0 or not; `extra` is appended to the
+    /// design text (electrodes).
+    fn tube_text(a: f64, l: f64, zb: f64, ground: bool, extra: &str) -> String {
+        let wire = 0.0004;
+        let turns = (l / 0.0005).round();
+        let mut t = format!(
+            "[[winding]]\nname = \"sec\"\nshape = \"helix\"\nrole = \"secondary\"\norigin = [0.0, 0.0, {zb}]\naxis = [0.0, 0.0, 1.0]\nradius = {}\nlength = {l}\nturns = {turns}\nwire_diameter = {wire}\n",
+            a - wire / 2.0
+        );
+        if ground {
+            t.push_str("[ground]\nz = 0.0\n");
+        }
+        t.push_str(extra);
+        t
+    }
+
+    fn solve_with(design: &Design, params: Params) -> Solution {
+        Problem::from_design(design, &params, "t")
+            .unwrap()
+            .solve(Par::Rayon)
+    }
+
+    fn sectioned(design: &Design, panels: usize, n: usize) -> Solution {
+        solve_with(
+            design,
+            Params {
+                panels,
+                secondary_sections: Some(n),
+                ..Default::default()
+            },
+        )
+    }
+
+    /// One row of validation/tube_bem.csv (validation/tube_bem_refs.py: an independent
+    /// numpy/scipy boundary-element solve, Richardson-extrapolated).
+    struct TubeRow {
+        case: String,
+        a: f64,
+        l: f64,
+        zb: f64,
+        ground: bool,
+        quantity: String,
+        n: usize,
+        i: usize,
+        j: usize,
+        reference: f64,
+        tolerance: f64,
+        kind: String,
+    }
+
+    fn tube_rows() -> Vec<TubeRow> {
+        let text = include_str!(concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/../validation/tube_bem.csv"
+        ));
+        let rows: Vec<TubeRow> = text
+            .lines()
+            .skip(1)
+            .map(|l| {
+                let f: Vec<&str> = l.splitn(13, ',').collect();
+                TubeRow {
+                    case: f[0].to_string(),
+                    a: f[1].parse().unwrap(),
+                    l: f[2].parse().unwrap(),
+                    zb: f[3].parse().unwrap(),
+                    ground: !f[4].is_empty(),
+                    quantity: f[5].to_string(),
+                    n: f[6].parse().unwrap(),
+                    i: f[7].parse().unwrap(),
+                    j: f[8].parse().unwrap(),
+                    reference: f[9].parse().unwrap(),
+                    tolerance: f[10].parse().unwrap(),
+                    kind: f[11].to_string(),
+                }
+            })
+            .collect();
+        assert_eq!(rows.len(), 92, "validation/tube_bem.csv changed shape");
+        rows
+    }
+
+    fn within(got: f64, row: &TubeRow) -> bool {
+        let tol = match row.kind.as_str() {
+            "rel" => row.tolerance * row.reference.abs(),
+            "abs" => row.tolerance,
+            k => panic!("tolerance kind {k}"),
+        };
+        (got - row.reference).abs() <= tol
+    }
+
+    #[test]
+    fn nodal_matrix_matches_the_independent_python_solve() {
+        // validation/tube_bem.csv (tube_bem_refs.py, accurate to 4e-9 of the diagonal): every
+        // entry of the nodal matrix for n = 2 and 4, four tubes (l/D = 4 and 1, free and over
+        // ground). Tolerance 1e-4 sqrt(C_ii C_jj); seen at 1000 panels: worst 3.2e-5 (n = 4),
+        // 8e-6 (n = 2). The coarse-solve estimate must bound the true error (seen: error /
+        // estimate <= 0.4, as for an O(h^2) error; a 1e-9 allowance covers the reference).
+        let rows = tube_rows();
+        let mut seen = 0;
+        for case in ["free_ld4", "free_ld1", "ground_ld4", "ground_ld1"] {
+            let first = rows.iter().find(|r| r.case == case).unwrap();
+            let d = parse_design(
+                &tube_text(first.a, first.l, first.zb, first.ground, ""),
+                "t",
+            )
+            .unwrap();
+            for n in [2, 4] {
+                let s = sectioned(&d, 1000, n);
+                let nc = s.nodal_capacitance().unwrap();
+                assert_eq!(nc.sections(), n);
+                for r in rows
+                    .iter()
+                    .filter(|r| r.case == case && r.quantity == "nodal" && r.n == n)
+                {
+                    let (i, j) = (r.i, r.j);
+                    let got = nc.matrix_f[(i, j)];
+                    assert!(
+                        within(got, r),
+                        "{case} n={n} ({i},{j}): {got:e} vs {:e} (tol {:e})",
+                        r.reference,
+                        r.tolerance
+                    );
+                    let err = (got - r.reference).abs();
+                    let scale = (nc.matrix_f[(i, i)] * nc.matrix_f[(j, j)]).sqrt();
+                    assert!(
+                        err <= nc.error_estimate_f[(i, j)] + 1e-9 * scale,
+                        "{case} n={n} ({i},{j}): error {err:e} above the estimate {:e}",
+                        nc.error_estimate_f[(i, j)]
+                    );
+                    seen += 1;
+                }
+            }
+        }
+        assert_eq!(seen, 4 * (6 + 15));
+    }
+
+    #[test]
+    fn tube_and_linear_profile_match_the_independent_python_solve_by_both_paths() {
+        // validation/tube_bem.csv rows `tube` (the tube as one conductor) and `linear` (linear
+        // profile, v^T C v), accurate to 1e-12. Paths: the solver's profile path (constant
+        // profile, Profile::Linear) on its default mesh, and the nodal matrix (sum of all
+        // entries; v_j = j/n) on the sectioned mesh. Tolerance 1e-5 relative; seen at 1000
+        // panels: 2e-6 (tube), 1.3e-6 (linear).
+        let rows = tube_rows();
+        for case in ["free_ld4", "free_ld1", "ground_ld4", "ground_ld1"] {
+            let get = |q: &str| {
+                rows.iter()
+                    .find(|r| r.case == case && r.quantity == q)
+                    .unwrap()
+            };
+            let (tube, linear) = (get("tube"), get("linear"));
+            let d =
+                parse_design(&tube_text(tube.a, tube.l, tube.zb, tube.ground, ""), "t").unwrap();
+            let by_profile = |profile| {
+                solve_with(
+                    &d,
+                    Params {
+                        profile,
+                        ..Default::default()
+                    },
+                )
+                .self_capacitance_f()
+                .unwrap()
+                .bare_f
+            };
+            let c_tube = by_profile(Profile::Custom(|_| 1.0));
+            let c_lin = by_profile(Profile::Linear);
+            assert!(
+                within(c_tube, tube),
+                "{case}: tube {c_tube:e} vs {:e}",
+                tube.reference
+            );
+            assert!(
+                within(c_lin, linear),
+                "{case}: linear {c_lin:e} vs {:e}",
+                linear.reference
+            );
+            let s = sectioned(&d, 1000, 4);
+            let nc = s.nodal_capacitance().unwrap();
+            let sum = nc.matrix_f.sum();
+            let lin = nc.linear_profile_capacitance_f();
+            assert!(
+                within(sum, tube),
+                "{case}: sum {sum:e} vs {:e}",
+                tube.reference
+            );
+            assert!(
+                within(lin, linear),
+                "{case}: v^T C v {lin:e} vs {:e}",
+                linear.reference
+            );
+        }
+    }
+
+    /// Bound on |v^T (C - C_true) v| from the per-entry estimate: sum |v_i| |v_j| E_ij.
+    fn energy_bound(nc: &NodalCapacitance, v: &[f64]) -> f64 {
+        let mut b = 0.0;
+        for (i, vi) in v.iter().enumerate() {
+            for (j, vj) in v.iter().enumerate() {
+                b += (vi * vj).abs() * nc.error_estimate_f[(i, j)];
+            }
+        }
+        b
+    }
+
+    #[test]
+    fn nodal_paths_agree_with_the_profile_paths_for_every_section_count() {
+        // Hats reproduce a constant and a linear potential exactly, so for every n the sum of
+        // all entries is the tube's capacitance and v^T C v (v_j = j/n) the linear-profile
+        // self-capacitance: the paths differ only by their meshes (the default graded one and
+        // the sectioned one), i.e. within the two coarse-solve estimates. Seen (l/D = 4 over
+        // ground, 1000 panels): linear differs by 7e-7 (n = 2) growing to 2.9e-5 (n = 256, 4
+        // panels per section), always below the estimates.
+        let d = parse_design(&tube_text(0.05, 0.4, 0.02, true, ""), "t").unwrap();
+        let profile_path = |profile| {
+            let s = solve_with(
+                &d,
+                Params {
+                    profile,
+                    ..Default::default()
+                },
+            );
+            (
+                s.self_capacitance_f().unwrap().bare_f,
+                s.error_estimate().self_capacitance_f.unwrap().bare_f,
+            )
+        };
+        let (c_tube, e_tube) = profile_path(Profile::Custom(|_| 1.0));
+        let (c_lin, e_lin) = profile_path(Profile::Linear);
+        for n in [1, 2, 3, 8, 32, 256] {
+            let s = sectioned(&d, 1000, n);
+            let nc = s.nodal_capacitance().unwrap();
+            let ones = vec![1.0; n + 1];
+            let ramp: Vec<f64> = (0..=n).map(|j| j as f64 / n as f64).collect();
+            let sum = nc.matrix_f.sum();
+            let lin = nc.linear_profile_capacitance_f();
+            assert!(
+                (sum - c_tube).abs() <= e_tube + energy_bound(nc, &ones),
+                "n={n}: sum {sum:e} vs {c_tube:e}"
+            );
+            assert!(
+                (lin - c_lin).abs() <= e_lin + energy_bound(nc, &ramp),
+                "n={n}: v^T C v {lin:e} vs {c_lin:e}"
+            );
+            // The same mesh's own linear-profile solve is the same sum of charges times
+            // potentials: equal to rounding (the hats' means are exact on aligned panels).
+            let own = s.self_capacitance_f().unwrap().bare_f;
+            assert!((lin / own - 1.0).abs() < 1e-12, "n={n}: {lin:e} vs {own:e}");
+        }
+    }
+
+    #[test]
+    fn quarter_wave_profile_converges_at_second_order_in_the_sections() {
+        // The piecewise-linear interpolant of a smooth profile differs from it by O(1/n^2), so
+        // v^T C v with v_j = sin(pi j / 2n) tends to the self-capacitance of the exact profile
+        // Profile::Custom(sin(pi t / 2)) at second order: the differences must fall about 4x
+        // per doubling of n (seen: 3.20, 3.65, 3.81, 3.88 from n = 2 to 32).
+        let d = parse_design(&tube_text(0.05, 0.4, 0.02, true, ""), "t").unwrap();
+        let exact = solve_with(
+            &d,
+            Params {
+                profile: Profile::Custom(|t| (FRAC_PI_2 * t).sin()),
+                ..Default::default()
+            },
+        )
+        .self_capacitance_f()
+        .unwrap()
+        .bare_f;
+        let mut diffs = Vec::new();
+        for n in [2usize, 4, 8, 16, 32] {
+            let s = sectioned(&d, 1000, n);
+            let v: Vec<f64> = (0..=n)
+                .map(|j| (FRAC_PI_2 * j as f64 / n as f64).sin())
+                .collect();
+            let c = 2.0 * s.nodal_capacitance().unwrap().energy_j(&v).unwrap();
+            // The interpolant lies below the concave sine: less energy.
+            assert!(c < exact, "n={n}: {c:e} vs {exact:e}");
+            diffs.push(exact - c);
+        }
+        for w in diffs.windows(2) {
+            let ratio = w[0] / w[1];
+            assert!((3.0..4.5).contains(&ratio), "{diffs:?}");
+        }
+        let last = diffs[diffs.len() - 2] / diffs[diffs.len() - 1];
+        assert!((3.7..4.3).contains(&last), "{diffs:?}");
+    }
+
+    #[test]
+    fn nodal_matrix_is_symmetric_positive_definite() {
+        // Energy is positive for any non-zero node voltages: C must be symmetric positive
+        // definite (Cholesky), with a positive diagonal; with all nodes at 1 V the tube is one
+        // conductor at 1 V whose charge density is positive everywhere, so every row sum
+        // (the charge weighted by hat i) is positive. The collocation asymmetry before
+        // symmetrising falls with the panels per section (seen: 1.2e-6 at n = 4 and 1000
+        // panels, 1.6e-3 at n = 256 with 4 panels per section).
+        let d = parse_design(&tube_text(0.05, 0.4, 0.02, true, ""), "t").unwrap();
+        for (n, max_asym) in [(4usize, 1e-5), (256, 5e-3)] {
+            let s = sectioned(&d, 1000, n);
+            let nc = s.nodal_capacitance().unwrap();
+            let c = &nc.matrix_f;
+            assert_eq!(c.nrows(), n + 1);
+            assert_eq!(c, &c.transpose());
+            assert!(
+                c.clone().cholesky().is_some(),
+                "n={n}: not positive definite"
+            );
+            for i in 0..=n {
+                assert!(c[(i, i)] > 0.0);
+                assert!(c.row(i).sum() > 0.0, "n={n}: row {i}");
+            }
+            assert!(
+                nc.asymmetry > 0.0 && nc.asymmetry < max_asym,
+                "n={n}: {}",
+                nc.asymmetry
+            );
+            assert_eq!(nc.node_heights_m.len(), n + 1);
+            // The axis starts at the secondary's base (z = 0.02 m), 0.4 m long.
+            assert!(nc.node_heights_m[0].abs() < 1e-15);
+            assert!((nc.node_heights_m[n] - 0.4).abs() < 1e-15);
+            assert!((nc.node_points_m[n] - Point3::new(0.0, 0.0, 0.42)).norm() < 1e-15);
+        }
+    }
+
+    #[test]
+    fn connected_top_electrode_joins_the_top_node() {
+        // A sphere connected to the top takes node n's voltage: its charge adds to row and
+        // column n, so C_nn grows, by less than the isolated sphere's 4 pi eps0 r (the coil
+        // beside it shares the field); the other diagonal entries change far less (the
+        // sphere is then a grounded neighbour). The linear-profile value from the nodal matrix
+        // must match the solver's total self-capacitance (electrode at the top's potential)
+        // within the estimates. A disc connected to the base likewise joins node 0.
+        let n = 8;
+        let bare = parse_design(&tube_text(0.05, 0.2, 0.05, false, ""), "t").unwrap();
+        let sphere = "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.35]\nradius = 0.08\nconnect = \"sec:top\"\n";
+        let top = parse_design(&tube_text(0.05, 0.2, 0.05, false, sphere), "t").unwrap();
+        let c0 = sectioned(&bare, 1000, n)
+            .nodal_capacitance()
+            .unwrap()
+            .clone();
+        let s1 = sectioned(&top, 1000, n);
+        let c1 = s1.nodal_capacitance().unwrap();
+        let grow = c1.matrix_f[(n, n)] - c0.matrix_f[(n, n)];
+        assert!(grow > 0.0 && grow < 4.0 * PI * EPS0 * 0.08, "{grow:e}");
+        for i in 0..n {
+            let other = (c1.matrix_f[(i, i)] - c0.matrix_f[(i, i)]).abs();
+            assert!(other < 0.2 * grow, "node {i}: {other:e} vs {grow:e}");
+        }
+        let total = s1.self_capacitance_f().unwrap();
+        let est = s1.error_estimate().self_capacitance_f.unwrap();
+        let ramp: Vec<f64> = (0..=n).map(|j| j as f64 / n as f64).collect();
+        let lin = c1.linear_profile_capacitance_f();
+        assert!(
+            (lin - total.total_f).abs() <= est.total_f + energy_bound(c1, &ramp),
+            "{lin:e} vs {:e}",
+            total.total_f
+        );
+        assert!(lin > total.bare_f);
+
+        let disc = "[[electrode]]\nname = \"plate\"\nshape = \"disc\"\norigin = [0.0, 0.0, 0.03]\naxis = [0.0, 0.0, 1.0]\nradius = 0.1\nconnect = \"sec:base\"\n";
+        let base = parse_design(&tube_text(0.05, 0.2, 0.05, false, disc), "t").unwrap();
+        let c2 = sectioned(&base, 1000, n)
+            .nodal_capacitance()
+            .unwrap()
+            .clone();
+        let grow0 = c2.matrix_f[(0, 0)] - c0.matrix_f[(0, 0)];
+        // The isolated disc holds 8 eps0 r.
+        assert!(grow0 > 0.0 && grow0 < 8.0 * EPS0 * 0.1, "{grow0:e}");
+        assert!(c2.matrix_f[(n, n)] - c0.matrix_f[(n, n)] < 0.2 * grow0);
+    }
+
+    #[test]
+    fn nodal_capacitance_refusals() {
+        let d = parse_design(&tube_text(0.05, 0.2, 0.05, false, ""), "t").unwrap();
+        let refused = |sections| {
+            let s = solve_with(
+                &d,
+                Params {
+                    panels: 100,
+                    secondary_sections: sections,
+                    ..Default::default()
+                },
+            );
+            match s.nodal_capacitance() {
+                Err(SolverError::NoNodalCapacitance { reason }) => reason,
+                other => panic!("{sections:?}: {other:?}"),
+            }
+        };
+        assert!(refused(None).contains("not set"));
+        assert!(refused(Some(0)).contains("outside 1..=512"));
+        assert!(refused(Some(MAX_SECONDARY_SECTIONS + 1)).contains("outside"));
+        let no_secondary = solve_with(
+            &sphere_design(0.1, 1.0, false),
+            Params {
+                panels: 50,
+                secondary_sections: Some(4),
+                ..Default::default()
+            },
+        );
+        assert!(matches!(
+            no_secondary.nodal_capacitance(),
+            Err(SolverError::NoNodalCapacitance { reason }) if reason.contains("no secondary")
+        ));
+        let s = sectioned(&d, 100, 2);
+        let nc = s.nodal_capacitance().unwrap();
+        assert!(nc.energy_j(&[0.0, 1.0]).is_err());
+        assert!(nc.energy_j(&[0.0, f64::NAN, 1.0]).is_err());
+        assert!(nc.energy_j(&[0.0, 1e200, 1e200]).is_err());
+    }
+
+    #[test]
+    fn sectioned_mesh_puts_every_section_boundary_on_a_panel_boundary() {
+        // Each section boundary z_base + s l / n must be the end of one panel and the start of
+        // the next; interior sections hold m equal panels, the end sections 2 m.
+        for (n, share, min) in [
+            (2usize, 100usize, 4usize),
+            (5, 100, 4),
+            (256, 1000, 4),
+            (7, 30, 2),
+        ] {
+            let u = section_breakpoints(n, share, min);
+            let m = ((share as f64 / (n + 2) as f64).round() as usize).max(min);
+            assert_eq!(u.len(), n * m + 2 * m + 1, "n={n}");
+            assert!(u.windows(2).all(|w| w[1] > w[0]), "n={n}: not increasing");
+            for s in 0..=n {
+                let target = s as f64 / n as f64;
+                assert!(u.contains(&target), "n={n}: boundary {s} missing");
+            }
+        }
+    }
+
+    #[test]
+    fn node_profile_construction() {
+        // Normalised to 1 at the top; refused with a reason otherwise.
+        let p = NodeProfile::new(&[0.0, 0.35, 0.5]).unwrap();
+        assert_eq!(p.values(), &[0.0, 0.7, 1.0]);
+        assert_eq!(p.sections(), 2);
+        // Interpolation against the hand-written piecewise-linear function.
+        for t in [0.0, 0.1, 0.25, 0.5, 0.6, 0.99, 1.0] {
+            let want = if t < 0.5 {
+                1.4 * t
+            } else {
+                0.7 + 0.6 * (t - 0.5)
+            };
+            assert!((p.at(t) - want).abs() < 1e-15, "{t}");
+        }
+        for bad in [
+            &[][..],
+            &[1.0],
+            &[0.0, f64::NAN, 1.0],
+            &[0.5, 0.0],
+            &[0.0, 1e300, 1e-300],
+        ] {
+            assert!(
+                matches!(NodeProfile::new(bad), Err(SolverError::BadProfile { .. })),
+                "{bad:?}"
+            );
+        }
+    }
+
+    /// The profile through (0, 0), (0.5, 0.7), (1, 1), written out by hand.
+    fn kinked(t: f64) -> f64 {
+        if t < 0.5 {
+            1.4 * t
+        } else {
+            0.7 + 0.6 * (t - 0.5)
+        }
+    }
+
+    #[test]
+    fn node_profile_drives_fields_and_self_capacitance() {
+        // Profile::Nodes through (0, 0.7, 1) must act as the same function given as
+        // Profile::Custom: same self-capacitance, same E at points around the coil (to
+        // rounding), on the default mesh; and v^T C v with v = (0, 0.7, 1) on the
+        // two-section mesh must match it within the estimates (different meshes).
+        let text = tube_text(
+            0.05,
+            0.3,
+            0.05,
+            true,
+            "[drive]\npotentials = { sec = [0.0, 1e5] }\n",
+        );
+        let d = parse_design(&text, "t").unwrap();
+        let run = |profile| {
+            solve_with(
+                &d,
+                Params {
+                    panels: 400,
+                    profile,
+                    ..Default::default()
+                },
+            )
+        };
+        let nodes = run(Profile::nodes(&[0.0, 0.7, 1.0]).unwrap());
+        let custom = run(Profile::Custom(kinked));
+        let cn = nodes.self_capacitance_f().unwrap().bare_f;
+        let cc = custom.self_capacitance_f().unwrap().bare_f;
+        assert!((cn / cc - 1.0).abs() < 1e-12, "{cn:e} vs {cc:e}");
+        let pts = [
+            Point3::new(0.2, 0.0, 0.2),
+            Point3::new(0.0, 0.1, 0.5),
+            Point3::new(0.06, 0.0, 0.3),
+        ];
+        for (a, b) in nodes
+            .e_field(&pts, Par::Seq)
+            .iter()
+            .zip(&custom.e_field(&pts, Par::Seq))
+        {
+            let (FieldSample::Field(a), FieldSample::Field(b)) = (a, b) else {
+                panic!("{a:?} {b:?}")
+            };
+            assert!((a - b).norm() <= 1e-12 * b.norm(), "{a} vs {b}");
+        }
+        let (pa, pb) = (nodes.panels(), custom.panels());
+        let top = pb
+            .iter()
+            .map(|p| p.surface_field_v_per_m)
+            .fold(0.0, f64::max);
+        assert!(pa.iter().zip(&pb).all(|(x, y)| {
+            (x.surface_field_v_per_m - y.surface_field_v_per_m).abs() <= 1e-12 * top
+        }));
+        let s = sectioned(&d, 400, 2);
+        let nc = s.nodal_capacitance().unwrap();
+        let v = [0.0, 0.7, 1.0];
+        let c = 2.0 * nc.energy_j(&v).unwrap();
+        let est = custom.error_estimate().self_capacitance_f.unwrap().bare_f;
+        assert!(
+            (c - cc).abs() <= est + energy_bound(nc, &v),
+            "{c:e} vs {cc:e}"
+        );
     }
 }

@@ -155,5 +155,18 @@ pub enum SolverError {
     NoConvergence {
         /// The evaluation that failed.
         what: &'static str,
+    /// A potential profile given by node values that cannot be used (too few values, a value
+    /// that is not finite, or a zero top value, which cannot be normalised).
+    #[error("bad node profile: {reason}")]
+    BadProfile {
+        /// What is wrong with it.
+        reason: String,
+    },
+    /// The secondary's nodal capacitance matrix is not available from this solution.
+    #[error("no nodal capacitance matrix: {reason}")]
+    NoNodalCapacitance {
+        /// Why (no secondary, sections not asked for or out of range, a node-voltage vector of
+        /// the wrong length).
+        reason: String,
     },
 }

@@ -12,7 +12,7 @@
 //!   Rosa's corrections;
 //! - [`assembly::inductance_report`]: the whole inductance and coupling matrix of a design;
 //! - [`circuit`]: lumped circuits of the resonance model: a winding's ladder modes, coupled
-//!   resonant loops in time (exact propagation, spark-gap quench), phasors and normal modes.
+//!   resonant loops in time (exact propagation, spark-gap quench), phasors and normal modes;
 //! - [`losses`]: skin effect in round wire and tubing, proximity in single-layer coils, radiation
 //!   resistance of short radiators, and the Q of a resonator.
 //!
