@@ -120,6 +120,7 @@ pub enum SolverError {
         step: &'static str,
         /// What went wrong.
         reason: &'static str,
+    },
     /// A loss model (`losses`) was given an input outside its domain: not finite, not positive,
     /// or inconsistent with another input (a wall thicker than the tube's radius, a pitch below
     /// the wire diameter).
@@ -155,6 +156,7 @@ pub enum SolverError {
     NoConvergence {
         /// The evaluation that failed.
         what: &'static str,
+    },
     /// A potential profile given by node values that cannot be used (too few values, a value
     /// that is not finite, or a zero top value, which cannot be normalised).
     #[error("bad node profile: {reason}")]
