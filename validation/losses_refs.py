@@ -27,7 +27,6 @@ The arguments per kind (SI units; an empty cell is unused):
 | tube_dc | b | t | frequency | resistivity | rho / (pi (b^2 - (b - t)^2)) |
 | tube_hf | b | t | frequency | resistivity | rho / (2 pi b delta) |
 | dowell | wire diameter d (m) | pitch p (m) | skin depth (m) | | F_R of one layer |
-| medhurst, medhurst_dowell, medhurst_butterworth | l/D | p/d | | | Medhurst's Psi |
 | rad_monopole_uniform, rad_monopole_linear | height h (m) | frequency (Hz) | | | R_rad (ohm) |
 | rad_dipole_uniform | length l (m) | frequency (Hz) | | | R_rad (ohm) |
 | rad_textbook | effective height (m) | frequency (Hz) | | | 160 pi^2 (h/lambda)^2 (ohm) |
@@ -57,10 +56,6 @@ SRC_KELVIN = ("mpmath 30 digits, Kelvin functions: (x/2)(ber bei' - bei ber')/(b
               "(mpmath ber, bei)")
 SRC_TERMAN = ("F. E. Terman, Radio Engineers' Handbook, McGraw-Hill 1943, table of H and G against x "
               "for round wire (4 printed digits; secondary transcription, table number and page from memory)")
-SRC_MEDHURST = ("R. G. Medhurst, 'H.F. resistance and self-capacitance of single-layer solenoids', "
-                "Wireless Engineer 24 (1947), table of Psi against l/D and p/d (secondary transcription, "
-                "not checked against the paper: from memory)")
-
 
 def f(s):
     """The binary64 value of a printed input, as an mpf."""
@@ -301,34 +296,6 @@ def rows():
             "mpmath 30 digits, Dowell m = 1: D (sinh 2D + sin 2D)/(cosh 2D - cos 2D), h = d sqrt(pi)/2, "
             "eta = h/p, D = (h/delta) sqrt(eta) (P. L. Dowell, Proc. IEE 113(8), 1966; round-to-square "
             "equivalence from memory)")
-
-    # Medhurst's measured Psi = R(coil)/R(straight wire) at high frequency.
-    ld = ["0", "0.2", "0.4", "0.6", "0.8", "1", "2", "4", "6", "8", "10", "inf"]
-    pd = ["1", "1.111", "1.25", "1.429", "1.667", "2", "2.5", "3.333", "5", "10"]
-    psi = [[5.31, 3.73, 2.74, 2.12, 1.74, 1.44, 1.20, 1.16, 1.07, 1.02],
-           [5.45, 3.84, 2.83, 2.20, 1.77, 1.48, 1.29, 1.19, 1.08, 1.02],
-           [5.65, 3.99, 2.97, 2.28, 1.83, 1.54, 1.33, 1.21, 1.08, 1.03],
-           [5.80, 4.11, 3.10, 2.38, 1.89, 1.60, 1.38, 1.22, 1.10, 1.03],
-           [5.80, 4.17, 3.20, 2.44, 1.92, 1.64, 1.42, 1.23, 1.10, 1.03],
-           [5.55, 4.10, 3.17, 2.47, 1.94, 1.67, 1.45, 1.24, 1.10, 1.03],
-           [4.10, 3.36, 2.74, 2.32, 1.98, 1.74, 1.50, 1.28, 1.13, 1.04],
-           [3.54, 3.05, 2.60, 2.27, 2.01, 1.78, 1.54, 1.32, 1.15, 1.04],
-           [3.31, 2.92, 2.60, 2.29, 2.03, 1.80, 1.56, 1.34, 1.16, 1.04],
-           [3.20, 2.90, 2.62, 2.34, 2.08, 1.81, 1.57, 1.34, 1.165, 1.04],
-           [3.23, 2.93, 2.65, 2.27, 2.10, 1.83, 1.58, 1.35, 1.17, 1.04],
-           [3.41, 3.11, 2.815, 2.51, 2.22, 1.93, 1.65, 1.395, 1.19, 1.05]]
-    for i, l in enumerate(ld):
-        for j, p in enumerate(pd):
-            v = str(psi[i][j])
-            add("medhurst", [l, p], v, "0", "info", SRC_MEDHURST)
-            lv = math.inf if l == "inf" else float(l)
-            if lv >= 4 and float(p) <= 1.111:
-                add("medhurst_dowell", [l, p], v, "0.09", "rel", SRC_MEDHURST +
-                    "; Dowell m = 1 at d/delta = 100 within its stated range (long, close-wound coils)")
-            if lv >= 4 and float(p) >= 5:
-                add("medhurst_butterworth", [l, p], v, "0.06", "rel", SRC_MEDHURST +
-                    "; Butterworth's form with u = pi^2 at d/delta = 100 within its stated range "
-                    "(long, widely spaced coils)")
 
     # Radiation resistance: exact Poynting integral of the actual current (mpmath quad); the
     # short-radiator formula is high by about (k h)^2/15 (uniform current) and (k h)^2/30 (linear):

@@ -17,9 +17,9 @@
 //!   wire with the return current far away.
 //! - [`internal_impedance_tube`]: the same for a tube (return current far outside).
 //! - [`proximity_factor`]: the extra loss of a close-wound single-layer coil, by Dowell's
-//!   one-layer formula or Butterworth's uniform-field formula; both are checked against
-//!   R. G. Medhurst's measured ratios in `validation/losses.csv` and hold only in the ranges
-//!   their docs state.
+//!   one-layer formula or Butterworth's uniform-field formula, each tested against its closed form;
+//!   neither is checked here against measured coil resistances, so their docs state the range
+//!   each one's assumptions cover.
 //! - [`radiation_resistance_monopole_ohm`], [`radiation_resistance_dipole_ohm`] with the
 //!   effective height from charges or a current profile.
 //! - [`winding_losses`] and [`q_factor`]: the parts of a winding's resistance and its Q.
@@ -566,11 +566,10 @@ pub const BUTTERWORTH_U_LONG_COIL: f64 = PI * PI;
 /// alpha h = (1 + j) Delta.
 ///
 /// The model is one-dimensional: the field is parallel to the layer, H = N I / l on one side
-/// and zero on the other, as on the winding of a long solenoid. Range: long coils (length/
-/// diameter >= 4) wound close (p/d <= 1.11), where it agrees with Medhurst's measured ratios
-/// within 9 % (see [`proximity_factor`]); it overestimates spaced windings (by 20-35 % at p/d
-/// from 1.4 to 5) and underestimates short coils (by up to 43 %), and it falls below the
-/// isolated wire's resistance for p/d above about 11.
+/// and zero on the other, as on the winding of a long solenoid. Range: its assumptions fit long
+/// coils wound close (a layer that is nearly a sheet); short coils have a field that is not
+/// parallel to the layer, and for p/d above about 11 the factor falls below the isolated
+/// wire's resistance, which no winding can have (refused).
 ///
 /// Method: the ratio of the all-positive series of sinh y + sin y and cosh y - cos y for
 /// Delta <= 1 (no cancellation), else the form divided by cosh 2 Delta (no overflow).
@@ -634,7 +633,8 @@ pub enum ProximityModel {
         /// Butterworth's coefficient u (> 0).
         u: f64,
     },
-    /// A given factor Psi >= 1 (a measured ratio, such as one of Medhurst's).
+    /// A given factor Psi >= 1 (a measured ratio, e.g. from R. G. Medhurst's measurements,
+    /// Wireless Engineer 24, 1947).
     Factor {
         /// R(coil) / R(same wire straightened) at the same frequency.
         psi: f64,
@@ -648,16 +648,13 @@ pub enum ProximityModel {
 /// - Dowell: Psi = F_R / F(x), F_R of [`dowell_one_layer_factor`], F the isolated wire's
 ///   R_ac/R_dc, x = d / (sqrt(2) delta).
 /// - Butterworth: Psi = 1 + u (d/p)^2 G(x) / F(x) (S. Butterworth, Experimental Wireless 3,
-///   1926; F and G exact here). With u = pi^2 (long coil) it agrees with Medhurst's measured
-///   ratios within 6 % for length/diameter >= 4 and p/d >= 5 (`validation/losses.csv`), but
-///   overestimates closer windings (by 20-80 %: it takes the field on each wire as uniform).
+///   1926; F and G exact here). It takes the field on each wire as uniform, which fits widely
+///   spaced windings of long coils (u = pi^2) and overstates close windings.
 ///
-/// Agreement with R. G. Medhurst's measured Psi ("H.F. resistance and self-capacitance of
-/// single-layer solenoids", Wireless Engineer 24, 1947; table transcribed from a secondary
-/// copy) at d/delta = 100: Dowell within 9 % for l/D >= 4 and p/d <= 1.11; Butterworth with
-/// u = pi^2 within 6 % for l/D >= 4 and p/d >= 5. Neither formula follows Medhurst's short
-/// coils (l/D < 2) or the middle spacings (1.25 <= p/d <= 3.3) to better than 15-80 %: for
-/// those, give the measured ratio as [`ProximityModel::Factor`].
+/// Neither formula is checked here against measured coil resistances (R. G. Medhurst's
+/// measurements, "H.F. resistance and self-capacitance of single-layer solenoids", Wireless
+/// Engineer 24, 1947, are the trade's reference; a measured ratio can be given as
+/// [`ProximityModel::Factor`]).
 ///
 /// Errors: invalid sizes; p < d; a model factor below 1 (Dowell at wide spacing), which no
 /// winding can have and which marks the model as out of its range.
@@ -1143,47 +1140,6 @@ mod tests {
             check(
                 &r,
                 dowell_one_layer_factor(r.args[0], r.args[1], r.args[2]).unwrap(),
-            );
-        }
-    }
-
-    /// The proximity factor of a model at Medhurst's conditions: d = 1 mm, d/delta = 100.
-    fn psi_at(model: ProximityModel, p_over_d: f64) -> f64 {
-        proximity_factor(model, 1e-3, p_over_d * 1e-3, 1e-5).unwrap()
-    }
-
-    #[test]
-    fn proximity_models_agree_with_medhurst_in_their_ranges() {
-        // Source: R. G. Medhurst, Wireless Engineer 24 (1947), measured Psi (rows in
-        // validation/losses.csv); Dowell within 9 % (l/D >= 4, p/d <= 1.11), Butterworth with
-        // u = pi^2 within 6 % (l/D >= 4, p/d >= 5).
-        let mut worst: f64 = 0.0;
-        for r in rows("medhurst_dowell") {
-            worst = worst.max(check(&r, psi_at(ProximityModel::DowellOneLayer, r.args[1])));
-        }
-        for r in rows("medhurst_butterworth") {
-            let model = ProximityModel::Butterworth {
-                u: BUTTERWORTH_U_LONG_COIL,
-            };
-            worst = worst.max(check(&r, psi_at(model, r.args[1])));
-        }
-        println!("Medhurst, in range: worst relative deviation {worst:.3}");
-        // Outside their ranges the models are reported, not asserted.
-        for r in rows("medhurst") {
-            let dowell = psi_at(ProximityModel::DowellOneLayer, r.args[1]);
-            let butterworth = psi_at(
-                ProximityModel::Butterworth {
-                    u: BUTTERWORTH_U_LONG_COIL,
-                },
-                r.args[1],
-            );
-            println!(
-                "l/D {:>5} p/d {:>5}: Medhurst {:.3}  Dowell {:+.2}  Butterworth {:+.2}",
-                r.args[0],
-                r.args[1],
-                r.reference,
-                dowell / r.reference - 1.0,
-                butterworth / r.reference - 1.0
             );
         }
     }
