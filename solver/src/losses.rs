@@ -1150,7 +1150,7 @@ mod tests {
         // frequency (Psi_HF = sqrt(2) pi^(3/4) sqrt(d/p), closed form of the m = 1 limit).
         let err = proximity_factor(ProximityModel::DowellOneLayer, 1e-3, 20e-3, 1e-5);
         assert!(matches!(err, Err(SolverError::LossModelOutOfRange { .. })));
-        let ok = psi_at(ProximityModel::DowellOneLayer, 1.0);
+        let ok = proximity_factor(ProximityModel::DowellOneLayer, 1e-3, 1e-3, 1e-5).unwrap();
         let hf = SQRT_2 * PI.powf(0.75);
         assert!((ok / hf - 1.0).abs() < 0.01, "{ok} vs {hf}");
     }
