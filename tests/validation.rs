@@ -173,3 +173,114 @@ fn square_loops_match_neumanns_double_integral() {
     let want: f64 = references(&refs).iter().sum();
     assert!(rel(m, want) < 1e-9, "{m} vs {want}");
 }
+
+/// The windings of `validation/images.csv` (invented for the check) over the plane z = 0.
+const IMAGE_DESIGN: &str = r#"
+[[winding]]
+name = "secondary"
+shape = "helix"
+role = "secondary"
+origin = [0.0, 0.0, 0.03]
+axis = [0.0, 0.0, 1.0]
+radius = 0.05
+length = 0.04
+turns = 40
+wire_diameter = 0.0005
+
+[[winding]]
+name = "primary"
+shape = "spiral"
+role = "primary"
+origin = [0.0, 0.0, 0.015]
+axis = [0.0, 0.0, 1.0]
+inner_radius = 0.07
+outer_radius = 0.1
+turns = 6
+wire_diameter = 0.002
+"#;
+
+/// Reference of `validation/images.csv` (mpmath image rings, `validation/images_refs.py`).
+fn image_reference(case: &str, quantity: &str) -> f64 {
+    let text = std::fs::read_to_string(root().join("validation/images.csv")).unwrap();
+    let mut rows = csv_rows(&text);
+    let row = rows
+        .find(|r| r[0] == case && r[1] == quantity)
+        .unwrap_or_else(|| panic!("no row {case} {quantity}"));
+    row[2].parse().unwrap()
+}
+
+/// Rows of a CSV table with quoted fields (RFC 4180), header skipped.
+fn csv_rows(text: &str) -> impl Iterator<Item = Vec<String>> + '_ {
+    text.lines().skip(1).map(|line| {
+        let mut out = vec![String::new()];
+        let mut quoted = false;
+        for c in line.chars() {
+            match c {
+                '"' => quoted = !quoted,
+                ',' if !quoted => out.push(String::new()),
+                _ => out.last_mut().unwrap().push(c),
+            }
+        }
+        out
+    })
+}
+
+#[test]
+fn a_conducting_ground_changes_l_and_m_as_image_rings_do() {
+    // Source: validation/images.csv, mpmath 30 digits: Maxwell's formula for each ring against
+    // the other winding's rings and their mirror images in the plane (method of images).
+    let dir = tempfile::tempdir().unwrap();
+    let quantities = [
+        ("self_inductance.secondary", 0, 0),
+        ("self_inductance.primary", 1, 1),
+        ("mutual.secondary.primary", 0, 1),
+    ];
+    for (case, ground) in [
+        ("free_space", "[ground]\nz = 0.0\nconducting = false\n"),
+        (
+            "conducting_ground",
+            "[ground]\nz = 0.0\nconducting = true\n",
+        ),
+    ] {
+        let path = design_file(dir.path(), "d.toml", &format!("{IMAGE_DESIGN}\n{ground}"));
+        let json = inductance_json(&path);
+        for (q, i, j) in quantities {
+            let got = json["mutual_h"][i][j].as_f64().unwrap();
+            let want = image_reference(case, q);
+            assert!(rel(got, want) < 1e-11, "{case} {q}: {got} vs {want}");
+        }
+        let warned = json["warnings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|w| w.as_str().unwrap().contains("image windings"));
+        assert_eq!(warned, case == "conducting_ground");
+        // The sweep metrics take the same path: a one-point sweep of the primary's height.
+        std::fs::write(
+            dir.path().join("s.toml"),
+            "base = \"d.toml\"\nmetrics = [\"self_inductance.secondary\", \
+             \"self_inductance.primary\", \"mutual.secondary.primary\"]\n\n[[axis]]\n\
+             key = \"winding.primary.origin[2]\"\nvalues = [0.015]\n",
+        )
+        .unwrap();
+        let out_csv = dir.path().join(format!("{case}.csv"));
+        let out = run(&[
+            "sweep",
+            dir.path().join("s.toml").to_str().unwrap(),
+            "--out",
+            out_csv.to_str().unwrap(),
+        ]);
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let text = std::fs::read_to_string(&out_csv).unwrap();
+        let row: Vec<&str> = text.lines().nth(1).unwrap().split(',').collect();
+        for (k, (q, _, _)) in quantities.iter().enumerate() {
+            let got: f64 = row[2 + k].parse().unwrap();
+            let want = image_reference(case, q);
+            assert!(rel(got, want) < 1e-11, "sweep {case} {q}: {got} vs {want}");
+        }
+    }
+}

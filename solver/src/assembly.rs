@@ -1,4 +1,7 @@
-//! Assembly of the inductance matrix of a design: one kernel chosen per pair of windings.
+//! Assembly of the inductance matrix of a design: one kernel chosen per pair of windings, and
+//! the image windings of a conducting ground plane. [`inductance_entry`] is the one path to an
+//! entry of the matrix: the `inductance` and `report` commands ([`inductance_report`]) and the
+//! sweep metrics all call it.
 
 use crate::coupling::coupling_matrix;
 use crate::error::SolverError;
@@ -10,7 +13,9 @@ use crate::par::{Par, map_indexed, sum_indexed};
 use crate::segment::{mutual_rings_segment, mutual_segment_segment};
 use crate::self_inductance::{rosa_solenoid, self_filament_model, self_ring_model, wheeler_spiral};
 use coilfield_geometry::discretise::{filament_model, ring_model};
-use coilfield_geometry::{Design, FilamentModel, Model, RingModel, Shape, Winding};
+use coilfield_geometry::{
+    Design, FilamentModel, Ground, Model, RingModel, Shape, Winding, image_windings,
+};
 use serde::Serialize;
 
 /// The discretised form that answers for a winding.
@@ -272,6 +277,43 @@ pub fn mutual_inductance(
     })
 }
 
+/// The image of a winding's model in a perfectly conducting ground plane (see
+/// [`coilfield_geometry::image_windings`]): the geometric mirror, currents reversed in the
+/// plane, so that the normal flux density vanishes on it.
+pub fn image_model(winding: &Winding, ground: &Ground) -> WindingModel {
+    let image = image_windings(std::slice::from_ref(winding), ground);
+    WindingModel::of(&image[0])
+}
+
+/// Entry (i, j) of a design's inductance matrix (H) from the windings' models: the
+/// self-inductance when `same` (a and b one winding), else the mutual inductance, plus, over a
+/// conducting ground plane, the mutual inductance of `a` with the image of `b` (`image_b`):
+/// L'_ij = L_ij + M(winding i, image of winding j), the flux through winding i per ampere in
+/// winding j when the plane's induced currents flow too (method of images; symmetric, since
+/// M(i, image j) = M(j, image i) by the mirror symmetry). Returns the value, the kernel of the
+/// free-space part and whether every quadrature converged.
+pub fn inductance_entry(
+    a: &WindingModel,
+    b: &WindingModel,
+    same: bool,
+    image_b: Option<&WindingModel>,
+    par: Par,
+) -> Result<(f64, Kernel, bool), SolverError> {
+    let (free, kernel, converged) = if same {
+        let (l, k) = self_inductance(a, par);
+        (l, k, true)
+    } else {
+        mutual_inductance(a, b, par)?
+    };
+    match image_b {
+        None => Ok((free, kernel, converged)),
+        Some(img) => {
+            let (m, _, ok) = mutual_inductance(a, img, par)?;
+            Ok((free + m, kernel, converged && ok))
+        }
+    }
+}
+
 /// An independent estimate of a winding's self-inductance (H) and how it was obtained.
 pub fn cross_check(winding: &Winding, model: &WindingModel, par: Par) -> Option<(f64, String)> {
     if let WindingModel::Filament(_) = model
@@ -325,15 +367,21 @@ pub fn inductance_report(design: &Design, par: Par) -> Result<InductanceReport, 
             ));
         }
     }
+    let ground = design.ground.filter(|g| g.conducting);
+    let images: Option<Vec<WindingModel>> =
+        ground.map(|g| windings.iter().map(|w| image_model(w, &g)).collect());
+    if let Some(g) = ground {
+        warnings.push(format!(
+            "the ground plane z = {} m is conducting: every inductance includes the image \
+             windings mirrored in it (a perfect conductor); cross-checks are for free space",
+            g.z_m
+        ));
+    }
     let pairs: Vec<(usize, usize)> = (0..n).flat_map(|i| (i..n).map(move |j| (i, j))).collect();
     let results = map_indexed(pairs.len(), par, |p| {
         let (i, j) = pairs[p];
-        if i == j {
-            let (l, k) = self_inductance(&models[i], par);
-            Ok((l, k, true))
-        } else {
-            mutual_inductance(&models[i], &models[j], par)
-        }
+        let image_j = images.as_ref().map(|v| &v[j]);
+        inductance_entry(&models[i], &models[j], i == j, image_j, par)
     });
     let mut matrix = vec![vec![0.0; n]; n];
     let mut kernels = Vec::with_capacity(pairs.len());

@@ -37,10 +37,8 @@
 //! Quasi-static (the current is the same all along a winding, fields in phase with it); a
 //! point within a wire's radius of its centreline gets no answer (None).
 
-use crate::assembly::{WindingModel, inductance_report, mutual_inductance};
 use crate::constants::MU0;
 use crate::elliptic::cel_positive_p;
-use crate::error::SolverError;
 use crate::par::{Par, map_indexed};
 use coilfield_geometry::discretise::{filament_model, ring_model};
 use coilfield_geometry::{
@@ -410,32 +408,6 @@ pub fn sources_from_design(design: &Design, source: &str) -> Result<Vec<Source>,
     Ok(out)
 }
 
-/// Inductance matrix (H, file order) with the image windings of a conducting ground plane:
-/// L'_ij = L_ij + M(winding i, image of winding j), the flux through winding i per ampere in
-/// winding j when the plane's induced currents (the images) flow too. Symmetric, since
-/// M(i, image j) = M(j, image i) by the mirror symmetry. None without a conducting plane.
-pub fn inductance_matrix_with_images(
-    design: &Design,
-    par: Par,
-) -> Result<Option<Vec<Vec<f64>>>, SolverError> {
-    let Some(g) = design.ground.filter(|g| g.conducting) else {
-        return Ok(None);
-    };
-    let report = inductance_report(design, par)?;
-    let models: Vec<WindingModel> = design.windings.iter().map(WindingModel::of).collect();
-    let images: Vec<WindingModel> = image_windings(&design.windings, &g)
-        .iter()
-        .map(WindingModel::of)
-        .collect();
-    let mut l = report.mutual_h;
-    for (i, mi) in models.iter().enumerate() {
-        for (j, mj) in images.iter().enumerate() {
-            l[i][j] += mutual_inductance(mi, mj, par)?.0;
-        }
-    }
-    Ok(Some(l))
-}
-
 /// The warning to print when B (and L, M) include image windings of a conducting plane.
 pub fn image_warning(design: &Design) -> Option<String> {
     design.ground.filter(|g| g.conducting).map(|g| {
@@ -687,10 +659,16 @@ mod tests {
         // image circulating the other way.
         let text = "[[winding]]\nname = \"loop\"\nshape = \"ring\"\norigin = [0.0, 0.0, 0.05]\naxis = [0.0, 0.0, 1.0]\nradius = 0.1\nwire_diameter = 0.001\n[ground]\nz = 0.0\nconducting = true\n";
         let d = coilfield_geometry::parse_design(text, "t").unwrap();
-        let l = inductance_matrix_with_images(&d, Par::Seq)
+        let l = crate::assembly::inductance_report(&d, Par::Seq)
             .unwrap()
-            .unwrap();
-        let free = inductance_report(&d, Par::Seq).unwrap().mutual_h[0][0];
+            .mutual_h;
+        let free_design = Design {
+            ground: None,
+            ..d.clone()
+        };
+        let free = crate::assembly::inductance_report(&free_design, Par::Seq)
+            .unwrap()
+            .mutual_h[0][0];
         let m = crate::mutual::mutual_ring_ring_coaxial(0.1, 0.1, 0.1);
         assert!(
             ((l[0][0] - (free - m)) / free).abs() < 1e-9,

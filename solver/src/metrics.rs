@@ -15,7 +15,7 @@
 //! depend on threads.
 
 use crate::Par;
-use crate::assembly::{WindingModel, mutual_inductance, self_inductance};
+use crate::assembly::{WindingModel, image_model, inductance_entry};
 use crate::coupling::coupling;
 use crate::electrostatic::{Params, Problem, Solution};
 use coilfield_geometry::query::overlap::min_surface_gap_m;
@@ -298,7 +298,9 @@ pub struct PointResult {
 struct Cached {
     winding: Winding,
     model: OnceLock<WindingModel>,
-    self_h: OnceLock<f64>,
+    /// The model of its image in a conducting ground plane.
+    image: OnceLock<WindingModel>,
+    self_h: OnceLock<Result<f64, String>>,
 }
 
 /// Evaluates metrics and constraints on variants of one base design.
@@ -317,6 +319,7 @@ pub struct Evaluator {
 struct Scratch<'a> {
     design: &'a Design,
     models: Vec<Option<WindingModel>>,
+    images: Vec<Option<WindingModel>>,
     self_h: Vec<Option<f64>>,
     mutual_h: Vec<((usize, usize), f64)>,
     electric: Option<Result<Solution, String>>,
@@ -331,6 +334,7 @@ impl<'a> Scratch<'a> {
         Scratch {
             design,
             models: vec![None; n],
+            images: vec![None; n],
             self_h: vec![None; n],
             mutual_h: Vec::new(),
             electric: None,
@@ -388,6 +392,7 @@ impl Evaluator {
                 .map(|w| Cached {
                     winding: w.clone(),
                     model: OnceLock::new(),
+                    image: OnceLock::new(),
                     self_h: OnceLock::new(),
                 })
                 .collect(),
@@ -513,25 +518,71 @@ impl Evaluator {
             .filter(|c| design.windings.get(i) == Some(&c.winding))
     }
 
-    fn model<'s>(&'s self, s: &'s mut Scratch<'_>, i: usize) -> &'s WindingModel {
+    /// Build the model of winding `i` (and its image over a conducting ground) for the point,
+    /// or take the base's when the point leaves the winding as it is.
+    fn build(&self, s: &mut Scratch<'_>, i: usize) {
+        let ground = s.design.ground.filter(|g| g.conducting);
         if let Some(c) = self.unchanged(s.design, i) {
-            return c.model.get_or_init(|| WindingModel::of(&c.winding));
+            c.model.get_or_init(|| WindingModel::of(&c.winding));
+            if let Some(g) = ground {
+                c.image.get_or_init(|| image_model(&c.winding, &g));
+            }
+            return;
         }
-        s.models[i].get_or_insert_with(|| WindingModel::of(&s.design.windings[i]))
+        let w = &s.design.windings[i];
+        if s.models[i].is_none() {
+            s.models[i] = Some(WindingModel::of(w));
+        }
+        if let Some(g) = ground
+            && s.images[i].is_none()
+        {
+            s.images[i] = Some(image_model(w, &g));
+        }
     }
 
-    fn self_h(&self, s: &mut Scratch<'_>, i: usize) -> f64 {
+    /// The model of winding `i` (`image`: of its image) built by [`Evaluator::build`].
+    fn built<'s>(&'s self, s: &'s Scratch<'_>, i: usize, image: bool) -> Option<&'s WindingModel> {
+        match (self.unchanged(s.design, i), image) {
+            (Some(c), false) => c.model.get(),
+            (Some(c), true) => c.image.get(),
+            (None, false) => s.models[i].as_ref(),
+            (None, true) => s.images[i].as_ref(),
+        }
+    }
+
+    /// Entry (a, b) of the point's inductance matrix through the one path of
+    /// [`inductance_entry`] (images of a conducting ground included).
+    fn entry(&self, s: &mut Scratch<'_>, a: usize, b: usize) -> Result<f64, String> {
+        self.build(s, a);
+        self.build(s, b);
+        let model_a = self.built(s, a, false).ok_or("model not built")?;
+        let model_b = self.built(s, b, false).ok_or("model not built")?;
+        let image_b = self.built(s, b, true);
+        let (v, _, converged) = inductance_entry(model_a, model_b, a == b, image_b, Par::Seq)
+            .map_err(|e| e.to_string())?;
+        if !converged {
+            s.notes.push(format!(
+                "mutual.{}.{}: the quadrature did not reach its tolerance (wires very close)",
+                s.design.windings[a].name, s.design.windings[b].name
+            ));
+        }
+        Ok(v)
+    }
+
+    fn self_h(&self, s: &mut Scratch<'_>, i: usize) -> Result<f64, String> {
         if let Some(c) = self.unchanged(s.design, i) {
-            return *c
-                .self_h
-                .get_or_init(|| self_inductance(&WindingModel::of(&c.winding), Par::Seq).0);
+            if let Some(v) = c.self_h.get() {
+                return v.clone();
+            }
+            let v = self.entry(s, i, i);
+            return c.self_h.get_or_init(|| v).clone();
         }
         if let Some(v) = s.self_h[i] {
-            return v;
+            return Ok(v);
         }
-        let v = self_inductance(self.model(s, i), Par::Seq).0;
+        let v = self.entry(s, i, i)?;
         s.self_h[i] = Some(v);
-        v
+        Ok(v)
     }
 
     fn mutual_h(&self, s: &mut Scratch<'_>, a: usize, b: usize) -> Result<f64, String> {
@@ -539,34 +590,18 @@ impl Evaluator {
         if let Some(&(_, v)) = s.mutual_h.iter().find(|(k, _)| *k == key) {
             return Ok(v);
         }
-        // Build both models first, then borrow them together (no copy of a long model).
-        self.model(s, a);
-        self.model(s, b);
-        let get = |i: usize| -> &WindingModel {
-            match self.unchanged(s.design, i) {
-                Some(c) => c.model.get().expect("built above"),
-                None => s.models[i].as_ref().expect("built above"),
-            }
-        };
-        let (v, _, converged) =
-            mutual_inductance(get(a), get(b), Par::Seq).map_err(|e| e.to_string())?;
-        if !converged {
-            s.notes.push(format!(
-                "mutual.{}.{}: the quadrature did not reach its tolerance (wires very close)",
-                s.design.windings[a].name, s.design.windings[b].name
-            ));
-        }
+        let v = self.entry(s, a, b)?;
         s.mutual_h.push((key, v));
         Ok(v)
     }
 
     fn value(&self, s: &mut Scratch<'_>, m: Metric) -> Result<f64, String> {
         Ok(match m {
-            Metric::SelfInductance(i) => self.self_h(s, i),
+            Metric::SelfInductance(i) => self.self_h(s, i)?,
             Metric::Mutual(a, b) => self.mutual_h(s, a, b)?,
             Metric::Coupling(a, b) => {
                 let m = self.mutual_h(s, a, b)?;
-                coupling(m, self.self_h(s, a), self.self_h(s, b))
+                coupling(m, self.self_h(s, a)?, self.self_h(s, b)?)
             }
             Metric::Gap(a, b) => min_surface_gap_m(&s.design.windings[a], &s.design.windings[b]),
             Metric::Capacitance(_) | Metric::SelfCapacitance(_) | Metric::SurfaceField(_) => {
