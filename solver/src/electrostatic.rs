@@ -96,7 +96,7 @@
 
 use crate::SolverError;
 use crate::constants::{C0, EPS0};
-use crate::elliptic::cel_positive_p;
+use crate::elliptic::{cel_positive_p, k_e_from_kc, k_from_kc};
 use crate::par::{Par, map_indexed};
 use crate::quadrature::gauss_legendre;
 use coilfield_geometry::discretise::filament_model;
@@ -564,48 +564,6 @@ impl NodalCapacitance {
     }
 }
 
-/// AGM triple: K(m), E(m) and K(m) - E(m) from kc (m = 1 - kc^2 given too, for E's sum).
-///
-/// K = pi / (2 AGM(1, kc)), E = K (1 - sum_n 2^(n-1) c_n^2), c_0^2 = m (the AGM method,
-/// M. Abramowitz, I. A. Stegun, *Handbook of Mathematical Functions*, 1964, 17.6); K - E =
-/// K sum comes without cancellation for small m.
-#[inline]
-fn ellip_ke(kc: f64, m: f64) -> (f64, f64, f64) {
-    let mut a = 1.0;
-    let mut b = kc;
-    let mut sum = 0.5 * m;
-    let mut pow = 0.5;
-    for _ in 0..40 {
-        let c = 0.5 * (a - b);
-        pow *= 2.0;
-        sum += pow * c * c;
-        let an = 0.5 * (a + b);
-        b = (a * b).sqrt();
-        a = an;
-        if c.abs() <= 1e-15 * a {
-            break;
-        }
-    }
-    let k = FRAC_PI_2 / a;
-    (k, k * (1.0 - sum), k * sum)
-}
-
-/// K(m) only, by the AGM on kc (kc from the geometry).
-#[inline]
-fn ellip_k_kc(kc: f64) -> f64 {
-    let mut a = 1.0;
-    let mut b = kc;
-    for _ in 0..40 {
-        if (a - b).abs() <= 1e-15 * a {
-            break;
-        }
-        let an = 0.5 * (a + b);
-        b = (a * b).sqrt();
-        a = an;
-    }
-    FRAC_PI_2 / a
-}
-
 /// Potential (V) at (rho, z) of a ring charge of 1 C, radius `a`, at height `z0`, times
 /// 4 pi eps0: (2 / pi) K(m) / sqrt(D).
 #[inline]
@@ -614,7 +572,7 @@ fn ring_potential_unit(a: f64, z0: f64, rho: f64, z: f64) -> f64 {
     let big_d = (a + rho) * (a + rho) + dz * dz;
     let small_d = (a - rho) * (a - rho) + dz * dz;
     let kc = (small_d / big_d).sqrt();
-    (2.0 / PI) * ellip_k_kc(kc) / big_d.sqrt()
+    (2.0 / PI) * k_from_kc(kc) / big_d.sqrt()
 }
 
 /// Potential (V) at (`rho_m`, `z_m`) of a ring charge `q_c` of radius `a_m` at height `z0_m`.
@@ -642,7 +600,7 @@ pub fn e_ring_charge_point(q_c: f64, a_m: f64, z0_m: f64, rho_m: f64, z_m: f64) 
     let sq = big_d.sqrt();
     let pre = q_c / (4.0 * PI * PI * EPS0 * sq);
     let m = 4.0 * a_m * rho_m / big_d;
-    let (_, e, _) = ellip_ke(kc, m);
+    let (_, e, _) = k_e_from_kc(kc, m);
     let ez = 2.0 * pre * dz * e / small_d;
     let erho = pre
         * cel_positive_p(
@@ -701,7 +659,7 @@ fn e_ring_charge_fast(q_c: f64, a_m: f64, z0_m: f64, rho_m: f64, z_m: f64) -> (f
     let small_d = (a_m - rho_m) * (a_m - rho_m) + dz * dz;
     let m = 4.0 * a_m * rho_m / big_d;
     let kc = (small_d / big_d).sqrt();
-    let (_, e, k_minus_e) = ellip_ke(kc, m);
+    let (_, e, k_minus_e) = k_e_from_kc(kc, m);
     let pre = q_c / (4.0 * PI * PI * EPS0 * big_d.sqrt());
     let ez = 2.0 * pre * dz * e / small_d;
     let erho = if rho_m > 0.0 {
@@ -1418,7 +1376,7 @@ fn self_potential(p: &Panel) -> f64 {
             let big_d = (r + rc) * (r + rc) + (z - zc) * (z - zc);
             let small_d = (r - rc) * (r - rc) + (z - zc) * (z - zc);
             let kc = (small_d / big_d).sqrt();
-            let k = ellip_k_kc(kc);
+            let k = k_from_kc(kc);
             let log4kc = 4.0_f64.ln() + 0.5 * big_d.ln() - 0.5 * small_d.ln();
             let h = r / big_d.sqrt();
             let smooth =

@@ -10,20 +10,41 @@
 //! Numer. Math. 13, 305-315, 1969). Callers that know the geometry pass kc computed from it,
 //! never `sqrt(1 - m)`, which loses all digits as m -> 1.
 //!
-//! K, E and the general cel come from the `ellip` crate (the backend of `special`); the
-//! combination [`maxwell_g`] that every ring kernel needs has its own fused implementation.
+//! This is the workspace's one elliptic module:
+//! - plain K(m) and E(m) ([`ellip_k`], [`ellip_e`]) come from `special`'s `Elliptic` trait, on
+//!   validated arguments only (it panics outside 0 <= m <= 1; these functions return NaN
+//!   there instead);
+//! - the general cel ([`cel`]) comes from `ellip`, the backend of `special`, called with kc
+//!   directly: `special`'s cel methods take m and form kc = sqrt(1 - m), which loses every digit
+//!   as m -> 1 (rings nearly touching), so callers that know the geometry pass kc themselves;
+//! - the hot kernels have fused iterations here: [`maxwell_g`] / [`maxwell_cel`] for every ring
+//!   kernel, [`cel_positive_p`] for the field kernels, and [`k_e_from_kc`] / [`k_from_kc`]
+//!   (K, E and K - E by the arithmetic-geometric mean from kc) for the ring charges of the
+//!   electrostatic solver.
 
 /// Complete elliptic integral of the first kind K(m), 0 <= m < 1 (NaN outside).
 ///
 /// Accuracy: within 1e-13 relative of mpmath on `validation/elliptic.csv` (ellip's K was seen
 /// up to ~23 ulp off near m = 0.85-0.90).
 pub fn ellip_k(m: f64) -> f64 {
-    ellip::ellipk(m).unwrap_or(f64::NAN)
+    use special::Elliptic;
+    // special unwraps (panics) outside its domain; m = 1 is infinite.
+    if (0.0..1.0).contains(&m) {
+        m.elliptic_k()
+    } else {
+        f64::NAN
+    }
 }
 
 /// Complete elliptic integral of the second kind E(m), 0 <= m <= 1 (NaN outside).
 pub fn ellip_e(m: f64) -> f64 {
-    ellip::ellipe(m).unwrap_or(f64::NAN)
+    use special::Elliptic;
+    // special unwraps (panics) outside its domain.
+    if (0.0..=1.0).contains(&m) {
+        m.elliptic_e()
+    } else {
+        f64::NAN
+    }
 }
 
 /// Bulirsch's cel(kc, p, a, b) (NaN where it is undefined, e.g. kc = 0 or p = 0).
@@ -184,6 +205,50 @@ pub fn cel_positive_p(kc: f64, p: f64, a: f64, b: f64) -> f64 {
     std::f64::consts::FRAC_PI_2 * (bb + aa * m) / (m * (m + pp))
 }
 
+/// K(m), E(m) and K(m) - E(m) from the complementary modulus kc (with m = 1 - kc^2 given too,
+/// both from the geometry), by the arithmetic-geometric mean.
+///
+/// K = pi / (2 AGM(1, kc)), E = K (1 - sum_n 2^(n-1) c_n^2), c_0^2 = m (M. Abramowitz,
+/// I. A. Stegun, *Handbook of Mathematical Functions*, 1964, 17.6; NIST DLMF 19.8.1, 19.8.6);
+/// K - E = K sum comes without cancellation for small m. kc in (0, 1].
+#[inline]
+pub fn k_e_from_kc(kc: f64, m: f64) -> (f64, f64, f64) {
+    let mut a = 1.0;
+    let mut b = kc;
+    let mut sum = 0.5 * m;
+    let mut pow = 0.5;
+    for _ in 0..40 {
+        let c = 0.5 * (a - b);
+        pow *= 2.0;
+        sum += pow * c * c;
+        let an = 0.5 * (a + b);
+        b = (a * b).sqrt();
+        a = an;
+        if c.abs() <= 1e-15 * a {
+            break;
+        }
+    }
+    let k = std::f64::consts::FRAC_PI_2 / a;
+    (k, k * (1.0 - sum), k * sum)
+}
+
+/// K(m) from the complementary modulus kc = sqrt(1 - m) (from the geometry), by the
+/// arithmetic-geometric mean K = pi / (2 AGM(1, kc)) (NIST DLMF 19.8.1). kc in (0, 1].
+#[inline]
+pub fn k_from_kc(kc: f64) -> f64 {
+    let mut a = 1.0;
+    let mut b = kc;
+    for _ in 0..40 {
+        if (a - b).abs() <= 1e-15 * a {
+            break;
+        }
+        let an = 0.5 * (a + b);
+        b = (a * b).sqrt();
+        a = an;
+    }
+    std::f64::consts::FRAC_PI_2 / a
+}
+
 #[cfg(test)]
 mod tests {
 
@@ -257,6 +322,22 @@ mod tests {
             );
         }
         assert!((maxwell_g(0.0, 1.0) - std::f64::consts::PI / 16.0).abs() < 1e-17);
+    }
+
+    #[test]
+    fn agm_k_and_e_from_kc_match_mpmath() {
+        // mpmath 30 digits: ellipk(0.5) = 1.8540746773013719184, ellipe(0.5) =
+        // 1.3506438810476755025 (also validation/elliptic.csv).
+        let kc = 0.5_f64.sqrt();
+        let (k, e, k_minus_e) = k_e_from_kc(kc, 0.5);
+        assert!((k - 1.854_074_677_301_371_9).abs() < 1e-15);
+        assert!((e - 1.350_643_881_047_675_5).abs() < 1e-15);
+        assert!((k_minus_e - (k - e)).abs() < 1e-15);
+        assert!((k_from_kc(kc) - k).abs() < 1e-15);
+        assert!((ellip_k(0.5) - k).abs() < 1e-15);
+        assert!((ellip_e(0.5) - e).abs() < 1e-15);
+        // Outside the domain: NaN, no panic.
+        assert!(ellip_k(1.0).is_nan() && ellip_k(-0.1).is_nan() && ellip_e(2.0).is_nan());
     }
 
     #[test]
