@@ -6,9 +6,7 @@ use crate::clearance::ClearanceMetrics;
 use coilfield_geometry::file::sweep::{
     Part, Sweep, Values, apply_to_item, item_table, parse_sweep, points,
 };
-use coilfield_geometry::{
-    Design, check_design, electrode_from_table, parse_design, winding_from_table,
-};
+use coilfield_geometry::{Design, electrode_from_table, parse_design, winding_from_table};
 use coilfield_solver::metrics::{Evaluator, PointResult, parse_constraint_with, parse_metric_with};
 use std::collections::BTreeMap;
 use std::fs::{File, OpenOptions};
@@ -163,7 +161,8 @@ impl Plan {
     /// Each winding or electrode that the axes edit is its base table with the values set, read
     /// again with every check of a design file for one item ([`winding_from_table`],
     /// [`electrode_from_table`]); the others are the base's. The checks between items run on
-    /// the whole result ([`check_design`]), as [`parse_design`] runs them. Names cannot be
+    /// the whole result, over the pairs that involve an edited part
+    /// ([`coilfield_geometry::query::checks::PreparedDesign::check`]), as [`parse_design`] runs them. Names cannot be
     /// swept, so they stay unique.
     pub fn design_with(&self, values: &[(usize, f64)], label: &str) -> Result<Design, String> {
         let mut design = self.base_design.clone();
@@ -187,7 +186,10 @@ impl Plan {
                 }
             }
         }
-        check_design(&design, label).map_err(|e| e.to_string())?;
+        self.evaluator
+            .prepared()
+            .check(&design, label)
+            .map_err(|e| e.to_string())?;
         Ok(design)
     }
 

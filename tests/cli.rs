@@ -53,7 +53,7 @@ fn json_has_the_documented_shape() {
             .unwrap()
     };
     assert_eq!(kernel_of("secondary", "primary"), "maxwell-coaxial");
-    assert_eq!(kernel_of("secondary", "pickup"), "ring-line-integral");
+    assert_eq!(kernel_of("secondary", "pickup"), "stack-line-integral");
     assert_eq!(kernel_of("secondary", "secondary"), "toeplitz-ring-sum");
     assert_eq!(kernel_of("primary", "primary"), "ring-sum");
     assert!(j["warnings"].is_array());
@@ -118,7 +118,7 @@ fn mixed_models_agree_for_an_offset_tilted_pair() {
         "wire_diameter = 0.003\nmodel = \"filament\"",
     );
     let j_fil = inductance_json(&design_file(dir.path(), "fil.toml", &fil));
-    assert_eq!(j_ring["kernels"][1]["kernel"], "ring-line-integral");
+    assert_eq!(j_ring["kernels"][1]["kernel"], "stack-line-integral");
     assert_eq!(j_fil["kernels"][1]["kernel"], "ring-filament-line-integral");
     let m_ring = j_ring["mutual_h"][0][1].as_f64().unwrap();
     let m_fil = j_fil["mutual_h"][0][1].as_f64().unwrap();

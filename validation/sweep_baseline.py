@@ -1,7 +1,9 @@
 #!/usr/bin/env python3
-"""Baseline for the sweep benchmark: the straightforward numpy/scipy computation of the
-coupling k between the secondary and the primary of meshes-demo/tabletop-resonator.toml over the
-100 x 100 grid of meshes-demo/sweep-primary.toml (primary height x inner radius).
+"""Baseline for the sweep benchmarks: the straightforward numpy/scipy computation of the
+coupling k between the secondary and the primary of meshes-demo/bench-sweep-base.toml over the
+grid of a sweep file whose two axes are the primary's height and inner radius
+(meshes-demo/bench-sweep-below.toml by default, or --sweep FILE, e.g.
+meshes-demo/bench-sweep-overlap.toml).
 
 Per point: Maxwell's formula (J. C. Maxwell, A Treatise on Electricity and Magnetism, 1873,
 art. 701), M = mu0 sqrt(ab) ((2/k - k) K - (2/k) E) with scipy's ellipk/ellipe (parameter m = k^2),
@@ -11,11 +13,14 @@ for every pair of its turns); the secondary's self-inductance computed once, Toe
 The ring models are those of the design (turn i of a helix at (i + 1/2) pitch; spiral turns at
 their mean radius). mu0 = 4 pi 1e-7 H/m.
 
-Usage: sweep_baseline.py [--check results.csv] ; prints the time taken and, with --check, the
-largest relative difference from a `coilfield sweep` CSV of the same sweep.
+Usage: sweep_baseline.py [--sweep SWEEP.toml] [--check results.csv] ; prints the time taken and,
+with --check, the largest relative difference from a `coilfield sweep` CSV of the same sweep.
 """
+import argparse
+import os
 import sys
 import time
+import tomllib
 
 import numpy as np
 from scipy.special import ellipe, ellipk
@@ -34,7 +39,24 @@ def ring_self(a, r):
     return MU0 * a * (np.log(8.0 * a / r) - 1.75)
 
 
+def axes(sweep_path):
+    """The two grid axes of the sweep file (from/to/steps, both ends included, as coilfield)."""
+    with open(sweep_path, "rb") as f:
+        sweep = tomllib.load(f)
+    out = {}
+    for axis in sweep["axis"]:
+        v = np.linspace(axis["from"], axis["to"], axis["steps"])
+        v[-1] = axis["to"]
+        out[axis["key"]] = v
+    return out["winding.primary.origin[2]"], out["winding.primary.inner_radius"]
+
+
 def main():
+    here = os.path.dirname(os.path.abspath(__file__))
+    parser = argparse.ArgumentParser()
+    parser.add_argument("--sweep", default=os.path.join(here, "..", "meshes-demo", "bench-sweep-below.toml"))
+    parser.add_argument("--check")
+    args = parser.parse_args()
     # Secondary: helix, origin z = 0.10 m, radius 55 mm, length 450 mm, 900 turns, AWG 26.
     n_sec, a_sec, z_sec, pitch = 900, 0.055, 0.10, 0.45 / 900
     z_turns = z_sec + (np.arange(n_sec) + 0.5) * pitch
@@ -44,9 +66,7 @@ def main():
     )
     # Primary: flat spiral, 6 turns, outer radius 140 mm, 4 mm wire.
     n_pri, outer, r_pri = 6, 0.14, 0.002
-    heights = np.linspace(0.0, 0.09, 100)
-    inners = np.linspace(0.06, 0.11, 100)
-    heights[-1], inners[-1] = 0.09, 0.11
+    heights, inners = axes(args.sweep)
     iu = np.triu_indices(n_pri, 1)
     out = []
     t0 = time.perf_counter()
@@ -62,14 +82,14 @@ def main():
             out.append(m_sp / np.sqrt(l_sec * l_pri))
     dt = time.perf_counter() - t0
     print(f"baseline: {len(out)} points in {dt:.3f} s")
-    if len(sys.argv) == 3 and sys.argv[1] == "--check":
+    if args.check:
         import csv
 
-        with open(sys.argv[2]) as f:
+        with open(args.check) as f:
             rows = list(csv.DictReader(f))
         ours = np.array([float(r["coupling.secondary.primary"]) for r in rows])
         rel = np.max(np.abs(ours - np.array(out)) / np.abs(np.array(out)))
-        print(f"largest relative difference from {sys.argv[2]}: {rel:.3e}")
+        print(f"largest relative difference from {args.check}: {rel:.3e}")
         if not rel <= 1e-9:
             sys.exit(1)
 

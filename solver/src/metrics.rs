@@ -18,7 +18,7 @@ use crate::Par;
 use crate::assembly::{WindingModel, image_model, inductance_entry};
 use crate::coupling::coupling;
 use crate::electrostatic::{Params, Problem, Solution};
-use coilfield_geometry::query::overlap::min_surface_gap_m;
+use coilfield_geometry::query::checks::PreparedDesign;
 use coilfield_geometry::{Design, Role, Winding};
 use std::sync::OnceLock;
 
@@ -306,6 +306,8 @@ struct Cached {
 /// Evaluates metrics and constraints on variants of one base design.
 pub struct Evaluator {
     base: Vec<Cached>,
+    /// The base design prepared for the checks between parts and the wire gaps of variants.
+    prepared: PreparedDesign,
     base_design: Design,
     base_electric: OnceLock<Result<Solution, String>>,
     metrics: Vec<Metric>,
@@ -322,6 +324,7 @@ struct Scratch<'a> {
     images: Vec<Option<WindingModel>>,
     self_h: Vec<Option<f64>>,
     mutual_h: Vec<((usize, usize), f64)>,
+    gap_m: Vec<((usize, usize), f64)>,
     electric: Option<Result<Solution, String>>,
     /// The external figures of the point (ids as `Evaluator::external_ids`).
     external: Option<Result<Vec<f64>, String>>,
@@ -337,6 +340,7 @@ impl<'a> Scratch<'a> {
             images: vec![None; n],
             self_h: vec![None; n],
             mutual_h: Vec::new(),
+            gap_m: Vec::new(),
             electric: None,
             external: None,
             notes: Vec::new(),
@@ -396,6 +400,7 @@ impl Evaluator {
                     self_h: OnceLock::new(),
                 })
                 .collect(),
+            prepared: PreparedDesign::new(base),
             base_design: base.clone(),
             base_electric: OnceLock::new(),
             metrics,
@@ -595,6 +600,24 @@ impl Evaluator {
         Ok(v)
     }
 
+    /// The wire gap of windings a and b at the point, computed once per point (a metric that
+    /// is also a constraint), with the prepared wires of unchanged windings.
+    fn gap_m(&self, s: &mut Scratch<'_>, a: usize, b: usize) -> f64 {
+        let key = (a.min(b), a.max(b));
+        if let Some(&(_, v)) = s.gap_m.iter().find(|(k, _)| *k == key) {
+            return v;
+        }
+        let v = self.prepared.gap_m(s.design, a, b);
+        s.gap_m.push((key, v));
+        v
+    }
+
+    /// The base design prepared for the checks between the parts of its variants
+    /// ([`PreparedDesign::check`]): a sweep or seek checks each point with it.
+    pub fn prepared(&self) -> &PreparedDesign {
+        &self.prepared
+    }
+
     fn value(&self, s: &mut Scratch<'_>, m: Metric) -> Result<f64, String> {
         Ok(match m {
             Metric::SelfInductance(i) => self.self_h(s, i)?,
@@ -603,7 +626,7 @@ impl Evaluator {
                 let m = self.mutual_h(s, a, b)?;
                 coupling(m, self.self_h(s, a)?, self.self_h(s, b)?)
             }
-            Metric::Gap(a, b) => min_surface_gap_m(&s.design.windings[a], &s.design.windings[b]),
+            Metric::Gap(a, b) => self.gap_m(s, a, b),
             Metric::Capacitance(_) | Metric::SelfCapacitance(_) | Metric::SurfaceField(_) => {
                 self.electric_value(s, m)?
             }

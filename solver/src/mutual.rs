@@ -115,21 +115,35 @@ pub struct LineIntegral {
 /// perpendicular concentric rings). Where the path passes close to a source wire the integrand
 /// peaks sharply; after 2^15 nodes the adaptive Gauss-Kronrod rule takes over.
 pub fn mutual_rings_ring(sources: &[(Circle, f64)], path: &Circle) -> LineIntegral {
+    let potential = |p: &Point3<f64>| -> Vector3<f64> {
+        sources
+            .iter()
+            .map(|(ring, w)| vector_potential_ring_point(ring, p) * *w)
+            .sum()
+    };
+    let scale: f64 = sources
+        .iter()
+        .map(|(ring, w)| w.abs() * (ring.radius_m * path.radius_m).sqrt())
+        .sum();
+    line_integral_ring(path, potential, scale)
+}
+
+/// oint A . dl along the circle `path` of a vector potential `potential` (T m at a point, for
+/// unit source current), by the periodic trapezoidal rule with doubling and the adaptive
+/// fallback of [`mutual_rings_ring`]; `scale` (m) sets the absolute floor 1e-13 mu0 scale of
+/// the tolerance (a typical sqrt(a b) of the sources and the path).
+pub fn line_integral_ring<F>(path: &Circle, potential: F, scale: f64) -> LineIntegral
+where
+    F: Fn(&Point3<f64>) -> Vector3<f64>,
+{
     let (x_hat, y_hat) = local_frame(&path.axis);
     let b = path.radius_m;
     let integrand = |theta: f64| -> f64 {
         let (s, c) = theta.sin_cos();
         let p = path.centre_m + (x_hat * c + y_hat * s) * b;
         let tangent = (y_hat * c - x_hat * s) * b;
-        sources
-            .iter()
-            .map(|(ring, w)| w * vector_potential_ring_point(ring, &p).dot(&tangent))
-            .sum::<f64>()
+        potential(&p).dot(&tangent)
     };
-    let scale: f64 = sources
-        .iter()
-        .map(|(ring, w)| w.abs() * (ring.radius_m * b).sqrt())
-        .sum();
     let abs_floor = 1e-13 * MU0 * scale;
 
     let mut n = 16usize;

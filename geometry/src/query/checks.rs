@@ -7,38 +7,170 @@ use crate::model::drive::{DriveNeeds, PotentialSpec};
 use crate::model::electrode::{Electrode, End};
 use crate::model::winding::{Role, Shape};
 use crate::query::contact::{self, Reach};
-use crate::query::overlap::check_overlaps;
+use crate::query::overlap::{
+    PreparedWire, check_overlaps, check_self_overlap, min_surface_gap_prepared_m, overlap_error,
+    wires_touch_prepared,
+};
 use nalgebra::Point3;
 
 /// The checks between the parts of a design: wires apart, electrodes clear of the wires, of
 /// each other and of the ground plane, and a drive that names existing conductors.
 ///
-/// [`parse_design`] runs them; a caller that edits a parsed design (a sweep point) runs them
-/// again on the result. `source` labels messages.
+/// `parse_design` runs them; a caller that edits a parsed design many times (a sweep)
+/// prepares the base once ([`PreparedDesign`]) and checks only what changed. `source` labels
+/// messages.
 pub fn check_design(design: &Design, source: &str) -> Result<(), DesignError> {
     check_overlaps(design, source)?;
-    check_electrodes(design, source)?;
+    check_electrodes(design, &Changed::all(design), source)?;
     check_drive(design, source)
 }
 
-/// Electrode-winding, electrode-electrode and ground-plane checks of a parsed design.
-pub(crate) fn check_electrodes(design: &Design, source: &str) -> Result<(), DesignError> {
-    let item = |e: &Electrode| format!("electrode '{}'", e.name);
-    for (idx, e) in design.electrodes.iter().enumerate() {
-        if let Some(t) = &e.connect {
-            if !design.windings.iter().any(|w| w.name == t.winding) {
-                return Err(DesignError::UnknownConductor {
-                    source_name: source.to_string(),
-                    item: item(e),
-                    key: "connect".into(),
-                    name: t.winding.as_str().into(),
-                    wanted: "a winding",
-                    known: names(design.windings.iter().map(|w| w.name.as_str())).into(),
-                });
+/// Which windings and electrodes (file order) a variant of a base design changes.
+#[derive(Debug, Clone, PartialEq, Eq)]
+struct Changed {
+    windings: Vec<bool>,
+    electrodes: Vec<bool>,
+}
+
+impl Changed {
+    /// Everything: a design checked alone.
+    fn all(design: &Design) -> Changed {
+        Changed {
+            windings: vec![true; design.windings.len()],
+            electrodes: vec![true; design.electrodes.len()],
+        }
+    }
+
+    /// The items of `design` that differ from `base`'s (both of the same items in order).
+    fn between(base: &Design, design: &Design) -> Changed {
+        Changed {
+            windings: design
+                .windings
+                .iter()
+                .enumerate()
+                .map(|(i, w)| base.windings.get(i) != Some(w))
+                .collect(),
+            electrodes: design
+                .electrodes
+                .iter()
+                .enumerate()
+                .map(|(i, e)| base.electrodes.get(i) != Some(e))
+                .collect(),
+        }
+    }
+}
+
+/// A base design prepared for the checks of many variants (a sweep, a goal seek): each
+/// winding's wire is prepared once ([`PreparedWire`]: box, meridian trace, and the sampled
+/// centreline with its tree, built on first use) and shared read-only across variants and
+/// threads. A variant is checked only in the pairs that involve a part it changes; an
+/// unchanged winding's prepared wire is reused, a changed one prepared for the variant alone.
+#[derive(Debug)]
+pub struct PreparedDesign {
+    base: Design,
+    wires: Vec<PreparedWire>,
+}
+
+impl PreparedDesign {
+    /// Prepare `base` (a valid design: its own checks passed). Nothing is sampled yet.
+    pub fn new(base: &Design) -> PreparedDesign {
+        PreparedDesign {
+            base: base.clone(),
+            wires: base.windings.iter().map(PreparedWire::new).collect(),
+        }
+    }
+
+    /// The base design.
+    pub fn base(&self) -> &Design {
+        &self.base
+    }
+
+    /// The checks of [`check_design`] on `design`, a variant of the base with the same
+    /// windings and electrodes in the same order, over the pairs that involve a changed part
+    /// only (pairs of unchanged parts passed in the base). `source` labels messages.
+    pub fn check(&self, design: &Design, source: &str) -> Result<(), DesignError> {
+        if design.windings.len() != self.base.windings.len()
+            || design.electrodes.len() != self.base.electrodes.len()
+        {
+            return check_design(design, source);
+        }
+        let changed = Changed::between(&self.base, design);
+        let fresh: Vec<Option<PreparedWire>> = design
+            .windings
+            .iter()
+            .zip(&changed.windings)
+            .map(|(w, &c)| c.then(|| PreparedWire::new(w)))
+            .collect();
+        let wire = |i: usize| fresh[i].as_ref().unwrap_or(&self.wires[i]);
+        for (j, wj) in design.windings.iter().enumerate() {
+            if changed.windings[j] {
+                check_self_overlap(wj, source)?;
+            }
+            for (i, wi) in design.windings[..j].iter().enumerate() {
+                if !(changed.windings[i] || changed.windings[j]) {
+                    continue;
+                }
+                if let Some(c) = wires_touch_prepared(wire(i), wire(j)) {
+                    return Err(overlap_error(wi, wj, &c, source));
+                }
             }
         }
+        check_electrodes(design, &changed, source)?;
+        check_drive(design, source)
+    }
+
+    /// The smallest distance (m) between the surfaces of windings `a` and `b` of `design` (a
+    /// variant of the base, as for [`PreparedDesign::check`]), as
+    /// [`crate::query::overlap::min_surface_gap_m`], with the prepared wires of unchanged
+    /// windings.
+    pub fn gap_m(&self, design: &Design, a: usize, b: usize) -> f64 {
+        let prepared = |i: usize| -> Option<&PreparedWire> {
+            let w = design.windings.get(i)?;
+            self.wires.get(i).filter(|p| p.winding() == w)
+        };
+        let (fresh_a, fresh_b);
+        let pa = match prepared(a) {
+            Some(p) => p,
+            None => {
+                fresh_a = PreparedWire::new(&design.windings[a]);
+                &fresh_a
+            }
+        };
+        let pb = match prepared(b) {
+            Some(p) => p,
+            None => {
+                fresh_b = PreparedWire::new(&design.windings[b]);
+                &fresh_b
+            }
+        };
+        min_surface_gap_prepared_m(pa, pb)
+    }
+}
+
+/// Electrode-winding, electrode-electrode and ground-plane checks of a design, over the pairs
+/// that involve a changed part.
+fn check_electrodes(design: &Design, changed: &Changed, source: &str) -> Result<(), DesignError> {
+    let item = |e: &Electrode| format!("electrode '{}'", e.name);
+    for (idx, e) in design.electrodes.iter().enumerate() {
+        let e_changed = changed.electrodes[idx];
+        if let Some(t) = &e.connect
+            && e_changed
+            && !design.windings.iter().any(|w| w.name == t.winding)
+        {
+            return Err(DesignError::UnknownConductor {
+                source_name: source.to_string(),
+                item: item(e),
+                key: "connect".into(),
+                name: t.winding.as_str().into(),
+                wanted: "a winding",
+                known: names(design.windings.iter().map(|w| w.name.as_str())).into(),
+            });
+        }
         // Windings: the wire must clear the surface (closed-form distances, see contact).
-        for w in &design.windings {
+        for (k, w) in design.windings.iter().enumerate() {
+            if !(e_changed || changed.windings[k]) {
+                continue;
+            }
             let reach = contact::wire_electrode(w, &e.shape);
             if let Some((how, at)) = refusal(reach) {
                 return Err(DesignError::ElectrodeIntersects {
@@ -51,7 +183,10 @@ pub(crate) fn check_electrodes(design: &Design, source: &str) -> Result<(), Desi
             }
         }
         // Earlier electrodes: surfaces apart and neither inside the other.
-        for other in &design.electrodes[..idx] {
+        for (k, other) in design.electrodes[..idx].iter().enumerate() {
+            if !(e_changed || changed.electrodes[k]) {
+                continue;
+            }
             if let Some((how, at)) = refusal(contact::electrode_electrode(&e.shape, &other.shape)) {
                 return Err(DesignError::ElectrodeIntersects {
                     source_name: source.to_string(),
@@ -62,7 +197,9 @@ pub(crate) fn check_electrodes(design: &Design, source: &str) -> Result<(), Desi
                 });
             }
         }
-        if let Some(g) = design.ground {
+        if let Some(g) = design.ground
+            && e_changed
+        {
             let lowest = e.shape.lowest_z_m();
             if lowest <= g.z_m {
                 return Err(DesignError::BelowGround {
@@ -76,7 +213,10 @@ pub(crate) fn check_electrodes(design: &Design, source: &str) -> Result<(), Desi
         }
     }
     if let Some(g) = design.ground {
-        for w in &design.windings {
+        for (k, w) in design.windings.iter().enumerate() {
+            if !changed.windings[k] {
+                continue;
+            }
             if let Some((_, at)) = refusal(contact::wire_ground(w, g.z_m)) {
                 return Err(DesignError::BelowGround {
                     source_name: source.to_string(),

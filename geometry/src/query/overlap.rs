@@ -42,6 +42,7 @@ use crate::model::winding::{Shape, Winding};
 use crate::query::distance::segment_distance2;
 use nalgebra::{Point3, Vector3};
 use std::f64::consts::TAU;
+use std::sync::OnceLock;
 
 /// Largest chord sagitta aimed for when sampling a curve (m), whatever the wire.
 pub const MAX_SAGITTA_M: f64 = 5e-6;
@@ -84,48 +85,302 @@ pub fn check_overlaps(design: &Design, source: &str) -> Result<(), DesignError> 
         .map(|w| curve_bounds(&w.shape))
         .collect();
     for (j, wj) in design.windings.iter().enumerate() {
-        if let Shape::Polyline { points_m, .. } = &wj.shape {
-            let chain = Chain::of(wj, None);
-            if let Some(hit) = self_overlap(&chain) {
-                let n = points_m.len();
-                let a = chain.orig[hit.ia] as usize;
-                let b = chain.orig[hit.ib] as usize;
-                return Err(DesignError::SelfIntersection {
-                    source_name: source.to_string(),
-                    item: label(wj),
-                    piece_a: a,
-                    piece_a_end: (a + 1) % n,
-                    piece_b: b,
-                    piece_b_end: (b + 1) % n,
-                    gap_m: hit.d2.sqrt() - 2.0 * chain.wire_radius_m,
-                    near_m: hit.near(),
-                });
-            }
-        }
+        check_self_overlap(wj, source)?;
         for (i, wi) in design.windings[..j].iter().enumerate() {
-            let touch_m = wi.wire_radius_m() + wj.wire_radius_m();
-            if !boxes[i].inflated(touch_m).intersects(&boxes[j]) {
-                continue;
-            }
-            let ci = Chain::of(wi, Some(&boxes[j].inflated(touch_m)));
-            let cj = Chain::of(wj, Some(&boxes[i].inflated(touch_m)));
-            if let Some(hit) = nearest_within_grid(&ci, &cj, touch_m) {
-                let key = match wj.shape {
-                    Shape::Polyline { .. } => "points",
-                    _ => "origin",
-                };
-                return Err(DesignError::Overlap {
-                    source_name: source.to_string(),
-                    item: label(wj),
-                    key,
-                    other: label(wi),
-                    gap_m: hit.d2.sqrt() - touch_m,
-                    near_m: hit.near(),
-                });
+            if let Some(contact) = wires_touch(wi, wj, &boxes[i], &boxes[j]) {
+                return Err(overlap_error(wi, wj, &contact, source));
             }
         }
     }
     Ok(())
+}
+
+/// Check that a polyline does not cross itself (other shapes pass: their pitch checks cover
+/// that). `source` labels messages.
+pub fn check_self_overlap(w: &Winding, source: &str) -> Result<(), DesignError> {
+    let Shape::Polyline { points_m, .. } = &w.shape else {
+        return Ok(());
+    };
+    let chain = Chain::of(w, None);
+    let Some(hit) = self_overlap(&chain) else {
+        return Ok(());
+    };
+    let n = points_m.len();
+    let a = chain.orig[hit.ia] as usize;
+    let b = chain.orig[hit.ib] as usize;
+    Err(DesignError::SelfIntersection {
+        source_name: source.to_string(),
+        item: label(w),
+        piece_a: a,
+        piece_a_end: (a + 1) % n,
+        piece_b: b,
+        piece_b_end: (b + 1) % n,
+        gap_m: hit.d2.sqrt() - 2.0 * chain.wire_radius_m,
+        near_m: hit.near(),
+    })
+}
+
+/// Where two wires touch or cross: the surface gap at their closest approach (m, zero or
+/// negative) and a point midway between the two closest centreline points (m).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WireContact {
+    /// Smallest surface-to-surface distance found (m), zero or negative.
+    pub gap_m: f64,
+    /// A point midway between the two closest centreline points (m).
+    pub near_m: [f64; 3],
+}
+
+impl WireContact {
+    fn of(hit: &Hit, touch_m: f64) -> Self {
+        WireContact {
+            gap_m: hit.d2.sqrt() - touch_m,
+            near_m: hit.near(),
+        }
+    }
+}
+
+/// The error of two touching wires, naming the later winding `wj` and its placing key.
+pub fn overlap_error(wi: &Winding, wj: &Winding, c: &WireContact, source: &str) -> DesignError {
+    let key = match wj.shape {
+        Shape::Polyline { .. } => "points",
+        _ => "origin",
+    };
+    DesignError::Overlap {
+        source_name: source.to_string(),
+        item: label(wj),
+        key,
+        other: label(wi),
+        gap_m: c.gap_m,
+        near_m: c.near_m,
+    }
+}
+
+/// Whether the wires of `a` and `b` (with their boxes) touch or cross: apart boxes pass at
+/// once; coaxial windings pass in closed form when their meridian traces keep them apart
+/// ([`coaxial_gap_lower_bound_m`]); otherwise each winding is sampled near the other's box and
+/// the pieces are compared through a hash grid.
+fn wires_touch(a: &Winding, b: &Winding, box_a: &Aabb, box_b: &Aabb) -> Option<WireContact> {
+    let touch_m = a.wire_radius_m() + b.wire_radius_m();
+    if !box_a.inflated(touch_m).intersects(box_b) || coaxial_clear(a, b) {
+        return None;
+    }
+    let ca = Chain::of(a, Some(&box_b.inflated(touch_m)));
+    let cb = Chain::of(b, Some(&box_a.inflated(touch_m)));
+    if trace_clears(a, &cb, b) || trace_clears(b, &ca, a) {
+        return None;
+    }
+    nearest_within_grid(&ca, &cb, touch_m).map(|hit| WireContact::of(&hit, touch_m))
+}
+
+/// Whether two coaxial windings are certainly apart by their meridian traces: the lower bound
+/// of their surface gap exceeds the sampled check's own tolerance (the two sampling sagittas),
+/// so that the closed form never accepts a pair the sampled check would refuse.
+fn coaxial_clear(a: &Winding, b: &Winding) -> bool {
+    coaxial_gap_lower_bound_m(a, b)
+        .is_some_and(|gap_m| gap_m > sampling_sagitta_m(a) + sampling_sagitta_m(b))
+}
+
+/// The straight piece of the meridian half-plane that an axisymmetric winding's centreline
+/// passes through, as (distance from the axis, height along it) (m) of its two ends, in the
+/// frame of the axis through `origin_m` along `axis`: a helix's wire passes every height of its
+/// span at its radius (a vertical segment), a flat spiral every radius from inner to outer at
+/// one height, a cone both at once (a slanted segment), a ring one point. None for a polyline.
+fn meridian_trace(
+    shape: &Shape,
+    origin_m: &Point3<f64>,
+    axis: &Vector3<f64>,
+) -> Option<[(f64, f64); 2]> {
+    let (o, n) = shape.origin_axis()?;
+    let z0 = (o - origin_m).dot(axis);
+    let sign = n.dot(axis).signum();
+    Some(match *shape {
+        Shape::Helix {
+            radius_m, length_m, ..
+        } => [(radius_m, z0), (radius_m, z0 + sign * length_m)],
+        Shape::Spiral {
+            inner_radius_m,
+            outer_radius_m,
+            ..
+        } => [(inner_radius_m, z0), (outer_radius_m, z0)],
+        Shape::Cone {
+            inner_radius_m,
+            outer_radius_m,
+            height_m,
+            ..
+        } => [(inner_radius_m, z0), (outer_radius_m, z0 + sign * height_m)],
+        Shape::Ring { radius_m, .. } => [(radius_m, z0), (radius_m, z0)],
+        Shape::Polyline { .. } => return None,
+    })
+}
+
+/// A lower bound (m) of the surface gap of two windings that share one axis line (parallel or
+/// antiparallel), from their meridian traces; None when they do not share an axis or either
+/// is a polyline.
+///
+/// Rotation about the common axis preserves the distance from the axis and the height along
+/// it, and for points P, Q at azimuths phi_P, phi_Q, |P - Q|^2 = r_P^2 + r_Q^2 -
+/// 2 r_P r_Q cos(phi_P - phi_Q) + (z_P - z_Q)^2 >= (r_P - r_Q)^2 + (z_P - z_Q)^2. So the
+/// distance between the two traces in the (r, z) half-plane (a segment-segment distance,
+/// closed form) bounds the centreline distance from below, and minus both wire radii the
+/// surface gap. It is exact when the two closest trace points are met at one azimuth, and
+/// short of the true gap by up to about a pitch when they are not (a helix's end against a
+/// spiral below it).
+pub fn coaxial_gap_lower_bound_m(a: &Winding, b: &Winding) -> Option<f64> {
+    let (oa, na) = a.shape.origin_axis()?;
+    let (ob, nb) = b.shape.origin_axis()?;
+    let offset = ob - oa;
+    let lateral = (offset - na.as_ref() * offset.dot(na.as_ref())).norm();
+    let size = curve_bounds(&a.shape)
+        .diagonal_m()
+        .max(curve_bounds(&b.shape).diagonal_m())
+        .max(offset.norm());
+    // Geometric tolerance: well below any manufacturing tolerance, well above rounding.
+    if na.cross(&nb).norm() >= 1e-12 || lateral >= 1e-12 * size {
+        return None;
+    }
+    let ta = meridian_trace(&a.shape, &oa, na.as_ref())?;
+    let tb = meridian_trace(&b.shape, &oa, na.as_ref())?;
+    let p = |(r, z): (f64, f64)| Point3::new(r, z, 0.0);
+    let (d2, _, _) = segment_distance2(&p(ta[0]), &p(ta[1]), &p(tb[0]), &p(tb[1]));
+    Some(d2.sqrt() - a.wire_radius_m() - b.wire_radius_m())
+}
+
+/// Whether every piece of `chain` (a sampling of another winding, with its sagitta
+/// `chain.sagitta_m`) stays clear of the wire of the axisymmetric winding `axisym`, judged on
+/// `axisym`'s meridian trace; false when `axisym` has no axis or any piece comes too near.
+///
+/// For a point x, the distance to any point of `axisym`'s centreline is at least the distance
+/// of x's (distance from the axis, height along it) to the meridian trace (see
+/// [`coaxial_gap_lower_bound_m`]), and that map is 1-Lipschitz, so over a piece of length l the
+/// distance is at least the trace distance of its midpoint minus l / 2. The pieces stray from
+/// their curve by at most the chain's sagitta; a pair passes only when this lower bound of the
+/// true surface gap exceeds the sampled check's own tolerance, so it never passes a pair the
+/// sampled check refuses. No sampling of `axisym`: a long secondary costs nothing here.
+fn trace_clears(axisym: &Winding, chain: &Chain, other: &Winding) -> bool {
+    let Some((o, n)) = axisym.shape.origin_axis() else {
+        return false;
+    };
+    let Some(t) = meridian_trace(&axisym.shape, &o, n.as_ref()) else {
+        return false;
+    };
+    let margin_m = axisym.wire_radius_m()
+        + other.wire_radius_m()
+        + chain.sagitta_m
+        + sampling_sagitta_m(axisym)
+        + sampling_sagitta_m(other);
+    // Distance in the (rho, z) half-plane from a point to the trace segment t0-t1.
+    let (t0, d) = (t[0], (t[1].0 - t[0].0, t[1].1 - t[0].1));
+    let len2 = d.0 * d.0 + d.1 * d.1;
+    let to_trace = |rho: f64, z: f64| {
+        let (x, y) = (rho - t0.0, z - t0.1);
+        let s = if len2 > 0.0 {
+            ((x * d.0 + y * d.1) / len2).clamp(0.0, 1.0)
+        } else {
+            0.0
+        };
+        (x - s * d.0).hypot(y - s * d.1)
+    };
+    chain.segs.iter().all(|[p, q]| {
+        let mid = nalgebra::center(p, q);
+        let r = mid - o;
+        let z = r.dot(n.as_ref());
+        let rho = (r - n.as_ref() * z).norm();
+        to_trace(rho, z) - 0.5 * (q - p).norm() > margin_m
+    })
+}
+
+/// About how many pieces sampling `w` whole takes (to sample the smaller of two windings).
+fn estimated_pieces(w: &Winding) -> f64 {
+    match &w.shape {
+        Shape::Polyline { points_m, .. } => points_m.len() as f64,
+        shape => {
+            let turns = match shape {
+                Shape::Ring { .. } => 1.0,
+                _ => shape.turns().unwrap_or(1.0),
+            };
+            let radius_m = curve_bounds(shape).diagonal_m();
+            turns * TAU / (8.0 * sampling_sagitta_m(w) / radius_m.max(1e-12)).sqrt()
+        }
+    }
+}
+
+/// A winding prepared for many wire checks against windings that change (a sweep): its box
+/// and meridian trace come from its sizes, and its whole centreline, sampled with a
+/// bounding-box tree over the pieces, is built on first use and then shared read-only.
+#[derive(Debug)]
+pub struct PreparedWire {
+    winding: Winding,
+    bounds: Aabb,
+    chain: OnceLock<Chain>,
+    tree: OnceLock<Vec<Node>>,
+}
+
+impl PreparedWire {
+    /// Prepare `winding` (nothing is sampled yet).
+    pub fn new(winding: &Winding) -> PreparedWire {
+        PreparedWire {
+            winding: winding.clone(),
+            bounds: curve_bounds(&winding.shape),
+            chain: OnceLock::new(),
+            tree: OnceLock::new(),
+        }
+    }
+
+    /// The winding.
+    pub fn winding(&self) -> &Winding {
+        &self.winding
+    }
+
+    fn chain(&self) -> &Chain {
+        self.chain.get_or_init(|| Chain::of(&self.winding, None))
+    }
+
+    fn sampled(&self) -> (&Chain, &[Node]) {
+        let chain = self.chain();
+        (chain, self.tree.get_or_init(|| build_tree(chain)))
+    }
+}
+
+/// As the check of [`check_overlaps`] for one pair, from prepared wires: apart boxes and
+/// coaxial windings apart by their meridian traces pass without sampling; otherwise the two
+/// whole sampled centrelines (built once per prepared wire) are searched by branch and bound
+/// over their trees for pieces within the sum of the wire radii. Same tolerance as the
+/// sampled check: the chains are the same samplings of the same curves.
+pub fn wires_touch_prepared(a: &PreparedWire, b: &PreparedWire) -> Option<WireContact> {
+    let touch_m = a.winding.wire_radius_m() + b.winding.wire_radius_m();
+    if !a.bounds.inflated(touch_m).intersects(&b.bounds) || coaxial_clear(&a.winding, &b.winding) {
+        return None;
+    }
+    // The smaller winding is sampled and judged against the other's meridian trace first;
+    // only when that fails is the larger one sampled too.
+    let (small, large) = if estimated_pieces(&a.winding) <= estimated_pieces(&b.winding) {
+        (a, b)
+    } else {
+        (b, a)
+    };
+    if trace_clears(&large.winding, small.chain(), &small.winding)
+        || trace_clears(&small.winding, large.chain(), &large.winding)
+    {
+        return None;
+    }
+    let (ca, ta) = a.sampled();
+    let (cb, tb) = b.sampled();
+    if ca.n_pieces() == 0 || cb.n_pieces() == 0 {
+        return None;
+    }
+    nearest_pair_tree(ca, ta, cb, tb, touch_m * touch_m).map(|hit| WireContact::of(&hit, touch_m))
+}
+
+/// As [`min_surface_gap_m`], from prepared wires (their trees built once).
+pub fn min_surface_gap_prepared_m(a: &PreparedWire, b: &PreparedWire) -> f64 {
+    let (ca, ta) = a.sampled();
+    let (cb, tb) = b.sampled();
+    if ca.n_pieces() == 0 || cb.n_pieces() == 0 {
+        return f64::INFINITY;
+    }
+    let radii_m = ca.wire_radius_m + cb.wire_radius_m;
+    nearest_pair_tree(ca, ta, cb, tb, f64::INFINITY).map_or(f64::INFINITY, |h| h.d2.sqrt())
+        - radii_m
 }
 
 /// Smallest distance (m) between the surfaces of the two windings' wires: the smallest distance
@@ -148,7 +403,8 @@ fn min_centreline_distance_m(a: &Chain, b: &Chain) -> f64 {
     if a.n_pieces() == 0 || b.n_pieces() == 0 {
         return f64::INFINITY;
     }
-    nearest_tree(a, b).sqrt()
+    let (ta, tb) = (build_tree(a), build_tree(b));
+    nearest_pair_tree(a, &ta, b, &tb, f64::INFINITY).map_or(f64::INFINITY, |h| h.d2.sqrt())
 }
 
 /// How a winding is named in messages.
@@ -200,11 +456,15 @@ fn curve_bounds(shape: &Shape) -> Aabb {
 }
 
 /// A winding's centreline, or the part of it near some box, as straight pieces.
+#[derive(Debug)]
 struct Chain {
     /// Start and end of each piece (m). Consecutive pieces usually join; where only part of a
     /// winding is sampled, there are gaps between the runs.
     segs: Vec<[Point3<f64>; 2]>,
     wire_radius_m: f64,
+    /// Largest distance (m) of a piece from the curve it samples (0 for a polyline's own
+    /// pieces); the stated sagitta unless the piece cap made the sampling coarser.
+    sagitta_m: f64,
     /// Longest piece (m).
     max_piece_m: f64,
     /// Polylines only: whether the last point joins the first.
@@ -223,6 +483,7 @@ impl Chain {
         let mut chain = Chain {
             segs: Vec::new(),
             wire_radius_m: winding.wire_radius_m(),
+            sagitta_m: 0.0,
             max_piece_m: 0.0,
             closed: false,
             orig: Vec::new(),
@@ -234,7 +495,10 @@ impl Chain {
                 chain.closed = *closed;
                 split_polyline(&mut chain, points_m, winding.wire_diameter_m, within);
             }
-            shape => chain.segs = sample_curve(shape, sampling_sagitta_m(winding), within),
+            shape => {
+                (chain.segs, chain.sagitta_m) =
+                    sample_curve(shape, sampling_sagitta_m(winding), within);
+            }
         }
         chain.max_piece_m = chain
             .segs
@@ -282,7 +546,14 @@ const CHUNK_RAD: f64 = TAU / 8.0;
 /// the outer radius; so a step of sqrt(8 s / sqrt(R^2 + 4 b^2)) keeps the sagitta below s. The
 /// same bound, over a whole chunk, gives how far the chunk's arc strays from the chord between
 /// its ends, and so a box that surely holds the arc.
-fn sample_curve(shape: &Shape, sagitta_m: f64, within: Option<&Aabb>) -> Vec<[Point3<f64>; 2]> {
+///
+/// Returns the pieces and the sagitta (m) they keep: `sagitta_m`, or more where the piece cap
+/// made the sampling coarser.
+fn sample_curve(
+    shape: &Shape,
+    sagitta_m: f64,
+    within: Option<&Aabb>,
+) -> (Vec<[Point3<f64>; 2]>, f64) {
     let (outer_m, growth_m, turns) = match *shape {
         Shape::Helix {
             radius_m, turns, ..
@@ -305,7 +576,7 @@ fn sample_curve(shape: &Shape, sagitta_m: f64, within: Option<&Aabb>) -> Vec<[Po
         ),
         // A ring's curve is one turn whatever its count.
         Shape::Ring { radius_m, .. } => (radius_m, 0.0, 1.0),
-        Shape::Polyline { .. } => return Vec::new(),
+        Shape::Polyline { .. } => return (Vec::new(), 0.0),
     };
     let curvature_scale_m = outer_m.hypot(2.0 * growth_m);
     let total_rad = TAU * turns;
@@ -315,7 +586,7 @@ fn sample_curve(shape: &Shape, sagitta_m: f64, within: Option<&Aabb>) -> Vec<[Po
     let n_chunks_f = (total_rad / CHUNK_RAD).ceil().max(1.0);
     let per_chunk_f = (total_rad / n_chunks_f / step_rad).ceil().max(1.0);
     if !(n_chunks_f.is_finite() && per_chunk_f.is_finite()) || n_chunks_f > 1e8 {
-        return Vec::new();
+        return (Vec::new(), 0.0);
     }
     let n_chunks = n_chunks_f as usize;
     let chunk_rad = total_rad / n_chunks_f;
@@ -337,7 +608,7 @@ fn sample_curve(shape: &Shape, sagitta_m: f64, within: Option<&Aabb>) -> Vec<[Po
         start = end;
     }
     if selected.is_empty() {
-        return Vec::new();
+        return (Vec::new(), sagitta_m);
     }
     // Past the memory cap, fewer pieces per chunk: coarser than the stated sagitta, documented.
     let per_chunk = (per_chunk_f as usize)
@@ -352,7 +623,11 @@ fn sample_curve(shape: &Shape, sagitta_m: f64, within: Option<&Aabb>) -> Vec<[Po
             p = q;
         }
     }
-    segs
+    let step_rad = chunk_rad / per_chunk as f64;
+    (
+        segs,
+        sagitta_m.max(step_rad * step_rad / 8.0 * curvature_scale_m),
+    )
 }
 
 /// Split each polyline segment into pieces of at most about one wire diameter, keeping those
@@ -403,7 +678,7 @@ fn split_polyline(
 
 /// Axis-aligned box.
 #[derive(Debug, Clone, Copy)]
-struct Aabb {
+pub(crate) struct Aabb {
     lo: Vector3<f64>,
     hi: Vector3<f64>,
 }
@@ -443,6 +718,16 @@ impl Aabb {
     }
 
     /// Squared distance between the boxes (0 when they meet).
+    /// Length (m) of the box's diagonal (0 for an empty box).
+    fn diagonal_m(&self) -> f64 {
+        let d = self.hi - self.lo;
+        if d.iter().all(|x| x.is_finite() && *x >= 0.0) {
+            d.norm()
+        } else {
+            0.0
+        }
+    }
+
     fn dist2(&self, other: &Aabb) -> f64 {
         let mut d2 = 0.0;
         for k in 0..3 {
@@ -698,6 +983,7 @@ fn self_overlap(chain: &Chain) -> Option<Hit> {
 }
 
 /// Node of a bounding-box tree over a run of consecutive pieces.
+#[derive(Debug)]
 struct Node {
     bounds: Aabb,
     first: usize,
@@ -740,17 +1026,18 @@ fn build_tree(chain: &Chain) -> Vec<Node> {
     nodes
 }
 
-/// Smallest squared centreline distance of two non-empty chains, by branch and bound over their
-/// bounding-box trees: a pair of nodes is opened only while its boxes are nearer than the best
-/// pair of pieces found so far, nearer pairs first.
-fn nearest_tree(a: &Chain, b: &Chain) -> f64 {
-    let ta = build_tree(a);
-    let tb = build_tree(b);
-    let mut best_d2 = f64::INFINITY;
+/// The closest pair of pieces of two non-empty chains whose squared centreline distance is at
+/// most `bound_d2` (infinity: the closest pair at any range), by branch and bound over their
+/// bounding-box trees `ta`, `tb`: a pair of nodes is opened only while its boxes are no farther
+/// than the best pair of pieces found so far (or the bound), nearer pairs first.
+fn nearest_pair_tree(a: &Chain, ta: &[Node], b: &Chain, tb: &[Node], bound_d2: f64) -> Option<Hit> {
+    let mut best_d2 = bound_d2;
+    let mut best: Option<(usize, usize)> = None;
     let mut stack = vec![(0usize, 0usize)];
     while let Some((na, nb)) = stack.pop() {
         let (node_a, node_b) = (&ta[na], &tb[nb]);
-        if node_a.bounds.dist2(&node_b.bounds) >= best_d2 {
+        let gap2 = node_a.bounds.dist2(&node_b.bounds);
+        if gap2 > best_d2 || (best.is_some() && gap2 >= best_d2) {
             continue;
         }
         match (node_a.children, node_b.children) {
@@ -759,7 +1046,11 @@ fn nearest_tree(a: &Chain, b: &Chain) -> f64 {
                     let (p, q) = a.piece(i);
                     for j in node_b.first..node_b.first + node_b.count {
                         let (r, s) = b.piece(j);
-                        best_d2 = best_d2.min(segment_distance2(&p, &q, &r, &s).0);
+                        let d2 = segment_distance2(&p, &q, &r, &s).0;
+                        if d2 < best_d2 || (best.is_none() && d2 <= best_d2) {
+                            best_d2 = d2;
+                            best = Some((i, j));
+                        }
                     }
                 }
             }
@@ -785,7 +1076,17 @@ fn nearest_tree(a: &Chain, b: &Chain) -> f64 {
             }
         }
     }
-    best_d2
+    let (i, j) = best?;
+    let (p, q) = a.piece(i);
+    let (r, s) = b.piece(j);
+    let (d2, ca, cb) = segment_distance2(&p, &q, &r, &s);
+    Some(Hit {
+        d2,
+        ia: i,
+        ib: j,
+        ca,
+        cb,
+    })
 }
 
 #[cfg(test)]
@@ -1363,7 +1664,11 @@ mod tests {
             // The grid may measure a pair with the segments swapped, which rounds differently
             // (most for nearly parallel pieces): agreement to 1e-12 relative, 1 fm absolute.
             let same = |x: f64| (x - slow).abs() <= 1e-12 * slow + 1e-15;
-            let tree = nearest_tree(&ca, &cb).sqrt();
+            let (ta, tb) = (build_tree(&ca), build_tree(&cb));
+            let tree = nearest_pair_tree(&ca, &ta, &cb, &tb, f64::INFINITY)
+                .unwrap()
+                .d2
+                .sqrt();
             assert!(same(tree), "case {case}: tree {tree} vs {slow}");
             let combined = min_centreline_distance_m(&ca, &cb);
             assert!(same(combined), "case {case}: combined {combined} vs {slow}");
@@ -1422,5 +1727,141 @@ mod tests {
     fn empty_polyline_gives_infinite_gap() {
         let nothing = polyline("nothing", &[[0.0, 0.0, 0.0]], false, 0.001);
         assert_eq!(min_surface_gap_m(&nothing, &secondary()), f64::INFINITY);
+    }
+
+    /// A pair of windings placed as builders place a primary: coaxial (a spiral or helix
+    /// across the secondary's lower turns, close outside it), nested inside it, overlapping its
+    /// wire, offset sideways or tilted a little; gaps from about -1 mm to 3 mm.
+    fn placement(rng: &mut Rng) -> (Winding, Winding) {
+        let r_sec = 0.05;
+        let d_sec = rng.range(0.2e-3, 0.8e-3);
+        let turns = rng.range(8.0, 30.0).floor();
+        let length = turns * d_sec * rng.range(1.1, 2.0);
+        let secondary = helix("s", 0.1, r_sec, length, turns, d_sec);
+        let d_pri = rng.range(0.5e-3, 3e-3);
+        let clearance = rng.range(-1e-3, 3e-3);
+        let height = 0.1 + rng.range(-0.02, 0.25) * length * 4.0;
+        let kind = (rng.next_f64() * 5.0) as usize;
+        let edge = r_sec + 0.5 * (d_sec + d_pri) + clearance;
+        let mut primary = match kind {
+            // A flat spiral starting just outside the secondary, at a height across its span.
+            0 => spiral("p", height, edge, edge + 0.03, rng.range(2.0, 6.0), d_pri),
+            // A helix wound over the secondary.
+            1 => helix("p", height, edge, 0.01, 3.0, d_pri),
+            // A helix nested inside it.
+            2 => helix(
+                "p",
+                height,
+                r_sec - 0.5 * (d_sec + d_pri) - clearance,
+                0.01,
+                3.0,
+                d_pri,
+            ),
+            // A spiral whose inner turns reach across the secondary's wire.
+            3 => spiral(
+                "p",
+                height,
+                r_sec - rng.range(0.0, 0.01),
+                r_sec + 0.02,
+                4.0,
+                d_pri,
+            ),
+            // A ring beside the secondary's wire.
+            _ => ring("p", Point3::new(0.0, 0.0, height), edge, 1, d_pri),
+        };
+        // Offset or tilt one in three pairs a little.
+        let moved = rng.next_f64();
+        if moved < 0.33 {
+            let shift = rng.range(-2e-3, 2e-3);
+            match &mut primary.shape {
+                Shape::Helix { origin_m, .. }
+                | Shape::Spiral { origin_m, .. }
+                | Shape::Ring { origin_m, .. } => origin_m.x += shift,
+                _ => {}
+            }
+        } else if moved < 0.66 {
+            let tilt = rng.range(-0.05, 0.05);
+            let n = Unit::new_normalize(Vector3::new(tilt.sin(), 0.0, tilt.cos()));
+            match &mut primary.shape {
+                Shape::Helix { axis, .. }
+                | Shape::Spiral { axis, .. }
+                | Shape::Ring { axis, .. } => *axis = n,
+                _ => {}
+            }
+        }
+        (secondary, primary)
+    }
+
+    #[test]
+    fn fast_checks_agree_with_the_sampled_reference_on_random_placements() {
+        // The reference: the whole sampled centrelines of both wires, every piece pair within
+        // reach found through the hash grid, with no closed form and no box restriction. Its
+        // stated tolerance is the two sampling sagittas (each chain strays from its curve by at
+        // most one).
+        let mut rng = Rng(0x0c0a_c1a1_5eed_0001);
+        let (mut coaxial_closed_form, mut near_band, mut touching, mut by_trace) = (0, 0, 0, 0);
+        for case in 0..400 {
+            let (a, b) = placement(&mut rng);
+            let touch_m = a.wire_radius_m() + b.wire_radius_m();
+            let (ca, cb) = (Chain::of(&a, None), Chain::of(&b, None));
+            let reference = nearest_within_grid(&ca, &cb, touch_m).is_some();
+            let gap = min_centreline_distance_m(&ca, &cb) - touch_m;
+            let tol = sampling_sagitta_m(&a) + sampling_sagitta_m(&b);
+            let (ba, bb) = (curve_bounds(&a.shape), curve_bounds(&b.shape));
+            let one_off = wires_touch(&a, &b, &ba, &bb).is_some();
+            let prepared =
+                wires_touch_prepared(&PreparedWire::new(&a), &PreparedWire::new(&b)).is_some();
+            coaxial_closed_form += usize::from(coaxial_clear(&a, &b));
+            by_trace += usize::from(
+                !coaxial_clear(&a, &b) && (trace_clears(&a, &cb, &b) || trace_clears(&b, &ca, &a)),
+            );
+            touching += usize::from(reference);
+            for (name, fast) in [("one-off", one_off), ("prepared", prepared)] {
+                // Never more permissive than the reference, anywhere.
+                assert!(
+                    fast || !reference,
+                    "case {case} {name}: accepted a pair the reference refuses (gap {gap})"
+                );
+                if gap.abs() > 2.0 * tol {
+                    assert_eq!(fast, reference, "case {case} {name}: gap {gap}, tol {tol}");
+                } else {
+                    near_band += 1;
+                }
+            }
+            // The closed-form bound never exceeds the sampled gap by more than the tolerance.
+            if let Some(bound) = coaxial_gap_lower_bound_m(&a, &b) {
+                assert!(bound <= gap + tol, "case {case}: bound {bound} > gap {gap}");
+            }
+        }
+        // The scenes exercise every branch: closed form, touching pairs, the tolerance band.
+        assert!(coaxial_closed_form > 50, "{coaxial_closed_form}");
+        assert!(by_trace > 20, "{by_trace}");
+        assert!(touching > 20 && touching < 380, "{touching}");
+        println!(
+            "coaxial closed form {coaxial_closed_form}, by trace {by_trace}, touching \
+             {touching}, in band {near_band}"
+        );
+    }
+
+    #[test]
+    fn a_spiral_across_the_secondary_is_cleared_in_closed_form() {
+        // The placement builders use most: a flat spiral around the secondary's lower turns,
+        // 2.8 mm clear of its wire. The meridian traces are a vertical segment at r = 55 mm
+        // and a horizontal one from r = 60 mm: 5 mm between centrelines, 2.8 mm between
+        // surfaces (wires of 0.4 mm and 4 mm).
+        let s = helix("s", 0.1, 0.055, 0.45, 900.0, 0.4e-3);
+        let p = spiral("p", 0.15, 0.06, 0.14, 6.0, 4e-3);
+        let bound = coaxial_gap_lower_bound_m(&s, &p).unwrap();
+        assert!((bound - 2.8e-3).abs() < 1e-12, "{bound}");
+        assert!(coaxial_clear(&s, &p));
+        // Tilted by 1e-6 rad it is no longer coaxial: the sampled check answers, the same way.
+        let mut tilted = p.clone();
+        if let Shape::Spiral { axis, .. } = &mut tilted.shape {
+            *axis = Unit::new_normalize(Vector3::new(1e-6, 0.0, 1.0));
+        }
+        assert!(coaxial_gap_lower_bound_m(&s, &tilted).is_none());
+        assert!(
+            wires_touch_prepared(&PreparedWire::new(&s), &PreparedWire::new(&tilted)).is_none()
+        );
     }
 }
