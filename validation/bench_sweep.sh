@@ -1,33 +1,69 @@
 #!/usr/bin/env bash
-# Whole-program benchmark of the 10,000-point sweep (meshes-demo/sweep-primary.toml): wall time
-# with 1 and 2 threads (best of 9), parallel efficiency, and the numpy/scipy baseline
-# (validation/sweep_baseline.py, best of 3) with its agreement check. Figures go into README.md.
+# Whole-program benchmarks of the sweeps (figures go into README.md):
+#   - the 10,000-point sweeps meshes-demo/bench-sweep-below.toml (primary below the secondary's
+#     base) and meshes-demo/bench-sweep-overlap.toml (primary across its lower turns): wall time
+#     with 1 and 2 threads over 9 runs each (median and best), parallel efficiency from the
+#     medians, the ratio overlap / below, and the numpy/scipy baseline of the same k
+#     (validation/sweep_baseline.py, best of 3) with its agreement check;
+#   - the 1,000-point sweep meshes-demo/bench-sweep-tilted.toml (primary offset and tilted):
+#     wall time, and where the time goes (perf, when the machine allows it).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 cargo build --release --quiet
 bin=${CARGO_TARGET_DIR:-target}/release/coilfield
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
-best() { sort -g | head -1; }
-run() {
-    for _ in $(seq 9); do
+
+# Wall time (s) of each of $3 runs of the whole process (start-up and file writing included).
+times() {
+    for _ in $(seq "$3"); do
         rm -f "$tmp/k.csv"
-        # Wall time (s) of the whole process, start-up and file writing included.
         t0=$(date +%s%N)
-        "$bin" sweep meshes-demo/sweep-primary.toml --out "$tmp/k.csv" --threads "$1" \
-            >/dev/null 2>&1
+        "$bin" sweep "$1" --out "$tmp/k.csv" --threads "$2" >/dev/null 2>&1
         t1=$(date +%s%N)
-        awk -v a="$t0" -v b="$t1" 'BEGIN { printf "%.3f\n", (b - a) / 1e9 }'
-    done | best
+        awk -v a="$t0" -v b="$t1" 'BEGIN { printf "%.4f\n", (b - a) / 1e9 }'
+    done
 }
-t1=$(run 1)
-t2=$(run 2)
-base=$(for _ in 1 2 3; do python3 validation/sweep_baseline.py | awk '{print $(NF-1)}'; done | best)
-check=$(python3 validation/sweep_baseline.py --check "$tmp/k.csv" | tail -1)
+median() { sort -g | awk '{ v[NR] = $1 } END { print v[int((NR + 1) / 2)] }'; }
+best() { sort -g | head -1; }
+
 echo "commit $(git rev-parse --short HEAD), $(nproc) cores, $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2 | xargs)"
 echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg)"
-echo "coilfield sweep, 10,000 points: 1 thread ${t1} s, 2 threads ${t2} s"
-awk -v a="$t1" -v b="$t2" -v p="$base" 'BEGIN {
-    printf "parallel efficiency 1 -> 2 threads: %.0f %%\n", 100 * a / (2 * b);
-    printf "numpy/scipy baseline: %s s; speed-up (2 threads): %.1fx\n", p, p / b }'
-echo "$check"
+declare -A med2
+for case in below overlap; do
+    sweep=meshes-demo/bench-sweep-$case.toml
+    t1=$(times "$sweep" 1 9)
+    t2=$(times "$sweep" 2 9)
+    m1=$(echo "$t1" | median)
+    m2=$(echo "$t2" | median)
+    med2[$case]=$m2
+    base=$(for _ in 1 2 3; do python3 validation/sweep_baseline.py --sweep "$sweep" | awk '{print $(NF-1)}'; done | best)
+    "$bin" sweep "$sweep" --out "$tmp/k.csv" >/dev/null 2>&1
+    check=$(python3 validation/sweep_baseline.py --sweep "$sweep" --check "$tmp/k.csv" | tail -1)
+    echo "$case: 1 thread median ${m1} s (best $(echo "$t1" | best)), 2 threads median ${m2} s (best $(echo "$t2" | best))"
+    awk -v a="$m1" -v b="$m2" -v p="$base" 'BEGIN {
+        printf "  parallel efficiency 1 -> 2 threads (medians of 9): %.0f %%\n", 100 * a / (2 * b);
+        printf "  numpy/scipy baseline: %s s; speed-up (2 threads, median): %.1fx\n", p, p / b }'
+    echo "  $check"
+done
+awk -v a="${med2[overlap]}" -v b="${med2[below]}" 'BEGIN {
+    printf "overlap / below (2 threads, medians): %.2f\n", a / b }'
+
+sweep=meshes-demo/bench-sweep-tilted.toml
+t1=$(times "$sweep" 1 3 | median)
+t2=$(times "$sweep" 2 3 | median)
+echo "tilted (1,000 points): 1 thread ${t1} s, 2 threads ${t2} s (medians of 3)"
+if perf record -e cpu-clock -o "$tmp/perf.data" "$bin" sweep "$sweep" --out "$tmp/t.csv" \
+    --threads 1 >/dev/null 2>&1; then
+    # Self time by symbol, grouped: the geometric checks (geometry's queries and the sampling
+    # of curves), the physics (the solver's kernels), and the rest (parsing, output, libc, libm).
+    perf report -i "$tmp/perf.data" --no-children --stdio --sort symbol 2>/dev/null |
+        awk '/^ +[0-9.]+%/ {
+            p = $1; sub("%", "", p); s = $0;
+            if (s ~ /coilfield_geometry::(query|model::winding::Shape::point_at)/) g += p;
+            else if (s ~ /coilfield_solver::/) f += p;
+            else o += p }
+            END { printf "  profile (1 thread): geometric checks %.0f %%, physics %.0f %%, rest %.0f %%\n", g, f, o }'
+    perf report -i "$tmp/perf.data" --no-children --stdio --sort symbol --percent-limit 3 2>/dev/null |
+        awk '/^ +[0-9.]+%/ { print "    " $1, $NF }'
+fi
