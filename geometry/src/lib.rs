@@ -61,7 +61,9 @@ pub use model::clearance::{
 };
 pub use model::design::{CURRENT_VERSION, Design};
 pub use model::discretise::{self, FilamentModel, Ring, RingModel};
-pub use model::drive::{Drive, DriveNeeds, PotentialSpec};
+pub use model::drive::{
+    Drive, DriveKind, DriveNeeds, Driven, PotentialSpec, PrimaryAmplitude, SecondaryBase, SparkGap,
+};
 pub use model::electrode::{Axis, Electrode, ElectrodeShape, End, Ground, Terminal};
 pub use model::images::image_windings;
 pub use model::winding::{Model, Role, Shape, Winding, local_frame};

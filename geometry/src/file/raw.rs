@@ -3,7 +3,7 @@
 //! read in messages.
 
 use crate::error::DesignError;
-use crate::file::units::{parse_length_m, parse_wire_diameter_m};
+use crate::file::units::{Quantity, parse_length_m, parse_quantity, parse_wire_diameter_m};
 use nalgebra::{Point3, Unit, Vector3};
 use serde::Deserialize;
 use toml::Value;
@@ -235,6 +235,89 @@ impl Ctx<'_> {
                 Ok((v, format!("\"{text}\" (= {} m)", crate::error::sig(v))))
             }
         }
+    }
+
+    /// A physical quantity as written (a TOML number in SI units or a string with a unit,
+    /// [`parse_quantity`]), finite; and how to show it in messages.
+    pub(crate) fn quantity(
+        &self,
+        key: &str,
+        value: &Value,
+        q: Quantity,
+    ) -> Result<(f64, String), DesignError> {
+        let (v, shown) = match value {
+            Value::Integer(n) => (*n as f64, n.to_string()),
+            Value::Float(x) => (*x, x.to_string()),
+            Value::String(text) => (
+                parse_quantity(text, q).map_err(|reason| self.bad_unit(key, reason))?,
+                format!("\"{text}\""),
+            ),
+            other => {
+                return Err(DesignError::WrongType {
+                    source_name: self.source.to_string(),
+                    item: self.item.clone(),
+                    key: key.to_string(),
+                    reason: format!(
+                        "expected {} (a number in {}, or a string with a unit such as \"{}\"), \
+                         got {}",
+                        q.phrase(),
+                        q.si_unit(),
+                        q.example(),
+                        type_phrase(other)
+                    ),
+                });
+            }
+        };
+        if !v.is_finite() {
+            return Err(self.not_finite(
+                key,
+                &format!("{} that is finite ({})", q.phrase(), q.si_unit()),
+                shown,
+            ));
+        }
+        Ok((v, shown))
+    }
+
+    /// A positive physical quantity (see [`Ctx::quantity`]).
+    pub(crate) fn positive_quantity(
+        &self,
+        key: &str,
+        value: &Value,
+        q: Quantity,
+    ) -> Result<f64, DesignError> {
+        let (v, shown) = self.quantity(key, value, q)?;
+        if v <= 0.0 {
+            return Err(self.not_positive(
+                key,
+                &format!(
+                    "a positive {} ({})",
+                    q.phrase()
+                        .trim_start_matches("an ")
+                        .trim_start_matches("a "),
+                    q.si_unit()
+                ),
+                shown,
+            ));
+        }
+        Ok(v)
+    }
+
+    /// A physical quantity >= 0 (see [`Ctx::quantity`]).
+    pub(crate) fn non_negative_quantity(
+        &self,
+        key: &str,
+        value: &Value,
+        q: Quantity,
+    ) -> Result<f64, DesignError> {
+        let (v, shown) = self.quantity(key, value, q)?;
+        if v < 0.0 {
+            return Err(self.not_positive(
+                key,
+                &format!("{} of at least 0 {}", q.phrase(), q.si_unit()),
+                shown,
+            ));
+        }
+        Ok(v)
     }
 
     /// A finite length of any sign (coordinates).

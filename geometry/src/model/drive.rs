@@ -16,15 +16,78 @@ pub enum PotentialSpec {
     },
 }
 
+/// How the primary is driven (`[drive] kind`).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub enum DriveKind {
+    /// No drive model: the currents and potentials are given explicitly (`currents`,
+    /// `potentials`), a snapshot of peak values.
+    #[default]
+    Explicit,
+    /// A spark gap discharging the tank capacitor into the primary.
+    SparkGap(SparkGap),
+    /// A sinusoidal primary current or voltage (a solid-state or self-oscillating driver).
+    Driven(Driven),
+}
+
+/// A spark-gap drive: the tank capacitor charged to a peak voltage, discharged through an arc.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SparkGap {
+    /// The primary (tank) capacitor (F).
+    pub tank_capacitance_f: f64,
+    /// Peak charge voltage of the tank capacitor (V).
+    pub charge_voltage_v: f64,
+    /// The arc's resistance while it conducts (ohm; the user's value).
+    pub gap_resistance_ohm: f64,
+    /// Bangs per second (Hz), for the mean power and the duty cycle.
+    pub break_rate_hz: Option<f64>,
+}
+
+/// The amplitude of a driven primary.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum PrimaryAmplitude {
+    /// Peak primary current (A).
+    CurrentA(f64),
+    /// Peak voltage across the primary circuit (V), a series source.
+    VoltageV(f64),
+}
+
+/// A driven primary: a sinusoidal current or voltage at the drive frequency (`[drive]
+/// frequency`, or by default the coupled system's resonance nearest the secondary's first).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Driven {
+    /// The amplitude.
+    pub amplitude: PrimaryAmplitude,
+}
+
+/// What the secondary's base is tied to (`[drive] secondary_base`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum SecondaryBase {
+    /// The ground (the reference of every potential), the usual arrangement.
+    #[default]
+    Ground,
+    /// The primary circuit's return terminal, itself the reference of the primary's voltages:
+    /// in this model it holds the base at the reference potential as `Ground` does.
+    PrimaryReturn,
+}
+
 /// The validated `[drive]` table (every part optional; see [`validate_drive`]).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Drive {
-    /// Drive frequency (Hz).
+    /// Drive frequency (Hz): of the explicit drive or of a driven primary.
     pub frequency_hz: Option<f64>,
-    /// Signed peak current (A) per winding name, in name order.
+    /// Signed peak current (A) per winding name, in name order (explicit drive).
     pub currents_a: Vec<(String, f64)>,
-    /// Peak potentials per conductor name, in name order.
+    /// Peak potentials per conductor name, in name order (explicit drive).
     pub potentials_v: Vec<(String, PotentialSpec)>,
+    /// The drive model.
+    pub kind: DriveKind,
+    /// A driven primary's series capacitor (F), if it has one (a spark gap's is in its
+    /// [`SparkGap`]).
+    pub tank_capacitance_f: Option<f64>,
+    /// Inductance of the primary's leads (H) in series with the primary, 0 when not given.
+    pub lead_inductance_h: f64,
+    /// What the secondary's base is tied to.
+    pub secondary_base: SecondaryBase,
 }
 
 impl Drive {

@@ -3,7 +3,7 @@
 
 use crate::error::DesignError;
 use crate::model::design::Design;
-use crate::model::drive::{DriveNeeds, PotentialSpec};
+use crate::model::drive::{DriveKind, DriveNeeds, PotentialSpec};
 use crate::model::electrode::{Electrode, End};
 use crate::model::winding::{Role, Shape};
 use crate::query::contact::{self, Reach};
@@ -269,6 +269,22 @@ pub(crate) fn names<'a>(it: impl Iterator<Item = &'a str>) -> String {
 /// Names in `[drive]` against the design's conductors, and connected electrodes without a
 /// potential of their own.
 pub(crate) fn check_drive(design: &Design, source: &str) -> Result<(), DesignError> {
+    if design.drive.kind != DriveKind::Explicit {
+        for (role, word) in [(Role::Secondary, "secondary"), (Role::Primary, "primary")] {
+            let n = design.windings.iter().filter(|w| w.role == role).count();
+            if n != 1 {
+                return Err(DesignError::BadSetting {
+                    source_name: source.to_string(),
+                    item: "drive".to_string(),
+                    key: "kind".to_string(),
+                    reason: format!(
+                        "a drive model needs exactly one winding with role = \"{word}\", and \
+                         the design has {n}; set `role` on the windings"
+                    ),
+                });
+            }
+        }
+    }
     let unknown = |key: String, name: &str, wanted: &'static str, known: String| {
         DesignError::UnknownConductor {
             source_name: source.to_string(),
