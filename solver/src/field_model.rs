@@ -64,6 +64,8 @@ pub struct FieldModel {
 
 /// The drive a field computation needs: at least winding currents or conductor potentials.
 /// `what` names the computation in the message, `source` labels it.
+// The error is geometry's own type, returned once per design: its size costs nothing here.
+#[allow(clippy::result_large_err)]
 pub fn check_field_drive(design: &Design, source: &str, what: &str) -> Result<(), DesignError> {
     let has_currents = design.drive.currents_a.iter().any(|(_, i)| *i != 0.0);
     let needs = DriveNeeds {
@@ -83,6 +85,8 @@ pub fn has_potentials(design: &Design) -> bool {
 }
 
 /// The electrostatic solution of a design at the default panel count.
+// The error is geometry's own type, returned once per design: its size costs nothing here.
+#[allow(clippy::result_large_err)]
 pub fn electrostatic_solution(
     design: &Design,
     source: &str,
@@ -97,6 +101,8 @@ impl FieldModel {
     /// potential). `solved` is the design's electrostatic solution when the caller has it
     /// already (default panels); `par` says how both are solved and evaluated. `source`
     /// labels messages.
+    // The error is geometry's own type, returned once per design: its size costs nothing here.
+    #[allow(clippy::result_large_err)]
     pub fn new(
         design: &Design,
         source: &str,

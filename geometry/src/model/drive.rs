@@ -16,7 +16,7 @@ pub enum PotentialSpec {
     },
 }
 
-/// The validated `[drive]` table (every part optional; see [`validate_drive`]).
+/// The validated `[drive]` table (every part optional; see [`crate::query::checks::validate_drive`]).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Drive {
     /// Drive frequency (Hz).

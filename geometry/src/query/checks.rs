@@ -13,7 +13,7 @@ use nalgebra::Point3;
 /// The checks between the parts of a design: wires apart, electrodes clear of the wires, of
 /// each other and of the ground plane, and a drive that names existing conductors.
 ///
-/// [`parse_design`] runs them; a caller that edits a parsed design (a sweep point) runs them
+/// [`crate::file::design::parse_design`] runs them; a caller that edits a parsed design (a sweep point) runs them
 /// again on the result. `source` labels messages.
 pub fn check_design(design: &Design, source: &str) -> Result<(), DesignError> {
     check_overlaps(design, source)?;
