@@ -28,9 +28,10 @@ pub struct SurfaceData {
 
 /// A winding as polylines: one cell per turn, with `turn_index` and `current_peak_A` as point
 /// and cell data. The current is the drive's peak current times the filament weight (N for N
-/// coincident turns of a ring).
+/// coincident turns of a ring). The whole wire is drawn; of a tapped winding, the idle part
+/// carries 0 A (a cell ends where a turn ends and where the tap is).
 pub fn winding_vtp(w: &Winding, current_a: f64) -> anyhow::Result<Vec<u8>> {
-    let model = filament_model(w);
+    let model = filament_model(&w.without_tap());
     let mut pts: Vec<[f64; 3]> = model.points_m.iter().map(|p| [p.x, p.y, p.z]).collect();
     let n_seg = model.n_segments();
     if model.closed && !pts.is_empty() {
@@ -48,19 +49,33 @@ pub fn winding_vtp(w: &Winding, current_a: f64) -> anyhow::Result<Vec<u8>> {
             .min(turns.ceil() - 1.0)
             .max(0.0)
     };
+    // Filament k spans t in [k, k + 1] / n_seg; it carries current when its middle lies in
+    // the tap's active range (all of them without a tap).
+    let (t0, t1) = w.active_range();
+    let i_peak = current_a * model.weight;
+    let current_of = |k: usize| {
+        let t_mid = (k as f64 + 0.5) / n_seg.max(1) as f64;
+        if (t0..=t1).contains(&t_mid) {
+            i_peak
+        } else {
+            0.0
+        }
+    };
     let mut cells: Vec<Vec<u64>> = Vec::new();
     let mut cell_turn = Vec::new();
+    let mut cell_current = Vec::new();
     let mut current_cell: Vec<u64> = Vec::new();
-    let mut last_turn = None;
+    let mut last = None;
     for k in 0..n_seg {
-        let t = turn_of(k);
-        if last_turn != Some(t) {
+        let key = (turn_of(k), current_of(k));
+        if last != Some(key) {
             if !current_cell.is_empty() {
                 cells.push(std::mem::take(&mut current_cell));
             }
             current_cell.push(k as u64);
-            cell_turn.push(t);
-            last_turn = Some(t);
+            cell_turn.push(key.0);
+            cell_current.push(key.1);
+            last = Some(key);
         }
         current_cell.push((k + 1) as u64);
     }
@@ -70,18 +85,22 @@ pub fn winding_vtp(w: &Winding, current_a: f64) -> anyhow::Result<Vec<u8>> {
     let point_turn: Vec<f64> = (0..pts.len())
         .map(|k| turn_of(k.min(n_seg.saturating_sub(1))))
         .collect();
-    let i_peak = current_a * model.weight;
+    // A point carries the current of the filament that starts there (the last point, of the
+    // filament that ends there).
+    let point_current: Vec<f64> = (0..pts.len())
+        .map(|k| current_of(k.min(n_seg.saturating_sub(1))))
+        .collect();
     vtk::poly_data(
         &pts,
         Cells::Lines,
         &cells,
         &[
             Array::scalars("turn_index", point_turn),
-            Array::scalars("current_peak_A", vec![i_peak; pts.len()]),
+            Array::scalars("current_peak_A", point_current),
         ],
         &[
             Array::scalars("turn_index", cell_turn),
-            Array::scalars("current_peak_A", vec![i_peak; cells.len()]),
+            Array::scalars("current_peak_A", cell_current),
         ],
     )
 }

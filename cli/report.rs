@@ -4,7 +4,7 @@ use crate::inductance;
 use crate::load;
 use crate::output::si;
 use coilfield_geometry::discretise::filament_model;
-use coilfield_geometry::{Role, Shape, Winding};
+use coilfield_geometry::{Role, Shape, TapEnd, Winding};
 use coilfield_solver::Par;
 use coilfield_solver::assembly::inductance_report;
 use std::f64::consts::TAU;
@@ -20,7 +20,7 @@ are not felt at once; strong fields can upset implanted medical devices and near
 The figures here are design estimates, not a safety assessment. Follow local electrical codes,
 exposure regulations and licensed, qualified practice.";
 
-/// Length (m) of the wire's centreline.
+/// Length (m) of the wire's centreline: all of it, a tap's idle part included.
 fn wire_length_m(w: &Winding) -> f64 {
     match w.shape {
         Shape::Helix {
@@ -32,8 +32,22 @@ fn wire_length_m(w: &Winding) -> f64 {
         Shape::Ring {
             radius_m, count, ..
         } => TAU * radius_m * f64::from(count),
-        _ => filament_model(w).length_m(),
+        _ => filament_model(&w.without_tap()).length_m(),
     }
+}
+
+/// ", tapped at 6.25 turns from the outer end" for a tapped winding, else nothing.
+fn describe_tap(w: &Winding) -> String {
+    let Some(tap) = w.tap else {
+        return String::new();
+    };
+    let end = match (&w.shape, tap.from) {
+        (Shape::Helix { .. }, TapEnd::End) => "top",
+        (Shape::Helix { .. }, TapEnd::Start) => "bottom",
+        (_, TapEnd::End) => "outer end",
+        (_, TapEnd::Start) => "inner end",
+    };
+    format!(", tapped at {} turns from the {end}", tap.turns)
 }
 
 fn describe(w: &Winding) -> String {
@@ -97,9 +111,10 @@ pub fn run(path: &Path) -> anyhow::Result<ExitCode> {
         };
         let _ = writeln!(
             s,
-            "  {} ({role}): {}; wire {} diameter, {} of wire",
+            "  {} ({role}): {}{}; wire {} diameter, {} of wire",
             w.name,
             describe(w),
+            describe_tap(w),
             si(w.wire_diameter_m, "m", 4),
             si(wire_length_m(w), "m", 4)
         );

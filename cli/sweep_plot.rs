@@ -47,7 +47,7 @@ fn axis_label(key: &str) -> String {
     let field = key.rsplit('.').next().unwrap_or(key);
     let unit = if field == "tilt_deg" {
         "deg"
-    } else if field == "turns" {
+    } else if field == "turns" || field == "tap_turns" {
         "turns"
     } else if field == "segments_per_turn" {
         "per turn"

@@ -93,6 +93,7 @@ fn winding(shape: Shape, wire_diameter_m: f64) -> Winding {
         model: Model::Ring,
         wire_diameter_m,
         segments_per_turn: None,
+        tap: None,
         shape,
     }
 }

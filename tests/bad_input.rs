@@ -258,3 +258,35 @@ fn unknown_version() {
         &["key 'version'", "version 2"],
     );
 }
+
+#[test]
+fn tap_beyond_the_primarys_turns() {
+    case(
+        &good_with("turns = 6\n", "turns = 6\ntap_turns = 6.5\n"),
+        &[
+            "winding 'primary'",
+            "key 'tap_turns'",
+            "6.5 turns",
+            "6 turns",
+        ],
+    );
+}
+
+#[test]
+fn tap_on_the_secondary() {
+    case(
+        &good_with("turns = 800\n", "turns = 800\ntap_turns = 400\n"),
+        &["winding 'secondary'", "key 'tap_turns'", "primary"],
+    );
+}
+
+#[test]
+fn tap_from_a_helix_end_on_a_spiral() {
+    case(
+        &good_with(
+            "turns = 6\n",
+            "turns = 6\ntap_turns = 3\ntap_from = \"bottom\"\n",
+        ),
+        &["winding 'primary'", "key 'tap_from'", "outer, inner"],
+    );
+}

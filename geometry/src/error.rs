@@ -61,6 +61,21 @@ pub enum DesignError {
         found: String,
     },
 
+    /// A tap key (`tap_turns`, `tap_from`) that cannot be used: on a winding that is not the
+    /// primary, a tap of more turns than the winding has or below the smallest tap, or
+    /// `tap_from` without `tap_turns`. The message says which; fix that key.
+    #[error("{source_name}: {item}: key '{key}': {reason}")]
+    BadTap {
+        /// File label.
+        source_name: String,
+        /// Which winding.
+        item: String,
+        /// `tap_turns` or `tap_from`.
+        key: String,
+        /// What is wrong and what to give.
+        reason: String,
+    },
+
     /// A key in a winding that the format does not know. Check its spelling against the list.
     #[error(
         "{source_name}: {item}: key '{key}': unknown key for a {shape}; allowed keys for a \

@@ -7,7 +7,7 @@
 //!
 //! # Layers
 //! Imports run one way, top to bottom (a test checks it):
-//! - [`file`]: the design-file layer (TOML text, units, key paths in messages; design, sweep and
+//! - [`mod@file`]: the design-file layer (TOML text, units, key paths in messages; design, sweep and
 //!   seek files);
 //! - [`query`]: geometric queries on the model (distances, wire overlap, electrode contact, the
 //!   common axis) and the checks between the parts of a design;
@@ -66,6 +66,6 @@ pub use model::drive::{
 };
 pub use model::electrode::{Axis, Electrode, ElectrodeShape, End, Ground, Terminal};
 pub use model::images::image_windings;
-pub use model::winding::{Model, Role, Shape, Winding, local_frame};
+pub use model::winding::{Model, Role, Shape, Tap, TapEnd, Winding, local_frame};
 pub use query::axisymmetric::check_axisymmetric;
 pub use query::checks::{check_design, validate_drive};

@@ -392,6 +392,11 @@ pub fn inductance_entry(
 }
 
 /// An independent estimate of a winding's self-inductance (H) and how it was obtained.
+///
+/// Of a tapped winding ([`Winding::is_tapped`]) the estimate is of the part in use: the ring
+/// model for a filament model; Rosa's formula for the tapped part of a helix when it is a whole
+/// number of turns (it is a helix of that many turns and the same pitch); Wheeler's formula for
+/// the tapped part of a spiral (a spiral between the radii at the tap's two ends).
 pub fn cross_check(winding: &Winding, model: &WindingModel, par: Par) -> Option<(f64, String)> {
     if let WindingModel::Filament(_) = model
         && let Some(rings) = ring_model(winding)
@@ -400,6 +405,9 @@ pub fn cross_check(winding: &Winding, model: &WindingModel, par: Par) -> Option<
             self_ring_model(&rings, par),
             "ring model (axisymmetric, turn-by-turn Maxwell sum)".to_string(),
         ));
+    }
+    if winding.is_tapped() {
+        return cross_check_of_tapped_part(winding);
     }
     match winding.shape {
         Shape::Helix {
@@ -425,6 +433,39 @@ pub fn cross_check(winding: &Winding, model: &WindingModel, par: Par) -> Option<
             wheeler_spiral(inner_radius_m, outer_radius_m, turns),
             "Wheeler 1928 flat-spiral formula (within 5 %)".to_string(),
         )),
+        _ => None,
+    }
+}
+
+/// [`cross_check`] of the part of a tapped helix or spiral that carries current.
+fn cross_check_of_tapped_part(winding: &Winding) -> Option<(f64, String)> {
+    let active = winding.active_turns()?;
+    let (t0, t1) = winding.active_range();
+    match winding.shape {
+        Shape::Helix {
+            radius_m,
+            length_m,
+            turns,
+            ..
+        } if active.fract() == 0.0 && active >= 2.0 => Some((
+            rosa_solenoid(
+                radius_m,
+                active as usize,
+                length_m / turns,
+                winding.wire_diameter_m,
+            ),
+            "Lorenz current sheet (Nagaoka) with Rosa's round-wire corrections A and B, of the \
+             tapped turns"
+                .to_string(),
+        )),
+        Shape::Spiral { .. } => {
+            let (r0, _) = winding.shape.radius_height_at(t0)?;
+            let (r1, _) = winding.shape.radius_height_at(t1)?;
+            Some((
+                wheeler_spiral(r0, r1, active),
+                "Wheeler 1928 flat-spiral formula (within 5 %), of the tapped turns".to_string(),
+            ))
+        }
         _ => None,
     }
 }
@@ -520,6 +561,7 @@ mod tests {
             model: Model::Ring,
             wire_diameter_m: 0.4e-3,
             segments_per_turn: None,
+            tap: None,
             shape: Shape::Helix {
                 origin_m: Point3::new(0.0, 0.0, 0.1),
                 axis: Vector3::z_axis(),
@@ -537,6 +579,7 @@ mod tests {
             model: Model::Ring,
             wire_diameter_m: 4e-3,
             segments_per_turn: None,
+            tap: None,
             shape: Shape::Spiral {
                 origin_m: Point3::from(centre),
                 axis: Unit::new_normalize(Vector3::from(axis)),

@@ -315,6 +315,11 @@ pub fn b_field(
 }
 
 /// Sources of one winding carrying `current_a`.
+///
+/// Of a tapped winding only the part in use carries current: its ring or filament model holds
+/// that part alone, and the Derby-Olbert sheet stands in for the rings only while they are a
+/// uniform stack of whole turns from the helix's base (a helix tapped from its base at a whole
+/// number of turns: the sheet then spans the tapped turns).
 pub fn sources_of_winding(winding: &Winding, current_a: f64) -> Vec<Source> {
     let wire = winding.wire_radius_m();
     let rings = match winding.model {

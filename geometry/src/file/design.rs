@@ -17,7 +17,7 @@
 //! wire_diameter = "AWG 26"
 //! ```
 //!
-//! Lengths are bare numbers in metres or strings with a unit (see [`crate::units`]). Keys by
+//! Lengths are bare numbers in metres or strings with a unit (see [`crate::file::units`]). Keys by
 //! shape (besides `name`, `shape`, `role`, `model`, `wire_diameter`, all required unless said):
 //! - helix: `origin`, `axis`, `radius`, `length`, `turns` (positive real),
 //!   `segments_per_turn` (optional)
@@ -26,10 +26,14 @@
 //! - ring: `origin`, `axis`, `radius`, `turns` (optional whole number of coincident turns,
 //!   default 1), `segments_per_turn`
 //! - polyline: `points` = [[x, y, z], ...] in absolute coordinates, `closed` (default false)
+//! - on a helix, spiral or cone with `role = "primary"` only: `tap_turns` (optional; the turns in
+//!   use, a positive number up to `turns`, fractional allowed) and `tap_from` (optional, with
+//!   `tap_turns`: the end they count from, `"outer"` (default) or `"inner"` for a spiral or
+//!   cone, `"top"` (default) or `"bottom"` for a helix); see [`crate::model::winding::Tap`]
 //!
 //! Besides `[[winding]]`, a design may have `[[electrode]]` tables and a `[ground]` table (keys
-//! and units in [`crate::electrode`]), a `[drive]` table (in [`crate::drive`]) and a
-//! `[clearance]` table of thresholds and search settings (in [`crate::clearance`]). A design of
+//! and units in [`crate::file::electrode`]), a `[drive]` table (in [`crate::file::drive`]) and a
+//! `[clearance]` table of thresholds and search settings (in [`crate::file::clearance`]). A design of
 //! electrodes alone (no winding) is accepted.
 //!
 //! # Checks
@@ -38,7 +42,7 @@
 //! enough distinct points, names are unique (across windings and electrodes), and no two wires
 //! may touch (see [`crate::query::overlap::check_overlaps`]); then electrodes must not touch wires or
 //! each other, nothing may reach the ground plane, and every name in `connect` and `[drive]`
-//! must exist (see [`crate::electrode`], [`crate::drive`]).
+//! must exist (see [`crate::file::electrode`], [`crate::file::drive`]).
 
 use crate::error::DesignError;
 use crate::file::clearance::parse_clearance;
@@ -878,6 +882,239 @@ wire_diameter = "AWG 10"
                 "helix, spiral, cone, ring, polyline",
             ],
         );
+    }
+
+    // ---- taps ----
+
+    /// `text` (one winding) with `lines` appended to its table.
+    fn with_lines(text: String, lines: &str) -> String {
+        format!("{text}{lines}\n")
+    }
+
+    #[test]
+    fn tap_keys_are_read_with_their_default_end() {
+        use crate::model::winding::{Tap, TapEnd};
+        let cases = [
+            (
+                spiral("role = \"primary\""),
+                "tap_turns = 2.5",
+                Tap {
+                    turns: 2.5,
+                    from: TapEnd::End,
+                },
+            ),
+            (
+                spiral("role = \"primary\""),
+                "tap_turns = 2.5\ntap_from = \"outer\"",
+                Tap {
+                    turns: 2.5,
+                    from: TapEnd::End,
+                },
+            ),
+            (
+                spiral("role = \"primary\""),
+                "tap_turns = 5\ntap_from = \"inner\"",
+                Tap {
+                    turns: 5.0,
+                    from: TapEnd::Start,
+                },
+            ),
+            (
+                cone("role = \"primary\""),
+                "tap_turns = 1\ntap_from = \"inner\"",
+                Tap {
+                    turns: 1.0,
+                    from: TapEnd::Start,
+                },
+            ),
+            (
+                helix("role = \"primary\""),
+                "tap_turns = 12.25",
+                Tap {
+                    turns: 12.25,
+                    from: TapEnd::End,
+                },
+            ),
+            (
+                helix("role = \"primary\""),
+                "tap_turns = 50\ntap_from = \"bottom\"",
+                Tap {
+                    turns: 50.0,
+                    from: TapEnd::Start,
+                },
+            ),
+        ];
+        for (base, lines, want) in cases {
+            let text = with_lines(base, lines);
+            let w = &parse_design(&text, FILE)
+                .unwrap_or_else(|e| panic!("{e}\n{text}"))
+                .windings[0];
+            assert_eq!(w.tap, Some(want), "{text}");
+        }
+        assert_eq!(
+            parse_design(&spiral(""), FILE).unwrap().windings[0].tap,
+            None
+        );
+    }
+
+    #[test]
+    fn tap_on_a_ring() {
+        let e = err(&with_lines(ring("role = \"primary\""), "tap_turns = 1"));
+        assert!(matches!(e, DesignError::KeyNotForShape { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'loop'",
+                "key 'tap_turns'",
+                "ring",
+                "helix, spiral, cone",
+            ],
+        );
+    }
+
+    #[test]
+    fn tap_on_a_polyline() {
+        let e = err(&with_lines(
+            polyline("role = \"primary\""),
+            "tap_from = \"outer\"",
+        ));
+        assert!(matches!(e, DesignError::KeyNotForShape { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'path'",
+                "key 'tap_from'",
+                "polyline",
+                "helix, spiral, cone",
+            ],
+        );
+    }
+
+    #[test]
+    fn tap_on_a_secondary() {
+        let e = err(&with_lines(helix("role = \"secondary\""), "tap_turns = 10"));
+        assert!(matches!(e, DesignError::BadTap { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'coil'",
+                "key 'tap_turns'",
+                "role is secondary",
+                "primary",
+            ],
+        );
+    }
+
+    #[test]
+    fn tap_without_a_role() {
+        let e = err(&with_lines(spiral(""), "tap_turns = 2"));
+        assert!(matches!(e, DesignError::BadTap { .. }), "{e:?}");
+        assert_names(&e, &["winding 'flat'", "key 'tap_turns'", "role is other"]);
+    }
+
+    #[test]
+    fn tap_beyond_the_turns() {
+        let e = err(&with_lines(spiral("role = \"primary\""), "tap_turns = 5.5"));
+        assert!(matches!(e, DesignError::BadTap { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &["winding 'flat'", "key 'tap_turns'", "5.5 turns", "5 turns"],
+        );
+    }
+
+    #[test]
+    fn tap_of_no_turns() {
+        for value in ["0", "-1.5"] {
+            let e = err(&with_lines(
+                spiral("role = \"primary\""),
+                &format!("tap_turns = {value}"),
+            ));
+            assert!(matches!(e, DesignError::NotPositive { .. }), "{e:?}");
+            assert_names(&e, &["winding 'flat'", "key 'tap_turns'", value]);
+        }
+    }
+
+    #[test]
+    fn tap_not_finite() {
+        let e = err(&with_lines(cone("role = \"primary\""), "tap_turns = nan"));
+        assert!(matches!(e, DesignError::NotFinite { .. }), "{e:?}");
+        assert_names(&e, &["winding 'funnel'", "key 'tap_turns'"]);
+    }
+
+    #[test]
+    fn tap_below_the_smallest() {
+        let e = err(&with_lines(
+            spiral("role = \"primary\""),
+            "tap_turns = 1e-8",
+        ));
+        assert!(matches!(e, DesignError::BadTap { .. }), "{e:?}");
+        assert_names(&e, &["winding 'flat'", "key 'tap_turns'", "smallest tap"]);
+    }
+
+    #[test]
+    fn tap_turns_of_wrong_type() {
+        let e = err(&with_lines(
+            spiral("role = \"primary\""),
+            "tap_turns = \"3 turns\"",
+        ));
+        assert!(matches!(e, DesignError::WrongType { .. }), "{e:?}");
+        assert_names(&e, &["winding 'flat'", "key 'tap_turns'"]);
+    }
+
+    #[test]
+    fn tap_from_without_tap_turns() {
+        let e = err(&with_lines(
+            spiral("role = \"primary\""),
+            "tap_from = \"inner\"",
+        ));
+        assert!(matches!(e, DesignError::BadTap { .. }), "{e:?}");
+        assert_names(&e, &["winding 'flat'", "key 'tap_from'", "tap_turns"]);
+    }
+
+    #[test]
+    fn tap_from_of_a_helix_on_a_spiral() {
+        let e = err(&with_lines(
+            spiral("role = \"primary\""),
+            "tap_turns = 2\ntap_from = \"top\"",
+        ));
+        assert!(matches!(e, DesignError::UnknownValue { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'flat'",
+                "key 'tap_from'",
+                "\"top\"",
+                "outer, inner",
+            ],
+        );
+    }
+
+    #[test]
+    fn tap_from_of_a_spiral_on_a_helix() {
+        let e = err(&with_lines(
+            helix("role = \"primary\""),
+            "tap_turns = 2\ntap_from = \"outer\"",
+        ));
+        assert!(matches!(e, DesignError::UnknownValue { .. }), "{e:?}");
+        assert_names(
+            &e,
+            &[
+                "winding 'coil'",
+                "key 'tap_from'",
+                "\"outer\"",
+                "top, bottom",
+            ],
+        );
+    }
+
+    #[test]
+    fn tap_from_of_wrong_type() {
+        let e = err(&with_lines(
+            helix("role = \"primary\""),
+            "tap_turns = 2\ntap_from = 1",
+        ));
+        assert!(matches!(e, DesignError::WrongType { .. }), "{e:?}");
+        assert_names(&e, &["winding 'coil'", "key 'tap_from'"]);
     }
 
     #[test]

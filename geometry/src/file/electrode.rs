@@ -1,6 +1,6 @@
 //! Electrodes (conductors other than windings), the ground plane, and the checks the electric
 //! solver needs: no contact with windings or each other, nothing through the ground plane, and
-//! one common axis ([`check_axisymmetric`]).
+//! one common axis ([`crate::query::axisymmetric::check_axisymmetric`]).
 //!
 //! # Design-file keys (`[[electrode]]`, one table per electrode)
 //! - `name`: `[A-Za-z0-9_-]+`, unique across windings and electrodes (default `electrode-<n>`).

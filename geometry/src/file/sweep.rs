@@ -34,7 +34,9 @@
 //! ```
 //!
 //! A nameless winding or electrode is named as the design parser names it (`winding-2`,
-//! `electrode-1`). Names, shapes and `connect` cannot be swept.
+//! `electrode-1`). Names, shapes, `connect` and `tap_from` cannot be swept; a primary's
+//! `tap_turns` can (`winding.primary.tap_turns`, turns), and is set even where the base design
+//! has no tap (then counted from the default end).
 //!
 //! Grid points are the Cartesian product of the axes (groups count as one axis), the first
 //! axis varying slowest. Values are plain SI numbers (metres, turns, degrees for `tilt_deg`).
@@ -479,7 +481,7 @@ fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<
                 "only a tilt_deg axis takes `about`",
             ));
         }
-        if matches!(field.as_str(), "name" | "shape" | "connect") {
+        if matches!(field.as_str(), "name" | "shape" | "connect" | "tap_from") {
             return Err(bad_key(format!("`{field}` is not a number to sweep")));
         }
         Target::Field {
@@ -1006,6 +1008,23 @@ scale = "log"
         // A right-handed quarter turn about +y takes +z to +x.
         assert!((a[0].as_float().unwrap() - 1.0).abs() < 1e-15);
         assert!(a[2].as_float().unwrap().abs() < 1e-15);
+    }
+
+    #[test]
+    fn tap_turns_is_swept_and_tap_from_is_not() {
+        let text = SWEEP.replace("winding.a.origin[2]", "winding.a.tap_turns");
+        let s = parse_sweep(&text, "s.toml").unwrap();
+        let base: Table = "[[winding]]\nname = \"a\"\ntap_turns = 3\n"
+            .parse()
+            .unwrap();
+        let t = apply(&base, &s.axes[..1], &[2.5]).unwrap();
+        assert_eq!(t["winding"][0]["tap_turns"].as_float(), Some(2.5));
+        let text = SWEEP.replace("winding.a.origin[2]", "winding.a.tap_from");
+        let e = parse_sweep(&text, "s.toml").unwrap_err().to_string();
+        assert!(
+            e.contains("tap_from") && e.contains("not a number to sweep"),
+            "{e}"
+        );
     }
 
     #[test]

@@ -6,7 +6,7 @@
 //! boundary; everything past this module works in plain `f64` SI values.
 //!
 //! Errors are the reason as a sentence that says what to write instead; the caller adds the
-//! file, the table and the key ([`crate::file::raw::Ctx`]).
+//! file, the table and the key (`crate::file::raw::Ctx`).
 //!
 //! # Example
 //! ```

@@ -3,7 +3,7 @@
 
 use crate::error::DesignError;
 use crate::file::raw::{Ctx, RawLength, RawNumber, is_valid_name, type_phrase};
-use crate::model::winding::{Model, Role, Shape, Winding};
+use crate::model::winding::{MIN_TAP_TURNS, Model, Role, Shape, Tap, TapEnd, Winding};
 use nalgebra::Point3;
 use serde::Deserialize;
 use toml::{Table, Value};
@@ -79,6 +79,8 @@ impl ShapeKind {
                 "length",
                 "turns",
                 "segments_per_turn",
+                "tap_turns",
+                "tap_from",
             ],
             Self::Spiral => &[
                 "origin",
@@ -87,6 +89,8 @@ impl ShapeKind {
                 "outer_radius",
                 "turns",
                 "segments_per_turn",
+                "tap_turns",
+                "tap_from",
             ],
             Self::Cone => &[
                 "origin",
@@ -96,6 +100,8 @@ impl ShapeKind {
                 "height",
                 "turns",
                 "segments_per_turn",
+                "tap_turns",
+                "tap_from",
             ],
             Self::Ring => &["origin", "axis", "radius", "turns", "segments_per_turn"],
             Self::Polyline => &["points", "closed"],
@@ -142,6 +148,8 @@ struct RawWinding {
     points: Option<Vec<[RawLength; 3]>>,
     closed: Option<bool>,
     segments_per_turn: Option<RawNumber>,
+    tap_turns: Option<RawNumber>,
+    tap_from: Option<String>,
 }
 
 /// Checks of winding values that only windings have.
@@ -312,6 +320,7 @@ pub(crate) fn parse_winding(
     if model == Model::Filament {
         check_filament_count(&shape, segments_per_turn, &ctx)?;
     }
+    let tap = tap_of(&raw, kind, &shape, role, &ctx)?;
     Ok(Winding {
         name,
         role,
@@ -319,6 +328,7 @@ pub(crate) fn parse_winding(
         wire_diameter_m,
         segments_per_turn,
         shape,
+        tap,
     })
 }
 
@@ -619,6 +629,90 @@ fn polyline(raw: &RawWinding, ctx: &Ctx<'_>) -> Result<Shape, DesignError> {
         }
     }
     Ok(Shape::Polyline { points_m, closed })
+}
+
+/// The tap keys of a primary's helix, spiral or cone (the other shapes do not take them, see
+/// [`ShapeKind::own_keys`]): `tap_turns`, the turns in use counted from one end (a positive
+/// number up to the winding's turns, fractional allowed), and `tap_from`, that end: `"outer"`
+/// (default) or `"inner"` for a spiral or cone, `"top"` (default) or `"bottom"` for a helix.
+fn tap_of(
+    raw: &RawWinding,
+    kind: ShapeKind,
+    shape: &Shape,
+    role: Role,
+    ctx: &Ctx<'_>,
+) -> Result<Option<Tap>, DesignError> {
+    let bad_tap = |key: &str, reason: String| DesignError::BadTap {
+        source_name: ctx.source.to_string(),
+        item: ctx.item.clone(),
+        key: key.to_string(),
+        reason,
+    };
+    let Some(raw_turns) = raw.tap_turns else {
+        if raw.tap_from.is_some() {
+            return Err(bad_tap(
+                "tap_from",
+                "says which end a tap counts from, but the winding has no tap: give tap_turns \
+                 too, or remove tap_from"
+                    .to_string(),
+            ));
+        }
+        return Ok(None);
+    };
+    if role != Role::Primary {
+        let role = match role {
+            Role::Secondary => "secondary",
+            Role::Primary => "primary",
+            Role::Other => "other",
+        };
+        return Err(bad_tap(
+            "tap_turns",
+            format!(
+                "a tap tunes the primary, and this winding's role is {role}; set \
+                 role = \"primary\" or remove the tap"
+            ),
+        ));
+    }
+    const EXPECTED: &str = "a positive number of turns";
+    let turns = raw_turns.as_f64();
+    if !turns.is_finite() {
+        return Err(ctx.not_finite("tap_turns", EXPECTED, raw_turns.shown()));
+    }
+    if turns <= 0.0 {
+        return Err(ctx.not_positive("tap_turns", EXPECTED, raw_turns.shown()));
+    }
+    let winding_turns = shape.turns().unwrap_or(0.0);
+    if turns > winding_turns {
+        return Err(bad_tap(
+            "tap_turns",
+            format!(
+                "{} turns is more than the winding's {winding_turns} turns; the tap counts the \
+                 turns in use, at most all of them",
+                raw_turns.shown()
+            ),
+        ));
+    }
+    if turns < MIN_TAP_TURNS {
+        return Err(bad_tap(
+            "tap_turns",
+            format!(
+                "{} turns is below the smallest tap, {MIN_TAP_TURNS} turns",
+                raw_turns.shown()
+            ),
+        ));
+    }
+    // (the default end, the other end) by the shape's own words.
+    let ends: [&str; 2] = match kind {
+        ShapeKind::Helix => ["top", "bottom"],
+        _ => ["outer", "inner"],
+    };
+    let from = match raw.tap_from.as_deref() {
+        None => TapEnd::End,
+        Some(end) if end == ends[0] => TapEnd::End,
+        Some(end) if end == ends[1] => TapEnd::Start,
+        Some(other) => return Err(ctx.unknown_value("tap_from", other, &ends)),
+    };
+    Ok(Some(Tap { turns, from }))
 }
 
 /// The filament model's size: turns times segments per turn within [`MAX_FILAMENT_SEGMENTS`].

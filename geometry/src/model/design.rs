@@ -18,13 +18,13 @@ pub struct Design {
     pub version: u32,
     /// Windings in file order.
     pub windings: Vec<Winding>,
-    /// Electrodes in file order (`[[electrode]]`, see [`crate::electrode`]).
+    /// Electrodes in file order (`[[electrode]]`, see [`crate::file::electrode`]).
     pub electrodes: Vec<Electrode>,
     /// The grounded plane (`[ground]`), None for free space.
     pub ground: Option<Ground>,
-    /// The excitation (`[drive]`, see [`crate::drive`]).
+    /// The excitation (`[drive]`, see [`crate::file::drive`]).
     pub drive: Drive,
-    /// Clearance thresholds and search settings (`[clearance]`, see [`crate::clearance`]).
+    /// Clearance thresholds and search settings (`[clearance]`, see [`crate::file::clearance`]).
     pub clearance: ClearanceSettings,
 }
 

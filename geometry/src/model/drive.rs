@@ -70,7 +70,7 @@ pub enum SecondaryBase {
     PrimaryReturn,
 }
 
-/// The validated `[drive]` table (every part optional; see [`validate_drive`]).
+/// The validated `[drive]` table (every part optional; see `validate_drive`).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Drive {
     /// Drive frequency (Hz): of the explicit drive or of a driven primary.

@@ -19,7 +19,8 @@ fn mirror_point(p: &Point3<f64>, z0_m: f64) -> Point3<f64> {
 /// same current sign; ring-model windings keep their shape with mirrored origin and axis.
 /// Filament-model windings (and polylines) become polylines through the mirrored points in
 /// reverse order, so that a helix keeps its true (opposite) handedness. Images are named
-/// `<name>-image` and have role `other`.
+/// `<name>-image` and have role `other`. A tapped winding's image carries the same tap (a
+/// polyline image is drawn through the filament model of the active part only).
 pub fn image_windings(windings: &[Winding], ground: &Ground) -> Vec<Winding> {
     let z0 = ground.z_m;
     let mirror_axis = |a: &Unit<Vector3<f64>>| Unit::new_normalize(Vector3::new(a.x, a.y, -a.z));
@@ -112,8 +113,69 @@ pub fn image_windings(windings: &[Winding], ground: &Ground) -> Vec<Winding> {
                 model,
                 wire_diameter_m: w.wire_diameter_m,
                 segments_per_turn: w.segments_per_turn,
+                // A mirrored curve keeps its parameter, so a tap cuts the image where it cuts
+                // the winding; a polyline image holds the active part already.
+                tap: match shape {
+                    Shape::Polyline { .. } => None,
+                    _ => w.tap,
+                },
                 shape,
             }
         })
         .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::discretise::ring_model;
+    use crate::model::winding::{Tap, TapEnd};
+
+    #[test]
+    fn images_keep_the_tap() {
+        // The image of a tapped spiral 5 cm above a plane at z = 0 is the mirror of its tapped
+        // rings: same radii and weights, heights z -> -z.
+        let w = Winding {
+            name: "p".into(),
+            role: Role::Primary,
+            model: Model::Ring,
+            wire_diameter_m: 0.003,
+            segments_per_turn: None,
+            shape: Shape::Spiral {
+                origin_m: Point3::new(0.0, 0.0, 0.05),
+                axis: Vector3::z_axis(),
+                inner_radius_m: 0.06,
+                outer_radius_m: 0.15,
+                turns: 12.0,
+            },
+            tap: Some(Tap {
+                turns: 4.5,
+                from: TapEnd::Start,
+            }),
+        };
+        let ground = Ground {
+            z_m: 0.0,
+            conducting: true,
+        };
+        let img = &image_windings(std::slice::from_ref(&w), &ground)[0];
+        assert_eq!(img.tap, w.tap);
+        let a = ring_model(&w).unwrap();
+        let b = ring_model(img).unwrap();
+        assert_eq!(a.rings.len(), b.rings.len());
+        for (ra, rb) in a.rings.iter().zip(&b.rings) {
+            assert_eq!((ra.radius_m, ra.weight), (rb.radius_m, rb.weight));
+            assert!((ra.centre_m.z + rb.centre_m.z).abs() < 1e-16);
+        }
+        // A filament-model winding's image is the polyline of its active part alone.
+        let f = Winding {
+            model: Model::Filament,
+            ..w.clone()
+        };
+        let img = &image_windings(std::slice::from_ref(&f), &ground)[0];
+        assert_eq!(img.tap, None);
+        let Shape::Polyline { points_m, .. } = &img.shape else {
+            panic!("{img:?}")
+        };
+        assert_eq!(points_m.len(), 4 * 128 + 64 + 1);
+    }
 }

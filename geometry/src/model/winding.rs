@@ -106,6 +106,59 @@ pub struct Winding {
     pub segments_per_turn: Option<usize>,
     /// The curve.
     pub shape: Shape,
+    /// The tap, when only part of the curve carries current (a tuned primary); None: all of it.
+    ///
+    /// Only the current paths honour it (the discretisation, hence inductances and B fields);
+    /// the wire itself is the whole curve for every geometric check.
+    pub tap: Option<Tap>,
+}
+
+/// The end of a winding's curve that a tap counts its turns from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum TapEnd {
+    /// The start of the curve (t = 0): the inner radius of a spiral or cone
+    /// (`tap_from = "inner"`), the base of a helix (`tap_from = "bottom"`).
+    Start,
+    /// The end of the curve (t = 1): the outer radius of a spiral or cone
+    /// (`tap_from = "outer"`), the top of a helix (`tap_from = "top"`); the default.
+    End,
+}
+
+/// A tap: the current flows through the part of the curve from one end up to `turns` turns
+/// along it; the rest of the wire is idle.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct Tap {
+    /// Turns of the partial winding in use, counted from `from` (may be fractional; in
+    /// from [`MIN_TAP_TURNS`] to the winding's turns).
+    pub turns: f64,
+    /// The end the turns are counted from.
+    pub from: TapEnd,
+}
+
+/// Turn counts closer than this (turns) to a whole number, or to the winding's end, are taken as
+/// that number: such a difference is rounding from arithmetic on the counts, not wire.
+pub const TURN_TOLERANCE: f64 = 1e-9;
+
+/// Smallest tap (turns) a winding accepts: far below any tap a builder could make, far above
+/// [`TURN_TOLERANCE`], so that the active part is never empty.
+pub const MIN_TAP_TURNS: f64 = 1e-6;
+
+/// `u` (turns) moved onto the winding's end `n` or onto a whole number when within
+/// [`TURN_TOLERANCE`] of it, and kept inside [0, n].
+fn snap_turns(u: f64, n: f64) -> f64 {
+    if (u - n).abs() <= TURN_TOLERANCE || u >= n {
+        return n;
+    }
+    if u <= TURN_TOLERANCE {
+        return 0.0;
+    }
+    let whole = u.round();
+    if (u - whole).abs() <= TURN_TOLERANCE {
+        whole
+    } else {
+        u
+    }
 }
 
 /// Right-handed orthonormal frame (x_hat, y_hat, axis) of a winding.
@@ -212,5 +265,96 @@ impl Winding {
     /// Wire radius (m).
     pub fn wire_radius_m(&self) -> f64 {
         0.5 * self.wire_diameter_m
+    }
+
+    /// Turns of a shape a tap can cut: a helix, spiral or cone (None for a ring or polyline).
+    fn tappable_turns(&self) -> Option<f64> {
+        match self.shape {
+            Shape::Helix { turns, .. }
+            | Shape::Spiral { turns, .. }
+            | Shape::Cone { turns, .. } => Some(turns),
+            Shape::Ring { .. } | Shape::Polyline { .. } => None,
+        }
+    }
+
+    /// The current-carrying part of the curve in turns from its start, (u0, u1) with
+    /// 0 <= u0 < u1 <= turns: the whole [0, turns] without a tap; [turns - tap, turns] for a tap
+    /// from the end, [0, tap] from the start. Ends within [`TURN_TOLERANCE`] of a whole number
+    /// or of the winding's end are put there, so that whole turns stay whole. None for a ring or
+    /// polyline, which have no turns to cut.
+    ///
+    /// A tap below [`MIN_TAP_TURNS`] or above the turns (only a hand-built `Winding` can hold one: the
+    /// design file and [`Winding::with_tap`] refuse it) is moved into that range; a NaN tap
+    /// counts as the whole winding.
+    pub fn active_turn_range(&self) -> Option<(f64, f64)> {
+        let n = self.tappable_turns()?;
+        let Some(tap) = self.tap else {
+            return Some((0.0, n));
+        };
+        let turns = if tap.turns.is_nan() {
+            n
+        } else {
+            // max/min rather than clamp: they cannot panic on a NaN turn count.
+            tap.turns.max(MIN_TAP_TURNS.min(n)).min(n)
+        };
+        Some(match tap.from {
+            TapEnd::End => (snap_turns(n - turns, n), n),
+            TapEnd::Start => (0.0, snap_turns(turns, n)),
+        })
+    }
+
+    /// The current-carrying part of the curve as parameters (t0, t1) of [`Shape::point_at`]:
+    /// (0, 1) without a tap, for a ring and for a polyline; otherwise the turn range of
+    /// [`Winding::active_turn_range`] divided by the turns.
+    pub fn active_range(&self) -> (f64, f64) {
+        match (self.tappable_turns(), self.active_turn_range()) {
+            (Some(n), Some((u0, u1))) => (u0 / n, u1 / n),
+            _ => (0.0, 1.0),
+        }
+    }
+
+    /// Turns of the current-carrying part (the tap, or all turns; None for a ring or polyline).
+    pub fn active_turns(&self) -> Option<f64> {
+        self.active_turn_range().map(|(u0, u1)| u1 - u0)
+    }
+
+    /// Whether a tap leaves part of the curve idle (false for a tap of all the turns).
+    pub fn is_tapped(&self) -> bool {
+        match (self.tappable_turns(), self.active_turn_range()) {
+            (Some(n), Some((u0, u1))) => u0 != 0.0 || u1 != n,
+            _ => false,
+        }
+    }
+
+    /// A copy of this winding tapped at `tap`; None when the shape has no turns to cut (a ring
+    /// or polyline) or `tap.turns` is not a number from [`MIN_TAP_TURNS`] to the turns (a tap within
+    /// [`TURN_TOLERANCE`] above the turns is taken as all of them). Any other value gives a
+    /// winding, so a root finder may move the tap freely inside that range.
+    pub fn with_tap(&self, tap: Tap) -> Option<Winding> {
+        let n = self.tappable_turns()?;
+        if !(tap.turns >= MIN_TAP_TURNS && tap.turns <= n + TURN_TOLERANCE) {
+            return None;
+        }
+        let mut w = self.clone();
+        w.tap = Some(Tap {
+            turns: tap.turns.min(n),
+            from: tap.from,
+        });
+        Some(w)
+    }
+
+    /// [`Winding::with_tap`] at `turns`, counted from the end the winding's tap uses now (the
+    /// end of the curve when it has none).
+    pub fn with_tap_turns(&self, turns: f64) -> Option<Winding> {
+        let from = self.tap.map_or(TapEnd::End, |t| t.from);
+        self.with_tap(Tap { turns, from })
+    }
+
+    /// A copy without a tap: the whole wire carrying current.
+    pub fn without_tap(&self) -> Winding {
+        Winding {
+            tap: None,
+            ..self.clone()
+        }
     }
 }

@@ -598,6 +598,7 @@ mod tests {
             model: Model::Ring,
             wire_diameter_m: WIRE_D,
             segments_per_turn: None,
+            tap: None,
             shape,
         }
     }

@@ -1102,6 +1102,7 @@ mod tests {
             model: Model::Ring,
             wire_diameter_m,
             segments_per_turn: None,
+            tap: None,
             shape,
         }
     }
