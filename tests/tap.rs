@@ -92,6 +92,35 @@ fn self_h(w: &Winding) -> f64 {
 }
 
 #[test]
+fn partial_turns_have_the_partial_inductance_of_their_arc() {
+    // Source: validation/tap.csv, kind "arc": mpmath 30 digits, Neumann's integral to the wire's
+    // surface plus the internal mu0 l/(8 pi) (E. B. Rosa, Bull. Bureau of Standards 4, 1908),
+    // radius 0.1 m, wire radius 1 mm; the adaptive quadrature reaches about 1e-13.
+    let mut n = 0;
+    for row in rows().iter().filter(|r| r.kind == "arc") {
+        let turns: f64 = row.design.parse().unwrap();
+        let got = coilfield_solver::self_inductance::self_arc_round_wire(
+            0.1,
+            std::f64::consts::TAU * turns,
+            1e-3,
+        );
+        assert!(
+            rel(got, row.reference) <= row.tolerance,
+            "arc of {turns} turns: {got:e} vs {:e}",
+            row.reference
+        );
+        n += 1;
+    }
+    assert_eq!(n, 6);
+    // A whole turn's self term is Rosa's closed form (the arc's O((r/a)^2) difference joined).
+    let ring = coilfield_solver::self_inductance::self_ring_round_wire(0.1, 1e-3);
+    let term = coilfield_solver::self_inductance::self_term_of_ring(0.1, 1.0, 1e-3);
+    assert_eq!(term, ring);
+    let almost = coilfield_solver::self_inductance::self_term_of_ring(0.1, 1.0 - 1e-9, 1e-3);
+    assert!(rel(almost, ring) < 1e-8, "{almost} vs {ring}");
+}
+
+#[test]
 fn cli_inductances_match_the_mpmath_table() {
     // Source: validation/tap.csv (mpmath 30 digits: Maxwell's formula in K and E, the round-wire
     // ring mu0 a (ln(8a/r) - 7/4), Rosa & Grover 1912); tolerance 1e-12 relative, the
@@ -99,7 +128,7 @@ fn cli_inductances_match_the_mpmath_table() {
     // secondary (about 1e-13).
     let dir = tempfile::tempdir().unwrap();
     let mut worst: f64 = 0.0;
-    for (i, row) in rows().iter().enumerate() {
+    for (i, row) in rows().iter().enumerate().filter(|(_, r)| r.kind != "arc") {
         let text = tapped_text(&row.design, &row.tap_turns, &row.tap_from);
         let j = inductance_json(&design_file(dir.path(), &format!("t{i}.toml"), &text));
         assert_eq!(j["windings"][0]["name"], "primary");
@@ -288,13 +317,14 @@ fn filament_model_of_a_tapped_winding_agrees_with_its_ring_model() {
     // the turns in use. Where every ring is a whole turn they differ by the ring model's pitch
     // error, as for an untapped winding: measured at most 2.1e-3 here (the 12-turn spiral
     // untapped: 2.1e-4), bound 3e-3 (tests/cli.rs holds a whole-turn helix to 2e-3; the
-    // polygon error at 128 pieces is below 1e-3). Where a turn is cut (or the winding ends in a
-    // part of a turn), its ring of weight f has the self term f^2 L_ring, while an arc of f turns
-    // has a larger partial self-inductance (the filament model is above the rings in every such
-    // case): measured 1.5e-3 to 5.8e-2 here (the largest for the helix's two half turns around
-    // 2.25 turns in use), bound 7e-2. The mutual term of a cut turn with a whole coaxial turn is
-    // exact for the arc (a ring's vector potential is uniform in angle), so the difference is
-    // mostly that self term, plus the pitch error as above.
+    // polygon error at 128 pieces is below 1e-3). Where one turn is cut, its ring of weight f
+    // carries the partial self-inductance of its arc (self_term_of_ring) and the exact mutual of
+    // an arc with whole coaxial turns (a ring's vector potential is uniform in angle); what
+    // remains is the ring model's pitch error, larger next to a short arc: measured 1.1e-3 to
+    // 2.7e-2 here, bound 3e-2. Where two turns are partial (the helix's cut turn and its own
+    // half last turn), the two partial rings see each other as w1 w2 M of whole rings, while the
+    // arcs lie on opposite sides of the axis: measured up to 1.07e-1 (2 turns of the 7.5-turn
+    // helix in use, two half turns), bound 0.12 (a limitation of the ring model).
     let spiral = design("tap_spiral.toml");
     let helix = design("tap_helix.toml");
     let p = winding(&spiral, "primary");
@@ -313,10 +343,11 @@ fn filament_model_of_a_tapped_winding_agrees_with_its_ring_model() {
         for tap in taps {
             let t = tapped(w, tap, from);
             let rings = coilfield_geometry::discretise::ring_model(&t).unwrap();
-            let cut = rings.rings.iter().any(|r| r.weight != 1.0);
+            let partial = rings.rings.iter().filter(|r| r.weight != 1.0).count();
+            let cut = partial > 0;
             let (ring, fil) = (self_h(&t), self_h(&as_filament(&t)));
             let dev = rel(fil, ring);
-            let bound = if cut { 7e-2 } else { 3e-3 };
+            let bound = [3e-3, 3e-2, 0.12][partial.min(2)];
             worst[usize::from(cut)] = worst[usize::from(cut)].max(dev);
             assert!(
                 dev < bound,

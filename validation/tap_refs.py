@@ -32,7 +32,16 @@ with
   M = mu0 a b / 2 int_0^{2 pi} cos(phi) / sqrt(a^2 + b^2 + d^2 - 2 a b cos(phi)) dphi;
 - the self-inductance of one ring of round wire at low frequency,
   L_ring = mu0 a (ln(8 a / rho) - 7/4), rho the wire radius (Rosa & Grover 1912), times the
-  square of the ring's weight.
+  square of the ring's weight for a whole turn;
+- for a partial turn (weight w < 1) the partial self-inductance of the arc of angle 2 pi w:
+  Neumann's integral between the centreline and a parallel line on the wire's surface plus the
+  internal mu0 l / (8 pi) (E. B. Rosa, Bull. Bureau of Standards 4, 1908; Rosa & Grover 1912),
+  L_arc(phi) = (mu0/4pi) int_0^phi int_0^phi a^2 cos(t - s) / sqrt(4 a^2 sin^2((t-s)/2) + rho^2)
+  ds dt + mu0 a phi / (8 pi), evaluated here as the double integral itself; plus w^2 times
+  (L_ring - L_arc(2 pi)), which makes a whole turn exactly Rosa's.
+  Kind "arc" rows give L_arc(phi) alone for radius 0.1 m, wire radius 1 mm: `design` holds the
+  angle in turns, and are checked against the limits (a whole turn: Rosa's ring; a short arc:
+  Rosa's straight wire (mu0 l / 2 pi)(ln(2 l / rho) - 3/4)).
 
 mu0 = 4 pi 1e-7 H/m (classical). Inputs are binary64: every number is the double nearest to the
 printed decimal (the number the Rust code reads).
@@ -43,7 +52,7 @@ import os
 import sys
 import tomllib
 
-from mpmath import mp, mpf, pi, sqrt, log, ellipk, ellipe, quad, cos, fabs
+from mpmath import mp, mpf, pi, sqrt, log, ellipk, ellipe, quad, cos, sin, fabs
 
 mp.dps = 30
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -53,7 +62,11 @@ HEADER = ["kind", "design", "tap_from", "tap_turns", "reference", "tolerance", "
           "source"]
 TOLERANCE = "1e-12"
 SOURCE = ("mpmath 30 digits, rings of the tapped turns: Maxwell's formula in K and E for each pair, "
-          "mu0 a (ln(8a/r) - 7/4) w^2 for each ring (Rosa & Grover 1912)")
+          "mu0 a (ln(8a/r) - 7/4) w^2 for a whole ring (Rosa & Grover 1912), the partial "
+          "inductance of the arc for a partial one (Rosa 1908, double integral)")
+SOURCE_ARC = ("mpmath 30 digits, partial self-inductance of a circular arc of round wire: Neumann's "
+              "double integral to the wire's surface plus mu0 l/(8 pi) (E. B. Rosa, Bull. Bureau of "
+              "Standards 4, 1908)")
 
 
 def f(x):
@@ -77,6 +90,32 @@ def maxwell_by_quadrature(a, b, d):
 def ring_self(a, rho):
     """Low-frequency self-inductance (H) of a ring of round wire, centreline radius a, wire radius rho."""
     return MU0 * a * (log(8 * a / rho) - mpf(7) / 4)
+
+
+def arc_self(a, phi, rho):
+    """Partial self-inductance (H) of an arc of angle phi (module docstring). The double
+    integral's integrand depends on t - s only and is even in it, so it equals
+    2 int_0^phi (phi - u) g(u) du (evaluated so here, split where the peak at u = 0 ends);
+    `arc_self_double` evaluates the double integral itself as a cross-check."""
+    g = lambda u: a * a * cos(u) / sqrt(4 * a * a * sin(u / 2) ** 2 + rho * rho)
+    knee = min(8 * rho / a, phi)
+    pts = [0, knee / 8, knee, phi] if knee < phi else [0, knee / 8, phi]
+    return MU0 / (4 * pi) * 2 * quad(lambda u: (phi - u) * g(u), pts) + MU0 * a * phi / (8 * pi)
+
+
+def arc_self_double(a, phi, rho):
+    """The same as the double integral over both angles, at low precision (cross-check only)."""
+    g = lambda t, s: a * a * cos(t - s) / sqrt(4 * a * a * sin((t - s) / 2) ** 2 + rho * rho)
+    w = 8 * rho / a
+    inner = lambda t: quad(lambda s: g(t, s), [0, max(t - w, 0), t, min(t + w, phi), phi])
+    return MU0 / (4 * pi) * quad(inner, [0, phi]) + MU0 * a * phi / (8 * pi)
+
+
+def ring_term(a, w, rho):
+    """Self term of a ring of weight w (module docstring)."""
+    if w >= 1:
+        return w * w * ring_self(a, rho)
+    return arc_self(a, 2 * pi * w, rho) + w * w * (ring_self(a, rho) - arc_self(a, 2 * pi, rho))
 
 
 def winding(design, name):
@@ -133,7 +172,7 @@ def secondary_rings(w):
 
 
 def self_inductance(rings, rho):
-    total = sum(wt * wt * ring_self(r, rho) for r, _, wt in rings)
+    total = sum(ring_term(r, wt, rho) for r, _, wt in rings)
     for i in range(len(rings)):
         ri, zi, wi = rings[i]
         for j in range(i + 1, len(rings)):
@@ -148,6 +187,8 @@ def mutual_inductance(rings_a, rings_b):
 
 
 def compute(kind, design, tap_from, tap_turns):
+    if kind == "arc":
+        return arc_self(mpf("0.1"), 2 * pi * f(design), mpf("0.001"))
     p = winding(design, "primary")
     rings = tapped_rings(p, tap_from, tap_turns)
     if kind == "self":
@@ -167,13 +208,30 @@ def cases():
         out += [("self", "tap_helix.toml", end, t) for t in helix_taps]
     for end in ("outer", "inner"):
         out += [("mutual", "tap_spiral.toml", end, t) for t in ["1", "2.5", "6.25", "12"]]
+    out += [("arc", t, "", "") for t in ["0.01", "0.1", "0.25", "0.5", "0.9", "1"]]
     return out
 
 
 def cross_checks():
     """Maxwell's closed form against its single integral, for a neighbouring pair of spiral
-    turns, a far pair and a primary ring against a secondary ring."""
+    turns, a far pair and a primary ring against a secondary ring; the arc's limits."""
     ok = True
+    a, rho = mpf("0.1"), mpf("0.001")
+    whole = arc_self(a, 2 * pi, rho)
+    if fabs(whole - ring_self(a, rho)) > 3 * (rho / a) ** 2 * log(8 * a / rho) * ring_self(a, rho):
+        print("CROSS-CHECK FAILED: whole arc", whole, ring_self(a, rho))
+        ok = False
+    with mp.workdps(12):
+        single, double = arc_self(a, mpf("0.7"), rho), arc_self_double(a, mpf("0.7"), rho)
+        if fabs(single - double) > mpf("1e-9") * fabs(single):
+            print("CROSS-CHECK FAILED: arc by its double integral", single, double)
+            ok = False
+    phi = mpf("0.3")
+    l = a * phi
+    wire = MU0 * l / (2 * pi) * (log(2 * l / rho) - mpf(3) / 4)
+    if fabs(arc_self(a, phi, rho) - wire) > mpf("0.02") * wire:
+        print("CROSS-CHECK FAILED: short arc", arc_self(a, phi, rho), wire)
+        ok = False
     for a, b, d in [(mpf("0.1"), mpf("0.1075"), 0), (mpf("0.06"), mpf("0.15"), mpf("0.3")),
                     (mpf("0.12"), mpf("0.045"), mpf("0.0205"))]:
         x, y = maxwell(a, b, d), maxwell_by_quadrature(a, b, d)
@@ -190,7 +248,8 @@ def fmt(v):
 def main():
     mode = sys.argv[1] if len(sys.argv) > 1 else "--write"
     if mode == "--write":
-        rows = [list(c) + [fmt(compute(*c)), TOLERANCE, "rel", SOURCE] for c in cases()]
+        rows = [list(c) + [fmt(compute(*c)), TOLERANCE, "rel", SOURCE_ARC if c[0] == "arc" else SOURCE]
+                for c in cases()]
         with open(OUT, "w", newline="") as fh:
             w = csv.writer(fh)
             w.writerow(HEADER)

@@ -20,8 +20,61 @@ pub fn self_ring_round_wire(radius_m: f64, wire_radius_m: f64) -> f64 {
     MU0 * radius_m * ((8.0 * radius_m / wire_radius_m).ln() - 1.75)
 }
 
-/// Self-inductance (H) of a ring model: sum_i w_i^2 L_turn(a_i) + 2 sum_{i<j} w_i w_j M_ij with
-/// Maxwell's formula for M_ij.
+/// Self term (H) of a ring of the ring model carrying `weight` times the winding current: the
+/// whole turn's [`self_ring_round_wire`] times weight^2 for a whole turn or a bundle of coincident
+/// turns (weight >= 1), and the partial inductance of the arc the weight stands for when it is a
+/// partial turn (weight < 1, a fractional last turn or a turn cut by a tap), see
+/// [`self_arc_round_wire`]: weight^2 L_turn would understate a short arc (its inductance falls
+/// like its length, not its length squared).
+pub fn self_term_of_ring(radius_m: f64, weight: f64, wire_radius_m: f64) -> f64 {
+    if weight >= 1.0 {
+        return weight * weight * self_ring_round_wire(radius_m, wire_radius_m);
+    }
+    // The arc formula and Rosa's closed form differ by O((r/a)^2 ln(a/r)) for a whole turn;
+    // that difference, scaled by weight^2, joins the two at weight 1.
+    let whole = self_ring_round_wire(radius_m, wire_radius_m)
+        - self_arc_round_wire(radius_m, std::f64::consts::TAU, wire_radius_m);
+    self_arc_round_wire(radius_m, std::f64::consts::TAU * weight, wire_radius_m)
+        + weight * weight * whole
+}
+
+/// Partial self-inductance (H) of a circular arc of round wire, radius `radius_m` (centreline),
+/// angle `angle_rad` (0 < angle <= 2 pi), wire radius `wire_radius_m`, at low frequency.
+///
+/// Neumann's integral between the arc's centreline and a parallel line on the wire's surface,
+/// plus the internal inductance mu0 l / (8 pi) of a uniform current (the approach of Rosa &
+/// Grover 1912 for one turn, E. B. Rosa, "The self and mutual inductances of linear
+/// conductors", Bull. Bureau of Standards 4, 1908, for straight wire): with u the angle between
+/// two points,
+///     L = (mu0 / 4 pi) 2 int_0^phi (phi - u) a^2 cos u / sqrt(4 a^2 sin^2(u/2) + r^2) du
+///         + mu0 a phi / (8 pi),
+/// the double integral over the arc reduced to one over the angle difference. At phi = 2 pi it
+/// is one turn, mu0 a (ln(8a/r) - 7/4) + O((r/a)^2 ln(a/r)); for a short arc of length l it
+/// tends to the straight wire's (mu0 l / 2 pi)(ln(2l/r) - 3/4) (Rosa 1908). The integrand peaks
+/// at u = 0 over a width r/a: adaptive Gauss-Kronrod, with a break point there.
+pub fn self_arc_round_wire(radius_m: f64, angle_rad: f64, wire_radius_m: f64) -> f64 {
+    let a = radius_m;
+    let r = wire_radius_m;
+    let phi = angle_rad;
+    let integrand = |u: f64| {
+        let s = (0.5 * u).sin();
+        (phi - u) * a * a * u.cos() / (4.0 * a * a * s * s + r * r).sqrt()
+    };
+    // Break at a few wire radii of angle, where the peak gives way to the smooth part.
+    let knee = (8.0 * r / a).min(phi);
+    let tol = 1e-13;
+    let near = crate::quadrature::integrate_adaptive(integrand, 0.0, knee, 0.0, tol).value;
+    let far = if knee < phi {
+        crate::quadrature::integrate_adaptive(integrand, knee, phi, 0.0, tol).value
+    } else {
+        0.0
+    };
+    MU0 / (4.0 * PI) * 2.0 * (near + far) + MU0 * a * phi / (8.0 * PI)
+}
+
+/// Self-inductance (H) of a ring model: sum_i L_i + 2 sum_{i<j} w_i w_j M_ij with the self
+/// term L_i of [`self_term_of_ring`] and Maxwell's formula for M_ij (exact for a partial ring
+/// too: a coaxial ring's vector potential is the same all around the circle).
 ///
 /// When the model is a uniform stack (a helix's ring model) the turn-to-turn matrix is Toeplitz
 /// and the sum costs O(turns) kernel calls:
@@ -31,7 +84,7 @@ pub fn self_ring_model(model: &RingModel, par: Par) -> f64 {
     let r_w = model.wire_radius_m;
     let self_terms: f64 = rings
         .iter()
-        .map(|r| r.weight * r.weight * self_ring_round_wire(r.radius_m, r_w))
+        .map(|r| self_term_of_ring(r.radius_m, r.weight, r_w))
         .sum();
     if let Some(pitch) = model.uniform_pitch_m {
         let n_full = rings.iter().take_while(|r| r.weight == 1.0).count();

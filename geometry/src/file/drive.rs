@@ -121,13 +121,11 @@ pub(crate) fn parse_drive(value: Value, source: &str) -> Result<Drive, DesignErr
         "a spark gap rings at the coupled system's own frequencies; remove frequency (the \
          exposure levels use the secondary's first resonance)",
     )?;
-    for key in ["tank_capacitance"] {
-        only(
-            key,
-            &[Some("spark_gap"), Some("driven")],
-            "it needs kind = \"spark_gap\" or \"driven\"",
-        )?;
-    }
+    only(
+        "tank_capacitance",
+        &[Some("spark_gap"), Some("driven")],
+        "it needs kind = \"spark_gap\" or \"driven\"",
+    )?;
     for key in ["charge_voltage", "gap_resistance", "break_rate"] {
         only(key, &[Some("spark_gap")], "it needs kind = \"spark_gap\"")?;
     }
