@@ -37,7 +37,7 @@ pub struct RayFrame {
     pub heights: Vec<(f64, String)>,
     /// Centre of the top electrode (or the secondary's top) on the axis (m).
     pub top_m: Point3<f64>,
-    /// Name of the top electrode (or "<secondary> top").
+    /// Name of the top electrode (or "`<secondary>` top").
     pub top_name: String,
     /// The top electrode: the one connected to the secondary's top, else the highest.
     pub top_electrode: Option<Electrode>,
@@ -136,7 +136,7 @@ pub fn ray_frame(design: &Design, label: &str) -> Result<RayFrame, SolverError> 
 /// The clearance at one height of the axis.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct HeightClearance {
-    /// Which height ("<secondary> base", "<electrode> centre", ...).
+    /// Which height ("`<secondary>` base", "`<electrode>` centre", ...).
     pub label: String,
     /// Height (m) along the axis above the secondary's origin.
     pub height_m: f64,
