@@ -2,9 +2,9 @@
 //! capacitance, the secondary's equivalent self-capacitance, error estimates and the peak
 //! surface field of each electrode at the drive potentials.
 
-use crate::thresholds::AIR_BREAKDOWN_V_PER_M;
 use crate::{Format, load, output};
 use coilfield_solver::field_model;
+use coilfield_solver::thresholds::AIR_BREAKDOWN_V_PER_M;
 use serde::Serialize;
 use std::path::Path;
 use std::process::ExitCode;

@@ -17,7 +17,6 @@ mod sample;
 mod seek;
 mod sweep;
 mod sweep_plot;
-#[allow(dead_code)]
 mod thresholds;
 mod verify;
 mod vtk;

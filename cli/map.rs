@@ -3,10 +3,11 @@
 
 use crate::plot::{self, HeatMap};
 use crate::sample::{self, Grid, Plane};
-use crate::thresholds::{self, Quantity};
+use crate::thresholds;
 use crate::vtk::{self, Array};
 use crate::{BadInput, load, output};
 use coilfield_solver::field_model::{EValue, FieldModel, distances_from_centre_m};
+use coilfield_solver::thresholds::{CAUTION, Method, Quantity};
 use serde::Serialize;
 use std::path::Path;
 use std::process::ExitCode;
@@ -185,7 +186,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
         warnings.extend(th_warnings);
         let contours: Vec<(f64, String)> = ths
             .iter()
-            .filter(|t| t.quantity == quantity && t.method == thresholds::Method::FieldSearch)
+            .filter(|t| t.quantity == quantity && t.method == Method::FieldSearch)
             .map(|t| {
                 (
                     t.peak_limit(),
@@ -216,7 +217,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
         output::write_atomic(p, bytes)?;
     }
     let result = MapOut {
-        caution: thresholds::CAUTION,
+        caution: CAUTION,
         n_points: n,
         max_e_mag_v_per_m: max(&e_mag),
         max_b_mag_t: max(&b_mag),

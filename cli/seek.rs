@@ -8,7 +8,6 @@
 
 use crate::BadInput;
 use crate::Format;
-use crate::sweep::Plan;
 use coilfield_solver::metrics::Metric;
 use coilfield_solver::optimise::{Found, brent_root, nelder_mead};
 use std::path::Path;
@@ -86,14 +85,13 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
     sample.insert("count".into(), toml::Value::Integer(1));
     sample.insert("seed".into(), toml::Value::Integer(0));
     table.insert("sample".into(), toml::Value::Table(sample));
-    let plan = Plan::from_text(&toml::to_string(&table)?, path)?;
-    let base = plan.base_design.clone();
+    let plan = crate::sweep::plan_from_text(&toml::to_string(&table)?, path)?;
     let metric: Metric = plan
-        .evaluator
-        .parse_metric(&metric_name, &base)
+        .evaluator()
+        .parse_metric(&metric_name, plan.base_design())
         .map_err(|e| BadInput(format!("{label}: {kind}: {e}")))?;
     let bounds: Vec<(f64, f64)> = plan
-        .sweep
+        .sweep()
         .axes
         .iter()
         .map(|a| match a.values {
@@ -102,18 +100,11 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
         })
         .collect();
     let n = bounds.len();
-    // Value of the metric at x (NaN where the design fails or a constraint does not hold).
+    // Value of the metric at x; NaN where the design fails or a constraint does not hold,
+    // which the optimisers read as a refused point.
     let value_at = |x: &[f64]| -> f64 {
-        let Ok(d) = plan.design_for(x, "seek point") else {
-            return f64::NAN;
-        };
-        let r = plan.evaluator.evaluate(&d);
-        match r.status {
-            coilfield_solver::metrics::Status::Ok => {
-                plan.evaluator.metric_value(&d, metric).unwrap_or(f64::NAN)
-            }
-            _ => f64::NAN,
-        }
+        plan.feasible_value(x, metric, "seek point")
+            .unwrap_or(f64::NAN)
     };
     let (found, method): (Found, &str) = match goal {
         Goal::Target(t) => {
@@ -134,7 +125,7 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
                      {t} is not between them (or an end is infeasible)",
                     fa + t,
                     fb + t,
-                    plan.sweep.axes[0].key
+                    plan.sweep().axes[0].key
                 ))
             })?;
             (r, "Brent's method (Brent 1973)")
@@ -163,7 +154,7 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
         }
     };
     let value = value_at(&found.x);
-    let keys: Vec<&str> = plan.sweep.axes.iter().map(|a| a.key.as_str()).collect();
+    let keys: Vec<&str> = plan.sweep().axes.iter().map(|a| a.key.as_str()).collect();
     match format {
         Format::Json => {
             let mut params = serde_json::Map::new();
@@ -190,7 +181,7 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
             println!("{}", found.stop.describe());
         }
     }
-    eprint!("{}", plan.cautions());
+    eprint!("{}", crate::sweep::cautions(&plan));
     if !value.is_finite() {
         eprintln!("seek: no feasible point found");
         return Ok(ExitCode::from(1));

@@ -819,3 +819,235 @@ fn a_clearance_beyond_the_search_is_marked_a_lower_bound() {
     let m = v["message"].as_str().unwrap();
     assert!(m.contains("tiny") && m.contains("lower bound"), "{m}");
 }
+
+// The library's sweeps (`coilfield_solver::sweep`), run from Rust against the binary's files.
+
+use coilfield_geometry::file::sweep::parse_sweep;
+use coilfield_solver::Par;
+use coilfield_solver::sweep::{OutFormat, RowSink, Shard, SweepPlan, merge};
+use std::sync::atomic::AtomicBool;
+
+/// The plan of the sweep file at `path` as the binary makes it: the same labels, the base
+/// design named by `base` beside it.
+fn library_plan(path: &Path) -> SweepPlan {
+    let text = std::fs::read_to_string(path).unwrap();
+    let label = path.display().to_string();
+    let sweep = parse_sweep(&text, &label).unwrap();
+    let base_path = path.parent().unwrap().join(&sweep.base);
+    let base_text = std::fs::read_to_string(&base_path).unwrap();
+    SweepPlan::new(sweep, &label, &base_text, &base_path.display().to_string()).unwrap()
+}
+
+/// The whole output of `points` of `plan` written from Rust into memory: header, then rows.
+fn library_output(plan: &SweepPlan, points: &[usize], format: OutFormat, par: Par) -> Vec<u8> {
+    let mut out = plan.header(format).into_bytes();
+    let stop = AtomicBool::new(false);
+    let rows = plan.run(points, format, par, &stop, &mut out).unwrap();
+    assert_eq!(rows, points.len());
+    out
+}
+
+/// The two test sweeps: the 3 x 5 grid with a constraint, and the sweep with a point whose
+/// design breaks (an `error` row).
+fn two_sweeps(dir: &Path) -> Vec<std::path::PathBuf> {
+    let grid = setup(dir, SWEEP);
+    design_file(
+        dir,
+        "base-small.toml",
+        &BASE.replace(
+            "origin = [0.0, 0.0, 1.0]\naxis = [0.0, 0.0, 1.0]\nradius = 1.0",
+            "origin = [0.0, 0.0, 1.0]\naxis = [0.0, 0.0, 1.0]\nradius = 0.5",
+        ),
+    );
+    let broken = design_file(
+        dir,
+        "broken.toml",
+        "base = \"base-small.toml\"\nmetrics = [\"coupling.a.b\", \"gap.a.b\"]\n\
+         [[axis]]\nkey = \"winding.b.origin[2]\"\nvalues = [0.0, 1.0]\n\
+         [[axis]]\nkey = \"winding.b.radius\"\nvalues = [0.9995, 0.7]\n",
+    );
+    vec![grid, broken]
+}
+
+#[test]
+fn a_sweep_run_from_rust_writes_the_binary_s_file_byte_for_byte() {
+    let dir = tempfile::tempdir().unwrap();
+    for s in two_sweeps(dir.path()) {
+        let plan = library_plan(&s);
+        let all = Shard::ALL.indices(plan.points().len());
+        for (ext, format) in [("csv", OutFormat::Csv), ("jsonl", OutFormat::JsonLines)] {
+            let out = dir.path().join(format!("cli.{ext}"));
+            let _ = std::fs::remove_file(&out);
+            let o = sweep(&[s.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+            assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+            let file = std::fs::read(&out).unwrap();
+            for par in [Par::Seq, Par::Rayon] {
+                let mine = library_output(&plan, &all, format, par);
+                assert_eq!(
+                    String::from_utf8_lossy(&mine),
+                    String::from_utf8_lossy(&file),
+                    "{} {ext} {par:?}",
+                    s.display()
+                );
+            }
+        }
+    }
+    // The values themselves: point 0 of the grid is two rings of 1 m, 1 m apart (Maxwell 1873;
+    // mpmath 30 digits: 4.9407846308e-7 H), point 5 rings 0.5 m apart (1.1126108935e-6 H).
+    let plan = library_plan(&dir.path().join("sweep.toml"));
+    let r0 = plan.evaluate(0);
+    assert!((r0.values[0] - 4.940_784_630_8e-7).abs() < 1e-16, "{r0:?}");
+    let r5 = plan.evaluate(5);
+    assert!(rel(r5.values[0], 1.112_610_893_52e-6) < 1e-11, "{r5:?}");
+}
+
+#[test]
+fn resume_from_bytes_finds_the_torn_line_and_completes_the_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let s = setup(dir.path(), SWEEP);
+    let plan = library_plan(&s);
+    let all = Shard::ALL.indices(plan.points().len());
+    for format in [OutFormat::Csv, OutFormat::JsonLines] {
+        let whole = library_output(&plan, &all, format, Par::Rayon);
+        let text = String::from_utf8(whole.clone()).unwrap();
+        // Stopped in the middle of the seventh row: six whole rows and 9 bytes of the next.
+        let head = format.header_lines();
+        let complete: usize = text.lines().take(head + 6).map(|l| l.len() + 1).sum();
+        let torn = &whole[..complete + 9];
+        let r = plan.resume(torn, format, Shard::ALL, "part").unwrap();
+        assert_eq!(
+            (r.done, r.complete_bytes, r.needs_header),
+            (6, complete, false)
+        );
+        // The kept lines and the remaining points give the uninterrupted output.
+        let mut resumed = torn[..r.complete_bytes].to_vec();
+        let stop = AtomicBool::new(false);
+        let rows = plan
+            .run(&all[r.done..], format, Par::Seq, &stop, &mut resumed)
+            .unwrap();
+        assert_eq!(rows, all.len() - 6);
+        assert_eq!(resumed, whole);
+        // A finished output is complete; an empty one needs its header (CSV only).
+        let r = plan
+            .resume(whole.as_slice(), format, Shard::ALL, "full")
+            .unwrap();
+        assert_eq!((r.done, r.complete_bytes), (all.len(), whole.len()));
+        let r = plan.resume(&b""[..], format, Shard::ALL, "empty").unwrap();
+        assert_eq!((r.done, r.needs_header), (0, format == OutFormat::Csv));
+        // Another shard's rows are refused, naming the line and the point expected.
+        let shard = Shard::new(1, 4).unwrap();
+        let e = plan
+            .resume(torn, format, shard, "part")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.starts_with("part: line ") && e.contains("is not point 1") && e.contains("1/4"),
+            "{e}"
+        );
+    }
+    // Another sweep's header is refused.
+    let e = plan
+        .resume(
+            &b"point,x,status,message\n"[..],
+            OutFormat::Csv,
+            Shard::ALL,
+            "other",
+        )
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("other: its header is not this sweep's"), "{e}");
+}
+
+#[test]
+fn merged_shard_texts_equal_the_single_run() {
+    let dir = tempfile::tempdir().unwrap();
+    let s = setup(dir.path(), SWEEP);
+    let plan = library_plan(&s);
+    let n = plan.points().len();
+    for (ext, format) in [("csv", OutFormat::Csv), ("jsonl", OutFormat::JsonLines)] {
+        let single = library_output(&plan, &Shard::ALL.indices(n), format, Par::Rayon);
+        let parts: Vec<(String, String)> = (0..4)
+            .map(|k| {
+                let shard = Shard::new(k, 4).unwrap();
+                let out = library_output(&plan, &shard.indices(n), format, Par::Seq);
+                (format!("part-{k}.{ext}"), String::from_utf8(out).unwrap())
+            })
+            .collect();
+        // Shard k holds the points k, k + 4, ...: the points of index % 4 == k.
+        assert_eq!(Shard::new(3, 4).unwrap().indices(n), [3, 7, 11]);
+        let texts: Vec<(&str, &str)> = parts
+            .iter()
+            .map(|(l, t)| (l.as_str(), t.as_str()))
+            .collect();
+        let merged = merge(&texts, format, Some(&plan)).unwrap();
+        assert_eq!(merged.as_bytes(), single.as_slice(), "{ext}");
+        // The order of the shards does not matter.
+        let reversed: Vec<(&str, &str)> = texts.iter().rev().copied().collect();
+        assert_eq!(merge(&reversed, format, None).unwrap(), merged);
+        // A missing shard is named by its points; a torn shard is refused.
+        let e = merge(&texts[..3], format, Some(&plan))
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("3 of 15 points missing (3, 7, 11)"), "{e}");
+        let torn = &texts[1].1[..texts[1].1.len() - 3];
+        let e = merge(&[texts[0], ("torn", torn)], format, None)
+            .unwrap_err()
+            .to_string();
+        assert!(e.starts_with("torn: the last line is torn"), "{e}");
+    }
+}
+
+/// A sink that fails after its first call and counts what it took.
+struct FailingSink {
+    calls: usize,
+    progress: Vec<usize>,
+}
+
+impl RowSink for FailingSink {
+    fn rows(&mut self, _rows: &str) -> std::io::Result<()> {
+        self.calls += 1;
+        if self.calls > 1 {
+            return Err(std::io::Error::other("disk full"));
+        }
+        Ok(())
+    }
+
+    fn progress(&mut self, done: usize) {
+        self.progress.push(done);
+    }
+}
+
+#[test]
+fn a_stop_flag_or_a_failing_sink_stops_the_run() {
+    let dir = tempfile::tempdir().unwrap();
+    let s = setup(dir.path(), SWEEP);
+    let plan = library_plan(&s);
+    let all = Shard::ALL.indices(plan.points().len());
+    // Stopped before it starts: no row.
+    let stop = AtomicBool::new(true);
+    let mut out = Vec::new();
+    for par in [Par::Seq, Par::Rayon] {
+        let rows = plan
+            .run(&all, OutFormat::Csv, par, &stop, &mut out)
+            .unwrap();
+        assert_eq!(rows, 0);
+    }
+    assert!(out.is_empty());
+    // The sink's error comes back, and nothing is handed over after it.
+    let stop = AtomicBool::new(false);
+    let mut sink = FailingSink {
+        calls: 0,
+        progress: Vec::new(),
+    };
+    let e = plan
+        .run(&all, OutFormat::Csv, Par::Seq, &stop, &mut sink)
+        .unwrap_err();
+    assert_eq!(e.to_string(), "disk full");
+    assert_eq!((sink.calls, sink.progress.as_slice()), (2, &[1][..]));
+    // A point that is not in the sweep is refused before any work.
+    let e = plan
+        .run(&[0, 99], OutFormat::Csv, Par::Seq, &stop, &mut out)
+        .unwrap_err();
+    assert_eq!(e.kind(), std::io::ErrorKind::InvalidInput);
+    assert!(out.is_empty());
+}

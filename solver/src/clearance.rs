@@ -14,6 +14,14 @@
 //!
 //! # Units
 //! Distances in metres; the field magnitude and the limit in any one unit (the caller's).
+//!
+//! # A design's clearance
+//! [`search`] runs these ray searches for a whole design and a list of
+//! [`thresholds`](crate::thresholds); [`metrics`] gives its distances to sweeps and seeks as
+//! `clearance.<threshold>` and `clearance_top.<threshold>`.
+
+pub mod metrics;
+pub mod search;
 
 use nalgebra::{Point3, Vector3};
 

@@ -171,4 +171,38 @@ pub enum SolverError {
         /// the wrong length).
         reason: String,
     },
+    /// A design (the base of a sweep, or the design of a command) that the geometry crate
+    /// refuses: its message names the file, the item and the key. (Boxed: a design error is
+    /// large, and every result of the solver carries this enum.)
+    #[error(transparent)]
+    Design(Box<coilfield_geometry::DesignError>),
+    /// A clearance search without an axis for its rays: no winding with role = "secondary", or
+    /// a polyline one.
+    #[error("{source_name}: {reason}")]
+    NoClearanceAxis {
+        /// Label of the design.
+        source_name: String,
+        /// What is missing.
+        reason: String,
+    },
+    /// A clearance ray search refused its options (a limit or a distance that is not a finite
+    /// positive number).
+    #[error("{reason}")]
+    RaySearch {
+        /// The ray search's message.
+        reason: String,
+    },
+    /// A sweep or seek that cannot run, or a sweep output that cannot be resumed or merged: the
+    /// message names the file and the key, axis, metric or line.
+    #[error("{message}")]
+    BadSweep {
+        /// What is wrong, with the file's label first.
+        message: String,
+    },
+}
+
+impl From<coilfield_geometry::DesignError> for SolverError {
+    fn from(e: coilfield_geometry::DesignError) -> SolverError {
+        SolverError::Design(Box::new(e))
+    }
 }

@@ -13,6 +13,9 @@
 //! - [`assembly::inductance_report`]: the whole inductance and coupling matrix of a design;
 //! - [`circuit`]: lumped circuits of the resonance model: a winding's ladder modes, coupled
 //!   resonant loops in time (exact propagation, spark-gap quench), phasors and normal modes;
+//! - [`sweep`]: parameter sweeps planned once, their rows streamed in point order to any
+//!   writer, resumed, sharded and merged; [`clearance::search`] and [`thresholds`]: clearance
+//!   distances of a design;
 //! - [`losses`]: skin effect in round wire and tubing, proximity in single-layer coils, radiation
 //!   resistance of short radiators, and the Q of a resonator.
 //!
@@ -73,6 +76,8 @@ pub mod par;
 pub mod quadrature;
 pub mod segment;
 pub mod self_inductance;
+pub mod sweep;
+pub mod thresholds;
 
 pub use error::SolverError;
 pub use par::Par;

@@ -1,0 +1,166 @@
+//! The rows of a sweep's output: CSV with a header line, or JSON Lines, one line per point.
+//!
+//! CSV columns: `point`, the axis keys, the metric names, `status` (`ok`, `infeasible`,
+//! `error`), `message`; fields with a comma or a quote are quoted (RFC 4180). JSON Lines:
+//! `{"point": i, "params": {...}, "metrics": {...}, "status": ..., "message": ...}`. Floats are
+//! written in shortest round-trip form; a message's line breaks become spaces, so every row is
+//! one line.
+
+use crate::metrics::PointResult;
+use crate::sweep::plan::SweepPlan;
+
+/// Output format of a sweep.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum OutFormat {
+    /// Comma-separated values with a header line.
+    Csv,
+    /// One JSON object per line.
+    JsonLines,
+}
+
+impl OutFormat {
+    /// The format of a file name's extension: `csv` or `jsonl`.
+    pub fn of_extension(extension: &str) -> Option<OutFormat> {
+        match extension {
+            "csv" => Some(OutFormat::Csv),
+            "jsonl" => Some(OutFormat::JsonLines),
+            _ => None,
+        }
+    }
+
+    /// Lines before the first row: 1 for CSV (the header), 0 for JSON Lines.
+    pub fn header_lines(self) -> usize {
+        usize::from(self == OutFormat::Csv)
+    }
+}
+
+impl SweepPlan {
+    /// The header of the output (with its newline): the CSV column names, or nothing for JSON
+    /// Lines.
+    pub fn header(&self, format: OutFormat) -> String {
+        match format {
+            OutFormat::Csv => {
+                let mut cols = vec!["point".to_string()];
+                cols.extend(self.sweep().axes.iter().map(|a| csv_field(&a.key)));
+                cols.extend(self.sweep().metrics.iter().map(|m| csv_field(m)));
+                cols.push("status".into());
+                cols.push("message".into());
+                cols.join(",") + "\n"
+            }
+            OutFormat::JsonLines => String::new(),
+        }
+    }
+
+    /// One output line (with its newline) for point `i` with result `r`. An `i` beyond the
+    /// points has no axis values: its fields are left empty (CSV) or out (JSON).
+    pub fn row(&self, i: usize, r: &PointResult, format: OutFormat) -> String {
+        let message = r.message.replace(['\n', '\r'], " ");
+        let params: &[f64] = self.points().get(i).map_or(&[], Vec::as_slice);
+        let metrics = &self.sweep().metrics;
+        match format {
+            OutFormat::Csv => {
+                let mut s = i.to_string();
+                for k in 0..self.sweep().axes.len() {
+                    s.push(',');
+                    if let Some(v) = params.get(k) {
+                        s.push_str(&num(*v));
+                    }
+                }
+                for k in 0..metrics.len() {
+                    s.push(',');
+                    if let Some(v) = r.values.get(k) {
+                        s.push_str(&num(*v));
+                    }
+                }
+                s.push(',');
+                s.push_str(r.status.as_str());
+                s.push(',');
+                s.push_str(&csv_field(&message));
+                s.push('\n');
+                s
+            }
+            OutFormat::JsonLines => {
+                let mut params_json = serde_json::Map::new();
+                for (a, v) in self.sweep().axes.iter().zip(params) {
+                    params_json.insert(a.key.clone(), json_num(*v));
+                }
+                let mut metrics_json = serde_json::Map::new();
+                for (k, name) in metrics.iter().enumerate() {
+                    let v = r.values.get(k).map(|v| json_num(*v));
+                    metrics_json.insert(name.clone(), v.unwrap_or(serde_json::Value::Null));
+                }
+                let obj = serde_json::json!({
+                    "point": i,
+                    "params": params_json,
+                    "metrics": metrics_json,
+                    "status": r.status.as_str(),
+                    "message": message,
+                });
+                obj.to_string() + "\n"
+            }
+        }
+    }
+}
+
+/// Shortest round-trip text of a float: the fewest digits that read back to the same value, in
+/// plain or exponent form, whichever is shorter (plain on a tie).
+fn num(v: f64) -> String {
+    let plain = format!("{v}");
+    let exp = format!("{v:e}");
+    if exp.len() < plain.len() { exp } else { plain }
+}
+
+/// A float as a JSON number; null for NaN and infinities, which JSON cannot hold.
+fn json_num(v: f64) -> serde_json::Value {
+    serde_json::Number::from_f64(v)
+        .map(serde_json::Value::Number)
+        .unwrap_or(serde_json::Value::Null)
+}
+
+/// A CSV field, quoted when it holds a comma or a quote (RFC 4180).
+fn csv_field(s: &str) -> String {
+    if s.contains([',', '"']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}
+
+/// Point index of an output line (a row; not the CSV header).
+pub(crate) fn point_of(line: &str, format: OutFormat) -> Option<usize> {
+    match format {
+        OutFormat::Csv => line.split(',').next()?.parse().ok(),
+        OutFormat::JsonLines => serde_json::from_str::<serde_json::Value>(line)
+            .ok()?
+            .get("point")?
+            .as_u64()
+            .map(|p| p as usize),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_are_shortest_round_trip_text() {
+        // The text must read back to the same bits (IEEE 754 round trip) and be no longer
+        // than both Rust forms it picks from.
+        for v in [4.940_784_630_798_269e-7, 0.1, 1.0, 1e21, 123_456.0, -2.5e-9] {
+            let t = num(v);
+            assert_eq!(t.parse::<f64>().unwrap().to_bits(), v.to_bits(), "{t}");
+            assert!(t.len() <= format!("{v}").len() && t.len() <= format!("{v:e}").len());
+        }
+        assert_eq!(num(1e-7), "1e-7");
+        assert_eq!(num(0.5), "0.5");
+    }
+
+    #[test]
+    fn csv_fields_are_quoted_as_rfc_4180_says() {
+        // RFC 4180, section 2, rules 6 and 7: a field with a comma or a quote is enclosed in
+        // quotes, and a quote inside is doubled.
+        assert_eq!(csv_field("a,b"), "\"a,b\"");
+        assert_eq!(csv_field("say \"x\""), "\"say \"\"x\"\"\"");
+        assert_eq!(csv_field("plain"), "plain");
+    }
+}
