@@ -23,6 +23,7 @@
 pub mod metrics;
 pub mod search;
 
+use crate::error::SolverError;
 use nalgebra::{Point3, Vector3};
 
 /// Options of a ray search. Every field has a meaning for any positive value.
@@ -80,32 +81,6 @@ pub struct RayClearance {
     pub unanswered: usize,
 }
 
-/// Bad search options.
-#[derive(Debug, Clone, PartialEq, thiserror::Error)]
-#[non_exhaustive]
-pub enum ClearanceError {
-    /// A distance, ratio or tolerance is not a finite positive number in the right order.
-    #[error(
-        "ray search needs 0 < t_min_m < t_max_m, step_ratio > 1 and tolerance_m > 0 (got t_min_m = {t_min_m}, t_max_m = {t_max_m}, step_ratio = {step_ratio}, tolerance_m = {tolerance_m})"
-    )]
-    BadParams {
-        /// First distance (m).
-        t_min_m: f64,
-        /// Last distance (m).
-        t_max_m: f64,
-        /// Ladder ratio.
-        step_ratio: f64,
-        /// Bisection tolerance (m).
-        tolerance_m: f64,
-    },
-    /// The ray direction has zero or non-finite length.
-    #[error("ray direction must be a finite non-zero vector")]
-    BadDirection,
-    /// The limit is not a finite positive number.
-    #[error("limit must be a finite positive number (got {0})")]
-    BadLimit(f64),
-}
-
 /// The distances (m) of the sampling ladder of a ray search, innermost first.
 pub fn ladder_m(params: &RayParams) -> Vec<f64> {
     let n_steps = ((params.t_max_m / params.t_min_m).ln() / params.step_ratio.ln()).ceil() as usize;
@@ -132,7 +107,7 @@ pub fn clearance_along_ray<F>(
     direction: Vector3<f64>,
     limit: f64,
     params: RayParams,
-) -> Result<RayClearance, ClearanceError>
+) -> Result<RayClearance, SolverError>
 where
     F: Fn(Point3<f64>) -> Option<f64>,
 {
@@ -151,7 +126,7 @@ where
         && tolerance_m.is_finite()
         && tolerance_m > 0.0;
     if !ok {
-        return Err(ClearanceError::BadParams {
+        return Err(SolverError::BadRayParams {
             t_min_m,
             t_max_m,
             step_ratio,
@@ -159,11 +134,11 @@ where
         });
     }
     if !(limit.is_finite() && limit > 0.0) {
-        return Err(ClearanceError::BadLimit(limit));
+        return Err(SolverError::BadRayLimit(limit));
     }
     let norm = direction.norm();
     if !(norm.is_finite() && norm > 0.0) {
-        return Err(ClearanceError::BadDirection);
+        return Err(SolverError::BadRayDirection);
     }
     let at = |t: f64| ray_point(origin_m, direction, t);
     let mut evaluations = 0usize;
@@ -322,15 +297,15 @@ mod tests {
         };
         assert!(matches!(
             clearance_along_ray(f, o, Vector3::x(), 1.0, bad),
-            Err(ClearanceError::BadParams { .. })
+            Err(SolverError::BadRayParams { .. })
         ));
         assert_eq!(
             clearance_along_ray(f, o, Vector3::zeros(), 1.0, RayParams::default()),
-            Err(ClearanceError::BadDirection)
+            Err(SolverError::BadRayDirection)
         );
         assert_eq!(
             clearance_along_ray(f, o, Vector3::x(), 0.0, RayParams::default()),
-            Err(ClearanceError::BadLimit(0.0))
+            Err(SolverError::BadRayLimit(0.0))
         );
     }
 }

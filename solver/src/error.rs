@@ -199,6 +199,26 @@ pub enum SolverError {
         /// What is wrong, with the file's label first.
         message: String,
     },
+    /// Clearance ray search: a distance, ratio or tolerance is not a finite positive number in the right order.
+    #[error(
+        "ray search needs 0 < t_min_m < t_max_m, step_ratio > 1 and tolerance_m > 0 (got t_min_m = {t_min_m}, t_max_m = {t_max_m}, step_ratio = {step_ratio}, tolerance_m = {tolerance_m})"
+    )]
+    BadRayParams {
+        /// First distance (m).
+        t_min_m: f64,
+        /// Last distance (m).
+        t_max_m: f64,
+        /// Ladder ratio.
+        step_ratio: f64,
+        /// Bisection tolerance (m).
+        tolerance_m: f64,
+    },
+    /// Clearance ray search: the ray direction has zero or non-finite length.
+    #[error("ray direction must be a finite non-zero vector")]
+    BadRayDirection,
+    /// Clearance ray search: the limit is not a finite positive number.
+    #[error("limit must be a finite positive number (got {0})")]
+    BadRayLimit(f64),
 }
 
 impl From<coilfield_geometry::DesignError> for SolverError {
