@@ -27,7 +27,8 @@ pub struct Ring {
 /// Axisymmetric model of a winding: rings sharing one axis.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RingModel {
-    /// A point of the common axis (m): the winding's origin.
+    /// A point of the common axis (m): the winding's origin, or the start of the turn its part in
+    /// use begins at when that is a whole turn of a helix (see `uniform_pitch_m`).
     pub origin_m: Point3<f64>,
     /// Common axis of all rings; positive current circulates right-handed about it.
     pub axis: Unit<Vector3<f64>>,
@@ -109,9 +110,23 @@ impl FilamentModel {
 /// [k/N, (k+1)/N]): the turns inside the active part are exactly the rings above, the turns
 /// outside it are left out, and a turn the tap cuts becomes one ring carrying its active
 /// fraction of a turn, at the radius and height of the curve at the middle of its active part.
-/// `uniform_pitch_m` is kept only when the active part starts at the helix's base (its rings
-/// then still sit at `origin + (i + 1/2) p axis`).
+/// `uniform_pitch_m` is kept only when the active part of a helix starts at a whole turn (its
+/// rings then sit at `origin + (i + 1/2) p axis` with the origin moved to that turn).
 pub fn ring_model(winding: &Winding) -> Option<RingModel> {
+    let turns = match winding.shape {
+        Shape::Ring { .. } | Shape::Polyline { .. } => 0.0,
+        ref shape => shape.turns()?,
+    };
+    let (u0, u1) = winding.active_turn_range().unwrap_or((0.0, turns));
+    ring_model_of_turns(winding, u0, u1)
+}
+
+/// The ring model of the part of `winding` from `u0` to `u1` turns from its start (0 <= u0 <
+/// u1 <= turns), with the turn boundaries of the whole winding: the rings of
+/// [`ring_model`] for a winding whose current flows there only (a tap, or one section of a
+/// secondary cut into sections for the resonance model). A ring's model is itself whatever the
+/// range; `None` for a polyline.
+pub fn ring_model_of_turns(winding: &Winding, u0: f64, u1: f64) -> Option<RingModel> {
     let (origin_m, axis) = winding.shape.origin_axis()?;
     let wire_radius_m = winding.wire_radius_m();
     if let Shape::Ring {
@@ -131,7 +146,6 @@ pub fn ring_model(winding: &Winding) -> Option<RingModel> {
         });
     }
     let turns = winding.shape.turns()?;
-    let (u0, u1) = winding.active_turn_range().unwrap_or((0.0, turns));
     let n_full = turns.floor() as usize;
     let tail = turns - n_full as f64;
     // A tail far below rounding of the turn count is noise from unit conversion, not a turn.
@@ -168,11 +182,15 @@ pub fn ring_model(winding: &Winding) -> Option<RingModel> {
     if has_tail {
         turn(n_full as f64, turns, (n_full as f64 / turns, 1.0, tail));
     }
-    let uniform_pitch_m = match winding.shape {
+    // A helix's part that starts at a whole turn is again a uniform stack, from that turn.
+    let (origin_m, uniform_pitch_m) = match winding.shape {
         Shape::Helix {
             length_m, turns, ..
-        } if u0 == 0.0 => Some(length_m / turns),
-        _ => None,
+        } if u0.fract() == 0.0 => {
+            let pitch_m = length_m / turns;
+            (origin_m + axis.as_ref() * (u0 * pitch_m), Some(pitch_m))
+        }
+        _ => (origin_m, None),
     };
     Some(RingModel {
         origin_m,
