@@ -44,7 +44,7 @@ struct CapOut {
 
 /// Run `coilfield capacitance`.
 pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Result<ExitCode> {
-    let design = load::design(design_path)?;
+    let design = load::design_resolved(design_path)?.design;
     let label = design_path.display().to_string();
     let sol = field_model::electrostatic_solution(&design, &label, coilfield_solver::Par::Rayon)?;
     let names = sol.conductor_names();

@@ -97,7 +97,8 @@ struct ClearanceOut {
 
 /// Run `coilfield clearance`.
 pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
-    let design = load::design(args.design)?;
+    let resolved = load::design_resolved(args.design)?;
+    let design = resolved.design;
     let label = args.design.display().to_string();
     let frequency_hz = design.drive.frequency_hz.ok_or_else(|| {
         BadInput(format!(
@@ -138,13 +139,30 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
         }
         None => design.clearance.distances_m.clone(),
     };
-    let (ths, mut warnings) = crate::thresholds::for_design(
+    let (mut ths, mut warnings) = crate::thresholds::for_design(
         &design,
         &label,
         Some(frequency_hz),
         args.long_gap_v_per_m,
         args.extra,
     )?;
+    // A pulsed drive (a spark gap with a break rate): the levels that average over time are
+    // also compared with the fields' rms over one break period.
+    if let Some(d) = resolved.resonance.as_ref().and_then(|r| r.drive.as_ref())
+        && d.kind == "spark_gap"
+        && let (Some(fe), Some(fb)) = (d.rms_factor_e, d.rms_factor_b)
+    {
+        let averaged = coilfield_solver::thresholds::time_averaged_variants(&ths, fe, fb);
+        if !averaged.is_empty() {
+            warnings.push(format!(
+                "spark gap: the ICNIRP 2020 levels average over time (6 or 30 minutes); their \
+                 *_time_averaged rows compare the fields' rms over one break period (E {fe:.3e}, \
+                 B {fb:.3e} of the peak) instead of peak / sqrt(2); the ICNIRP 2010 levels and \
+                 breakdown act on the instantaneous field"
+            ));
+        }
+        ths.extend(averaged);
+    }
     let Search {
         frame: fr,
         model,
@@ -216,7 +234,11 @@ fn table(r: &ClearanceOut) -> String {
             t.name,
             format!("{:?}", t.quantity),
             output::si(t.limit, t.unit, 3),
-            format!("{:?}", t.basis).to_lowercase(),
+            match t.basis {
+                thresholds::Basis::Rms => "rms",
+                thresholds::Basis::Peak => "peak",
+                thresholds::Basis::TimeAveraged => "time-avg",
+            },
             format!("{more}{:.3} m", t.distance_from_axis_m),
             format!("{more}{:.3} m", t.distance_from_top_m),
         ));

@@ -162,7 +162,7 @@ pub fn electrode_vtp(e: &Electrode, data: Option<&SurfaceData>) -> anyhow::Resul
 
 /// Run the command: compute every file, then write them.
 pub fn run(design_path: &Path, dir: &Path) -> anyhow::Result<std::process::ExitCode> {
-    let design: Design = load::design(design_path)?;
+    let design: Design = load::design_resolved(design_path)?.design;
     if dir.exists() && !dir.is_dir() {
         return Err(BadInput(format!(
             "--vtk {}: exists and is not a folder",

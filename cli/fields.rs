@@ -64,7 +64,7 @@ pub fn run(
     format: FieldFormat,
     out: Option<&Path>,
 ) -> anyhow::Result<ExitCode> {
-    let design = load::design(design_path)?;
+    let design = load::design_resolved(design_path)?.design;
     let mut pts = Vec::new();
     let mut origins = Vec::new();
     for t in at {

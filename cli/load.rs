@@ -30,3 +30,16 @@ pub fn design(path: &Path) -> anyhow::Result<Design> {
     let text = text(path, "design file")?;
     Ok(parse_design(&text, &path.display().to_string())?)
 }
+
+/// Read and validate a design file, with its drive model (`[drive] kind`) resolved into explicit
+/// peak currents and potentials with the first mode's profiles
+/// ([`coilfield_solver::resonance::resolve`]): what the field, clearance, capacitance and
+/// export commands compute from.
+pub fn design_resolved(path: &Path) -> anyhow::Result<coilfield_solver::resonance::Resolved> {
+    let design = design(path)?;
+    Ok(coilfield_solver::resonance::resolve(
+        &design,
+        &path.display().to_string(),
+        coilfield_solver::Par::Rayon,
+    )?)
+}

@@ -13,6 +13,7 @@ mod map;
 mod output;
 mod plot;
 mod report;
+mod resonance;
 mod sample;
 mod seek;
 mod sweep;
@@ -135,6 +136,29 @@ enum Command {
         /// Quantity of the heat map: e or b.
         #[arg(long, value_enum, default_value_t = map::PlotQuantity::E)]
         plot_quantity: map::PlotQuantity,
+    },
+    /// The secondary's resonance (a distributed model of its winding, and the lumped estimate),
+    /// its modes and Q; the primary's tuning capacitance, the tap that tunes the tank
+    /// capacitor and f against the tap; the coupled pair's normal modes; and, with a drive
+    /// model in [drive] (kind = "spark_gap" | "driven"), the peak top voltage, the currents,
+    /// energy and power. Frequencies in Hz, capacitances in F, inductances in H, voltages peak.
+    Resonance {
+        /// Design file (TOML).
+        design: PathBuf,
+        /// Sections of the distributed model (default: doubled from 8 until f1 settles to
+        /// 1e-4, at most 256).
+        #[arg(long, value_name = "N")]
+        sections: Option<usize>,
+        /// table or json.
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+        /// Draw the spark gap's top-voltage envelope, else the first mode's voltage profile
+        /// (.svg or .png).
+        #[arg(long, value_name = "FILE")]
+        plot: Option<PathBuf>,
+        /// Draw the primary's frequency with the tank capacitor against the tap (.svg or .png).
+        #[arg(long, value_name = "FILE")]
+        plot_tap: Option<PathBuf>,
     },
     /// Capacitances (F) from the axisymmetric electrostatic model: the Maxwell matrix of the
     /// electrodes (file order), each electrode's capacitance (its diagonal entry), the
@@ -286,6 +310,19 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             format,
             out,
         } => capacitance::run(&design, format, out.as_deref()),
+        Command::Resonance {
+            design,
+            sections,
+            format,
+            plot,
+            plot_tap,
+        } => resonance::run(
+            &design,
+            sections,
+            format,
+            plot.as_deref(),
+            plot_tap.as_deref(),
+        ),
         Command::Clearance {
             design,
             distance,

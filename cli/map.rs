@@ -91,7 +91,7 @@ fn check_ext(path: &Path, key: &str, allowed: &[&str]) -> Result<String, BadInpu
 
 /// Run `coilfield map`.
 pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
-    let design = load::design(args.design)?;
+    let design = load::design_resolved(args.design)?.design;
     let label = args.design.display().to_string();
     let g = grid(&args)?;
     if args.vtk.is_none() && args.plot.is_none() {

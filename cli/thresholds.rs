@@ -73,6 +73,7 @@ pub fn parse_user(text: &str) -> Result<Threshold, BadInput> {
         source: "user setting (--threshold), no source given".into(),
         method: Method::FieldSearch,
         set_by: "command line (--threshold)".into(),
+        rms_factor: None,
     })
 }
 

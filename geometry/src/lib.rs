@@ -65,7 +65,7 @@ pub use model::drive::{
     Drive, DriveKind, DriveNeeds, Driven, PotentialSpec, PrimaryAmplitude, SecondaryBase, SparkGap,
 };
 pub use model::electrode::{Axis, Electrode, ElectrodeShape, End, Ground, Terminal};
-pub use model::images::image_windings;
+pub use model::images::{image_ring_model, image_windings};
 pub use model::winding::{Model, Role, Shape, Tap, TapEnd, Winding, local_frame};
 pub use query::axisymmetric::check_axisymmetric;
 pub use query::checks::{check_design, validate_drive};

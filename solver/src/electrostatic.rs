@@ -916,7 +916,18 @@ impl Problem {
             surfaces,
             shapes: design.electrodes.iter().map(|e| e.shape.clone()).collect(),
             panels,
-            profile: params.profile.clone(),
+            // A drive model's mode profile stands in for the default linear one.
+            profile: match (&params.profile, &design.drive.secondary_voltage_profile) {
+                (Profile::Linear, Some(values)) => {
+                    Profile::nodes(values).map_err(|e| DesignError::BadSetting {
+                        source_name: source.to_string(),
+                        item: "drive".to_string(),
+                        key: "secondary voltage profile".to_string(),
+                        reason: e.to_string(),
+                    })?
+                }
+                (p, _) => p.clone(),
+            },
             sections_asked: params.secondary_sections,
             drive_electrode_v,
             drive_secondary_v,

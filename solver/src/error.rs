@@ -199,6 +199,12 @@ pub enum SolverError {
         /// What is wrong, with the file's label first.
         message: String,
     },
+    /// The resonance model cannot be built for this design (what is missing or out of range).
+    #[error("resonance model: {reason}")]
+    Resonance {
+        /// What is wrong and how to fix it.
+        reason: String,
+    },
     /// Clearance ray search: a distance, ratio or tolerance is not a finite positive number in the right order.
     #[error(
         "ray search needs 0 < t_min_m < t_max_m, step_ratio > 1 and tolerance_m > 0 (got t_min_m = {t_min_m}, t_max_m = {t_max_m}, step_ratio = {step_ratio}, tolerance_m = {tolerance_m})"

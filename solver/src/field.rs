@@ -42,7 +42,8 @@ use crate::elliptic::cel_positive_p;
 use crate::par::{Par, map_indexed};
 use coilfield_geometry::discretise::{filament_model, ring_model};
 use coilfield_geometry::{
-    Design, DesignError, DriveNeeds, Model, Winding, image_windings, validate_drive,
+    Design, DesignError, DriveNeeds, Model, Role, Winding, image_ring_model, image_windings,
+    validate_drive,
 };
 use nalgebra::{Point3, Unit, Vector3};
 use std::f64::consts::PI;
@@ -391,26 +392,74 @@ pub fn sources_from_design(design: &Design, source: &str) -> Result<Vec<Source>,
         "the magnetic field",
         source,
     )?;
+    let ground = design.ground.filter(|g| g.conducting);
     let mut out = Vec::new();
     for w in &design.windings {
         let i = design.drive.current_a(&w.name);
-        if i != 0.0 {
-            out.extend(sources_of_winding(w, i));
+        if i == 0.0 {
+            continue;
         }
-    }
-    if let Some(g) = design.ground.filter(|g| g.conducting) {
-        for (w, img) in design
-            .windings
-            .iter()
-            .zip(image_windings(&design.windings, &g))
-        {
-            let i = design.drive.current_a(&w.name);
-            if i != 0.0 {
-                out.extend(sources_of_winding(&img, i));
+        match (&design.drive.secondary_current_profile, w.role) {
+            (Some(profile), Role::Secondary) => {
+                for (model, current) in profiled_sections(w, profile, i) {
+                    out.extend(ring_sources(&model, current));
+                    if let Some(g) = ground {
+                        out.extend(ring_sources(&image_ring_model(&model, &g), current));
+                    }
+                }
+            }
+            _ => {
+                out.extend(sources_of_winding(w, i));
+                if let Some(g) = ground {
+                    let img = image_windings(std::slice::from_ref(w), &g);
+                    out.extend(sources_of_winding(&img[0], i));
+                }
             }
         }
     }
     Ok(out)
+}
+
+/// The sections of equal turns of a winding carrying a current profile (one value per
+/// section, times `base_current_a`): each section's ring model and its current (A).
+fn profiled_sections(
+    winding: &Winding,
+    profile: &[f64],
+    base_current_a: f64,
+) -> Vec<(coilfield_geometry::RingModel, f64)> {
+    let Some(turns) = winding.shape.turns() else {
+        return Vec::new();
+    };
+    let n = profile.len();
+    (0..n)
+        .filter_map(|k| {
+            let u0 = turns * k as f64 / n as f64;
+            let u1 = if k + 1 == n {
+                turns
+            } else {
+                turns * (k + 1) as f64 / n as f64
+            };
+            coilfield_geometry::discretise::ring_model_of_turns(winding, u0, u1)
+                .map(|m| (m, base_current_a * profile[k]))
+        })
+        .collect()
+}
+
+/// Ring sources (no sheet) of a ring model carrying `current_a` (times each ring's weight).
+fn ring_sources(model: &coilfield_geometry::RingModel, current_a: f64) -> Vec<Source> {
+    model
+        .rings
+        .iter()
+        .map(|r| {
+            Source::Ring(RingSource {
+                centre_m: r.centre_m,
+                axis: model.axis,
+                radius_m: r.radius_m,
+                current_a: current_a * r.weight,
+                wire_radius_m: model.wire_radius_m,
+            })
+        })
+        .collect()
 }
 
 /// The warning to print when B (and L, M) include image windings of a conducting plane.

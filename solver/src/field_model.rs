@@ -9,6 +9,7 @@
 
 use crate::electrostatic::{FieldSample, Params, Problem, Solution};
 use crate::field::{self, Source};
+use crate::error::SolverError;
 use crate::par::Par;
 use coilfield_geometry::{
     Design, DesignError, DriveNeeds, Electrode, Ground, PotentialSpec, validate_drive,
@@ -84,15 +85,15 @@ pub fn has_potentials(design: &Design) -> bool {
     })
 }
 
-/// The electrostatic solution of a design at the default panel count.
-// The error is geometry's own type, returned once per design: its size costs nothing here.
-#[allow(clippy::result_large_err)]
+/// The electrostatic solution of a design at the default panel count (its drive model
+/// resolved first, [`crate::resonance::resolve`]).
 pub fn electrostatic_solution(
     design: &Design,
     source: &str,
     par: Par,
-) -> Result<Solution, DesignError> {
-    Ok(Problem::from_design(design, &Params::default(), source)?.solve(par))
+) -> Result<Solution, SolverError> {
+    let resolved = crate::resonance::resolve(design, source, par)?;
+    Ok(Problem::from_design(&resolved.design, &Params::default(), source)?.solve(par))
 }
 
 impl FieldModel {
@@ -101,14 +102,20 @@ impl FieldModel {
     /// potential). `solved` is the design's electrostatic solution when the caller has it
     /// already (default panels); `par` says how both are solved and evaluated. `source`
     /// labels messages.
-    // The error is geometry's own type, returned once per design: its size costs nothing here.
-    #[allow(clippy::result_large_err)]
     pub fn new(
         design: &Design,
         source: &str,
         par: Par,
         solved: Option<Solution>,
-    ) -> Result<FieldModel, DesignError> {
+    ) -> Result<FieldModel, SolverError> {
+        // A drive model sets the currents and potentials (and their profiles) first.
+        let resolved = crate::resonance::resolve(design, source, par)?;
+        let design = &resolved.design;
+        let solved = if resolved.resonance.is_some() {
+            None
+        } else {
+            solved
+        };
         check_field_drive(design, source, "the field")?;
         let has_currents = design.drive.currents_a.iter().any(|(_, i)| *i != 0.0);
         let sources = if has_currents {
@@ -117,6 +124,9 @@ impl FieldModel {
             Vec::new()
         };
         let mut warnings: Vec<String> = field::image_warning(design).into_iter().collect();
+        if let Some(how) = &design.drive.derived {
+            warnings.push(format!("fields from the {how}"));
+        }
         if !has_currents {
             warnings.push("no winding carries current in [drive] currents: B is zero".into());
         }

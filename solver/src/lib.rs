@@ -74,6 +74,7 @@ pub mod mutual;
 pub mod optimise;
 pub mod par;
 pub mod quadrature;
+pub mod resonance;
 pub mod segment;
 pub mod self_inductance;
 pub mod sweep;

@@ -29,6 +29,10 @@ pub enum Basis {
     Rms,
     /// Peak: compared with the peak amplitude.
     Peak,
+    /// rms over time of a pulsed drive (a spark gap's bangs, averaged over one break period):
+    /// compared with peak times the drive's rms factor ([`Threshold::rms_factor`]).
+    #[serde(rename = "time-averaged")]
+    TimeAveraged,
 }
 
 /// How the clearance of a threshold is found.
@@ -60,6 +64,9 @@ pub struct Threshold {
     pub method: Method,
     /// Who set it: a built-in default, the design file or the command line.
     pub set_by: String,
+    /// For [`Basis::TimeAveraged`]: the drive's rms over time divided by its peak.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rms_factor: Option<f64>,
 }
 
 impl Threshold {
@@ -68,8 +75,45 @@ impl Threshold {
         match self.basis {
             Basis::Rms => self.limit * std::f64::consts::SQRT_2,
             Basis::Peak => self.limit,
+            Basis::TimeAveraged => {
+                self.limit / self.rms_factor.unwrap_or(std::f64::consts::FRAC_1_SQRT_2)
+            }
         }
     }
+}
+
+/// Whether a threshold's reference level averages over time: the ICNIRP 2020 levels (whole
+/// body over 30 minutes, local over 6 minutes: heating). The ICNIRP 2010 levels (nerve
+/// stimulation) and breakdown act on the instantaneous field.
+pub fn averages_over_time(t: &Threshold) -> bool {
+    t.name.starts_with("icnirp2020_")
+}
+
+/// Time-averaged versions of the thresholds that average over time, for a pulsed drive whose
+/// fields have rms over time / peak = `rms_factor_e` (E) and `rms_factor_b` (B): each named
+/// `<name>_time_averaged`, compared with peak x factor instead of peak / sqrt(2).
+pub fn time_averaged_variants(
+    thresholds: &[Threshold],
+    rms_factor_e: f64,
+    rms_factor_b: f64,
+) -> Vec<Threshold> {
+    thresholds
+        .iter()
+        .filter(|t| averages_over_time(t) && t.basis == Basis::Rms)
+        .map(|t| Threshold {
+            name: format!("{}_time_averaged", t.name),
+            basis: Basis::TimeAveraged,
+            rms_factor: Some(match t.quantity {
+                Quantity::E => rms_factor_e,
+                Quantity::B => rms_factor_b,
+            }),
+            source: format!(
+                "{}; compared with the field's rms over one break period of the spark gap",
+                t.source
+            ),
+            ..t.clone()
+        })
+        .collect()
 }
 
 /// Default dielectric strength of dry air at sea level in a uniform field (V/m, peak).
@@ -93,6 +137,7 @@ fn e(name: &str, limit: f64, basis: Basis, source: &str) -> Threshold {
         source: source.into(),
         method: Method::FieldSearch,
         set_by: BUILT_IN.into(),
+        rms_factor: None,
     }
 }
 
@@ -109,6 +154,7 @@ fn b(name: &str, limit: f64, source: &str) -> Threshold {
         source: source.into(),
         method: Method::FieldSearch,
         set_by: BUILT_IN.into(),
+        rms_factor: None,
     }
 }
 
@@ -245,6 +291,7 @@ fn from_design(t: &coilfield_geometry::ThresholdSpec, label: &str) -> Threshold 
         source: t.source.clone(),
         method: Method::FieldSearch,
         set_by: format!("design file {label} ([[clearance.threshold]])"),
+        rms_factor: None,
     }
 }
 
@@ -363,6 +410,7 @@ mod tests {
             source: "test value".into(),
             method: Method::FieldSearch,
             set_by: "test".into(),
+            rms_factor: None,
         };
         let (t, w) = for_design(&d, "d.toml", None, None, &[extra]);
         assert_eq!(t.len(), 1);

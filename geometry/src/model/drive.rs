@@ -88,6 +88,16 @@ pub struct Drive {
     pub lead_inductance_h: f64,
     /// What the secondary's base is tied to.
     pub secondary_base: SecondaryBase,
+    /// The secondary's potential profile: node values at equal steps from base to top,
+    /// normalised to 1 at the top (a mode of the resonance model); None: linear.
+    pub secondary_voltage_profile: Option<Vec<f64>>,
+    /// The secondary's current profile: one value per section of equal turns from base to top,
+    /// 1 in the first (a mode of the resonance model): section k carries its `currents` entry
+    /// times value k; None: uniform.
+    pub secondary_current_profile: Option<Vec<f64>>,
+    /// How the currents and potentials were derived, when a drive model set them (for the
+    /// messages of the commands that use them); None when they come from the file.
+    pub derived: Option<String>,
 }
 
 impl Drive {

@@ -1,5 +1,6 @@
 //! Image windings of a perfectly conducting ground plane.
 
+use crate::model::discretise::{Ring, RingModel};
 use crate::model::electrode::Ground;
 use crate::model::winding::{Model, Role, Shape, Winding};
 use nalgebra::{Point3, Unit, Vector3};
@@ -7,6 +8,29 @@ use nalgebra::{Point3, Unit, Vector3};
 /// Mirror image of a point in the plane z = `z0_m`.
 fn mirror_point(p: &Point3<f64>, z0_m: f64) -> Point3<f64> {
     Point3::new(p.x, p.y, 2.0 * z0_m - p.z)
+}
+
+/// The image of a ring model in a perfectly conducting ground plane: every ring mirrored in
+/// the plane, about the mirrored axis with the same weight (the mirror is orientation-reversing,
+/// so that is the reversed current of [`image_windings`]). A uniform stack stays one, from its
+/// mirrored origin. For parts of windings that are not windings themselves (the sections of a
+/// secondary in the resonance model).
+pub fn image_ring_model(model: &RingModel, ground: &Ground) -> RingModel {
+    let z0 = ground.z_m;
+    let a = model.axis;
+    RingModel {
+        origin_m: mirror_point(&model.origin_m, z0),
+        axis: Unit::new_normalize(Vector3::new(a.x, a.y, -a.z)),
+        rings: model
+            .rings
+            .iter()
+            .map(|r| Ring {
+                centre_m: mirror_point(&r.centre_m, z0),
+                ..*r
+            })
+            .collect(),
+        ..model.clone()
+    }
 }
 
 /// The image windings of a perfectly conducting ground plane `ground` (for B, L and M).
@@ -177,5 +201,39 @@ mod tests {
             panic!("{img:?}")
         };
         assert_eq!(points_m.len(), 4 * 128 + 64 + 1);
+    }
+
+    #[test]
+    fn the_image_of_a_ring_model_is_the_ring_model_of_the_image() {
+        // A helix 2 cm above a plane at z = 0.005 m: mirroring its ring model ring by ring
+        // gives the rings of its image winding (mirrored origin and axis), weights unchanged.
+        let w = Winding {
+            name: "s".into(),
+            role: Role::Secondary,
+            model: Model::Ring,
+            wire_diameter_m: 0.0005,
+            segments_per_turn: None,
+            shape: Shape::Helix {
+                origin_m: Point3::new(0.0, 0.0, 0.025),
+                axis: Vector3::z_axis(),
+                radius_m: 0.05,
+                length_m: 0.1,
+                turns: 150.5,
+            },
+            tap: None,
+        };
+        let ground = Ground {
+            z_m: 0.005,
+            conducting: true,
+        };
+        let by_rings = image_ring_model(&ring_model(&w).unwrap(), &ground);
+        let by_winding = ring_model(&image_windings(std::slice::from_ref(&w), &ground)[0]).unwrap();
+        assert_eq!(by_rings.uniform_pitch_m, by_winding.uniform_pitch_m);
+        assert_eq!(by_rings.axis, by_winding.axis);
+        assert_eq!(by_rings.rings.len(), by_winding.rings.len());
+        for (a, b) in by_rings.rings.iter().zip(&by_winding.rings) {
+            assert_eq!((a.radius_m, a.weight), (b.radius_m, b.weight));
+            assert!((a.centre_m - b.centre_m).norm() < 1e-15, "{a:?} {b:?}");
+        }
     }
 }

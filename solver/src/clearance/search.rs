@@ -346,6 +346,7 @@ pub fn search(
             compared_with: match t.basis {
                 Basis::Rms => "peak / sqrt(2)",
                 Basis::Peak => "peak",
+                Basis::TimeAveraged => "peak x the drive's rms factor over a break period",
             },
             distance_from_axis_m: by_height
                 .iter()
