@@ -2,9 +2,9 @@
 //! tuning and tap, Q, the coupled pair's split frequencies and the drive's top voltage.
 
 use crate::output::si;
+use crate::plot::{self, LinePlot};
 use crate::{BadInput, Format, load, output};
 use coilfield_solver::Par;
-use crate::plot::{self, LinePlot};
 use coilfield_solver::resonance::{PrimaryTuning, Resonance, ResonanceParams, resonance};
 use serde::Serialize;
 use std::fmt::Write as _;
@@ -42,7 +42,10 @@ pub fn run(
     };
     let r = resonance(&design, &label, &params, Par::Rayon)?;
     if let Some(p) = plot_tap {
-        let Some(primary) = r.primary.as_ref().filter(|p| !p.frequency_against_tap.is_empty())
+        let Some(primary) = r
+            .primary
+            .as_ref()
+            .filter(|p| !p.frequency_against_tap.is_empty())
         else {
             return Err(BadInput(format!(
                 "--plot-tap: {label} has no tank capacitor to tune (a primary with \
@@ -88,7 +91,11 @@ fn is_svg(plot: &Path) -> anyhow::Result<bool> {
 
 /// `--plot-tap`: the primary's resonance with the tank capacitor against the turns in use.
 fn tap_plot(path: &Path, p: &PrimaryTuning, f1_hz: f64) -> anyhow::Result<()> {
-    let x: Vec<f64> = p.frequency_against_tap.iter().map(|t| t.tap_turns).collect();
+    let x: Vec<f64> = p
+        .frequency_against_tap
+        .iter()
+        .map(|t| t.tap_turns)
+        .collect();
     let y: Vec<f64> = p
         .frequency_against_tap
         .iter()
@@ -180,7 +187,11 @@ pub fn table(r: &Resonance) -> String {
             si(m.frequency_hz, "Hz", 6)
         );
     }
-    let _ = writeln!(s, "  inductance L_s                              {}", si(sec.inductance_h, "H", 6));
+    let _ = writeln!(
+        s,
+        "  inductance L_s                              {}",
+        si(sec.inductance_h, "H", 6)
+    );
     let _ = writeln!(
         s,
         "  equivalent capacitance 1/((2 pi f1)^2 L_s)  {}",
@@ -232,16 +243,32 @@ pub fn table(r: &Resonance) -> String {
     }
     if let Some(p) = &r.primary {
         let _ = writeln!(s, "\nprimary '{}'", p.name);
-        let _ = writeln!(s, "  inductance (all turns)                      {}", si(p.inductance_h, "H", 6));
+        let _ = writeln!(
+            s,
+            "  inductance (all turns)                      {}",
+            si(p.inductance_h, "H", 6)
+        );
         let _ = writeln!(
             s,
             "  turns in use{}                       {:.3}",
-            if p.tap_found { " (found for the tank)" } else { "                    " },
+            if p.tap_found {
+                " (found for the tank)"
+            } else {
+                "                    "
+            },
             p.tap_turns
         );
-        let _ = writeln!(s, "  inductance in use                           {}", si(p.tap_inductance_h, "H", 6));
+        let _ = writeln!(
+            s,
+            "  inductance in use                           {}",
+            si(p.tap_inductance_h, "H", 6)
+        );
         if p.lead_inductance_h > 0.0 {
-            let _ = writeln!(s, "  lead inductance                             {}", si(p.lead_inductance_h, "H", 4));
+            let _ = writeln!(
+                s,
+                "  lead inductance                             {}",
+                si(p.lead_inductance_h, "H", 4)
+            );
         }
         let _ = writeln!(
             s,
@@ -249,10 +276,21 @@ pub fn table(r: &Resonance) -> String {
             si(p.tuning_capacitance_f, "F", 5)
         );
         if let Some(t) = p.tap_for_tank_turns {
-            let _ = writeln!(s, "  tap that tunes the tank capacitor to f1     {t:.3} turns");
+            let _ = writeln!(
+                s,
+                "  tap that tunes the tank capacitor to f1     {t:.3} turns"
+            );
         }
-        let _ = writeln!(s, "  coupling k (geometric, part in use)         {:.4}", p.coupling_at_tap);
-        let _ = writeln!(s, "  coupling with the first mode                {:.4}", p.modal_coupling);
+        let _ = writeln!(
+            s,
+            "  coupling k (geometric, part in use)         {:.4}",
+            p.coupling_at_tap
+        );
+        let _ = writeln!(
+            s,
+            "  coupling with the first mode                {:.4}",
+            p.modal_coupling
+        );
         let _ = writeln!(
             s,
             "  Q {:.0} (wire {} at f1, the gap apart)",
@@ -280,17 +318,40 @@ pub fn table(r: &Resonance) -> String {
             si(hi, "Hz", 6)
         );
     }
+    if let Some(f) = r.coupled_frequency_hz {
+        let _ = writeln!(
+            s,
+            "\ncoupled system (the primary has no capacitor): resonance {}",
+            si(f, "Hz", 6)
+        );
+    }
     if let Some(d) = &r.drive {
         let _ = writeln!(s, "\ndrive ({})", d.kind.replace('_', " "));
-        let _ = writeln!(s, "  peak top voltage                            {}", si(d.peak_top_voltage_v, "V", 4));
+        let _ = writeln!(
+            s,
+            "  peak top voltage                            {}",
+            si(d.peak_top_voltage_v, "V", 4)
+        );
         if let Some(v) = d.peak_top_voltage_no_quench_v {
-            let _ = writeln!(s, "  without the quench                          {}", si(v, "V", 4));
+            let _ = writeln!(
+                s,
+                "  without the quench                          {}",
+                si(v, "V", 4)
+            );
         }
         if let Some(v) = d.energy_bound_top_voltage_v {
-            let _ = writeln!(s, "  lossless energy bound V_p sqrt(C_p/C_top)   {}", si(v, "V", 4));
+            let _ = writeln!(
+                s,
+                "  lossless energy bound V_p sqrt(C_p/C_top)   {}",
+                si(v, "V", 4)
+            );
         }
         if let (Some(t), Some(h)) = (d.first_notch_s, d.first_notch_half_cycles) {
-            let _ = writeln!(s, "  first notch                                 {} ({h} half-cycles)", si(t, "s", 4));
+            let _ = writeln!(
+                s,
+                "  first notch                                 {} ({h} half-cycles)",
+                si(t, "s", 4)
+            );
         }
         if let Some(b) = sec.breakout_top_voltage_v {
             let _ = writeln!(
@@ -300,29 +361,61 @@ pub fn table(r: &Resonance) -> String {
                 d.peak_top_voltage_v / b
             );
         }
-        let _ = writeln!(s, "  peak primary current                        {}", si(d.peak_primary_current_a, "A", 4));
-        let _ = writeln!(s, "  peak base current of the secondary          {}", si(d.peak_base_current_a, "A", 4));
+        let _ = writeln!(
+            s,
+            "  peak primary current                        {}",
+            si(d.peak_primary_current_a, "A", 4)
+        );
+        let _ = writeln!(
+            s,
+            "  peak base current of the secondary          {}",
+            si(d.peak_base_current_a, "A", 4)
+        );
         if let Some(e) = d.energy_per_bang_j {
-            let _ = writeln!(s, "  energy per bang                             {}", si(e, "J", 4));
+            let _ = writeln!(
+                s,
+                "  energy per bang                             {}",
+                si(e, "J", 4)
+            );
         }
         if let Some(p) = d.mean_power_w {
-            let _ = writeln!(s, "  mean power                                  {}", si(p, "W", 4));
+            let _ = writeln!(
+                s,
+                "  mean power                                  {}",
+                si(p, "W", 4)
+            );
         }
         if let (Some(r), Some(dc)) = (d.ring_down_s, d.duty_cycle) {
-            let _ = writeln!(s, "  ring-down {} , duty cycle {:.3} %", si(r, "s", 3), 100.0 * dc);
+            let _ = writeln!(
+                s,
+                "  ring-down {} , duty cycle {:.3} %",
+                si(r, "s", 3),
+                100.0 * dc
+            );
         }
         if let Some(f) = d.drive_frequency_hz {
-            let _ = writeln!(s, "  drive frequency                             {}", si(f, "Hz", 6));
+            let _ = writeln!(
+                s,
+                "  drive frequency                             {}",
+                si(f, "Hz", 6)
+            );
         }
         if let Some(p) = d.input_power_w {
-            let _ = writeln!(s, "  input power                                 {}", si(p, "W", 4));
+            let _ = writeln!(
+                s,
+                "  input power                                 {}",
+                si(p, "W", 4)
+            );
         }
         let _ = writeln!(
             s,
             "  streamer length: {} (long-gap gradient rule){}; both common practice, no source",
             si(d.streamer_length_gradient_m, "m", 3),
             d.streamer_length_power_rule_m
-                .map_or(String::new(), |l| format!(", {} (power rule)", si(l, "m", 3)))
+                .map_or(String::new(), |l| format!(
+                    ", {} (power rule)",
+                    si(l, "m", 3)
+                ))
         );
         let _ = writeln!(
             s,

@@ -64,6 +64,12 @@ const ELECTRIC_PREFIXES: &[&str] = &[
     "surface_field.",
     "clearance.",
     "clearance_top.",
+    "frequency.",
+    "equivalent_capacitance.",
+    "tuning_capacitance.",
+    "tap_turns.",
+    "q.",
+    "peak_voltage.",
 ];
 
 /// Metrics of clearance distances (screening estimates).

@@ -510,6 +510,9 @@ pub struct NodalCapacitance {
     pub asymmetry: f64,
     /// Panels on the secondary in the solve.
     pub secondary_panels: usize,
+    /// Panel charge densities (C/m^2) for 1 V on each node: any node profile's charges are
+    /// their sum weighted by the node voltages.
+    sigma_columns: Vec<Vec<f64>>,
 }
 
 impl NodalCapacitance {
@@ -1184,9 +1187,9 @@ impl Problem {
     /// potential phi = sum_j v_j h_j on the tube (and v_i on electrodes connected at node i).
     /// Collocation is not Galerkin, so C_ij and C_ji differ by the discretisation error; the
     /// result is (C + C^T) / 2.
-    fn nodal_matrix(&self, lu: &BlockedLu, n: usize, par: Par) -> (DMatrix<f64>, f64) {
+    fn nodal_matrix(&self, lu: &BlockedLu, n: usize, par: Par) -> NodalCore {
         let means = self.hat_means(n);
-        let columns: Vec<Vec<f64>> = map_indexed(n + 1, par, |j| {
+        let solved: Vec<(Vec<f64>, Vec<f64>)> = map_indexed(n + 1, par, |j| {
             let sigma = lu.solve(&self.rhs_hat(j, n));
             let q = self.charges(&sigma);
             let mut col = vec![0.0; n + 1];
@@ -1202,8 +1205,9 @@ impl Problem {
                     }
                 }
             }
-            col
+            (col, sigma)
         });
+        let (columns, sigma_columns): (Vec<Vec<f64>>, Vec<Vec<f64>>) = solved.into_iter().unzip();
         let raw = DMatrix::from_fn(n + 1, n + 1, |i, j| columns[j][i]);
         let mut asymmetry: f64 = 0.0;
         for i in 0..=n {
@@ -1212,7 +1216,11 @@ impl Problem {
                 asymmetry = asymmetry.max((raw[(i, j)] - raw[(j, i)]).abs() / scale);
             }
         }
-        (0.5 * (&raw + raw.transpose()), asymmetry)
+        NodalCore {
+            matrix: 0.5 * (&raw + raw.transpose()),
+            asymmetry,
+            sigma_columns,
+        }
     }
 
     /// Solve: Maxwell matrix, self-capacitance, drive charges, and the coarse estimate.
@@ -1252,7 +1260,7 @@ impl Problem {
                     }),
                     _ => None,
                 };
-                nodal_coarse = coarse.nodal.map(|(m, _)| m);
+                nodal_coarse = coarse.nodal.map(|c| c.matrix);
                 ErrorEstimate {
                     capacitance_matrix_f: diff,
                     self_capacitance_f: sc,
@@ -1277,7 +1285,7 @@ impl Problem {
     /// The nodal capacitance with its error estimate, or why there is none.
     fn nodal_result(
         &self,
-        fine: Option<(DMatrix<f64>, f64)>,
+        fine: Option<NodalCore>,
         coarse: Option<DMatrix<f64>>,
     ) -> Result<NodalCapacitance, SolverError> {
         let none = |reason: String| Err(SolverError::NoNodalCapacitance { reason });
@@ -1298,7 +1306,12 @@ impl Problem {
                 }
             },
         };
-        let Some((matrix_f, asymmetry)) = fine else {
+        let Some(NodalCore {
+            matrix: matrix_f,
+            asymmetry,
+            sigma_columns,
+        }) = fine
+        else {
             return none("the solve produced no nodal matrix".into());
         };
         let error_estimate_f = match coarse {
@@ -1318,6 +1331,7 @@ impl Problem {
             matrix_f,
             error_estimate_f,
             asymmetry,
+            sigma_columns,
             secondary_panels: self
                 .panels
                 .iter()
@@ -1342,8 +1356,18 @@ struct CoreResult {
     self_total: Option<f64>,
     /// Drive sigma (C/m^2).
     sigma: Vec<f64>,
-    /// Nodal matrix (F) and its asymmetry before symmetrisation.
-    nodal: Option<(DMatrix<f64>, f64)>,
+    /// Nodal matrix and the charges behind it.
+    nodal: Option<NodalCore>,
+}
+
+/// The nodal solves of one factorisation.
+struct NodalCore {
+    /// Nodal matrix (F), symmetrised.
+    matrix: DMatrix<f64>,
+    /// Its largest asymmetry before symmetrisation, relative to the diagonal.
+    asymmetry: f64,
+    /// Panel charge densities (C/m^2) for 1 V on each node (hat j, electrodes at node j).
+    sigma_columns: Vec<Vec<f64>>,
 }
 
 /// The matrix of a bare problem: rows and columns `keep` of the full one.
@@ -1579,9 +1603,62 @@ impl Solution {
             .collect()
     }
 
+    /// The largest surface field on each electrode (file order) with node voltages `node_v`
+    /// (V) on the secondary's nodes (electrodes connected to it at their node's voltage,
+    /// the others at 0 V), from the nodal solves (no further solve): sigma = sum_j v_j
+    /// sigma_j. Errors: no nodal matrix, or a vector of the wrong length.
+    pub fn peak_surface_fields_for_nodes(
+        &self,
+        node_v: &[f64],
+    ) -> Result<Vec<PeakField>, SolverError> {
+        let nodal = self.nodal_capacitance()?;
+        if node_v.len() != nodal.sigma_columns.len() {
+            return Err(SolverError::NoNodalCapacitance {
+                reason: format!(
+                    "{} node voltages for {} nodes",
+                    node_v.len(),
+                    nodal.sigma_columns.len()
+                ),
+            });
+        }
+        let sigma: Vec<f64> = (0..self.problem.panels.len())
+            .map(|k| {
+                node_v
+                    .iter()
+                    .zip(&nodal.sigma_columns)
+                    .map(|(v, col)| v * col[k])
+                    .sum()
+            })
+            .collect();
+        Ok(self.peak_fields_of(&sigma))
+    }
+
     /// The largest surface field on each electrode (file order) at the drive potentials.
     pub fn peak_surface_fields(&self) -> Vec<PeakField> {
-        let panels = self.panels();
+        self.peak_fields_of(&self.sigma_drive)
+    }
+
+    /// The largest surface field on each electrode (file order) for panel charges `sigma`.
+    fn peak_fields_of(&self, sigma: &[f64]) -> Vec<PeakField> {
+        let panels: Vec<PanelResult> = self
+            .problem
+            .panels
+            .iter()
+            .zip(sigma)
+            .map(|(p, &s)| {
+                let disc = matches!(
+                    self.problem.surfaces[p.surface].1,
+                    SurfaceKind::Electrode { disc: true, .. }
+                );
+                PanelResult {
+                    surface: self.problem.surfaces[p.surface].0.clone(),
+                    start_rho_z_m: [p.a.0, p.a.1],
+                    end_rho_z_m: [p.b.0, p.b.1],
+                    sigma_c_per_m2: s,
+                    surface_field_v_per_m: s.abs() / EPS0 / if disc { 2.0 } else { 1.0 },
+                }
+            })
+            .collect();
         let (x_hat, _) = local_frame(&self.problem.axis.direction);
         let mut out = Vec::new();
         for name in &self.problem.names {

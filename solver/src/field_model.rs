@@ -8,8 +8,8 @@
 //! model does not see); below the ground plane E has none; on a wire B has none.
 
 use crate::electrostatic::{FieldSample, Params, Problem, Solution};
-use crate::field::{self, Source};
 use crate::error::SolverError;
+use crate::field::{self, Source};
 use crate::par::Par;
 use coilfield_geometry::{
     Design, DesignError, DriveNeeds, Electrode, Ground, PotentialSpec, validate_drive,

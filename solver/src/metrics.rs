@@ -40,8 +40,27 @@ pub enum Metric {
     SelfCapacitance(usize),
     /// Largest surface field (V/m) on an electrode (index) at the drive potentials.
     SurfaceField(usize),
+    /// A figure of the resonance model ([`crate::resonance`]) of the winding (index).
+    Resonance(ResonanceFigure, usize),
     /// A figure the caller computes ([`External`]), by the caller's id.
     External(usize),
+}
+
+/// The resonance model's figures a sweep can ask for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ResonanceFigure {
+    /// `frequency.<secondary>`: first resonance of the distributed model (Hz).
+    Frequency,
+    /// `equivalent_capacitance.<secondary>`: 1 / ((2 pi f1)^2 L_s) (F).
+    EquivalentCapacitance,
+    /// `tuning_capacitance.<primary>`: the capacitance that tunes the primary in use to f1 (F).
+    TuningCapacitance,
+    /// `tap_turns.<primary>`: the tap that tunes the tank capacitor to f1 (turns).
+    TapTurns,
+    /// `q.<winding>`: Q of the secondary's first mode or of the primary circuit.
+    Q,
+    /// `peak_voltage.<secondary>`: the drive model's peak top voltage (V).
+    PeakVoltage,
 }
 
 /// Figures the caller computes and the evaluator knows by name: e.g. clearance distances,
@@ -72,7 +91,9 @@ pub trait External: Send + Sync {
 
 const KNOWN_METRICS: &str = "self_inductance.<w>, mutual.<a>.<b>, coupling.<a>.<b>, \
                              gap.<a>.<b>, capacitance.<electrode>, self_capacitance.<secondary>, \
-                             surface_field.<electrode>";
+                             surface_field.<electrode>, frequency.<secondary>, \
+                             equivalent_capacitance.<secondary>, tuning_capacitance.<primary>, \
+                             tap_turns.<primary>, q.<winding>, peak_voltage.<secondary>";
 
 /// Position of `wanted` among `names` (a design's windings or electrodes, `kind` says which), or
 /// a message for metric `metric` that lists the names there are.
@@ -171,6 +192,67 @@ pub fn parse_metric_with(
             }
             electric_model_of(name, design)?;
             Ok(Metric::SelfCapacitance(i))
+        }
+        [
+            figure @ ("frequency"
+            | "equivalent_capacitance"
+            | "tuning_capacitance"
+            | "tap_turns"
+            | "q"
+            | "peak_voltage"),
+            w,
+        ] => {
+            let i = index(w)?;
+            let role = design.windings[i].role;
+            let (figure, wanted) = match *figure {
+                "frequency" => (ResonanceFigure::Frequency, Some(Role::Secondary)),
+                "equivalent_capacitance" => (
+                    ResonanceFigure::EquivalentCapacitance,
+                    Some(Role::Secondary),
+                ),
+                "tuning_capacitance" => (ResonanceFigure::TuningCapacitance, Some(Role::Primary)),
+                "tap_turns" => (ResonanceFigure::TapTurns, Some(Role::Primary)),
+                "peak_voltage" => (ResonanceFigure::PeakVoltage, Some(Role::Secondary)),
+                _ => (ResonanceFigure::Q, None),
+            };
+            let ok = match wanted {
+                Some(r) => role == r,
+                None => role != Role::Other,
+            };
+            if !ok {
+                return Err(format!(
+                    "`{name}`: winding `{w}` has role = \"{}\"; this figure is of the {}",
+                    match role {
+                        Role::Secondary => "secondary",
+                        Role::Primary => "primary",
+                        Role::Other => "other",
+                    },
+                    match wanted {
+                        Some(Role::Secondary) => "secondary",
+                        Some(_) => "primary",
+                        None => "secondary or the primary",
+                    }
+                ));
+            }
+            if figure == ResonanceFigure::PeakVoltage
+                && design.drive.kind == coilfield_geometry::DriveKind::Explicit
+            {
+                return Err(format!(
+                    "`{name}`: needs a drive model in the base design ([drive] kind = \
+                     \"spark_gap\" or \"driven\")"
+                ));
+            }
+            if figure == ResonanceFigure::TapTurns && design.drive.tank_capacitance().is_none() {
+                return Err(format!(
+                    "`{name}`: needs a tank capacitor in the base design ([drive] \
+                     tank_capacitance with kind = \"spark_gap\" or \"driven\")"
+                ));
+            }
+            // The model must be buildable on the base, so that a sweep stops before any work.
+            crate::resonance::resonance_roles(design, "the base design")
+                .map_err(|e| format!("`{name}`: {e}"))?;
+            electric_model_of(name, design)?;
+            Ok(Metric::Resonance(figure, i))
         }
         _ => Err(format!("`{name}`: unknown metric; known: {KNOWN_METRICS}")),
     }
@@ -306,6 +388,8 @@ struct Cached {
 /// Evaluates metrics and constraints on variants of one base design.
 pub struct Evaluator {
     base: Vec<Cached>,
+    /// The base design's secondary model of the resonance (computed on first use).
+    base_resonance: OnceLock<Result<crate::resonance::SecondaryModel, String>>,
     /// The base design prepared for the checks between parts and the wire gaps of variants.
     prepared: PreparedDesign,
     base_design: Design,
@@ -325,6 +409,7 @@ struct Scratch<'a> {
     self_h: Vec<Option<f64>>,
     mutual_h: Vec<((usize, usize), f64)>,
     gap_m: Vec<((usize, usize), f64)>,
+    resonance: Option<Result<crate::resonance::Resonance, String>>,
     electric: Option<Result<Solution, String>>,
     /// The external figures of the point (ids as `Evaluator::external_ids`).
     external: Option<Result<Vec<f64>, String>>,
@@ -341,6 +426,7 @@ impl<'a> Scratch<'a> {
             self_h: vec![None; n],
             mutual_h: Vec::new(),
             gap_m: Vec::new(),
+            resonance: None,
             electric: None,
             external: None,
             notes: Vec::new(),
@@ -401,6 +487,7 @@ impl Evaluator {
                 })
                 .collect(),
             prepared: PreparedDesign::new(base),
+            base_resonance: OnceLock::new(),
             base_design: base.clone(),
             base_electric: OnceLock::new(),
             metrics,
@@ -612,6 +699,98 @@ impl Evaluator {
         v
     }
 
+    /// The point's resonance model, computed once per point; the secondary's part is the base
+    /// design's when the point leaves the secondary, the electrodes and the ground plane as
+    /// they are (a sweep of the primary's place solves E once).
+    fn resonance<'s>(
+        &'s self,
+        s: &'s mut Scratch<'_>,
+    ) -> Result<&'s crate::resonance::Resonance, String> {
+        if s.resonance.is_none() {
+            let design = s.design;
+            let params = crate::resonance::ResonanceParams::default();
+            let same_secondary = {
+                fn secondaries(d: &Design) -> impl Iterator<Item = &Winding> {
+                    d.windings.iter().filter(|w| w.role == Role::Secondary)
+                }
+                design.electrodes == self.base_design.electrodes
+                    && design.ground == self.base_design.ground
+                    && secondaries(design).eq(secondaries(&self.base_design))
+            };
+            let label = "the point's design";
+            let base = self.base_resonance.get_or_init(|| {
+                crate::resonance::secondary_model(
+                    &self.base_design,
+                    "the base design",
+                    &params,
+                    Par::Seq,
+                )
+                .map_err(|e| e.to_string())
+            });
+            let result = match (same_secondary, base) {
+                (true, Ok(model)) => {
+                    crate::resonance::resonance_with(design, label, model, Par::Seq)
+                        .map_err(|e| e.to_string())
+                }
+                (true, Err(e)) => Err(e.clone()),
+                (false, base) => {
+                    // The base's converged section count, without a second solve for the
+                    // error estimate.
+                    let sections = base.as_ref().ok().map(|m| m.result.sections);
+                    let params = crate::resonance::ResonanceParams {
+                        sections,
+                        estimate_error: sections.is_none(),
+                        ..params
+                    };
+                    crate::resonance::resonance(design, label, &params, Par::Seq)
+                        .map_err(|e| e.to_string())
+                }
+            };
+            s.resonance = Some(result);
+        }
+        s.resonance
+            .as_ref()
+            .map_or(Err("no resonance".to_string()), |r| {
+                r.as_ref().map_err(Clone::clone)
+            })
+    }
+
+    fn resonance_value(
+        &self,
+        s: &mut Scratch<'_>,
+        figure: ResonanceFigure,
+        i: usize,
+    ) -> Result<f64, String> {
+        let name = s.design.windings[i].name.clone();
+        let r = self.resonance(s)?;
+        let primary = || {
+            r.primary
+                .as_ref()
+                .filter(|p| p.name == name)
+                .ok_or_else(|| format!("winding `{name}` is not the primary of the model"))
+        };
+        match figure {
+            ResonanceFigure::Frequency => Ok(r.secondary.frequency_hz),
+            ResonanceFigure::EquivalentCapacitance => Ok(r.secondary.equivalent_capacitance_f),
+            ResonanceFigure::TuningCapacitance => Ok(primary()?.tuning_capacitance_f),
+            ResonanceFigure::TapTurns => primary()?.tap_for_tank_turns.ok_or_else(|| {
+                "no tap within the primary tunes the tank capacitor to f1".to_string()
+            }),
+            ResonanceFigure::Q => {
+                if r.secondary.name == name {
+                    Ok(r.secondary.q)
+                } else {
+                    Ok(primary()?.q)
+                }
+            }
+            ResonanceFigure::PeakVoltage => r
+                .drive
+                .as_ref()
+                .map(|d| d.peak_top_voltage_v)
+                .ok_or_else(|| "the design has no drive model".to_string()),
+        }
+    }
+
     /// The base design prepared for the checks between the parts of its variants
     /// ([`PreparedDesign::check`]): a sweep or seek checks each point with it.
     pub fn prepared(&self) -> &PreparedDesign {
@@ -630,6 +809,7 @@ impl Evaluator {
             Metric::Capacitance(_) | Metric::SelfCapacitance(_) | Metric::SurfaceField(_) => {
                 self.electric_value(s, m)?
             }
+            Metric::Resonance(figure, i) => self.resonance_value(s, figure, i)?,
             Metric::External(id) => self.external_value(s, id)?,
         })
     }

@@ -101,6 +101,15 @@ pub struct Drive {
 }
 
 impl Drive {
+    /// The tank capacitor (F): a spark gap's, or a driven primary's series capacitor.
+    pub fn tank_capacitance(&self) -> Option<f64> {
+        match self.kind {
+            DriveKind::SparkGap(s) => Some(s.tank_capacitance_f),
+            DriveKind::Driven(_) => self.tank_capacitance_f,
+            DriveKind::Explicit => None,
+        }
+    }
+
     /// Peak current (A) of a winding (0 when absent).
     pub fn current_a(&self, winding: &str) -> f64 {
         self.currents_a

@@ -46,7 +46,7 @@ mod sections;
 
 use crate::assembly::{WindingModel, inductance_entry};
 use crate::circuit::{LadderMode, Loops, equivalent_capacitance_f, ladder_modes, loop_modes};
-use crate::electrostatic::{Params, Problem, Profile, Solution};
+use crate::electrostatic::{Params, Problem, Solution};
 use crate::error::SolverError;
 use crate::losses::{self, ProximityModel};
 use crate::par::Par;
@@ -86,6 +86,9 @@ pub struct ResonanceParams {
     pub sections: Option<usize>,
     /// Panels of each boundary-element solve (the secondary gets at least 4 per section).
     pub panels: usize,
+    /// With `sections` given: whether to solve at half the sections too for f1's error
+    /// estimate (else the estimate is NaN: a sweep's points reuse the base's count).
+    pub estimate_error: bool,
 }
 
 impl Default for ResonanceParams {
@@ -93,6 +96,7 @@ impl Default for ResonanceParams {
         ResonanceParams {
             sections: None,
             panels: 1000,
+            estimate_error: true,
         }
     }
 }
@@ -138,7 +142,8 @@ pub struct SecondaryResonance {
     pub name: String,
     /// First resonance of the distributed model (Hz).
     pub frequency_hz: f64,
-    /// |f1(n) - f1(n/2)| (Hz): the change at the last doubling of the sections.
+    /// |f1(n) - f1(n/2)| (Hz): the change at the last doubling of the sections (NaN, null in
+    /// JSON, when not estimated: a sweep's points).
     pub frequency_error_estimate_hz: f64,
     /// Lumped estimate 1 / (2 pi sqrt(L_s (C_self + C_top))) (Hz).
     pub lumped_frequency_hz: f64,
@@ -228,8 +233,12 @@ pub struct Resonance {
     pub primary: Option<PrimaryTuning>,
     /// Geometric coupling of the primary in use and the secondary.
     pub coupling: Option<f64>,
-    /// Normal modes of the tuned pair (Hz), low then high.
+    /// Normal modes of the pair (Hz), low then high: the primary with its tank capacitor, or
+    /// (an explicit drive without one) tuned to f1 by the tuning capacitance.
     pub split_frequencies_hz: Option<[f64; 2]>,
+    /// A primary without a capacitor (a driven exciter): the one resonance of the coupled
+    /// system, the secondary's mode pulled by the primary (Hz).
+    pub coupled_frequency_hz: Option<f64>,
     /// The drive model's figures, when `[drive] kind` is set.
     pub drive: Option<DriveResult>,
     /// What the secondary's base is tied to.
@@ -284,6 +293,12 @@ fn roles<'d>(
         });
     }
     Ok((s, primaries.first().copied()))
+}
+
+/// Check that the resonance model can be built on `design`: exactly one helix secondary and at
+/// most one primary (the error names `role` or `shape`). `source` labels messages.
+pub fn resonance_roles(design: &Design, source: &str) -> Result<(), SolverError> {
+    roles(design, source).map(|_| ())
 }
 
 /// The section count the distributed model may use for `turns` turns: at most one section
@@ -439,14 +454,12 @@ fn secondary_losses(
 }
 
 /// The top voltage (V) at which the top electrode's peak surface field reaches air breakdown,
-/// with the node profile `node_v` (1 at the top): one solve at 1 V.
+/// with the node profile `node_v` (1 at the top), from the distributed model's nodal solves.
 fn breakout_top_voltage(
     design: &Design,
     secondary: &Winding,
+    d: &Distributed,
     node_v: &[f64],
-    params: &ResonanceParams,
-    source: &str,
-    par: Par,
 ) -> Result<Option<f64>, SolverError> {
     let top: Vec<&str> = design
         .electrodes
@@ -461,35 +474,18 @@ fn breakout_top_voltage(
     if top.is_empty() {
         return Ok(None);
     }
-    let mut unit = design.clone();
-    unit.drive = coilfield_geometry::Drive {
-        potentials_v: vec![(
-            secondary.name.clone(),
-            PotentialSpec::Ends {
-                base_v: 0.0,
-                top_v: 1.0,
-            },
-        )],
-        ..Default::default()
-    };
-    let problem = Problem::from_design(
-        &unit,
-        &Params {
-            panels: params.panels,
-            profile: Profile::nodes(node_v)?,
-            ..Params::default()
-        },
-        source,
-    )?;
-    let sol = problem.solve(par);
-    let per_volt = sol
-        .peak_surface_fields()
+    let per_volt = d
+        .solution
+        .peak_surface_fields_for_nodes(node_v)?
         .into_iter()
         .filter(|p| top.contains(&p.name.as_str()))
         .map(|p| p.field_v_per_m)
         .fold(0.0, f64::max);
     Ok((per_volt > 0.0).then(|| AIR_BREAKDOWN_V_PER_M / per_volt))
 }
+
+/// A converged distributed model, f1's error estimate (Hz) and the history (n, f1 (Hz)).
+type Converged = (Distributed, f64, Vec<(usize, f64)>);
 
 /// The secondary's distributed model, converged in the section count.
 fn converge(
@@ -500,7 +496,7 @@ fn converge(
     params: &ResonanceParams,
     par: Par,
     warnings: &mut Vec<String>,
-) -> Result<(Distributed, f64, Vec<(usize, f64)>), SolverError> {
+) -> Result<Converged, SolverError> {
     let cap = section_cap(turns);
     let f1 = |d: &Distributed| d.modes[0].frequency_hz;
     let mut history: Vec<(usize, f64)> = Vec::new();
@@ -521,7 +517,7 @@ fn converge(
         let d = distributed(design, source, turn_matrix, turns, n, params, par)?;
         history.push((n, f1(&d)));
         // The error estimate: the same at half the sections.
-        let error = if n >= 2 {
+        let error = if n >= 2 && params.estimate_error {
             let half = distributed(design, source, turn_matrix, turns, n / 2, params, par)?;
             history.insert(0, (n / 2, f1(&half)));
             (f1(&d) - f1(&half)).abs()
@@ -544,7 +540,8 @@ fn converge(
             return Ok((current, error, history));
         }
     }
-    if !(error <= SECTION_TOLERANCE * f1(&current)) {
+    let settled = error <= SECTION_TOLERANCE * f1(&current);
+    if !settled {
         warnings.push(format!(
             "the first frequency did not settle to {SECTION_TOLERANCE:e} relative by {} \
              sections (the cap: {}); it stands with an estimated error of {:.2e} relative",
@@ -560,14 +557,28 @@ fn converge(
     Ok((current, error, history))
 }
 
-/// The resonance model of a design (see the module docs). `source` labels messages.
-pub fn resonance(
+/// The secondary's part of the resonance model: its distributed model (converged in the
+/// section count), its resonance figures and Q. It depends on the secondary winding, the
+/// electrodes and the ground plane only, so a sweep that moves the primary computes it once.
+#[derive(Debug, Clone)]
+pub struct SecondaryModel {
+    turn_matrix: TurnMatrix,
+    distributed: Distributed,
+    /// The secondary's figures.
+    pub result: SecondaryResonance,
+    /// The first mode's inductance referred to the base current, phi^T L phi (H).
+    l_base_h: f64,
+    warnings: Vec<String>,
+}
+
+/// The secondary's part of the resonance model of `design` (see [`SecondaryModel`]).
+pub fn secondary_model(
     design: &Design,
     source: &str,
     params: &ResonanceParams,
     par: Par,
-) -> Result<Resonance, SolverError> {
-    let (secondary, primary) = roles(design, source)?;
+) -> Result<SecondaryModel, SolverError> {
+    let (secondary, _) = roles(design, source)?;
     let mut warnings = Vec::new();
     let turns = secondary.shape.turns().unwrap_or(1.0);
     let ground = design.ground;
@@ -606,7 +617,7 @@ pub fn resonance(
     let ground_z = ground.map(|g| g.z_m);
     let (loss_parts, h_eff, wire_len) = secondary_losses(secondary, &d, phi, node_v, f1, ground_z)?;
     let q_s = TAU * f1 * l_base / loss_parts.total_ohm();
-    let breakout = breakout_top_voltage(design, secondary, node_v, params, source, par)?;
+    let breakout = breakout_top_voltage(design, secondary, &d, node_v)?;
     let modes = d
         .modes
         .iter()
@@ -652,6 +663,45 @@ pub fn resonance(
         wire_len
     ));
 
+    Ok(SecondaryModel {
+        turn_matrix,
+        distributed: d,
+        result: secondary_result,
+        l_base_h: l_base,
+        warnings,
+    })
+}
+
+/// The resonance model of a design (see the module docs). `source` labels messages.
+pub fn resonance(
+    design: &Design,
+    source: &str,
+    params: &ResonanceParams,
+    par: Par,
+) -> Result<Resonance, SolverError> {
+    let model = secondary_model(design, source, params, par)?;
+    resonance_with(design, source, &model, par)
+}
+
+/// The resonance model of `design` with its secondary's part computed already (`model`, of a
+/// design with the same secondary, electrodes and ground plane: a sweep's base).
+pub fn resonance_with(
+    design: &Design,
+    source: &str,
+    model: &SecondaryModel,
+    par: Par,
+) -> Result<Resonance, SolverError> {
+    let (_, primary) = roles(design, source)?;
+    let mut warnings = model.warnings.clone();
+    let d = &model.distributed;
+    let turn_matrix = &model.turn_matrix;
+    let secondary_result = model.result.clone();
+    let first = &d.modes[0];
+    let f1 = first.frequency_hz;
+    let l_s = secondary_result.inductance_h;
+    let phi = &first.branch_current;
+    let l_base = model.l_base_h;
+    let ground = design.ground;
     let Some(primary) = primary else {
         if design.drive.kind != DriveKind::Explicit {
             return Err(SolverError::Resonance {
@@ -666,6 +716,7 @@ pub fn resonance(
             primary: None,
             coupling: None,
             split_frequencies_hz: None,
+            coupled_frequency_hz: None,
             drive: None,
             secondary_base: base_name(design),
             warnings,
@@ -761,14 +812,19 @@ pub fn resonance(
     let r_p = z_p.resistance_ohm_per_m * wire_length_m(&in_use, true);
     let q_p = TAU * f1 * l_circuit / r_p;
     let tap_turns = in_use.active_turns().unwrap_or(1.0);
-    // The tuned pair: the primary with its tank (or the tuning capacitance) and the mode.
-    let c_primary = tank.unwrap_or(tuning_c);
+    // The pair: the primary with its tank (or, an explicit drive, the tuning capacitance; a
+    // driven primary without a capacitor has none) and the mode.
+    let c_primary = match (tank, design.drive.kind) {
+        (Some(c), _) => Some(c),
+        (None, DriveKind::Driven(_)) => None,
+        (None, _) => Some(tuning_c),
+    };
     let l_top = first.top_inductance_h;
     let c_top_modal = first.top_capacitance_f;
     let m_top = m_modal_base * (l_top / l_base).sqrt();
     let pair = Loops {
         inductance_h: DMatrix::from_row_slice(2, 2, &[l_circuit, m_top, m_top, l_top]),
-        capacitance_f: vec![Some(c_primary), Some(c_top_modal)],
+        capacitance_f: vec![c_primary, Some(c_top_modal)],
         resistance_ohm: vec![0.0, 0.0],
     };
     let split = loop_modes(&pair)?;
@@ -776,6 +832,7 @@ pub fn resonance(
         let (a, b) = (split[0].frequency_hz, split[1].frequency_hz);
         [a.min(b), a.max(b)]
     });
+    let coupled_hz = (split.len() == 1).then(|| split[0].frequency_hz);
     let r_top = loss_parts_top(&secondary_result, l_top, l_base);
     let drive_result = drive::run(
         design,
@@ -812,6 +869,7 @@ pub fn resonance(
         primary: Some(primary_result),
         coupling: Some(k_geo),
         split_frequencies_hz: split_hz,
+        coupled_frequency_hz: coupled_hz,
         drive: drive_result,
         secondary_base: base_name(design),
         warnings,

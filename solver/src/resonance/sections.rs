@@ -232,3 +232,66 @@ pub(crate) fn equal_bounds(turns: f64, n: usize) -> Vec<f64> {
         })
         .collect()
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::assembly::inductance_report;
+    use coilfield_geometry::parse_design;
+
+    const DESIGN: &str = r#"
+[[winding]]
+name = "secondary"
+shape = "helix"
+role = "secondary"
+origin = [0.0, 0.0, 0.1]
+axis = [0.0, 0.0, 1.0]
+radius = 0.05
+length = 0.15
+turns = 300.5
+wire_diameter = 0.0004
+
+[[winding]]
+name = "primary"
+shape = "spiral"
+role = "primary"
+origin = [0.01, 0.0, 0.12]
+axis = [0.1, 0.0, 1.0]
+inner_radius = 0.08
+outer_radius = 0.12
+turns = 5
+wire_diameter = 0.002
+"#;
+
+    #[test]
+    fn sections_add_up_to_the_windings_inductances_through_the_one_path() {
+        // The reference: `inductance_report` (the whole windings through inductance_entry:
+        // Euler-Maclaurin stack sums and the stack line integral for the tilted primary),
+        // which sums the same ring pairs in another way; with and without the images of a
+        // conducting ground. n = 7 and 64 cut turns (300.5 / n is not whole).
+        for ground in ["", "[ground]\nz = 0.0\nconducting = true\n"] {
+            let design = parse_design(&format!("{DESIGN}\n{ground}"), "t.toml").unwrap();
+            let report = inductance_report(&design, Par::Seq).unwrap();
+            let (l_s, m_sp) = (report.mutual_h[0][0], report.mutual_h[0][1]);
+            let tm = TurnMatrix::new(&design.windings[0], design.ground, Par::Rayon).unwrap();
+            assert!(((tm.whole_h() - l_s) / l_s).abs() < 1e-12, "{ground}");
+            let primary = WindingModel::of(&design.windings[1]);
+            for n in [1, 7, 64] {
+                let bounds = equal_bounds(300.5, n);
+                let l = tm.sections(&bounds, Par::Rayon);
+                assert!(((l.sum() - l_s) / l_s).abs() < 1e-12, "{ground} n={n}");
+                // Symmetric and positive definite, as an inductance matrix must be.
+                assert!((&l - l.transpose()).amax() <= 1e-15 * l.amax());
+                assert!(l.clone().cholesky().is_some(), "n={n}");
+                let m = tm
+                    .mutual_with_sections(&primary, design.ground, &bounds, Par::Seq)
+                    .unwrap();
+                let total: f64 = m.iter().sum();
+                assert!(
+                    ((total - m_sp) / m_sp).abs() < 1e-9,
+                    "{ground} n={n}: {total} {m_sp}"
+                );
+            }
+        }
+    }
+}
