@@ -94,6 +94,7 @@ fn winding(shape: Shape, wire_diameter_m: f64) -> Winding {
         wire_diameter_m,
         segments_per_turn: None,
         tap: None,
+        conductor: Default::default(),
         shape,
     }
 }

@@ -58,6 +58,7 @@ fn winding_strategy(cell: usize) -> impl Strategy<Value = Winding> {
                     wire_diameter_m: 0.001,
                     segments_per_turn: Some(24),
                     tap: None,
+                    conductor: Default::default(),
                     shape,
                 }
             },
@@ -164,6 +165,7 @@ proptest! {
             wire_diameter_m: 2.0 * wire_ratio * radius,
             segments_per_turn: Some(per_turn),
             tap: None,
+            conductor: Default::default(),
             shape: Shape::Ring {
                 origin_m: Point3::origin(),
                 axis: Vector3::z_axis(),

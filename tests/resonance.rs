@@ -397,6 +397,18 @@ fn bad_resonance_input_is_refused_naming_the_key() {
             vec![],
             &["tap_turns"],
         ),
+        // A conductor the table of resistivities does not know.
+        (
+            demo.replace("tube_wall = \"0.8 mm\"", "conductor = \"unobtainium\""),
+            vec![],
+            &["conductor", "unobtainium"],
+        ),
+        // A tube wall thicker than the tube's radius.
+        (
+            demo.replace("\"0.8 mm\"", "\"4 mm\""),
+            vec![],
+            &["tube_wall", "thinner"],
+        ),
         // A section count out of range.
         (demo.clone(), vec!["--sections", "0"], &["sections"]),
         (

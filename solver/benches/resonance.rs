@@ -13,7 +13,10 @@ use criterion::{Criterion, criterion_group, criterion_main};
 use std::hint::black_box;
 
 fn design() -> coilfield_geometry::Design {
-    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/../meshes-demo/bench-resonance.toml");
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../meshes-demo/bench-resonance.toml"
+    );
     let text = std::fs::read_to_string(path).expect("bench design");
     coilfield_geometry::parse_design(&text, path).expect("valid design")
 }
@@ -30,9 +33,10 @@ fn benches(c: &mut Criterion) {
     g.bench_function("distributed model, 200 sections, 2 threads", |b| {
         b.iter(|| secondary_model(black_box(&d), "bench", &at(200), Par::Rayon).expect("model"))
     });
-    g.bench_function("whole resonance with the spark gap, 32 sections, 2 threads", |b| {
-        b.iter(|| resonance(black_box(&d), "bench", &at(32), Par::Rayon).expect("resonance"))
-    });
+    g.bench_function(
+        "whole resonance with the spark gap, 32 sections, 2 threads",
+        |b| b.iter(|| resonance(black_box(&d), "bench", &at(32), Par::Rayon).expect("resonance")),
+    );
     g.finish();
 }
 

@@ -562,6 +562,7 @@ mod tests {
             wire_diameter_m: 0.4e-3,
             segments_per_turn: None,
             tap: None,
+            conductor: Default::default(),
             shape: Shape::Helix {
                 origin_m: Point3::new(0.0, 0.0, 0.1),
                 axis: Vector3::z_axis(),
@@ -580,6 +581,7 @@ mod tests {
             wire_diameter_m: 4e-3,
             segments_per_turn: None,
             tap: None,
+            conductor: Default::default(),
             shape: Shape::Spiral {
                 origin_m: Point3::from(centre),
                 axis: Unit::new_normalize(Vector3::from(axis)),

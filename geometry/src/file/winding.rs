@@ -3,7 +3,7 @@
 
 use crate::error::DesignError;
 use crate::file::raw::{Ctx, RawLength, RawNumber, is_valid_name, type_phrase};
-use crate::model::winding::{MIN_TAP_TURNS, Model, Role, Shape, Tap, TapEnd, Winding};
+use crate::model::winding::{Conductor, MIN_TAP_TURNS, Model, Role, Shape, Tap, TapEnd, Winding};
 use nalgebra::Point3;
 use serde::Deserialize;
 use toml::{Table, Value};
@@ -45,7 +45,15 @@ enum ShapeKind {
 }
 
 /// Keys every shape takes.
-const COMMON_KEYS: &[&str] = &["name", "shape", "role", "model", "wire_diameter"];
+const COMMON_KEYS: &[&str] = &[
+    "name",
+    "shape",
+    "role",
+    "model",
+    "wire_diameter",
+    "conductor",
+    "tube_wall",
+];
 
 impl ShapeKind {
     fn from_name(name: &str) -> Option<Self> {
@@ -150,6 +158,8 @@ struct RawWinding {
     segments_per_turn: Option<RawNumber>,
     tap_turns: Option<RawNumber>,
     tap_from: Option<String>,
+    conductor: Option<String>,
+    tube_wall: Option<RawLength>,
 }
 
 /// Checks of winding values that only windings have.
@@ -321,6 +331,7 @@ pub(crate) fn parse_winding(
         check_filament_count(&shape, segments_per_turn, &ctx)?;
     }
     let tap = tap_of(&raw, kind, &shape, role, &ctx)?;
+    let conductor = conductor_of(&raw, wire_diameter_m, &ctx)?;
     Ok(Winding {
         name,
         role,
@@ -329,6 +340,55 @@ pub(crate) fn parse_winding(
         segments_per_turn,
         shape,
         tap,
+        conductor,
+    })
+}
+
+/// The conductor's material (a lowercase name, checked against the solver's table of
+/// resistivities when losses are computed) and a tube's wall (a positive length below the wire
+/// radius).
+fn conductor_of(
+    raw: &RawWinding,
+    wire_diameter_m: f64,
+    ctx: &Ctx<'_>,
+) -> Result<Conductor, DesignError> {
+    let material = match &raw.conductor {
+        None => None,
+        Some(m) if !m.is_empty() && m.bytes().all(|b| b.is_ascii_lowercase()) => Some(m.clone()),
+        Some(m) => {
+            return Err(DesignError::BadSetting {
+                source_name: ctx.source.to_string(),
+                item: ctx.item.clone(),
+                key: "conductor".to_string(),
+                reason: format!(
+                    "\"{m}\" is not a material name; write a lowercase name such as \
+                     \"copper\", \"aluminium\" or \"silver\""
+                ),
+            });
+        }
+    };
+    let tube_wall_m = match &raw.tube_wall {
+        None => None,
+        Some(t) => {
+            let v = ctx.size("tube_wall", t, false)?;
+            if v >= 0.5 * wire_diameter_m {
+                return Err(DesignError::BadSetting {
+                    source_name: ctx.source.to_string(),
+                    item: ctx.item.clone(),
+                    key: "tube_wall".to_string(),
+                    reason: format!(
+                        "a tube's wall ({v} m) must be thinner than its radius ({} m); leave \
+                         tube_wall out for solid wire",
+                        0.5 * wire_diameter_m
+                    ),
+                });
+            }
+            Some(v)
+        }
+    };
+    Ok(Conductor {
+        material,
+        tube_wall_m,
     })
 }
 

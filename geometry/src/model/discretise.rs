@@ -302,6 +302,7 @@ mod tests {
                 turns: 12.0,
             },
             tap: None,
+            conductor: Default::default(),
         }
     }
 

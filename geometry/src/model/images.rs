@@ -143,6 +143,7 @@ pub fn image_windings(windings: &[Winding], ground: &Ground) -> Vec<Winding> {
                     Shape::Polyline { .. } => None,
                     _ => w.tap,
                 },
+                conductor: w.conductor.clone(),
                 shape,
             }
         })
@@ -176,6 +177,7 @@ mod tests {
                 turns: 4.5,
                 from: TapEnd::Start,
             }),
+            conductor: Default::default(),
         };
         let ground = Ground {
             z_m: 0.0,
@@ -221,6 +223,7 @@ mod tests {
                 turns: 150.5,
             },
             tap: None,
+            conductor: Default::default(),
         };
         let ground = Ground {
             z_m: 0.005,

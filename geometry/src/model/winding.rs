@@ -111,6 +111,18 @@ pub struct Winding {
     /// Only the current paths honour it (the discretisation, hence inductances and B fields);
     /// the wire itself is the whole curve for every geometric check.
     pub tap: Option<Tap>,
+    /// The conductor's material and form (for losses).
+    pub conductor: Conductor,
+}
+
+/// A winding's conductor, for its losses: the material by name (a table of resistivities in
+/// the solver; None: copper) and, for tubing, the wall thickness (m; None: solid wire).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Conductor {
+    /// Material name, lowercase (`copper`, `aluminium`, ...); None: copper.
+    pub material: Option<String>,
+    /// Wall thickness of tubing (m), less than the wire radius; None: solid round wire.
+    pub tube_wall_m: Option<f64>,
 }
 
 /// The end of a winding's curve that a tap counts its turns from.
@@ -354,6 +366,7 @@ impl Winding {
     pub fn without_tap(&self) -> Winding {
         Winding {
             tap: None,
+            conductor: Default::default(),
             ..self.clone()
         }
     }

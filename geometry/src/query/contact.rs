@@ -599,6 +599,7 @@ mod tests {
             wire_diameter_m: WIRE_D,
             segments_per_turn: None,
             tap: None,
+            conductor: Default::default(),
             shape,
         }
     }

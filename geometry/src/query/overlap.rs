@@ -1103,6 +1103,7 @@ mod tests {
             wire_diameter_m,
             segments_per_turn: None,
             tap: None,
+            conductor: Default::default(),
             shape,
         }
     }

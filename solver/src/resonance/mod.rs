@@ -342,6 +342,38 @@ fn distributed(
     })
 }
 
+/// A winding's conductor at `f_hz`: its material (copper unless the design names another) and
+/// its resistance per metre, DC and AC (ohm/m): solid round wire by the exact Kelvin-function
+/// solution, tubing (`tube_wall`) by the exact Bessel solution of a tube. `source` labels
+/// messages.
+fn conductor_resistance(
+    w: &Winding,
+    f_hz: f64,
+    source: &str,
+) -> Result<(&'static losses::Conductor, f64, f64), SolverError> {
+    let name = w.conductor.material.as_deref().unwrap_or("copper");
+    let material = losses::conductor(name).map_err(|e| SolverError::Resonance {
+        reason: format!("{source}: winding '{}': key 'conductor': {e}", w.name),
+    })?;
+    let (rho, mu_r) = (material.resistivity_ohm_m, material.relative_permeability);
+    let b = w.wire_radius_m();
+    Ok(match w.conductor.tube_wall_m {
+        None => (
+            material,
+            losses::dc_resistance_round_wire_ohm_per_m(b, rho)?,
+            losses::internal_impedance_round_wire(b, rho, mu_r, f_hz)?.resistance_ohm_per_m,
+        ),
+        Some(t) => {
+            let area = std::f64::consts::PI * (b * b - (b - t) * (b - t));
+            (
+                material,
+                rho / area,
+                losses::internal_impedance_tube(b, t, rho, mu_r, f_hz)?.resistance_ohm_per_m,
+            )
+        }
+    })
+}
+
 /// Length (m) of a winding's wire (the whole wire; the filament model's chain), or of its part
 /// in use.
 fn wire_length_m(w: &Winding, in_use: bool) -> f64 {
@@ -370,6 +402,7 @@ fn self_h(w: &Winding, design: &Design, par: Par) -> Result<f64, SolverError> {
 /// mode's charges.
 fn secondary_losses(
     w: &Winding,
+    source: &str,
     d: &Distributed,
     phi: &[f64],
     node_v: &[f64],
@@ -390,14 +423,14 @@ fn secondary_losses(
     };
     let pitch_m = length_m / turns;
     let wire_len = turns * (TAU * radius_m).hypot(pitch_m);
-    let copper = losses::conductor("copper")?;
-    let rho = copper.resistivity_ohm_m;
-    let a_w = w.wire_radius_m();
-    let r_dc = losses::dc_resistance_round_wire_ohm_per_m(a_w, rho)? * wire_len;
-    let z_int =
-        losses::internal_impedance_round_wire(a_w, rho, copper.relative_permeability, f_hz)?;
-    let r_skin = z_int.resistance_ohm_per_m * wire_len;
-    let delta = losses::skin_depth_m(rho, f_hz, copper.relative_permeability)?;
+    let (material, r_dc_per_m, r_ac_per_m) = conductor_resistance(w, f_hz, source)?;
+    let r_dc = r_dc_per_m * wire_len;
+    let r_skin = r_ac_per_m * wire_len;
+    let delta = losses::skin_depth_m(
+        material.resistivity_ohm_m,
+        f_hz,
+        material.relative_permeability,
+    )?;
     // Close windings: Dowell's one-layer model; spaced ones: Butterworth's uniform field.
     let (model, model_name) = if pitch_m <= 2.5 * w.wire_diameter_m {
         (ProximityModel::DowellOneLayer, "Dowell one layer (1966)")
@@ -615,7 +648,8 @@ pub fn secondary_model(
         })
         .sum();
     let ground_z = ground.map(|g| g.z_m);
-    let (loss_parts, h_eff, wire_len) = secondary_losses(secondary, &d, phi, node_v, f1, ground_z)?;
+    let (loss_parts, h_eff, wire_len) =
+        secondary_losses(secondary, source, &d, phi, node_v, f1, ground_z)?;
     let q_s = TAU * f1 * l_base / loss_parts.total_ohm();
     let breakout = breakout_top_voltage(design, secondary, &d, node_v)?;
     let modes = d
@@ -801,15 +835,10 @@ pub fn resonance_with(
     let l_circuit = l_tap + lead_h;
     let k_modal = m_modal_base / (l_circuit * l_base).sqrt();
     let tuning_c = 1.0 / ((TAU * f1).powi(2) * l_circuit);
-    // The primary's wire losses at f1 (isolated copper wire; the gap and the capacitor apart).
-    let copper = losses::conductor("copper")?;
-    let z_p = losses::internal_impedance_round_wire(
-        in_use.wire_radius_m(),
-        copper.resistivity_ohm_m,
-        copper.relative_permeability,
-        f1,
-    )?;
-    let r_p = z_p.resistance_ohm_per_m * wire_length_m(&in_use, true);
+    // The primary's wire losses at f1 (isolated wire or tubing; the gap and the capacitor
+    // apart).
+    let (_, _, r_ac_per_m) = conductor_resistance(&in_use, f1, source)?;
+    let r_p = r_ac_per_m * wire_length_m(&in_use, true);
     let q_p = TAU * f1 * l_circuit / r_p;
     let tap_turns = in_use.active_turns().unwrap_or(1.0);
     // The pair: the primary with its tank (or, an explicit drive, the tuning capacitance; a
