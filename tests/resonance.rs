@@ -382,6 +382,12 @@ fn bad_resonance_input_is_refused_naming_the_key() {
             vec![],
             &["frequency", "spark gap"],
         ),
+        // A drive that cannot resonate: no tank capacitance.
+        (
+            demo.replace("\"30 nF\"", "0"),
+            vec![],
+            &["tank_capacitance", "positive"],
+        ),
         // A capacitance with the unit of an inductance.
         (
             demo.replace("\"30 nF\"", "\"30 nH\""),

@@ -124,7 +124,15 @@ pub(crate) fn run(
         DriveKind::Explicit => Ok(None),
         DriveKind::SparkGap(s) => spark_gap(pair, s, gradient, warnings).map(Some),
         DriveKind::Driven(d) => {
-            driven(pair, d.amplitude, design.drive.frequency_hz, gradient).map(Some)
+            let r = driven(pair, d.amplitude, design.drive.frequency_hz, gradient)?;
+            if design.drive.frequency_hz.is_none() {
+                warnings.push(format!(
+                    "driven: no [drive] frequency: driven at the coupled system's resonance \
+                     nearest f1, {:.6e} Hz, where a self-oscillating driver locks",
+                    r.drive_frequency_hz.unwrap_or(f64::NAN)
+                ));
+            }
+            Ok(Some(r))
         }
     }
 }
