@@ -161,141 +161,131 @@ fn resonance_plot(path: &Path, r: &Resonance) -> anyhow::Result<()> {
     output::write_atomic(path, &bytes)
 }
 
+/// One labelled line of the table: the label padded to a column, then the value.
+fn line(s: &mut String, label: &str, value: String) {
+    let _ = writeln!(s, "  {label:<46}  {value}");
+}
+
 /// The resonance as text.
 pub fn table(r: &Resonance) -> String {
     let mut s = String::new();
     let sec = &r.secondary;
     let _ = writeln!(s, "secondary '{}'", sec.name);
-    let _ = writeln!(
-        s,
-        "  first resonance (distributed, {} sections)  {}  (estimated error {})",
-        sec.sections,
-        si(sec.frequency_hz, "Hz", 6),
-        si(sec.frequency_error_estimate_hz, "Hz", 2)
+    line(
+        &mut s,
+        &format!("first resonance (distributed, {} sections)", sec.sections),
+        format!(
+            "{}  (estimated error {})",
+            si(sec.frequency_hz, "Hz", 6),
+            si(sec.frequency_error_estimate_hz, "Hz", 2)
+        ),
     );
-    let _ = writeln!(
-        s,
-        "  lumped estimate L_s (C_self + C_top)        {}  ({:+.2} % from the distributed)",
-        si(sec.lumped_frequency_hz, "Hz", 6),
-        100.0 * (sec.lumped_frequency_hz / sec.frequency_hz - 1.0)
+    line(
+        &mut s,
+        "lumped estimate L_s (C_self + C_top)",
+        format!(
+            "{}  ({:+.2} % from the distributed)",
+            si(sec.lumped_frequency_hz, "Hz", 6),
+            100.0 * (sec.lumped_frequency_hz / sec.frequency_hz - 1.0)
+        ),
     );
     for (k, m) in sec.modes.iter().enumerate().skip(1) {
-        let _ = writeln!(
-            s,
-            "  mode {}                                      {}",
-            k + 1,
-            si(m.frequency_hz, "Hz", 6)
+        line(
+            &mut s,
+            &format!("mode {}", k + 1),
+            si(m.frequency_hz, "Hz", 6),
         );
     }
-    let _ = writeln!(
-        s,
-        "  inductance L_s                              {}",
-        si(sec.inductance_h, "H", 6)
-    );
-    let _ = writeln!(
-        s,
-        "  equivalent capacitance 1/((2 pi f1)^2 L_s)  {}",
-        si(sec.equivalent_capacitance_f, "F", 5)
-    );
-    let _ = writeln!(
-        s,
-        "  modal capacitance at the top 2W/V_top^2     {}",
-        si(sec.modal_top_capacitance_f, "F", 5)
-    );
-    let _ = writeln!(
-        s,
-        "  self-capacitance (linear profile, bare)     {}",
-        si(sec.self_capacitance_f, "F", 5)
-    );
-    let _ = writeln!(
-        s,
-        "  top electrode adds (linear profile)         {}",
-        si(sec.top_capacitance_f, "F", 5)
-    );
-    let _ = writeln!(
-        s,
-        "  top voltage per base current                {}",
-        si(sec.top_to_base_ohm, "ohm", 5)
-    );
-    let l = &sec.losses;
-    let _ = writeln!(
-        s,
-        "  Q {:.0}  (base-referred loss {}: DC {}, skin {}, proximity {} [{}], radiation {})",
-        sec.q,
-        si(l.total_ohm(), "ohm", 4),
-        si(l.dc_ohm, "ohm", 3),
-        si(l.skin_ohm, "ohm", 3),
-        si(l.proximity_ohm, "ohm", 3),
-        l.proximity_model,
-        si(l.radiation_ohm, "ohm", 3)
-    );
-    match sec.breakout_top_voltage_v {
-        Some(v) => {
-            let _ = writeln!(
-                s,
-                "  breakout: the top electrode reaches 3 MV/m at a top voltage of {}",
-                si(v, "V", 4)
-            );
-        }
-        None => {
-            let _ = writeln!(s, "  breakout: no electrode connected to the top");
-        }
+    let figures = [
+        ("inductance L_s", si(sec.inductance_h, "H", 6)),
+        (
+            "equivalent capacitance 1/((2 pi f1)^2 L_s)",
+            si(sec.equivalent_capacitance_f, "F", 5),
+        ),
+        (
+            "modal capacitance at the top 2W/V_top^2",
+            si(sec.modal_top_capacitance_f, "F", 5),
+        ),
+        (
+            "self-capacitance (linear profile, bare)",
+            si(sec.self_capacitance_f, "F", 5),
+        ),
+        (
+            "top electrode adds (linear profile)",
+            si(sec.top_capacitance_f, "F", 5),
+        ),
+        (
+            "top voltage per base current",
+            si(sec.top_to_base_ohm, "ohm", 5),
+        ),
+    ];
+    for (label, value) in figures {
+        line(&mut s, label, value);
     }
+    let l = &sec.losses;
+    line(
+        &mut s,
+        &format!("Q {:.0}, loss referred to the base", sec.q),
+        format!(
+            "{}: DC {}, skin {}, proximity {} [{}], radiation {}",
+            si(l.total_ohm(), "ohm", 4),
+            si(l.dc_ohm, "ohm", 3),
+            si(l.skin_ohm, "ohm", 3),
+            si(l.proximity_ohm, "ohm", 3),
+            l.proximity_model,
+            si(l.radiation_ohm, "ohm", 3)
+        ),
+    );
+    line(
+        &mut s,
+        "top voltage where the top electrode breaks out",
+        match sec.breakout_top_voltage_v {
+            Some(v) => format!("{} (3 MV/m at its surface)", si(v, "V", 4)),
+            None => "no electrode connected to the top".to_string(),
+        },
+    );
     if let Some(p) = &r.primary {
         let _ = writeln!(s, "\nprimary '{}'", p.name);
-        let _ = writeln!(
-            s,
-            "  inductance (all turns)                      {}",
-            si(p.inductance_h, "H", 6)
-        );
-        let _ = writeln!(
-            s,
-            "  turns in use{}                       {:.3}",
+        line(&mut s, "inductance (all turns)", si(p.inductance_h, "H", 6));
+        line(
+            &mut s,
             if p.tap_found {
-                " (found for the tank)"
+                "turns in use (found for the tank)"
             } else {
-                "                    "
+                "turns in use"
             },
-            p.tap_turns
+            format!("{:.3}", p.tap_turns),
         );
-        let _ = writeln!(
-            s,
-            "  inductance in use                           {}",
-            si(p.tap_inductance_h, "H", 6)
-        );
+        line(&mut s, "inductance in use", si(p.tap_inductance_h, "H", 6));
         if p.lead_inductance_h > 0.0 {
-            let _ = writeln!(
-                s,
-                "  lead inductance                             {}",
-                si(p.lead_inductance_h, "H", 4)
-            );
+            line(&mut s, "lead inductance", si(p.lead_inductance_h, "H", 4));
         }
-        let _ = writeln!(
-            s,
-            "  capacitance that tunes it to f1             {}",
-            si(p.tuning_capacitance_f, "F", 5)
+        line(
+            &mut s,
+            "capacitance that tunes it to f1",
+            si(p.tuning_capacitance_f, "F", 5),
         );
         if let Some(t) = p.tap_for_tank_turns {
-            let _ = writeln!(
-                s,
-                "  tap that tunes the tank capacitor to f1     {t:.3} turns"
+            line(
+                &mut s,
+                "tap that tunes the tank capacitor to f1",
+                format!("{t:.3} turns"),
             );
         }
-        let _ = writeln!(
-            s,
-            "  coupling k (geometric, part in use)         {:.4}",
-            p.coupling_at_tap
+        line(
+            &mut s,
+            "coupling k (geometric, part in use)",
+            format!("{:.4}", p.coupling_at_tap),
         );
-        let _ = writeln!(
-            s,
-            "  coupling with the first mode                {:.4}",
-            p.modal_coupling
+        line(
+            &mut s,
+            "coupling with the first mode",
+            format!("{:.4}", p.modal_coupling),
         );
-        let _ = writeln!(
-            s,
-            "  Q {:.0} (wire {} at f1, the gap apart)",
-            p.q,
-            si(p.resistance_ohm, "ohm", 3)
+        line(
+            &mut s,
+            &format!("Q {:.0} (the gap apart)", p.q),
+            format!("wire {} at f1", si(p.resistance_ohm, "ohm", 3)),
         );
         if !p.frequency_against_tap.is_empty() {
             let _ = writeln!(s, "  tap (turns)   inductance     f with the tank");
@@ -311,117 +301,90 @@ pub fn table(r: &Resonance) -> String {
         }
     }
     if let Some([lo, hi]) = r.split_frequencies_hz {
-        let _ = writeln!(
-            s,
-            "\ncoupled pair: normal modes {} and {}",
-            si(lo, "Hz", 6),
-            si(hi, "Hz", 6)
+        let _ = writeln!(s);
+        line(
+            &mut s,
+            "coupled pair: normal modes",
+            format!("{} and {}", si(lo, "Hz", 6), si(hi, "Hz", 6)),
         );
     }
     if let Some(f) = r.coupled_frequency_hz {
-        let _ = writeln!(
-            s,
-            "\ncoupled system (the primary has no capacitor): resonance {}",
-            si(f, "Hz", 6)
+        let _ = writeln!(s);
+        line(
+            &mut s,
+            "coupled resonance (no primary capacitor)",
+            si(f, "Hz", 6),
         );
     }
     if let Some(d) = &r.drive {
         let _ = writeln!(s, "\ndrive ({})", d.kind.replace('_', " "));
-        let _ = writeln!(
-            s,
-            "  peak top voltage                            {}",
-            si(d.peak_top_voltage_v, "V", 4)
-        );
-        if let Some(v) = d.peak_top_voltage_no_quench_v {
-            let _ = writeln!(
-                s,
-                "  without the quench                          {}",
-                si(v, "V", 4)
-            );
+        let mut rows: Vec<(&str, Option<String>)> = vec![
+            ("peak top voltage", Some(si(d.peak_top_voltage_v, "V", 4))),
+            (
+                "without the quench",
+                d.peak_top_voltage_no_quench_v.map(|v| si(v, "V", 4)),
+            ),
+            (
+                "lossless energy bound V_p sqrt(C_p/C_top)",
+                d.energy_bound_top_voltage_v.map(|v| si(v, "V", 4)),
+            ),
+            (
+                "first notch",
+                d.first_notch_s
+                    .zip(d.first_notch_half_cycles)
+                    .map(|(t, h)| format!("{} ({h} half-cycles)", si(t, "s", 4))),
+            ),
+            (
+                "peak / breakout at the top electrode",
+                sec.breakout_top_voltage_v
+                    .map(|b| format!("{:.2}", d.peak_top_voltage_v / b)),
+            ),
+            (
+                "peak primary current",
+                Some(si(d.peak_primary_current_a, "A", 4)),
+            ),
+            (
+                "peak base current of the secondary",
+                Some(si(d.peak_base_current_a, "A", 4)),
+            ),
+            (
+                "energy per bang",
+                d.energy_per_bang_j.map(|e| si(e, "J", 4)),
+            ),
+            ("mean power", d.mean_power_w.map(|p| si(p, "W", 4))),
+            (
+                "ring-down, duty cycle",
+                d.ring_down_s
+                    .zip(d.duty_cycle)
+                    .map(|(r, dc)| format!("{}, {:.3} %", si(r, "s", 3), 100.0 * dc)),
+            ),
+            (
+                "drive frequency",
+                d.drive_frequency_hz.map(|f| si(f, "Hz", 6)),
+            ),
+            ("input power", d.input_power_w.map(|p| si(p, "W", 4))),
+        ];
+        rows.push((
+            "streamer length (common practice, no source)",
+            Some(format!(
+                "{} (long-gap gradient rule){}",
+                si(d.streamer_length_gradient_m, "m", 3),
+                d.streamer_length_power_rule_m
+                    .map_or(String::new(), |l| format!(
+                        ", {} (power rule)",
+                        si(l, "m", 3)
+                    ))
+            )),
+        ));
+        rows.push((
+            "exposure levels taken at",
+            Some(si(d.exposure_frequency_hz, "Hz", 5)),
+        ));
+        for (label, value) in rows {
+            if let Some(v) = value {
+                line(&mut s, label, v);
+            }
         }
-        if let Some(v) = d.energy_bound_top_voltage_v {
-            let _ = writeln!(
-                s,
-                "  lossless energy bound V_p sqrt(C_p/C_top)   {}",
-                si(v, "V", 4)
-            );
-        }
-        if let (Some(t), Some(h)) = (d.first_notch_s, d.first_notch_half_cycles) {
-            let _ = writeln!(
-                s,
-                "  first notch                                 {} ({h} half-cycles)",
-                si(t, "s", 4)
-            );
-        }
-        if let Some(b) = sec.breakout_top_voltage_v {
-            let _ = writeln!(
-                s,
-                "  against breakout at the top electrode       {} (peak / breakout {:.2})",
-                si(b, "V", 4),
-                d.peak_top_voltage_v / b
-            );
-        }
-        let _ = writeln!(
-            s,
-            "  peak primary current                        {}",
-            si(d.peak_primary_current_a, "A", 4)
-        );
-        let _ = writeln!(
-            s,
-            "  peak base current of the secondary          {}",
-            si(d.peak_base_current_a, "A", 4)
-        );
-        if let Some(e) = d.energy_per_bang_j {
-            let _ = writeln!(
-                s,
-                "  energy per bang                             {}",
-                si(e, "J", 4)
-            );
-        }
-        if let Some(p) = d.mean_power_w {
-            let _ = writeln!(
-                s,
-                "  mean power                                  {}",
-                si(p, "W", 4)
-            );
-        }
-        if let (Some(r), Some(dc)) = (d.ring_down_s, d.duty_cycle) {
-            let _ = writeln!(
-                s,
-                "  ring-down {} , duty cycle {:.3} %",
-                si(r, "s", 3),
-                100.0 * dc
-            );
-        }
-        if let Some(f) = d.drive_frequency_hz {
-            let _ = writeln!(
-                s,
-                "  drive frequency                             {}",
-                si(f, "Hz", 6)
-            );
-        }
-        if let Some(p) = d.input_power_w {
-            let _ = writeln!(
-                s,
-                "  input power                                 {}",
-                si(p, "W", 4)
-            );
-        }
-        let _ = writeln!(
-            s,
-            "  streamer length: {} (long-gap gradient rule){}; both common practice, no source",
-            si(d.streamer_length_gradient_m, "m", 3),
-            d.streamer_length_power_rule_m
-                .map_or(String::new(), |l| format!(
-                    ", {} (power rule)",
-                    si(l, "m", 3)
-                ))
-        );
-        let _ = writeln!(
-            s,
-            "  exposure levels are taken at {}",
-            si(d.exposure_frequency_hz, "Hz", 5)
-        );
     }
     let _ = writeln!(s, "\n{CAUTION}");
     s
