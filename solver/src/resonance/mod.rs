@@ -72,6 +72,10 @@ pub const MAX_SECTIONS: usize = 256;
 /// Sections the convergence in n starts from.
 pub const FIRST_SECTIONS: usize = 8;
 
+/// Most turns of a secondary the distributed model takes: its section blocks sum every pair
+/// of turns (a 30,000-turn winding takes about a second).
+pub const MAX_TURNS: f64 = 30_000.0;
+
 /// Relative change of the first frequency at which the doubling of sections stops.
 pub const SECTION_TOLERANCE: f64 = 1e-4;
 
@@ -283,6 +287,15 @@ fn roles<'d>(
         )));
     }
     let s = secondaries[0];
+    if s.shape.turns().is_some_and(|t| t > MAX_TURNS) {
+        return Err(SolverError::Resonance {
+            reason: format!(
+                "{source}: winding '{}': key 'turns': the distributed model handles up to \
+                 {MAX_TURNS} turns (its section blocks cost the square of the turns)",
+                s.name
+            ),
+        });
+    }
     if !matches!(s.shape, Shape::Helix { .. }) {
         return Err(SolverError::Resonance {
             reason: format!(
