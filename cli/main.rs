@@ -140,7 +140,7 @@ enum Command {
     /// The secondary's resonance (a distributed model of its winding, and the lumped estimate),
     /// its modes and Q; the primary's tuning capacitance, the tap that tunes the tank
     /// capacitor and f against the tap; the coupled pair's normal modes; and, with a drive
-    /// model in [drive] (kind = "spark_gap" | "driven"), the peak top voltage, the currents,
+    /// model in `[drive]` (kind = "spark_gap" | "driven"), the peak top voltage, the currents,
     /// energy and power. Frequencies in Hz, capacitances in F, inductances in H, voltages peak.
     Resonance {
         /// Design file (TOML).
