@@ -4,6 +4,7 @@
 
 use crate::{Format, load, output};
 use coilfield_solver::field_model;
+use coilfield_solver::numtext::fixed;
 use coilfield_solver::thresholds::AIR_BREAKDOWN_V_PER_M;
 use serde::Serialize;
 use std::path::Path;
@@ -119,7 +120,7 @@ pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Re
         warnings,
     };
     let text = match format {
-        Format::Json => serde_json::to_string_pretty(&result)? + "\n",
+        Format::Json => crate::output::json_text(&result)? + "\n",
         Format::Table => table(&result),
     };
     if let Some(p) = out {
@@ -144,15 +145,18 @@ fn table(r: &CapOut) -> String {
             c.name,
             c.kind,
             output::si(c.capacitance_f, "F", 5),
-            format!("{:.1e} F", c.error_estimate_f),
+            coilfield_solver::numtext::si_like(c.error_estimate_f, c.capacitance_f, "F", 2),
             c.with_connected_electrodes_f
                 .map_or(String::new(), |v| output::si(v, "F", 5)),
         ));
     }
     if !r.matrix_f.is_empty() {
-        s.push_str("\nMaxwell capacitance matrix (F), electrodes in file order:\n");
+        s.push_str("\nMaxwell capacitance matrix, electrodes in file order:\n");
         for row in &r.matrix_f {
-            let cells: Vec<String> = row.iter().map(|v| format!("{v:>12.4e}")).collect();
+            let cells: Vec<String> = row
+                .iter()
+                .map(|v| format!("{:>12}", output::si(*v, "F", 5)))
+                .collect();
             s.push_str(&format!("  {}\n", cells.join(" ")));
         }
     }
@@ -160,12 +164,12 @@ fn table(r: &CapOut) -> String {
         s.push_str("\nPeak surface field at the drive potentials (peak values):\n");
         for p in &r.peak_surface_fields {
             s.push_str(&format!(
-                "  {:<22} {:>12} at ({:.4}, {:.4}, {:.4}) m\n",
+                "  {:<22} {:>12} at ({}, {}, {}) m\n",
                 p.name,
                 output::si(p.field_v_per_m, "V/m", 4),
-                p.at_m[0],
-                p.at_m[1],
-                p.at_m[2]
+                fixed(p.at_m[0], 4),
+                fixed(p.at_m[1], 4),
+                fixed(p.at_m[2], 4)
             ));
         }
     }

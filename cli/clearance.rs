@@ -210,7 +210,7 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
         warnings,
     };
     match args.format {
-        Format::Json => println!("{}", serde_json::to_string_pretty(&result)?),
+        Format::Json => println!("{}", crate::output::json_text(&result)?),
         Format::Table => print!("{}", table(&result)),
     }
     Ok(ExitCode::SUCCESS)

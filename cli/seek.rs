@@ -169,7 +169,7 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
                 "evaluations": found.evaluations,
                 "stop": found.stop.describe(),
             });
-            println!("{}", serde_json::to_string_pretty(&j)?);
+            println!("{}", crate::output::json_text(&j)?);
         }
         Format::Table => {
             println!("method: {method}");

@@ -1,0 +1,108 @@
+//! What a builder reads and types: one number formatter for every output, grid values snapped
+//! to the decimals a person means, inputs as builders measure them.
+
+mod common;
+
+use common::{root, run};
+
+fn stdout_of(args: &[&str]) -> String {
+    let out = run(args);
+    assert!(
+        out.status.success(),
+        "coilfield {args:?} failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).expect("UTF-8")
+}
+
+fn demo(name: &str) -> String {
+    root()
+        .join("meshes-demo")
+        .join(name)
+        .to_str()
+        .unwrap()
+        .to_string()
+}
+
+/// Every number token of a CSV line must read back as the shortest text of its value: no
+/// exponent where the plain form is as short ("3e-1"), and no "-0".
+fn assert_shortest_csv(text: &str) {
+    for line in text.lines().skip(1) {
+        for field in line.split(',') {
+            let Ok(v) = field.parse::<f64>() else {
+                continue;
+            };
+            assert_ne!(field, "-0", "negative zero in {line}");
+            let plain = format!("{}", if v == 0.0 { 0.0 } else { v });
+            let exp = format!("{:e}", if v == 0.0 { 0.0 } else { v });
+            let shortest = if exp.len() < plain.len() { exp } else { plain };
+            assert_eq!(field, shortest, "not the shortest text in {line}");
+        }
+    }
+}
+
+#[test]
+fn field_csv_and_json_numbers_are_shortest_and_never_negative_zero() {
+    let design = demo("spark-gap-resonator.toml");
+    let csv = stdout_of(&[
+        "field",
+        &design,
+        "--at",
+        "0.3,0,0.5",
+        "--at",
+        "0,-0.3,0.5",
+        "--format",
+        "csv",
+    ]);
+    // The point as typed, not "3e-1,0e0,5e-1".
+    assert!(
+        csv.lines().nth(1).unwrap().starts_with("0.3,0,0.5,"),
+        "{csv}"
+    );
+    assert_shortest_csv(&csv);
+    for point in ["0,0,0.9", "0,-0.3,0.5", "-0.3,0,0.5"] {
+        let json = stdout_of(&["field", &design, "--at", point, "--format", "json"]);
+        assert!(
+            !json.contains("-0.0,") && !json.contains("-0.0\n"),
+            "{json}"
+        );
+    }
+}
+
+#[test]
+fn sweep_grid_values_are_snapped_and_printed_as_typed() {
+    // from 0.05 to 0.1 in 11 steps: binary interpolation gives 0.05500000000000001 and
+    // 0.08499999999999999; the grid computes and prints 0.055 and 0.085.
+    let dir = tempfile::tempdir().unwrap();
+    let sweep = dir.path().join("snap.toml");
+    std::fs::write(
+        &sweep,
+        format!(
+            "base = {:?}\nmetrics = [\"self_inductance.primary\"]\n[[axis]]\nkey = \
+             \"winding.primary.origin[2]\"\nfrom = 0.05\nto = 0.1\nsteps = 11\n",
+            demo("tabletop-resonator.toml")
+        ),
+    )
+    .unwrap();
+    let out = dir.path().join("snap.csv");
+    stdout_of(&[
+        "sweep",
+        sweep.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    let text = std::fs::read_to_string(&out).unwrap();
+    let axis: Vec<&str> = text
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').nth(1).unwrap())
+        .collect();
+    assert_eq!(
+        axis,
+        [
+            "0.05", "0.055", "0.06", "0.065", "0.07", "0.075", "0.08", "0.085", "0.09", "0.095",
+            "0.1"
+        ]
+    );
+    assert_shortest_csv(&text);
+}
