@@ -106,3 +106,97 @@ fn sweep_grid_values_are_snapped_and_printed_as_typed() {
     );
     assert_shortest_csv(&text);
 }
+
+/// The first TOML block of the README's "Design file" section.
+fn readme_design() -> String {
+    let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
+    let section = &readme[readme.find("## Design file").expect("design section")..];
+    let start = section.find("```toml\n").expect("toml block") + "```toml\n".len();
+    let end = start + section[start..].find("```").unwrap();
+    section[start..end].to_string()
+}
+
+/// Run every command that applies to a design: inductance, report and export always;
+/// resonance with a secondary; capacitance with an electrode; field, map and clearance with a
+/// drive. A command that does not apply by a stated limit must say so and exit 2.
+fn run_every_command(design: &std::path::Path, text: &str) {
+    let d = design.to_str().unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    let vtk = dir.path().join("vtk");
+    let svg = dir.path().join("map.svg");
+    let mut commands: Vec<Vec<&str>> = vec![
+        vec!["inductance", d],
+        vec!["inductance", d, "--format", "json"],
+        vec!["report", d],
+        vec!["export", d, "--vtk", vtk.to_str().unwrap()],
+    ];
+    let has = |needle: &str| text.lines().any(|l| l.trim_start().starts_with(needle));
+    let secondary = has("role = \"secondary\"");
+    if secondary {
+        commands.push(vec!["resonance", d]);
+    }
+    if has("[[electrode]]") {
+        commands.push(vec!["capacitance", d]);
+    }
+    if has("[drive]") {
+        commands.push(vec!["field", d, "--at", "3,0,0.3"]);
+        commands.push(vec!["clearance", d]);
+        commands.push(vec![
+            "map",
+            d,
+            "--plane",
+            "xz",
+            "--extent",
+            "0.02,1,0,1",
+            "--resolution",
+            "12,12",
+            "--plot",
+            svg.to_str().unwrap(),
+        ]);
+    }
+    for args in &commands {
+        let out = run(args);
+        let stderr = String::from_utf8_lossy(&out.stderr);
+        if args[0] == "resonance" && stderr.contains("the distributed model handles up to") {
+            // A benchmark design beyond the resonance model's stated turn limit.
+            assert_eq!(out.status.code(), Some(2), "{args:?}: {stderr}");
+            continue;
+        }
+        assert!(out.status.success(), "coilfield {args:?} failed: {stderr}");
+        assert!(!out.stdout.is_empty(), "coilfield {args:?} printed nothing");
+    }
+}
+
+#[test]
+fn the_readme_design_runs_through_every_command() {
+    let text = readme_design();
+    // The example shows the builders' keys.
+    for key in [
+        "insulation = \"heavy\"",
+        "turn_spacing",
+        "[drive]",
+        "[[electrode]]",
+    ] {
+        assert!(text.contains(key), "README example lacks {key}");
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let path = common::design_file(dir.path(), "readme.toml", &text);
+    run_every_command(&path, &text);
+}
+
+#[test]
+fn every_demo_design_runs_through_every_command_that_applies() {
+    let mut seen = 0;
+    for entry in std::fs::read_dir(root().join("meshes-demo")).unwrap() {
+        let path = entry.unwrap().path();
+        let text = std::fs::read_to_string(&path).unwrap();
+        // Sweep and seek files name a base design; they run in tests/sweep.rs.
+        if path.extension().is_some_and(|e| e == "toml")
+            && !text.lines().any(|l| l.starts_with("base ="))
+        {
+            run_every_command(&path, &text);
+            seen += 1;
+        }
+    }
+    assert!(seen >= 12, "only {seen} demo designs");
+}
