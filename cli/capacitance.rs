@@ -25,6 +25,19 @@ struct ConductorOut {
     with_connected_electrodes_error_estimate_f: Option<f64>,
 }
 
+/// What the electrodes connected to the secondary's top add there: the secondary's
+/// self-capacitance with them minus without them (a second solve with those electrodes
+/// removed), the figure a builder adds to the secondary's own.
+#[derive(Serialize)]
+struct EffectiveTopOut {
+    /// The connected electrodes, in file order.
+    electrodes: Vec<String>,
+    /// C(secondary with them) - C(secondary without them) (F).
+    capacitance_f: f64,
+    /// The sum of both solves' |C(n) - C(n/2)| estimates (F).
+    error_estimate_f: f64,
+}
+
 #[derive(Serialize)]
 struct PeakOut {
     name: String,
@@ -36,6 +49,9 @@ struct PeakOut {
 #[derive(Serialize)]
 struct CapOut {
     conductors: Vec<ConductorOut>,
+    /// Present when an electrode is connected to the secondary's top.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    effective_top_capacitance: Option<EffectiveTopOut>,
     matrix_f: Vec<Vec<f64>>,
     matrix_error_estimate_f: Vec<Vec<f64>>,
     n_panels: usize,
@@ -80,6 +96,7 @@ pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Re
             with_connected_electrodes_error_estimate_f: e.map(|e| e.total_f),
         });
     }
+    let effective_top_capacitance = effective_top(&design, &label, &sol)?;
     let mut warnings = Vec::new();
     let peak_surface_fields = if field_model::has_potentials(&design) {
         sol.peak_surface_fields()
@@ -113,6 +130,7 @@ pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Re
     ));
     let result = CapOut {
         conductors,
+        effective_top_capacitance,
         matrix_f: matrix,
         matrix_error_estimate_f: err.capacitance_matrix_f.clone(),
         n_panels: sol.n_panels(),
@@ -130,10 +148,67 @@ pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Re
     Ok(ExitCode::SUCCESS)
 }
 
+/// The effective top capacitance of the electrodes connected to the secondary's top: the
+/// secondary's self-capacitance (its connected electrodes at its top's potential) minus the
+/// same without those electrodes. None when no electrode is connected there.
+fn effective_top(
+    design: &coilfield_geometry::Design,
+    label: &str,
+    sol: &coilfield_solver::electrostatic::Solution,
+) -> anyhow::Result<Option<EffectiveTopOut>> {
+    let Some(secondary) = design
+        .windings
+        .iter()
+        .find(|w| w.role == coilfield_geometry::Role::Secondary)
+    else {
+        return Ok(None);
+    };
+    let at_top = |e: &coilfield_geometry::Electrode| {
+        e.connect.as_ref().is_some_and(|t| {
+            t.winding == secondary.name && t.end == coilfield_geometry::model::electrode::End::Top
+        })
+    };
+    let electrodes: Vec<String> = design
+        .electrodes
+        .iter()
+        .filter(|e| at_top(e))
+        .map(|e| e.name.clone())
+        .collect();
+    let Some(with) = sol.self_capacitance_f() else {
+        return Ok(None);
+    };
+    if electrodes.is_empty() {
+        return Ok(None);
+    }
+    let mut without_design = design.clone();
+    without_design.electrodes.retain(|e| !at_top(e));
+    let without =
+        field_model::electrostatic_solution(&without_design, label, coilfield_solver::Par::Rayon)?;
+    let Some(bare) = without.self_capacitance_f() else {
+        return Ok(None);
+    };
+    let estimate = |s: &coilfield_solver::electrostatic::Solution| {
+        s.error_estimate()
+            .self_capacitance_f
+            .map_or(f64::NAN, |e| e.total_f)
+    };
+    Ok(Some(EffectiveTopOut {
+        electrodes,
+        capacitance_f: with.total_f - bare.total_f,
+        error_estimate_f: estimate(sol) + estimate(&without),
+    }))
+}
+
 fn table(r: &CapOut) -> String {
     let mut s = format!(
         "Capacitances ({} panels; error estimate = |C(n) - C(n/2)|)\n\n",
         r.n_panels
+    );
+    s.push_str(
+        "kind \"electrode\": the diagonal of the Maxwell matrix (that electrode at 1 V, every other\n\
+         conductor, the secondary too, at 0 V): not what it adds at the secondary's top.\n\
+         kind \"secondary\": its equivalent self-capacitance at the top (C = 2 W / V_top^2),\n\
+         bare (unconnected electrodes at 0 V) and with its connected electrodes.\n\n",
     );
     s.push_str(&format!(
         "{:<24} {:<10} {:>14} {:>14} {:>16}\n",
@@ -148,6 +223,15 @@ fn table(r: &CapOut) -> String {
             coilfield_solver::numtext::si_like(c.error_estimate_f, c.capacitance_f, "F", 2),
             c.with_connected_electrodes_f
                 .map_or(String::new(), |v| output::si(v, "F", 5)),
+        ));
+    }
+    if let Some(t) = &r.effective_top_capacitance {
+        s.push_str(&format!(
+            "\neffective top capacitance of {} (what it adds at the secondary's top: C with it - \
+             C without it): {} (error est. {})\n",
+            t.electrodes.join(" + "),
+            output::si(t.capacitance_f, "F", 5),
+            coilfield_solver::numtext::si_like(t.error_estimate_f, t.capacitance_f, "F", 2),
         ));
     }
     if !r.matrix_f.is_empty() {

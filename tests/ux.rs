@@ -200,3 +200,71 @@ fn every_demo_design_runs_through_every_command_that_applies() {
     }
     assert!(seen >= 12, "only {seen} demo designs");
 }
+
+#[test]
+fn clearance_of_a_threshold_never_exceeded_says_so() {
+    // 1 GV/m is far above any field outside the conductors of the demo; points inside the
+    // conductors must not count as above it (they used to give the conductor's edge).
+    let design = demo("bench-fields.toml");
+    let json = stdout_of(&[
+        "clearance",
+        &design,
+        "--threshold",
+        "huge,E,1e9,peak",
+        "--format",
+        "json",
+    ]);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let huge = v["thresholds"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|t| t["name"] == "huge")
+        .expect("the extra threshold");
+    assert_eq!(huge["never_exceeded"], true, "{huge}");
+    assert!(huge["distance_from_axis_m"].is_null(), "{huge}");
+    assert!(huge["distance_from_top_m"].is_null(), "{huge}");
+    let table = stdout_of(&["clearance", &design, "--threshold", "huge,E,1e9,peak"]);
+    assert!(
+        table.contains("huge: never exceeded outside the conductors"),
+        "{table}"
+    );
+    assert!(table.contains("\"from axis\"") && table.contains("\"from top\""));
+}
+
+#[test]
+fn capacitance_names_the_effective_top_capacitance_and_the_matrix_diagonal() {
+    let design = demo("bench-fields.toml");
+    let json = stdout_of(&["capacitance", &design, "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let top = &v["effective_top_capacitance"];
+    let c_top = top["capacitance_f"]
+        .as_f64()
+        .expect("effective top capacitance");
+    // The difference of two solves, checked against the secondary's own figures: with the
+    // electrode (total) minus the effective top capacitance is the secondary alone, which
+    // lies near its bare figure (the electrode at 0 V shields it a little) and is below the
+    // Maxwell diagonal of the electrode (which holds the secondary at 0 V).
+    let secondary = v["conductors"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["kind"] == "secondary")
+        .unwrap();
+    let total = secondary["with_connected_electrodes_f"].as_f64().unwrap();
+    let bare = secondary["capacitance_f"].as_f64().unwrap();
+    let diagonal = v["matrix_f"][0][0].as_f64().unwrap();
+    assert!(c_top > 0.0 && c_top < diagonal, "{c_top} vs {diagonal}");
+    assert!(
+        ((total - c_top) - bare).abs() < 0.05 * bare,
+        "{total} {c_top} {bare}"
+    );
+    let table = stdout_of(&["capacitance", &design]);
+    assert!(
+        table.contains("effective top capacitance of topload"),
+        "{table}"
+    );
+    assert!(table.contains("diagonal of the Maxwell matrix"), "{table}");
+    // Estimates in the unit of their value: no bare "e-17 F" beside "pF".
+    assert!(!table.contains("e-1"), "{table}");
+}
