@@ -268,3 +268,64 @@ fn capacitance_names_the_effective_top_capacitance_and_the_matrix_diagonal() {
     // Estimates in the unit of their value: no bare "e-17 F" beside "pF".
     assert!(!table.contains("e-1"), "{table}");
 }
+
+#[test]
+fn seek_maximises_a_magnitude_within_its_budget_and_flags_a_bound() {
+    let seek = demo("seek-pickup.toml");
+    let json = stdout_of(&["seek", &seek, "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    assert_eq!(v["metric"], "abs(coupling.secondary.pickup)");
+    let best = v["value"].as_f64().unwrap();
+    assert!(v["evaluations"].as_u64().unwrap() <= 120, "{v}");
+    // A brute-force reference: |k| on a grid of the same box under the same constraint.
+    let dir = tempfile::tempdir().unwrap();
+    let sweep = dir.path().join("grid.toml");
+    std::fs::write(
+        &sweep,
+        format!(
+            "base = {:?}\nmetrics = [\"coupling.secondary.pickup\"]\nconstraints = \
+             [\"gap.secondary.pickup >= 0.02\"]\n[[axis]]\nkey = \"winding.pickup.origin[0]\"\n\
+             from = 0.12\nto = 0.4\nsteps = 8\n[[axis]]\nkey = \"winding.pickup.tilt_deg\"\n\
+             about = [0.0, 1.0, 0.0]\nfrom = -60.0\nto = 60.0\nsteps = 25\n",
+            demo("tabletop-resonator.toml")
+        ),
+    )
+    .unwrap();
+    let out = dir.path().join("grid.csv");
+    stdout_of(&[
+        "sweep",
+        sweep.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    let grid_best = std::fs::read_to_string(&out)
+        .unwrap()
+        .lines()
+        .skip(1)
+        .filter(|l| l.contains(",ok,"))
+        .map(|l| l.split(',').nth(3).unwrap().parse::<f64>().unwrap().abs())
+        .fold(0.0, f64::max);
+    assert!(best >= 0.99 * grid_best, "seek {best} vs grid {grid_best}");
+    // The largest |k| is at the closest allowed distance: the lower bound, flagged.
+    let on_bound: Vec<&str> = v["on_bound"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|b| b.as_str().unwrap())
+        .collect();
+    assert!(
+        on_bound
+            .iter()
+            .any(|b| b.contains("origin[0] is on its lower bound")),
+        "{on_bound:?}"
+    );
+    let table = stdout_of(&["seek", &seek]);
+    assert!(
+        table.contains("winding.pickup.origin[0] = 120.000 mm"),
+        "{table}"
+    );
+    assert!(
+        table.contains("note: the optimum sits on a bound"),
+        "{table}"
+    );
+}
