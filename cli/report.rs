@@ -3,11 +3,10 @@
 use crate::inductance;
 use crate::load;
 use crate::output::si;
-use coilfield_geometry::discretise::filament_model;
+use coilfield_geometry::discretise::wire_length_m;
 use coilfield_geometry::{Role, Shape, TapEnd, Winding};
 use coilfield_solver::Par;
 use coilfield_solver::assembly::inductance_report;
-use std::f64::consts::TAU;
 use std::fmt::Write as _;
 use std::path::Path;
 use std::process::ExitCode;
@@ -19,22 +18,6 @@ frequency. Contact with a running coil, or an arc from it, can kill or cause dee
 are not felt at once; strong fields can upset implanted medical devices and nearby electronics.
 The figures here are design estimates, not a safety assessment. Follow local electrical codes,
 exposure regulations and licensed, qualified practice.";
-
-/// Length (m) of the wire's centreline: all of it, a tap's idle part included.
-fn wire_length_m(w: &Winding) -> f64 {
-    match w.shape {
-        Shape::Helix {
-            radius_m,
-            length_m,
-            turns,
-            ..
-        } => turns * (TAU * radius_m).hypot(length_m / turns),
-        Shape::Ring {
-            radius_m, count, ..
-        } => TAU * radius_m * f64::from(count),
-        _ => filament_model(&w.without_tap()).length_m(),
-    }
-}
 
 /// ", tapped at 6.25 turns from the outer end" for a tapped winding, else nothing.
 fn describe_tap(w: &Winding) -> String {

@@ -329,3 +329,27 @@ fn seek_maximises_a_magnitude_within_its_budget_and_flags_a_bound() {
         "{table}"
     );
 }
+
+#[test]
+fn the_wavelength_warning_is_printed_once_with_its_ratio_and_meaning() {
+    // 1000 turns of 55 mm radius over 500 mm: N sqrt((2 pi a)^2 + p^2) = 345.6 m of wire;
+    // lambda = c / 300 kHz = 999.3 m: 0.346 wavelengths.
+    let len = 1000.0 * (std::f64::consts::TAU * 0.055f64).hypot(0.0005);
+    let ratio = len / (299_792_458.0 / 300e3);
+    let design = demo("bench-fields.toml");
+    let out = run(&["field", &design, "--at", "3,0,0.3"]);
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(stderr.matches("wavelengths").count(), 1, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{ratio:.3} wavelengths")),
+        "{stderr}"
+    );
+    assert!(stderr.contains(&format!("{len:.1} m long")), "{stderr}");
+    assert!(
+        stderr.contains("accounts for the distributed winding"),
+        "{stderr}"
+    );
+    // The report prints the same wire length.
+    let report = stdout_of(&["report", &design]);
+    assert!(report.contains(&format!("{len:.1} m of wire")), "{report}");
+}

@@ -99,7 +99,7 @@ use crate::constants::{C0, EPS0};
 use crate::elliptic::{cel_positive_p, k_e_from_kc, k_from_kc};
 use crate::par::{Par, map_indexed};
 use crate::quadrature::gauss_legendre;
-use coilfield_geometry::discretise::filament_model;
+use coilfield_geometry::discretise::wire_length_m;
 use coilfield_geometry::{
     Axis, Design, DesignError, ElectrodeShape, End, PotentialSpec, Role, Shape, check_axisymmetric,
     local_frame,
@@ -1834,16 +1834,29 @@ pub fn validity_warnings(design: &Design, distances_m: &[f64]) -> Vec<String> {
         ));
     }
     for w in design.windings.iter().filter(|w| w.role == Role::Secondary) {
-        let len = filament_model(w).length_m();
+        let len = wire_length_m(w);
         if len > 0.1 * lambda {
+            let meaning = if design.drive.secondary_voltage_profile.is_some() {
+                "the fields here take the resonance model's mode along the winding, which \
+                 accounts for the distributed winding"
+            } else {
+                "the resonance model (coilfield resonance, or a [drive] kind) accounts for the \
+                 distributed winding; the explicit [drive] here is taken as given (linear \
+                 potential, uniform current), an approximation for such a wire"
+            };
             out.push(format!(
-                "winding '{}': its wire ({len:.1} m) is longer than lambda/10 = {:.1} m at \
-                 {f:.4e} Hz: the current is not uniform along it (a distributed resonator)",
+                "winding '{}': its wire is {} long, {} wavelengths at {} (over 0.1 the current \
+                 is not uniform along it: a distributed resonator); {meaning}",
                 w.name,
-                0.1 * lambda
+                crate::numtext::si(len, "m", 4),
+                crate::numtext::fixed(len / lambda, 3),
+                crate::numtext::si(f, "Hz", 4),
             ));
         }
     }
+    // Once per command: the callers may gather the same warning from several places.
+    let mut seen = std::collections::HashSet::new();
+    out.retain(|w| seen.insert(w.clone()));
     out
 }
 
@@ -2317,7 +2330,13 @@ mod tests {
             "{}",
             w[0]
         );
-        assert!(w[1].contains("longer than lambda/10"), "{}", w[1]);
+        // 800 sqrt((2 pi 0.05)^2 + 0.0005^2) m of wire over c / 250 kHz: 0.210 wavelengths.
+        let ratio = 800.0 * (2.0 * PI * 0.05f64).hypot(0.0005) / (C0 / 250e3);
+        assert!(
+            w[1].contains(&format!("{ratio:.3} wavelengths")) && w[1].contains("over 0.1"),
+            "{}",
+            w[1]
+        );
         assert!(validity_warnings(&d, &[1.0]).len() == 1);
     }
 

@@ -207,6 +207,29 @@ pub fn ring_model_of_turns(winding: &Winding, u0: f64, u1: f64) -> Option<RingMo
 /// ([`Winding::active_range`]) is sampled, from its first point to its last, at the same density
 /// (round(active turns x segments per turn) filaments).
 pub fn filament_model(winding: &Winding) -> FilamentModel {
+    filament_model_impl(winding)
+}
+
+/// Length (m) of a winding's wire centreline, all of it (a tap's idle part included): the one
+/// figure every output prints. A helix's is exact, N sqrt((2 pi a)^2 + p^2) with pitch p; a
+/// ring's N coincident circumferences; any other shape's is its filament chain's.
+pub fn wire_length_m(winding: &Winding) -> f64 {
+    let w = winding.without_tap();
+    match w.shape {
+        Shape::Helix {
+            radius_m,
+            length_m,
+            turns,
+            ..
+        } => turns * (TAU * radius_m).hypot(length_m / turns),
+        Shape::Ring {
+            radius_m, count, ..
+        } => TAU * radius_m * f64::from(count),
+        _ => filament_model(&w).length_m(),
+    }
+}
+
+fn filament_model_impl(winding: &Winding) -> FilamentModel {
     let wire_radius_m = winding.wire_radius_m();
     let per_turn = winding
         .segments_per_turn

@@ -50,7 +50,6 @@ use crate::electrostatic::{Params, Problem, Solution};
 use crate::error::SolverError;
 use crate::losses::{self, ProximityModel};
 use crate::par::Par;
-use coilfield_geometry::discretise::filament_model;
 use coilfield_geometry::{
     Design, DriveKind, End, PotentialSpec, Role, SecondaryBase, Shape, Winding,
 };
@@ -387,16 +386,18 @@ fn conductor_resistance(
     })
 }
 
-/// Length (m) of a winding's wire (the whole wire; the filament model's chain), or of its part
-/// in use.
+/// Length (m) of a winding's wire (the whole wire), or of its part in use: the one wire-length
+/// function of the geometry crate, so every output prints the same figure.
 fn wire_length_m(w: &Winding, in_use: bool) -> f64 {
-    let w = if in_use { w.clone() } else { w.without_tap() };
+    if !in_use {
+        return coilfield_geometry::discretise::wire_length_m(w);
+    }
     match w.shape {
         // A ring of N coincident turns: N circumferences.
         Shape::Ring {
             radius_m, count, ..
         } => TAU * radius_m * f64::from(count),
-        _ => filament_model(&w).length_m(),
+        _ => coilfield_geometry::discretise::filament_model(w).length_m(),
     }
 }
 
