@@ -277,14 +277,18 @@ fn clearance_section(c: &ClearanceOut, from_model: bool) -> String {
     );
     for t in &c.thresholds {
         let more = if t.beyond_search { ">" } else { "" };
+        let where_ = match (t.distance_from_axis_m, t.distance_from_top_m) {
+            (Some(axis), Some(top)) => {
+                format!("from axis {more}{axis:.3} m, from top {more}{top:.3} m")
+            }
+            _ => "never exceeded outside the conductors".to_string(),
+        };
         let _ = writeln!(
             s,
-            "  {:<38} {:?} {:>12}  from axis {more}{:.3} m, from top {more}{:.3} m",
+            "  {:<38} {:?} {:>12}  {where_}",
             t.name,
             t.quantity,
             si(t.limit, t.unit, 3),
-            t.distance_from_axis_m,
-            t.distance_from_top_m
         );
     }
     for w in &c.warnings {

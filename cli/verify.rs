@@ -270,7 +270,7 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
                 passed,
                 failed,
             };
-            println!("{}", serde_json::to_string_pretty(&summary)?);
+            println!("{}", crate::output::json_text(&summary)?);
         }
         Format::Table => {
             let mut s = String::new();

@@ -297,26 +297,31 @@ pub enum DesignError {
         first: String,
     },
 
-    /// Adjacent turns would overlap: the wire is at least as thick as the pitch. Use fewer turns,
-    /// more room (length, radii, height) or thinner wire.
+    /// Adjacent turns would overlap: the wire (with its insulation, for a helix) is too thick for
+    /// the pitch. The message names the smallest valid size; use fewer turns, more room
+    /// (length, pitch, radii, height) or thinner wire.
     #[error(
-        "{source_name}: {item}: key 'wire_diameter': the wire ({} m) is not thinner than the \
-         pitch ({} m, {pitch_rule}), so adjacent turns would overlap; use fewer turns, more room \
-         or a thinner wire",
-        sig(*.wire_diameter_m),
-        sig(*.pitch_m)
+        "{source_name}: {item}: key '{key}': the pitch ({} m, {pitch_rule}) is too small for the \
+         wire ({} m bare), so adjacent turns would overlap; {remedy}",
+        sig(*.pitch_m),
+        sig(*.wire_diameter_m)
     )]
     WireThickerThanPitch {
         /// File label.
         source_name: String,
         /// Which winding.
         item: String,
-        /// Wire diameter (m).
+        /// The key that sets the pitch (`length`, `pitch`, `outer_radius`, ...).
+        key: &'static str,
+        /// Bare wire diameter (m).
         wire_diameter_m: f64,
         /// Centre-to-centre distance of adjacent turns (m).
         pitch_m: f64,
         /// How the pitch is computed for this shape.
-        pitch_rule: String,
+        pitch_rule: &'static str,
+        /// The smallest valid sizes (with the insulated diameter, where given) and other ways
+        /// out.
+        remedy: String,
     },
 
     /// A radius not larger than the wire's own radius: the wire would cross the axis. Make it
