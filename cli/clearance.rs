@@ -34,20 +34,20 @@ pub struct ClearanceArgs<'a> {
 }
 
 #[derive(Serialize)]
-struct ThresholdOut {
-    name: String,
-    quantity: Quantity,
-    limit: f64,
-    unit: &'static str,
+pub(crate) struct ThresholdOut {
+    pub(crate) name: String,
+    pub(crate) quantity: Quantity,
+    pub(crate) limit: f64,
+    pub(crate) unit: &'static str,
     basis: thresholds::Basis,
     compared_with: &'static str,
     peak_limit: f64,
     source: String,
     set_by: String,
     method: Method,
-    distance_from_axis_m: f64,
-    distance_from_top_m: f64,
-    beyond_search: bool,
+    pub(crate) distance_from_axis_m: f64,
+    pub(crate) distance_from_top_m: f64,
+    pub(crate) beyond_search: bool,
     by_height: Vec<HeightClearance>,
 }
 
@@ -86,18 +86,32 @@ struct AtDistanceOut {
 }
 
 #[derive(Serialize)]
-struct ClearanceOut {
+pub(crate) struct ClearanceOut {
     caution: &'static str,
     frequency_hz: f64,
-    top_conductor: String,
-    thresholds: Vec<ThresholdOut>,
+    pub(crate) top_conductor: String,
+    pub(crate) thresholds: Vec<ThresholdOut>,
     at_distances: Vec<AtDistanceOut>,
-    warnings: Vec<String>,
+    pub(crate) warnings: Vec<String>,
 }
 
 /// Run `coilfield clearance`.
 pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
     let resolved = load::design_resolved(args.design)?;
+    let result = compute(&args, resolved)?;
+    match args.format {
+        Format::Json => println!("{}", serde_json::to_string_pretty(&result)?),
+        Format::Table => print!("{}", table(&result)),
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// The clearance of a design whose drive is resolved: what `clearance` prints and the report
+/// summarises.
+pub(crate) fn compute(
+    args: &ClearanceArgs<'_>,
+    resolved: coilfield_solver::resonance::Resolved,
+) -> anyhow::Result<ClearanceOut> {
     let design = resolved.design;
     let label = args.design.display().to_string();
     let frequency_hz = design.drive.frequency_hz.ok_or_else(|| {
@@ -201,19 +215,14 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
     let mut dist_all: Vec<f64> = out.iter().map(|t| t.distance_from_axis_m).collect();
     dist_all.extend(distances.iter().copied());
     warnings.extend(validity_warnings(&design, &dist_all));
-    let result = ClearanceOut {
+    Ok(ClearanceOut {
         caution: thresholds::CAUTION,
         frequency_hz,
         top_conductor: fr.top_name.clone(),
         thresholds: out,
         at_distances,
         warnings,
-    };
-    match args.format {
-        Format::Json => println!("{}", serde_json::to_string_pretty(&result)?),
-        Format::Table => print!("{}", table(&result)),
-    }
-    Ok(ExitCode::SUCCESS)
+    })
 }
 
 fn table(r: &ClearanceOut) -> String {
