@@ -34,11 +34,11 @@ pub struct ClearanceArgs<'a> {
 }
 
 #[derive(Serialize)]
-struct ThresholdOut {
-    name: String,
-    quantity: Quantity,
-    limit: f64,
-    unit: &'static str,
+pub(crate) struct ThresholdOut {
+    pub(crate) name: String,
+    pub(crate) quantity: Quantity,
+    pub(crate) limit: f64,
+    pub(crate) unit: &'static str,
     basis: thresholds::Basis,
     compared_with: &'static str,
     peak_limit: f64,
@@ -46,11 +46,11 @@ struct ThresholdOut {
     set_by: String,
     method: Method,
     /// null when the limit is never exceeded outside the conductors.
-    distance_from_axis_m: Option<f64>,
+    pub(crate) distance_from_axis_m: Option<f64>,
     /// null when the limit is never exceeded outside the conductors.
-    distance_from_top_m: Option<f64>,
-    beyond_search: bool,
-    never_exceeded: bool,
+    pub(crate) distance_from_top_m: Option<f64>,
+    pub(crate) beyond_search: bool,
+    pub(crate) never_exceeded: bool,
     by_height: Vec<HeightClearance>,
 }
 
@@ -90,18 +90,32 @@ struct AtDistanceOut {
 }
 
 #[derive(Serialize)]
-struct ClearanceOut {
+pub(crate) struct ClearanceOut {
     caution: &'static str,
     frequency_hz: f64,
-    top_conductor: String,
-    thresholds: Vec<ThresholdOut>,
+    pub(crate) top_conductor: String,
+    pub(crate) thresholds: Vec<ThresholdOut>,
     at_distances: Vec<AtDistanceOut>,
-    warnings: Vec<String>,
+    pub(crate) warnings: Vec<String>,
 }
 
 /// Run `coilfield clearance`.
 pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
     let resolved = load::design_resolved(args.design)?;
+    let result = compute(&args, resolved)?;
+    match args.format {
+        Format::Json => println!("{}", crate::output::json_text(&result)?),
+        Format::Table => print!("{}", table(&result)),
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// The clearance of a design whose drive is resolved: what `clearance` prints and the report
+/// summarises.
+pub(crate) fn compute(
+    args: &ClearanceArgs<'_>,
+    resolved: coilfield_solver::resonance::Resolved,
+) -> anyhow::Result<ClearanceOut> {
     let design = resolved.design;
     let label = args.design.display().to_string();
     let frequency_hz = design.drive.frequency_hz.ok_or_else(|| {
@@ -205,19 +219,14 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
     let mut dist_all: Vec<f64> = out.iter().filter_map(|t| t.distance_from_axis_m).collect();
     dist_all.extend(distances.iter().copied());
     warnings.extend(validity_warnings(&design, &dist_all));
-    let result = ClearanceOut {
+    Ok(ClearanceOut {
         caution: thresholds::CAUTION,
         frequency_hz,
         top_conductor: fr.top_name.clone(),
         thresholds: out,
         at_distances,
         warnings,
-    };
-    match args.format {
-        Format::Json => println!("{}", crate::output::json_text(&result)?),
-        Format::Table => print!("{}", table(&result)),
-    }
-    Ok(ExitCode::SUCCESS)
+    })
 }
 
 fn table(r: &ClearanceOut) -> String {

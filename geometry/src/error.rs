@@ -226,6 +226,23 @@ pub enum DesignError {
         limit: String,
     },
 
+    /// A value outside the range this program accepts for its key (see [`crate::limits`]):
+    /// a size below a nanometre or beyond 100 km, a coordinate beyond 100 km, a quantity far
+    /// outside anything a coil carries. Give a value inside the range.
+    #[error("{source_name}: {item}: key '{key}': {} is outside the accepted range: {range}", elide(.value))]
+    OutOfRange {
+        /// File label.
+        source_name: String,
+        /// Which item.
+        item: String,
+        /// The key, with an index for array elements.
+        key: String,
+        /// The value as written.
+        value: String,
+        /// The accepted range, with its unit and reason.
+        range: String,
+    },
+
     /// A word key (`shape`, `role`, `model`) with a value outside its list. Pick one from the list.
     #[error("{source_name}: {item}: key '{key}': unknown value \"{value}\"; allowed: {allowed}")]
     UnknownValue {
@@ -269,8 +286,10 @@ pub enum DesignError {
 
     /// A name outside `[A-Za-z0-9_-]+`. Use only letters, digits, `_` and `-`.
     #[error(
-        "{source_name}: {item}: key 'name': \"{name}\" is not a valid name; use one or more \
-         letters A-Z a-z, digits, '_' or '-'"
+        "{source_name}: {item}: key 'name': \"{}\" is not a valid name; use 1 to {} \
+         letters A-Z a-z, digits, '_' or '-'",
+        elide(.name),
+        crate::limits::MAX_NAME_CHARS
     )]
     BadName {
         /// File label.
@@ -595,6 +614,21 @@ pub enum DesignError {
         /// A point midway between the two closest centreline points (m).
         near_m: [f64; 3],
     },
+}
+
+/// Longest value echoed whole in a message (characters); a longer one is cut in the middle.
+pub const MAX_ECHO_CHARS: usize = 80;
+
+/// `text` as a message shows it: whole up to [`MAX_ECHO_CHARS`] characters, else its start and
+/// end around "... (N characters) ...", so a 2 MB value never fills a terminal.
+pub fn elide(text: &str) -> String {
+    let n = text.chars().count();
+    if n <= MAX_ECHO_CHARS {
+        return text.to_string();
+    }
+    let head: String = text.chars().take(MAX_ECHO_CHARS / 2).collect();
+    let tail: String = text.chars().skip(n - MAX_ECHO_CHARS / 4).collect();
+    format!("{head}... ({n} characters) ...{tail}")
 }
 
 /// A point as "[x, y, z]" to 0.1 mm, without the "-0.0000" that rounding noise would print.

@@ -194,6 +194,24 @@ impl Quantity {
         }
     }
 
+    /// The magnitudes accepted for this quantity when it is not zero (SI units): wide enough
+    /// for any coil, narrow enough that every product and square the models form stays a finite
+    /// f64 (a current of 1e308 A gives infinite fields). See [`crate::limits`].
+    pub fn magnitude_range(self) -> (f64, f64) {
+        match self {
+            Quantity::Length => (crate::limits::MIN_SIZE_M, crate::limits::MAX_SIZE_M),
+            Quantity::ElectricField => (1e-9, 1e12),
+            Quantity::FluxDensity => (1e-15, 1e6),
+            Quantity::Frequency => (1e-3, 1e12),
+            Quantity::Voltage => (1e-9, 1e9),
+            Quantity::Current => (1e-12, 1e7),
+            Quantity::Capacitance => (1e-18, 1e3),
+            Quantity::Inductance => (1e-15, 1e3),
+            Quantity::Resistance => (1e-9, 1e12),
+            Quantity::Time => (1e-15, 1e6),
+        }
+    }
+
     /// The SI unit in which a bare number is read.
     pub fn si_unit(self) -> &'static str {
         match self {

@@ -4,6 +4,7 @@
 use crate::error::{DesignError, sig};
 use crate::file::raw::{Ctx, RawLength, RawNumber, is_valid_name, type_phrase};
 use crate::file::units;
+use crate::limits::{MAX_POLYLINE_POINTS, MIN_TURNS};
 use crate::model::winding::{Conductor, MIN_TAP_TURNS, Model, Role, Shape, Tap, TapEnd, Winding};
 use nalgebra::Point3;
 use serde::Deserialize;
@@ -221,6 +222,16 @@ impl Ctx<'_> {
         }
         if turns <= 0.0 {
             return Err(self.not_positive("turns", EXPECTED, raw.shown()));
+        }
+        if turns < MIN_TURNS {
+            return Err(self.out_of_range(
+                "turns",
+                raw.shown(),
+                format!(
+                    "from {MIN_TURNS} to {MAX_TURNS:e} turns (the ring model needs at least one \
+                     element)"
+                ),
+            ));
         }
         if turns > MAX_TURNS {
             return Err(self.too_large(
@@ -895,6 +906,16 @@ fn polyline(raw: &RawWinding, ctx: &Ctx<'_>) -> Result<Shape, DesignError> {
             "give the vertices as points = [[x, y, z], ...] (lengths), in current order",
         )
     })?;
+    if raw_points.len() > MAX_POLYLINE_POINTS {
+        return Err(ctx.too_large(
+            "points",
+            format!("{} points", raw_points.len()),
+            format!(
+                "a polyline has at most {MAX_POLYLINE_POINTS} points (its self-inductance sums \
+                 the square of the point count of Neumann integrals)"
+            ),
+        ));
+    }
     let points_m = raw_points
         .iter()
         .enumerate()
@@ -922,6 +943,17 @@ fn polyline(raw: &RawWinding, ctx: &Ctx<'_>) -> Result<Shape, DesignError> {
                 index_b: j,
                 closing: j == 0,
             });
+        }
+        let piece_m = (points_m[j] - points_m[i]).norm();
+        if piece_m < crate::limits::MIN_SIZE_M {
+            return Err(ctx.out_of_range(
+                &format!("points[{j}]"),
+                format!(
+                    "a piece of {} m from points[{i}]",
+                    crate::error::sig(piece_m)
+                ),
+                format!("pieces of at least {:e} m", crate::limits::MIN_SIZE_M),
+            ));
         }
     }
     Ok(Shape::Polyline { points_m, closed })
