@@ -47,7 +47,7 @@ struct PeakOut {
 }
 
 #[derive(Serialize)]
-struct CapOut {
+pub(crate) struct CapOut {
     conductors: Vec<ConductorOut>,
     /// Present when an electrode is connected to the secondary's top.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -56,13 +56,30 @@ struct CapOut {
     matrix_error_estimate_f: Vec<Vec<f64>>,
     n_panels: usize,
     peak_surface_fields: Vec<PeakOut>,
-    warnings: Vec<String>,
+    pub(crate) warnings: Vec<String>,
 }
 
 /// Run `coilfield capacitance`.
 pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Result<ExitCode> {
     let design = load::design_resolved(design_path)?.design;
     let label = design_path.display().to_string();
+    let result = compute(&design, &label)?;
+    let text = match format {
+        Format::Json => crate::output::json_text(&result)? + "\n",
+        Format::Table => table(&result),
+    };
+    if let Some(p) = out {
+        output::write_atomic(p, text.as_bytes())?;
+    }
+    print!("{text}");
+    Ok(ExitCode::SUCCESS)
+}
+
+/// The capacitances of a design whose drive is resolved: what `capacitance` prints and the
+/// report includes.
+pub(crate) fn compute(design: &coilfield_geometry::Design, label: &str) -> anyhow::Result<CapOut> {
+    let design = design.clone();
+    let label = label.to_string();
     let sol = field_model::electrostatic_solution(&design, &label, coilfield_solver::Par::Rayon)?;
     let names = sol.conductor_names();
     let matrix = sol.capacitance_matrix_f().to_vec();
@@ -128,7 +145,7 @@ pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Re
         &design,
         &[],
     ));
-    let result = CapOut {
+    Ok(CapOut {
         conductors,
         effective_top_capacitance,
         matrix_f: matrix,
@@ -136,16 +153,7 @@ pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Re
         n_panels: sol.n_panels(),
         peak_surface_fields,
         warnings,
-    };
-    let text = match format {
-        Format::Json => crate::output::json_text(&result)? + "\n",
-        Format::Table => table(&result),
-    };
-    if let Some(p) = out {
-        output::write_atomic(p, text.as_bytes())?;
-    }
-    print!("{text}");
-    Ok(ExitCode::SUCCESS)
+    })
 }
 
 /// The effective top capacitance of the electrodes connected to the secondary's top: the
@@ -199,7 +207,7 @@ fn effective_top(
     }))
 }
 
-fn table(r: &CapOut) -> String {
+pub(crate) fn table(r: &CapOut) -> String {
     let mut s = format!(
         "Capacitances ({} panels; error estimate = |C(n) - C(n/2)|)\n\n",
         r.n_panels

@@ -97,12 +97,13 @@ pub fn run(path: &Path) -> anyhow::Result<ExitCode> {
         };
         let _ = writeln!(
             s,
-            "  {} ({role}): {}{}; wire {} diameter, {} of wire",
+            "  {} ({role}): {}{}; wire {} diameter, {} of wire{}",
             w.name,
             describe(w),
             describe_tap(w),
             si(w.wire_diameter_m, "m", 4),
-            si(wire_length_m(w), "m", 4)
+            si(wire_length_m(w), "m", 4),
+            resistance_and_mass(w)
         );
     }
     s.push('\n');
@@ -169,6 +170,9 @@ fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<Strin
             resolved
         }
     };
+    // Warnings are printed once, at the end of the section that raised them first.
+    let (cap_text, mut printed) = capacitance_section(&resolved.design, &label);
+    s.push_str(&cap_text);
     let drive = &resolved.design.drive;
     let driven = !(drive.currents_a.is_empty() && drive.potentials_v.is_empty());
     if driven && drive.frequency_hz.is_some() {
@@ -182,7 +186,7 @@ fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<Strin
         };
         let from_model = resolved.resonance.is_some();
         let c = clearance::compute(&args, resolved)?;
-        s.push_str(&clearance_section(&c, from_model));
+        s.push_str(&clearance_section(&c, from_model, &mut printed));
     } else {
         s.push_str(
             "\nclearance: the design has no drive with a frequency ([drive] kind, or currents or \
@@ -190,6 +194,125 @@ fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<Strin
         );
     }
     Ok(s)
+}
+
+/// Density of copper (kg/m^3), 8.96 g/cm^3 at room temperature (from memory; common practice).
+const COPPER_DENSITY_KG_PER_M3: f64 = 8960.0;
+
+/// ", DC resistance 12.3 ohm, mass 45.6 g": R = rho l / A of the conductor's cross-section
+/// (a tube's wall, or the solid wire), and the mass of a copper conductor (other materials:
+/// no density at hand, so no mass). The AC resistance at f1 is in the resonance section (Q).
+fn resistance_and_mass(w: &Winding) -> String {
+    let name = w.conductor.material.as_deref().unwrap_or("copper");
+    let Ok(material) = coilfield_solver::losses::conductor(name) else {
+        return String::new();
+    };
+    let b = 0.5 * w.wire_diameter_m;
+    let area_m2 = match w.conductor.tube_wall_m {
+        Some(t) => std::f64::consts::PI * (b * b - (b - t) * (b - t)),
+        None => std::f64::consts::PI * b * b,
+    };
+    let len = wire_length_m(w);
+    let mut s = format!(
+        ", DC resistance {}",
+        si(material.resistivity_ohm_m * len / area_m2, "Ω", 4)
+    );
+    if name == "copper" || name == "iacs" {
+        let _ = write!(
+            s,
+            ", mass {}",
+            si(COPPER_DENSITY_KG_PER_M3 * area_m2 * len * 1000.0, "g", 4)
+        );
+    }
+    s
+}
+
+/// An electrode's shape and sizes in the builder's words.
+fn describe_electrode(shape: &coilfield_geometry::ElectrodeShape) -> String {
+    use coilfield_geometry::ElectrodeShape as E;
+    let mm = |v: f64| si(v, "m", 4);
+    match shape {
+        E::Torus {
+            centre_m,
+            major_radius_m,
+            minor_radius_m,
+            ..
+        } => format!(
+            "torus, {} outside diameter, {} tube, centre at height {}",
+            mm(2.0 * (major_radius_m + minor_radius_m)),
+            mm(2.0 * minor_radius_m),
+            mm(centre_m.z)
+        ),
+        E::Sphere {
+            centre_m, radius_m, ..
+        } => format!(
+            "sphere, {} diameter, centre at height {}",
+            mm(2.0 * radius_m),
+            mm(centre_m.z)
+        ),
+        E::Disc {
+            centre_m, radius_m, ..
+        } => format!(
+            "disc, {} diameter, at height {}",
+            mm(2.0 * radius_m),
+            mm(centre_m.z)
+        ),
+        E::Cylinder {
+            base_centre_m,
+            radius_m,
+            length_m,
+            ..
+        } => format!(
+            "closed cylinder, {} diameter, {} long, base at height {}",
+            mm(2.0 * radius_m),
+            mm(*length_m),
+            mm(base_centre_m.z)
+        ),
+    }
+}
+
+/// The electrodes and the capacitances (the `capacitance` command's table: the effective top
+/// capacitance, the secondary's self-capacitance, the Maxwell matrix, peak surface fields), or
+/// why the electric model does not apply.
+fn capacitance_section(design: &Design, label: &str) -> (String, Vec<String>) {
+    let mut s = String::from("\nelectrodes and capacitances\n");
+    for e in &design.electrodes {
+        let connect = e
+            .connect
+            .as_ref()
+            .map_or(String::from("not connected"), |t| {
+                format!(
+                    "connected to {}'s {}",
+                    t.winding,
+                    match t.end {
+                        coilfield_geometry::model::electrode::End::Top => "top",
+                        coilfield_geometry::model::electrode::End::Base => "base",
+                    }
+                )
+            });
+        let _ = writeln!(
+            s,
+            "  {}: {}, {connect}",
+            e.name,
+            describe_electrode(&e.shape)
+        );
+    }
+    let has_secondary = design.windings.iter().any(|w| w.role == Role::Secondary);
+    if design.electrodes.is_empty() && !has_secondary {
+        s.push_str("  none: the design has no secondary and no electrode\n");
+        return (s, Vec::new());
+    }
+    match crate::capacitance::compute(design, label) {
+        Ok(c) => {
+            let printed = c.warnings.clone();
+            s.push_str(&crate::capacitance::table(&c));
+            (s, printed)
+        }
+        Err(e) => {
+            let _ = writeln!(s, "  not computed: {e:#}");
+            (s, Vec::new())
+        }
+    }
 }
 
 /// The resonance in brief: f1 (distributed and lumped), Q, the primary's tuning capacitance
@@ -247,7 +370,7 @@ fn resonance_section(r: &Resonance) -> String {
 
 /// The clearance distances of every threshold at the drive's fields. `from_model`: the drive
 /// comes from the resonance model (its peak top voltage), else the design's explicit drive.
-fn clearance_section(c: &ClearanceOut, from_model: bool) -> String {
+fn clearance_section(c: &ClearanceOut, from_model: bool, printed: &mut Vec<String>) -> String {
     let at = if from_model {
         "at the drive model's peak top voltage and currents"
     } else {
@@ -275,6 +398,10 @@ fn clearance_section(c: &ClearanceOut, from_model: bool) -> String {
         );
     }
     for w in &c.warnings {
+        if printed.contains(w) {
+            continue;
+        }
+        printed.push(w.clone());
         let _ = writeln!(s, "  note: {w}");
     }
     s.push_str(

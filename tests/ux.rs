@@ -353,3 +353,36 @@ fn the_wavelength_warning_is_printed_once_with_its_ratio_and_meaning() {
     let report = stdout_of(&["report", &design]);
     assert!(report.contains(&format!("{len:.1} m of wire")), "{report}");
 }
+
+#[test]
+fn the_demo_report_shows_the_whole_job() {
+    // The README's first command.
+    let report = stdout_of(&["report", &demo("tabletop-resonator.toml")]);
+    for part in [
+        "windings",
+        "inductance matrix",
+        "coupling in brief",
+        "electrodes and capacitances",
+        "topload: torus, 320.0 mm outside diameter, 80.00 mm tube",
+        "effective top capacitance of topload",
+        "resonance of the secondary",
+        "peak top voltage (driven)",
+        "clearance at the drive model's peak top voltage",
+        "CAUTION",
+    ] {
+        assert!(report.contains(part), "report lacks {part:?}:\n{report}");
+    }
+    // Each warning once.
+    assert_eq!(report.matches("wavelengths at").count(), 1, "{report}");
+    // The secondary's DC resistance: 900 turns of AWG 26 copper on 55 mm radius over 450 mm,
+    // R = rho l / (pi d^2 / 4) with rho = 1.678e-8 ohm m (copper at 20 C, CRC Handbook of
+    // Chemistry and Physics; value from memory) and d = 0.127 mm x 92^((36 - 26) / 39)
+    // (ASTM B258).
+    let len = 900.0 * (std::f64::consts::TAU * 0.055f64).hypot(0.0005);
+    let d = 0.127e-3 * 92f64.powf(10.0 / 39.0);
+    let r = 1.678e-8 * len / (std::f64::consts::PI * d * d / 4.0);
+    assert!(
+        report.contains(&format!("DC resistance {r:.2} Ω")),
+        "{r:.2} ohm not in:\n{report}"
+    );
+}
