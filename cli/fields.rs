@@ -210,10 +210,10 @@ fn csv_text(r: &FieldOut) -> String {
 }
 
 fn table_text(r: &FieldOut) -> String {
-    let mut s = String::from("Peak fields of the drive (E in V/m, B in T)\n\n");
+    let mut s = String::from("Peak fields of the drive: vectors (x, y, z) and magnitudes\n\n");
     s.push_str(&format!(
-        "{:>30}  {:>12}  {:>12}\n",
-        "point (x, y, z) m", "|E|", "|B|"
+        "{:>30}  {:>36}  {:>12}  {:>36}  {:>12}\n",
+        "point (x, y, z) m", "E (x, y, z)", "|E|", "B (x, y, z)", "|B|"
     ));
     for p in &r.points {
         let pos = format!(
@@ -228,7 +228,21 @@ fn table_text(r: &FieldOut) -> String {
         let b = p
             .b_mag_t
             .map_or("NaN".to_string(), |x| output::si(x, "T", 4));
-        s.push_str(&format!("{pos:>30}  {e:>12}  {b:>12}\n"));
+        // Each vector in the SI prefix of its magnitude, so the components read side by side.
+        let vector = |v: Option<[f64; 3]>, mag: Option<f64>, unit: &str| match (v, mag) {
+            (Some(v), Some(m)) => format!(
+                "({}, {}, {})",
+                coilfield_solver::numtext::si_like(v[0], m, unit, 4),
+                coilfield_solver::numtext::si_like(v[1], m, unit, 4),
+                coilfield_solver::numtext::si_like(v[2], m, unit, 4)
+            ),
+            _ => "NaN".to_string(),
+        };
+        let ev = vector(p.e_field_v_per_m, p.e_mag_v_per_m, "V/m");
+        let bv = vector(p.b_field_t, p.b_mag_t, "T");
+        s.push_str(&format!(
+            "{pos:>30}  {ev:>36}  {e:>12}  {bv:>36}  {b:>12}\n"
+        ));
     }
     s
 }

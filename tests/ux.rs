@@ -386,3 +386,31 @@ fn the_demo_report_shows_the_whole_job() {
         "{r:.2} ohm not in:\n{report}"
     );
 }
+
+#[test]
+fn field_table_shows_the_vectors() {
+    let design = demo("bench-fields.toml");
+    let table = stdout_of(&["field", &design, "--at", "0.3,0,0.5"]);
+    let json: serde_json::Value = serde_json::from_str(&stdout_of(&[
+        "field",
+        &design,
+        "--at",
+        "0.3,0,0.5",
+        "--format",
+        "json",
+    ]))
+    .unwrap();
+    // E = (185.7, 0, -145.3) kV/m in the table is the JSON's vector to four digits.
+    let e = json["points"][0]["e_field_v_per_m"].as_array().unwrap();
+    let ex_kv = e[0].as_f64().unwrap() / 1e3;
+    let ez_kv = e[2].as_f64().unwrap() / 1e3;
+    let row = table
+        .lines()
+        .find(|l| l.contains("(0.3, 0, 0.5)"))
+        .expect("the point's row");
+    assert!(row.contains("E (x, y, z)") || table.contains("E (x, y, z)"));
+    assert!(
+        row.contains(&format!("({ex_kv:.1} kV/m, 0 kV/m, {ez_kv:.1} kV/m)")),
+        "{row}"
+    );
+}
