@@ -79,14 +79,14 @@ impl ThresholdOut {
 }
 
 #[derive(Serialize)]
-struct AtDistanceOut {
-    distance_from_axis_m: f64,
+pub(crate) struct AtDistanceOut {
+    pub(crate) distance_from_axis_m: f64,
     position_m: [f64; 3],
-    e_mag_v_per_m: Option<f64>,
+    pub(crate) e_mag_v_per_m: Option<f64>,
     e_rms_v_per_m: Option<f64>,
-    b_mag_t: Option<f64>,
+    pub(crate) b_mag_t: Option<f64>,
     b_rms_t: Option<f64>,
-    exceeded: Vec<String>,
+    pub(crate) exceeded: Vec<String>,
 }
 
 #[derive(Serialize)]
@@ -95,7 +95,7 @@ pub(crate) struct ClearanceOut {
     frequency_hz: f64,
     pub(crate) top_conductor: String,
     pub(crate) thresholds: Vec<ThresholdOut>,
-    at_distances: Vec<AtDistanceOut>,
+    pub(crate) at_distances: Vec<AtDistanceOut>,
     pub(crate) warnings: Vec<String>,
 }
 

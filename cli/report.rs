@@ -178,7 +178,12 @@ fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<Strin
     if driven && drive.frequency_hz.is_some() {
         let args = ClearanceArgs {
             design: path,
-            distances: None,
+            // The design's [clearance] distances, else a builder's usual walk-around set.
+            distances: design
+                .clearance
+                .distances_m
+                .is_empty()
+                .then_some(REPORT_DISTANCES),
             long_gap_v_per_m: None,
             extra: &[],
             max_distance_m: None,
@@ -195,6 +200,10 @@ fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<Strin
     }
     Ok(s)
 }
+
+/// Distances from the axis (m, at the top conductor's height) at which the report gives the
+/// fields when the design's `[clearance]` names none.
+const REPORT_DISTANCES: &str = "0.5,1,2,3";
 
 /// Density of copper (kg/m^3), 8.96 g/cm^3 at room temperature (from memory; common practice).
 const COPPER_DENSITY_KG_PER_M3: f64 = 8960.0;
@@ -396,6 +405,23 @@ fn clearance_section(c: &ClearanceOut, from_model: bool, printed: &mut Vec<Strin
             t.quantity,
             si(t.limit, t.unit, 3),
         );
+    }
+    if !c.at_distances.is_empty() {
+        s.push_str("  fields at the top conductor's height (peak):\n");
+        for a in &c.at_distances {
+            let e = a.e_mag_v_per_m.map_or("-".into(), |v| si(v, "V/m", 4));
+            let b = a.b_mag_t.map_or("-".into(), |v| si(v, "T", 4));
+            let _ = writeln!(
+                s,
+                "    {:>8} from the axis: |E| {e:>12}  |B| {b:>12}  above: {}",
+                si(a.distance_from_axis_m, "m", 3),
+                if a.exceeded.is_empty() {
+                    "none".to_string()
+                } else {
+                    a.exceeded.join(", ")
+                }
+            );
+        }
     }
     for w in &c.warnings {
         if printed.contains(w) {

@@ -374,6 +374,26 @@ fn the_demo_report_shows_the_whole_job() {
     }
     // Each warning once.
     assert_eq!(report.matches("wavelengths at").count(), 1, "{report}");
+    // The fields at the walk-around distances are what `field` gives at the same point (the
+    // torus centre's height, 0.62 m, 1 m from the axis).
+    let json: serde_json::Value = serde_json::from_str(&stdout_of(&[
+        "field",
+        &demo("tabletop-resonator.toml"),
+        "--at",
+        "1,0,0.62",
+        "--format",
+        "json",
+    ]))
+    .unwrap();
+    let e_kv = json["points"][0]["e_mag_v_per_m"].as_f64().unwrap() / 1e3;
+    let row = report
+        .lines()
+        .find(|l| l.contains("1.00 m from the axis"))
+        .expect("fields at 1 m");
+    assert!(
+        row.contains(&format!("|E| {:>12}", format!("{e_kv:.3} kV/m"))),
+        "{row} vs {e_kv}"
+    );
     // The secondary's DC resistance: 900 turns of AWG 26 copper on 55 mm radius over 450 mm,
     // R = rho l / (pi d^2 / 4) with rho = 1.678e-8 ohm m (copper at 20 C, CRC Handbook of
     // Chemistry and Physics; value from memory) and d = 0.127 mm x 92^((36 - 26) / 39)
