@@ -207,6 +207,10 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
                 u_label: ul,
                 v_label: vl,
                 title,
+                unit: match quantity {
+                    Quantity::E => "V/m",
+                    Quantity::B => "T",
+                },
                 contours: &contours,
             },
             svg,

@@ -61,6 +61,9 @@ pub struct HeatMap<'a> {
     pub v_label: &'a str,
     /// Title, with the quantity and its unit.
     pub title: &'a str,
+    /// SI unit of the values (`"V/m"`, `"T"`, `"F"`; `""` for a pure number): the colour bar's
+    /// ticks read in it with an SI prefix at any scale.
+    pub unit: &'a str,
     /// Contour levels (same unit as `values`) with a short name for the legend.
     pub contours: &'a [(f64, String)],
 }
@@ -381,18 +384,14 @@ where
         .margin_bottom(52)
         .margin_right(8)
         .y_label_area_size(58)
-        .caption(
-            match map.scale {
-                Scale::Log => "log10",
-                Scale::Linear => "value",
-            },
-            ("sans-serif", 14),
-        )
+        .caption(colour_bar_caption(map.scale, map.unit), ("sans-serif", 14))
         .build_cartesian_2d(0.0..1.0, lo..hi)
         .map_err(err)?;
+    let tick = |y: &f64| colour_bar_tick(*y, map.scale, map.unit);
     bar.configure_mesh()
         .disable_mesh()
         .disable_x_axis()
+        .y_label_formatter(&tick)
         .label_style(("sans-serif", 13))
         .draw()
         .map_err(err)?;
@@ -409,8 +408,43 @@ where
     Ok(())
 }
 
+/// The colour bar's caption: the unit and the scale ("V/m, log scale").
+fn colour_bar_caption(scale: Scale, unit: &str) -> String {
+    let unit = if unit.is_empty() { "value" } else { unit };
+    match scale {
+        Scale::Log => format!("{unit}, log scale"),
+        Scale::Linear => unit.to_string(),
+    }
+}
+
+/// A colour-bar tick: the value (10^y on a log scale) with an SI prefix and the unit, readable
+/// at any scale (2e-11 F reads "20.0 pF", not "0.0").
+fn colour_bar_tick(y: f64, scale: Scale, unit: &str) -> String {
+    let v = match scale {
+        Scale::Log => 10f64.powf(y),
+        Scale::Linear => y,
+    };
+    if unit.is_empty() {
+        // A pure number: three significant digits in the shortest form.
+        let d = 2;
+        return coilfield_solver::numtext::shortest(format!("{v:.d$e}").parse().unwrap_or(v));
+    }
+    crate::output::si(v, unit, 3)
+}
+
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn colour_bar_ticks_read_at_any_scale() {
+        // Values near 2e-11 F read in pF; a log scale's ticks are the values, not exponents.
+        assert_eq!(colour_bar_tick(2.1e-11, Scale::Linear, "F"), "21.0 pF");
+        assert_eq!(colour_bar_tick(2.2e-11, Scale::Linear, "F"), "22.0 pF");
+        assert_eq!(colour_bar_tick(5.0, Scale::Log, "V/m"), "100 kV/m");
+        assert_eq!(colour_bar_tick(-4.0, Scale::Log, "T"), "100 µT");
+        assert_eq!(colour_bar_tick(0.00123456, Scale::Linear, ""), "0.00123");
+        assert_eq!(colour_bar_caption(Scale::Log, "V/m"), "V/m, log scale");
+    }
+
     use super::*;
 
     #[test]
@@ -450,6 +484,7 @@ mod tests {
             u_label: "x (m)",
             v_label: "z (m)",
             title: "|E| (V/m)",
+            unit: "V/m",
             contours: &contours,
         };
         let svg = String::from_utf8(heat_map_bytes(&map, true).unwrap()).unwrap();

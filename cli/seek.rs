@@ -249,7 +249,7 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
 }
 
 /// The SI unit of a metric, from its name's first part ("" for a pure number).
-fn metric_unit(name: &str) -> &'static str {
+pub(crate) fn metric_unit(name: &str) -> &'static str {
     match name.split('.').next().unwrap_or("") {
         "self_inductance" | "mutual" => "H",
         "gap" | "clearance" | "clearance_top" => "m",

@@ -78,7 +78,7 @@ fn increasing(v: &[f64]) -> Vec<usize> {
 }
 
 /// `CONTOURS` levels evenly inside the finite range of `values` (none if it is flat or empty).
-fn contour_levels(values: &[f64]) -> Vec<(f64, String)> {
+fn contour_levels(values: &[f64], unit: &str) -> Vec<(f64, String)> {
     let (lo, hi) = values
         .iter()
         .filter(|x| x.is_finite())
@@ -91,7 +91,7 @@ fn contour_levels(values: &[f64]) -> Vec<(f64, String)> {
     (1..=CONTOURS)
         .map(|k| {
             let level = lo + (hi - lo) * k as f64 / (CONTOURS + 1) as f64;
-            (level, format!("{level:.4e}"))
+            (level, crate::output::si(level, unit, 4))
         })
         .collect()
 }
@@ -132,7 +132,7 @@ pub fn write(
             .iter()
             .flat_map(|&j| ou.iter().map(move |&i| values[i * nv + j]))
             .collect();
-        let contours = contour_levels(&z);
+        let contours = contour_levels(&z, crate::seek::metric_unit(metric_name));
         let (u_label, v_label) = (axis_label(axis_names[0]), axis_label(axis_names[1]));
         let title = metric_label(metric_name);
         plot::figure_bytes(
@@ -144,6 +144,7 @@ pub fn write(
                 u_label: &u_label,
                 v_label: &v_label,
                 title: &title,
+                unit: crate::seek::metric_unit(metric_name),
                 contours: &contours,
             },
             svg,
@@ -158,10 +159,10 @@ mod tests {
 
     #[test]
     fn levels_sit_strictly_inside_the_range() {
-        let l = contour_levels(&[1.0, f64::NAN, 10.0]);
+        let l = contour_levels(&[1.0, f64::NAN, 10.0], "H");
         assert_eq!(l.len(), CONTOURS);
         assert!(l.iter().all(|(x, _)| *x > 1.0 && *x < 10.0));
-        assert!(contour_levels(&[2.0, 2.0]).is_empty());
+        assert!(contour_levels(&[2.0, 2.0], "H").is_empty());
     }
 
     #[test]
