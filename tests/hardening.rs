@@ -236,3 +236,122 @@ fn a_polyline_of_too_many_points_is_refused_before_any_work() {
     let out = inductance(dir.path(), &text);
     refused(&out, &["winding 'p'", "'points'", "20000 points", "10000"]);
 }
+
+/// The demo base and a sweep file of `steps` heights of its primary, in `dir`.
+fn long_sweep(dir: &Path, steps: usize) {
+    std::fs::copy(
+        root().join("meshes-demo/tabletop-resonator.toml"),
+        dir.join("base.toml"),
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("s.toml"),
+        format!(
+            "base = \"base.toml\"\nmetrics = [\"gap.secondary.primary\"]\n[[axis]]\n\
+             key = \"winding.primary.origin[2]\"\nfrom = 0.0\nto = 0.09\nsteps = {steps}\n"
+        ),
+    )
+    .unwrap();
+}
+
+#[test]
+fn a_second_writer_of_a_sweep_output_is_refused() {
+    // Before: two `--resume` runs on one --out both exited 0 and every row was written twice.
+    let dir = tempfile::tempdir().unwrap();
+    long_sweep(dir.path(), 20_000);
+    let out = dir.path().join("o.csv");
+    let mut first = Command::new(bin())
+        .current_dir(dir.path())
+        .args(["sweep", "s.toml", "--out", "o.csv", "--threads", "1"])
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let started = std::time::Instant::now();
+    while std::fs::read_to_string(&out).map_or(0, |t| t.lines().count()) < 2 {
+        assert!(started.elapsed().as_secs() < 120, "no rows after 120 s");
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    }
+    let second = run_in(
+        dir.path(),
+        &["sweep", "s.toml", "--out", "o.csv", "--resume"],
+    );
+    let still_running = first.try_wait().unwrap().is_none();
+    Command::new("kill")
+        .args(["-INT", &first.id().to_string()])
+        .status()
+        .unwrap();
+    let status = first.wait().unwrap();
+    assert!(still_running && status.code() == Some(130), "{status:?}");
+    refused(&second, &["o.csv", "locked"]);
+    // The file holds each point once, in order.
+    let text = std::fs::read_to_string(&out).unwrap();
+    for (i, row) in text.lines().skip(1).enumerate() {
+        assert!(row.starts_with(&format!("{i},")), "row {i}: {row}");
+    }
+}
+
+#[test]
+fn a_merge_into_a_locked_output_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    long_sweep(dir.path(), 4);
+    let o = run_in(dir.path(), &["sweep", "s.toml", "--out", "a.csv"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    // Another merge holds the lock of m.csv.
+    let lock = std::fs::File::create(dir.path().join(".m.csv.lock")).unwrap();
+    fs4::FileExt::try_lock(&lock).unwrap();
+    let out = run_in(dir.path(), &["merge", "a.csv", "--out", "m.csv"]);
+    refused(&out, &["m.csv", "locked"]);
+    assert!(!dir.path().join("m.csv").exists());
+    drop(lock);
+    let out = run_in(dir.path(), &["merge", "a.csv", "--out", "m.csv"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
+
+#[test]
+fn a_symlink_at_a_sweep_output_is_refused_and_never_followed() {
+    // Before: a dangling --out link got its target created.
+    let dir = tempfile::tempdir().unwrap();
+    long_sweep(dir.path(), 4);
+    std::os::unix::fs::symlink(dir.path().join("elsewhere.csv"), dir.path().join("o.csv")).unwrap();
+    let out = run_in(dir.path(), &["sweep", "s.toml", "--out", "o.csv"]);
+    refused(&out, &["o.csv", "symbolic link"]);
+    assert!(!dir.path().join("elsewhere.csv").exists());
+    // merge and the other writers replace a link by the file (write_atomic) and leave its
+    // target alone.
+    let o = run_in(dir.path(), &["sweep", "s.toml", "--out", "a.csv"]);
+    assert!(o.status.success());
+    let out = run_in(dir.path(), &["merge", "a.csv", "--out", "o.csv"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(!dir.path().join("elsewhere.csv").exists());
+    assert!(
+        !std::fs::symlink_metadata(dir.path().join("o.csv"))
+            .unwrap()
+            .file_type()
+            .is_symlink()
+    );
+}
+
+#[test]
+fn sweep_and_seek_syntax_errors_carry_line_and_column() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("s.toml"),
+        "base = \"x.toml\"\nmetrics = [\n",
+    )
+    .unwrap();
+    let out = run_in(dir.path(), &["sweep", "s.toml", "--out", "o.csv"]);
+    refused(&out, &["s.toml", "line 2, column 12"]);
+    let out = run_in(dir.path(), &["seek", "s.toml"]);
+    refused(&out, &["s.toml", "line 2, column 12"]);
+    std::fs::write(dir.path().join("s.toml"), b"base = \"x.toml\"\n\xff\n").unwrap();
+    let out = run_in(dir.path(), &["seek", "s.toml"]);
+    refused(&out, &["s.toml", "invalid UTF-8 at line 2, column 1"]);
+}
