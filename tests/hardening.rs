@@ -355,3 +355,99 @@ fn sweep_and_seek_syntax_errors_carry_line_and_column() {
     let out = run_in(dir.path(), &["seek", "s.toml"]);
     refused(&out, &["s.toml", "invalid UTF-8 at line 2, column 1"]);
 }
+
+#[test]
+fn merge_checks_every_row_and_names_the_first_bad_one() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::copy(
+        root().join("meshes-demo/tabletop-resonator.toml"),
+        dir.path().join("base.toml"),
+    )
+    .unwrap();
+    let sweep_of = |name: &str, last: &str| {
+        std::fs::write(
+            dir.path().join(format!("{name}.toml")),
+            format!(
+                "base = \"base.toml\"\nmetrics = [\"coupling.secondary.primary\"]\n[[axis]]\n\
+                 key = \"winding.primary.origin[2]\"\nvalues = [0.01, 0.02, 0.03, {last}]\n"
+            ),
+        )
+        .unwrap();
+        let o = run_in(
+            dir.path(),
+            &[
+                "sweep",
+                &format!("{name}.toml"),
+                "--out",
+                &format!("{name}.csv"),
+            ],
+        );
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        std::fs::read_to_string(dir.path().join(format!("{name}.csv"))).unwrap()
+    };
+    let good = sweep_of("a", "0.04");
+    sweep_of("b", "0.05");
+    let lines: Vec<&str> = good.lines().collect();
+    assert!(
+        lines[2].starts_with("1,0.02,") && lines[2].ends_with(",ok,"),
+        "{good}"
+    );
+    let edited = |line: &str| good.replacen(lines[2], line, 1);
+    let ok_row = lines[2];
+    let cases: Vec<(String, bool, &str)> = vec![
+        // Another sweep's output with the same header.
+        (
+            std::fs::read_to_string(dir.path().join("b.csv")).unwrap(),
+            true,
+            "line 5: point 3",
+        ),
+        // A parameter changed.
+        (
+            edited(&ok_row.replacen("0.02,", "0.025,", 1)),
+            true,
+            "line 3: point 1",
+        ),
+        // An unknown status, a missing and an extra field, a torn row mid-file.
+        (
+            edited(&ok_row.replace(",ok,", ",okay,")),
+            false,
+            "line 3: not a row",
+        ),
+        (edited("1,0.02"), false, "line 3: not a row"),
+        (
+            edited(&format!("{ok_row},extra")),
+            false,
+            "line 3: not a row",
+        ),
+        (
+            edited(&ok_row[..ok_row.len() / 2]),
+            false,
+            "line 3: not a row",
+        ),
+    ];
+    for (text, with_sweep, expected) in cases {
+        std::fs::write(dir.path().join("bad.csv"), &text).unwrap();
+        let mut args = vec!["merge", "bad.csv", "--out", "m.csv"];
+        if with_sweep {
+            args.extend(["--sweep", "a.toml"]);
+        }
+        let out = run_in(dir.path(), &args);
+        refused(&out, &["bad.csv", expected]);
+        assert!(!dir.path().join("m.csv").exists());
+    }
+}
+
+#[test]
+fn merge_without_a_sweep_never_builds_a_range_up_to_a_huge_index() {
+    // Before: a point index of 1e18 built a range up to it. Now the refusal names it at once
+    // (the points are 0..rows).
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("s.csv"),
+        "point,winding.a.turns,self_inductance.a,status,message\n\
+         1000000000000000000,5,1e-6,ok,\n",
+    )
+    .unwrap();
+    let out = run_in(dir.path(), &["merge", "s.csv", "--out", "m.csv"]);
+    refused(&out, &["points beyond the sweep: 1000000000000000000"]);
+}
