@@ -451,3 +451,41 @@ fn merge_without_a_sweep_never_builds_a_range_up_to_a_huge_index() {
     let out = run_in(dir.path(), &["merge", "s.csv", "--out", "m.csv"]);
     refused(&out, &["points beyond the sweep: 1000000000000000000"]);
 }
+
+#[test]
+fn map_extents_beyond_1000_km_are_refused_before_any_work() {
+    // Before: `map --extent -1e307,1e307,... --plot m.svg` never finished.
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::copy(
+        root().join("meshes-demo/exciter.toml"),
+        dir.path().join("d.toml"),
+    )
+    .unwrap();
+    for (key, args) in [
+        (
+            "--extent",
+            ["--plane", "xz", "--extent=-1e307,1e307,-1e307,1e307"],
+        ),
+        ("--box", ["--box=-1,1,-1,1,-1e300,1", "--plane", "xz"]),
+    ] {
+        let mut all = vec!["map", "d.toml"];
+        if key == "--box" {
+            all.extend(&args[..1]);
+        } else {
+            all.extend(args);
+        }
+        all.extend([
+            "--resolution",
+            if key == "--box" { "3,3,3" } else { "20,20" },
+        ]);
+        all.extend(["--plot", "m.svg"]);
+        let out = run_in(dir.path(), &all);
+        refused(&out, &[key, "1e6 m"]);
+        assert!(!dir.path().join("m.svg").exists());
+        // With a design that does not exist, the grid's refusal still comes first: the grid is
+        // checked before the design is read, let alone solved.
+        all[1] = "missing.toml";
+        let out = run_in(dir.path(), &all);
+        refused(&out, &[key, "1e6 m"]);
+    }
+}
