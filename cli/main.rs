@@ -391,6 +391,9 @@ fn main() -> ExitCode {
                 e.is::<BadInput>()
                     || e.is::<coilfield_geometry::DesignError>()
                     || e.is::<coilfield_solver::SolverError>()
+                    // A file that cannot be written (read-only, full disk, a missing folder) is
+                    // a bad output path: exit 2 like any other bad input.
+                    || e.is::<std::io::Error>()
             });
             let mut message = format!("error: {err}");
             for cause in err.chain().skip(1) {

@@ -91,9 +91,11 @@ fn check_ext(path: &Path, key: &str, allowed: &[&str]) -> Result<String, BadInpu
 
 /// Run `coilfield map`.
 pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
+    // The grid first: a grid out of bounds is refused before the design's work (a drive
+    // model's resonance solve).
+    let g = grid(&args)?;
     let design = load::design_resolved(args.design)?.design;
     let label = args.design.display().to_string();
-    let g = grid(&args)?;
     if args.vtk.is_none() && args.plot.is_none() {
         return Err(
             BadInput("map: give --vtk FILE.vtr and/or --plot FILE.png|FILE.svg".into()).into(),

@@ -1,35 +1,49 @@
 //! Output helpers: atomic file writes and JSON text; numbers through the one formatter
 //! `coilfield_solver::numtext`.
 
+use crate::BadInput;
 pub use coilfield_solver::numtext::si;
 use std::io::Write;
 use std::path::Path;
 
-/// Write `contents` to `path` atomically: a temporary file in the same folder, flushed to disk,
-/// then renamed over the target. A failure leaves any existing file untouched.
+/// Write `contents` to `path` atomically: a temporary file created exclusively (never an
+/// existing file or link, `tempfile`) in the target's folder, written, synced to disk, renamed
+/// over the target, and the folder synced so the rename itself survives a crash. The rename
+/// replaces a symbolic link at `path` by the file and never writes through it. A failure
+/// (read-only folder, full disk) is bad output (exit 2) and leaves any existing file untouched.
 pub fn write_atomic(path: &Path, contents: &[u8]) -> anyhow::Result<()> {
+    write_atomic_via(path, contents, |f| Box::new(f))
+}
+
+/// [`write_atomic`] with the temporary file's writer wrapped by `wrap`: tests inject a writer
+/// that fails after N bytes, as a full disk does.
+pub fn write_atomic_via(
+    path: &Path,
+    contents: &[u8],
+    wrap: impl FnOnce(&mut std::fs::File) -> Box<dyn Write + '_>,
+) -> anyhow::Result<()> {
     let dir = path
         .parent()
         .filter(|p| !p.as_os_str().is_empty())
         .unwrap_or(Path::new("."));
-    let name = path
-        .file_name()
-        .ok_or_else(|| anyhow::anyhow!("{}: not a file name", path.display()))?;
-    let tmp = dir.join(format!(
-        ".{}.{}.tmp",
-        name.to_string_lossy(),
-        std::process::id()
-    ));
-    let result = (|| -> std::io::Result<()> {
-        let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(contents)?;
-        f.sync_all()?;
-        std::fs::rename(&tmp, path)
-    })();
-    if let Err(e) = result {
-        let _ = std::fs::remove_file(&tmp);
-        anyhow::bail!("{}: cannot write: {e}", path.display());
+    if path.file_name().is_none() {
+        return Err(BadInput(format!("{}: not a file name", path.display())).into());
     }
+    let fail = |e: std::io::Error| BadInput(format!("{}: cannot write: {e}", path.display()));
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".coilfield-")
+        .suffix(".tmp")
+        .tempfile_in(dir)
+        .map_err(fail)?;
+    {
+        let mut w = wrap(tmp.as_file_mut());
+        w.write_all(contents).map_err(fail)?;
+        w.flush().map_err(fail)?;
+    }
+    tmp.as_file().sync_all().map_err(fail)?;
+    // On error the temporary file is removed when `tmp` drops; the target is untouched.
+    tmp.persist(path).map_err(|e| fail(e.error))?;
+    sync_dir(dir).map_err(fail)?;
     Ok(())
 }
 
@@ -39,4 +53,78 @@ pub fn json_text<T: serde::Serialize>(value: &T) -> anyhow::Result<String> {
     let mut v = serde_json::to_value(value)?;
     coilfield_solver::numtext::clean_json(&mut v);
     Ok(serde_json::to_string_pretty(&v)?)
+}
+
+/// Sync a folder, so that a rename in it is on disk.
+pub fn sync_dir(dir: &Path) -> std::io::Result<()> {
+    std::fs::File::open(dir)?.sync_all()
+}
+
+#[cfg(test)]
+mod tests {
+    /// A writer that accepts `left` bytes and then fails as a full disk does.
+    struct FailAfter<'a> {
+        inner: &'a mut std::fs::File,
+        left: usize,
+    }
+
+    impl std::io::Write for FailAfter<'_> {
+        fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+            if self.left == 0 {
+                return Err(std::io::Error::new(
+                    std::io::ErrorKind::StorageFull,
+                    "no space left on device",
+                ));
+            }
+            let n = buf.len().min(self.left);
+            self.left -= n;
+            self.inner.write(&buf[..n])
+        }
+        fn flush(&mut self) -> std::io::Result<()> {
+            self.inner.flush()
+        }
+    }
+
+    #[test]
+    fn a_full_disk_leaves_the_old_file_and_no_temporary() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("out.json");
+        std::fs::write(&path, "old").unwrap();
+        for n in [0, 1, 5] {
+            let e = super::write_atomic_via(&path, b"new contents", |f| {
+                Box::new(FailAfter { inner: f, left: n })
+            })
+            .unwrap_err();
+            assert!(e.is::<crate::BadInput>(), "{e}");
+            assert!(e.to_string().contains("no space left"), "{e}");
+            assert_eq!(std::fs::read_to_string(&path).unwrap(), "old");
+            assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
+        }
+        super::write_atomic(&path, b"new").unwrap();
+        assert_eq!(std::fs::read_to_string(&path).unwrap(), "new");
+    }
+
+    #[test]
+    fn a_symlink_at_the_target_is_replaced_never_followed() {
+        let dir = tempfile::tempdir().unwrap();
+        let target = dir.path().join("elsewhere.txt");
+        let link = dir.path().join("out.txt");
+        std::os::unix::fs::symlink(&target, &link).unwrap();
+        super::write_atomic(&link, b"x").unwrap();
+        assert!(!target.exists(), "the dangling link's target was created");
+        assert!(
+            !std::fs::symlink_metadata(&link)
+                .unwrap()
+                .file_type()
+                .is_symlink()
+        );
+        assert_eq!(std::fs::read_to_string(&link).unwrap(), "x");
+    }
+
+    #[test]
+    fn a_read_only_folder_is_bad_output() {
+        let e =
+            super::write_atomic(std::path::Path::new("/proc/coilfield-out.txt"), b"x").unwrap_err();
+        assert!(e.is::<crate::BadInput>(), "{e}");
+    }
 }

@@ -10,6 +10,12 @@ use std::path::Path;
 /// of what a 2-core, 24 GB build machine can spare while other work runs.
 pub const MAX_GRID_POINTS: usize = 4_000_000;
 
+/// Largest magnitude of a grid coordinate (`--extent`, `--offset`, `--box`, m): 1000 km, ten
+/// times a design's own bound ([`coilfield_geometry::limits::MAX_COORDINATE_M`]). Beyond it a
+/// grid says nothing about a coil, and its spacing and the plot's axis ticks overflow (an extent
+/// of +-1e307 m never finished).
+pub const MAX_GRID_COORDINATE_M: f64 = 1e6;
+
 /// Bytes held per grid point (see [`MAX_GRID_POINTS`]).
 pub const BYTES_PER_GRID_POINT: usize = 200;
 
@@ -192,6 +198,17 @@ fn check_size(sizes: &[usize]) -> Result<(), BadInput> {
     Ok(())
 }
 
+/// Every value of `v` within [`MAX_GRID_COORDINATE_M`].
+fn within_grid_bound(key: &str, v: &[f64]) -> Result<(), BadInput> {
+    match v.iter().find(|x| x.abs() > MAX_GRID_COORDINATE_M) {
+        Some(x) => Err(BadInput(format!(
+            "{key}: {x:e} m is beyond the grid's bound of {MAX_GRID_COORDINATE_M:e} m from the \
+             origin"
+        ))),
+        None => Ok(()),
+    }
+}
+
 fn ordered(key: &str, a: f64, b: f64) -> Result<(), BadInput> {
     if a < b {
         Ok(())
@@ -214,7 +231,9 @@ pub fn plane_grid(
             "--offset: must be a finite number of metres".into(),
         ));
     }
+    within_grid_bound("--offset", &[offset_m])?;
     let e = numbers("--extent", extent, 4)?;
+    within_grid_bound("--extent", &e)?;
     ordered("--extent", e[0], e[1])?;
     ordered("--extent", e[2], e[3])?;
     let n = counts("--resolution", resolution, 2)?;
@@ -238,6 +257,7 @@ pub fn plane_grid(
 /// A box grid: `bounds` = `X0,X1,Y0,Y1,Z0,Z1` (m), `resolution` = `NX,NY,NZ`.
 pub fn box_grid(bounds: &str, resolution: &str) -> Result<Grid, BadInput> {
     let b = numbers("--box", bounds, 6)?;
+    within_grid_bound("--box", &b)?;
     for k in 0..3 {
         ordered("--box", b[2 * k], b[2 * k + 1])?;
     }

@@ -22,9 +22,9 @@ enum Goal {
 pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
     let label = path.display().to_string();
     let text = crate::load::text(path, "seek file")?;
-    let mut table: toml::Table = text
-        .parse()
-        .map_err(|e: toml::de::Error| BadInput(format!("{label}: {}", e.message())))?;
+    let mut table: toml::Table = text.parse().map_err(|e: toml::de::Error| {
+        coilfield_geometry::file::raw::syntax_error(&e, &text, &label)
+    })?;
     let bad = |key: &str, reason: &str| BadInput(format!("{label}: {key}: {reason}"));
     let max_evaluations = match table.remove("max_evaluations") {
         None => 200,

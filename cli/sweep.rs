@@ -8,6 +8,7 @@ use coilfield_solver::Par;
 use coilfield_solver::sweep::{self, OutFormat, RowSink, Shard, SweepPlan};
 use std::fs::{File, OpenOptions};
 use std::io::{IsTerminal, Read, Seek, SeekFrom, Write};
+use std::os::unix::fs::OpenOptionsExt as _;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use std::sync::Mutex;
@@ -292,6 +293,7 @@ pub fn run(
     );
     let mine = shard.indices(plan.points().len());
 
+    refuse_symlink(&out)?;
     let exists = out.exists();
     if exists && !resume {
         return Err(BadInput(format!(
@@ -304,8 +306,11 @@ pub fn run(
         .read(true)
         .append(true)
         .create(true)
+        // A link put in place after the check above is not followed either.
+        .custom_flags(libc::O_NOFOLLOW)
         .open(&out)
-        .map_err(|e| anyhow::anyhow!("{}: cannot open: {e}", out.display()))?;
+        .map_err(|e| BadInput(format!("{}: cannot open: {e}", out.display())))?;
+    lock_exclusive(&file, &out)?;
     let existing = if exists {
         read_existing(&out, &mut file)?
     } else {
@@ -454,6 +459,47 @@ pub fn run(
     Ok(ExitCode::SUCCESS)
 }
 
+/// The lock file of a merge's `--out`: `.<name>.lock` in its folder.
+fn lock_file_of(out: &Path) -> anyhow::Result<PathBuf> {
+    let name = out
+        .file_name()
+        .ok_or_else(|| BadInput(format!("{}: not a file name", out.display())))?;
+    Ok(out.with_file_name(format!(".{}.lock", name.to_string_lossy())))
+}
+
+/// Refuse a symbolic link at `out`: rows are appended to the file named, never to whatever a
+/// link points at (a dangling link would have its target created).
+fn refuse_symlink(out: &Path) -> anyhow::Result<()> {
+    if std::fs::symlink_metadata(out).is_ok_and(|m| m.file_type().is_symlink()) {
+        return Err(BadInput(format!(
+            "{}: is a symbolic link; give the path of the file itself",
+            out.display()
+        ))
+        .into());
+    }
+    Ok(())
+}
+
+/// An exclusive advisory lock on `file` (flock), held until it closes: a second sweep or merge
+/// writing the same output is refused rather than writing every row twice. Locks on network
+/// file systems (NFS, SMB) may not hold; give each writer its own output there.
+fn lock_exclusive(file: &File, out: &Path) -> anyhow::Result<()> {
+    match fs4::FileExt::try_lock(file) {
+        Ok(()) => Ok(()),
+        Err(fs4::TryLockError::WouldBlock) => Err(BadInput(format!(
+            "{}: another coilfield process is writing it (the file is locked); wait for it to \
+             finish or give another --out",
+            out.display()
+        ))
+        .into()),
+        Err(fs4::TryLockError::Error(e)) => Err(BadInput(format!(
+            "{}: cannot lock it for writing: {e}",
+            out.display()
+        ))
+        .into()),
+    }
+}
+
 /// `coilfield merge`: join shard outputs into the file one process would have written.
 pub fn merge(files: &[PathBuf], out: &Path, sweep: Option<&Path>) -> anyhow::Result<ExitCode> {
     let format = out_format(out)?;
@@ -482,7 +528,19 @@ pub fn merge(files: &[PathBuf], out: &Path, sweep: Option<&Path>) -> anyhow::Res
         .map(|(label, text)| (label.as_str(), text.as_str()))
         .collect();
     let text = sweep::merge(&parts, format, expected.as_ref())?;
+    // Two merges into one --out: the second is refused while the first holds the lock file
+    // beside it (the output itself is replaced by a rename, so it cannot carry the lock).
+    let lock_path = lock_file_of(out)?;
+    let lock = OpenOptions::new()
+        .write(true)
+        .create(true)
+        .truncate(false)
+        .custom_flags(libc::O_NOFOLLOW)
+        .open(&lock_path)
+        .map_err(|e| BadInput(format!("{}: cannot open: {e}", lock_path.display())))?;
+    lock_exclusive(&lock, out)?;
     crate::output::write_atomic(out, text.as_bytes())?;
+    drop(lock);
     let total = text.lines().count().saturating_sub(format.header_lines());
     eprintln!(
         "merge: {total} points from {} files in {}",

@@ -239,3 +239,256 @@ fn a_polyline_of_too_many_points_is_refused_before_any_work() {
     let out = inductance(dir.path(), &text);
     refused(&out, &["winding 'p'", "'points'", "20000 points", "10000"]);
 }
+
+/// The demo base and a sweep file of `steps` heights of its primary, in `dir`.
+fn long_sweep(dir: &Path, steps: usize) {
+    std::fs::copy(
+        root().join("meshes-demo/tabletop-resonator.toml"),
+        dir.join("base.toml"),
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("s.toml"),
+        format!(
+            "base = \"base.toml\"\nmetrics = [\"gap.secondary.primary\"]\n[[axis]]\n\
+             key = \"winding.primary.origin[2]\"\nfrom = 0.0\nto = 0.09\nsteps = {steps}\n"
+        ),
+    )
+    .unwrap();
+}
+
+#[test]
+fn a_second_writer_of_a_sweep_output_is_refused() {
+    // Before: two `--resume` runs on one --out both exited 0 and every row was written twice.
+    let dir = tempfile::tempdir().unwrap();
+    long_sweep(dir.path(), 20_000);
+    let out = dir.path().join("o.csv");
+    let mut first = Command::new(bin())
+        .current_dir(dir.path())
+        .args(["sweep", "s.toml", "--out", "o.csv", "--threads", "1"])
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let started = std::time::Instant::now();
+    while std::fs::read_to_string(&out).map_or(0, |t| t.lines().count()) < 2 {
+        assert!(started.elapsed().as_secs() < 120, "no rows after 120 s");
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    }
+    let second = run_in(
+        dir.path(),
+        &["sweep", "s.toml", "--out", "o.csv", "--resume"],
+    );
+    let still_running = first.try_wait().unwrap().is_none();
+    Command::new("kill")
+        .args(["-INT", &first.id().to_string()])
+        .status()
+        .unwrap();
+    let status = first.wait().unwrap();
+    assert!(still_running && status.code() == Some(130), "{status:?}");
+    refused(&second, &["o.csv", "locked"]);
+    // The file holds each point once, in order.
+    let text = std::fs::read_to_string(&out).unwrap();
+    for (i, row) in text.lines().skip(1).enumerate() {
+        assert!(row.starts_with(&format!("{i},")), "row {i}: {row}");
+    }
+}
+
+#[test]
+fn a_merge_into_a_locked_output_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    long_sweep(dir.path(), 4);
+    let o = run_in(dir.path(), &["sweep", "s.toml", "--out", "a.csv"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    // Another merge holds the lock of m.csv.
+    let lock = std::fs::File::create(dir.path().join(".m.csv.lock")).unwrap();
+    fs4::FileExt::try_lock(&lock).unwrap();
+    let out = run_in(dir.path(), &["merge", "a.csv", "--out", "m.csv"]);
+    refused(&out, &["m.csv", "locked"]);
+    assert!(!dir.path().join("m.csv").exists());
+    drop(lock);
+    let out = run_in(dir.path(), &["merge", "a.csv", "--out", "m.csv"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
+
+#[test]
+fn a_symlink_at_a_sweep_output_is_refused_and_never_followed() {
+    // Before: a dangling --out link got its target created.
+    let dir = tempfile::tempdir().unwrap();
+    long_sweep(dir.path(), 4);
+    std::os::unix::fs::symlink(dir.path().join("elsewhere.csv"), dir.path().join("o.csv")).unwrap();
+    let out = run_in(dir.path(), &["sweep", "s.toml", "--out", "o.csv"]);
+    refused(&out, &["o.csv", "symbolic link"]);
+    assert!(!dir.path().join("elsewhere.csv").exists());
+    // merge and the other writers replace a link by the file (write_atomic) and leave its
+    // target alone.
+    let o = run_in(dir.path(), &["sweep", "s.toml", "--out", "a.csv"]);
+    assert!(o.status.success());
+    let out = run_in(dir.path(), &["merge", "a.csv", "--out", "o.csv"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(!dir.path().join("elsewhere.csv").exists());
+    assert!(
+        !std::fs::symlink_metadata(dir.path().join("o.csv"))
+            .unwrap()
+            .file_type()
+            .is_symlink()
+    );
+}
+
+#[test]
+fn sweep_and_seek_syntax_errors_carry_line_and_column() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("s.toml"),
+        "base = \"x.toml\"\nmetrics = [\n",
+    )
+    .unwrap();
+    let out = run_in(dir.path(), &["sweep", "s.toml", "--out", "o.csv"]);
+    refused(&out, &["s.toml", "line 2, column 12"]);
+    let out = run_in(dir.path(), &["seek", "s.toml"]);
+    refused(&out, &["s.toml", "line 2, column 12"]);
+    std::fs::write(dir.path().join("s.toml"), b"base = \"x.toml\"\n\xff\n").unwrap();
+    let out = run_in(dir.path(), &["seek", "s.toml"]);
+    refused(&out, &["s.toml", "invalid UTF-8 at line 2, column 1"]);
+}
+
+#[test]
+fn merge_checks_every_row_and_names_the_first_bad_one() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::copy(
+        root().join("meshes-demo/tabletop-resonator.toml"),
+        dir.path().join("base.toml"),
+    )
+    .unwrap();
+    let sweep_of = |name: &str, last: &str| {
+        std::fs::write(
+            dir.path().join(format!("{name}.toml")),
+            format!(
+                "base = \"base.toml\"\nmetrics = [\"coupling.secondary.primary\"]\n[[axis]]\n\
+                 key = \"winding.primary.origin[2]\"\nvalues = [0.01, 0.02, 0.03, {last}]\n"
+            ),
+        )
+        .unwrap();
+        let o = run_in(
+            dir.path(),
+            &[
+                "sweep",
+                &format!("{name}.toml"),
+                "--out",
+                &format!("{name}.csv"),
+            ],
+        );
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        std::fs::read_to_string(dir.path().join(format!("{name}.csv"))).unwrap()
+    };
+    let good = sweep_of("a", "0.04");
+    sweep_of("b", "0.05");
+    let lines: Vec<&str> = good.lines().collect();
+    assert!(
+        lines[2].starts_with("1,0.02,") && lines[2].ends_with(",ok,"),
+        "{good}"
+    );
+    let edited = |line: &str| good.replacen(lines[2], line, 1);
+    let ok_row = lines[2];
+    let cases: Vec<(String, bool, &str)> = vec![
+        // Another sweep's output with the same header.
+        (
+            std::fs::read_to_string(dir.path().join("b.csv")).unwrap(),
+            true,
+            "line 5: point 3",
+        ),
+        // A parameter changed.
+        (
+            edited(&ok_row.replacen("0.02,", "0.025,", 1)),
+            true,
+            "line 3: point 1",
+        ),
+        // An unknown status, a missing and an extra field, a torn row mid-file.
+        (
+            edited(&ok_row.replace(",ok,", ",okay,")),
+            false,
+            "line 3: not a row",
+        ),
+        (edited("1,0.02"), false, "line 3: not a row"),
+        (
+            edited(&format!("{ok_row},extra")),
+            false,
+            "line 3: not a row",
+        ),
+        (
+            edited(&ok_row[..ok_row.len() / 2]),
+            false,
+            "line 3: not a row",
+        ),
+    ];
+    for (text, with_sweep, expected) in cases {
+        std::fs::write(dir.path().join("bad.csv"), &text).unwrap();
+        let mut args = vec!["merge", "bad.csv", "--out", "m.csv"];
+        if with_sweep {
+            args.extend(["--sweep", "a.toml"]);
+        }
+        let out = run_in(dir.path(), &args);
+        refused(&out, &["bad.csv", expected]);
+        assert!(!dir.path().join("m.csv").exists());
+    }
+}
+
+#[test]
+fn merge_without_a_sweep_never_builds_a_range_up_to_a_huge_index() {
+    // Before: a point index of 1e18 built a range up to it. Now the refusal names it at once
+    // (the points are 0..rows).
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("s.csv"),
+        "point,winding.a.turns,self_inductance.a,status,message\n\
+         1000000000000000000,5,1e-6,ok,\n",
+    )
+    .unwrap();
+    let out = run_in(dir.path(), &["merge", "s.csv", "--out", "m.csv"]);
+    refused(&out, &["points beyond the sweep: 1000000000000000000"]);
+}
+
+#[test]
+fn map_extents_beyond_1000_km_are_refused_before_any_work() {
+    // Before: `map --extent -1e307,1e307,... --plot m.svg` never finished.
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::copy(
+        root().join("meshes-demo/exciter.toml"),
+        dir.path().join("d.toml"),
+    )
+    .unwrap();
+    for (key, args) in [
+        (
+            "--extent",
+            ["--plane", "xz", "--extent=-1e307,1e307,-1e307,1e307"],
+        ),
+        ("--box", ["--box=-1,1,-1,1,-1e300,1", "--plane", "xz"]),
+    ] {
+        let mut all = vec!["map", "d.toml"];
+        if key == "--box" {
+            all.extend(&args[..1]);
+        } else {
+            all.extend(args);
+        }
+        all.extend([
+            "--resolution",
+            if key == "--box" { "3,3,3" } else { "20,20" },
+        ]);
+        all.extend(["--plot", "m.svg"]);
+        let out = run_in(dir.path(), &all);
+        refused(&out, &[key, "1e6 m"]);
+        assert!(!dir.path().join("m.svg").exists());
+        // With a design that does not exist, the grid's refusal still comes first: the grid is
+        // checked before the design is read, let alone solved.
+        all[1] = "missing.toml";
+        let out = run_in(dir.path(), &all);
+        refused(&out, &[key, "1e6 m"]);
+    }
+}

@@ -2,8 +2,8 @@
 //! merged by a dependent job, must give the single-process file byte for byte; and Slurm itself
 //! must report every array task COMPLETED, so a silent fallback to local runs cannot pass.
 //!
-//! Runs only when COILFIELD_SLURM_TESTS=1 (set by `.ci/test` after starting Slurm); otherwise
-//! it says so and returns.
+//! Ignored unless asked for: `.ci/test` starts Slurm and runs it with `--include-ignored`, so a
+//! run without a cluster lists it as ignored, never as passed.
 
 mod common;
 
@@ -46,11 +46,8 @@ fn states(job: &str) -> Vec<(String, String)> {
 }
 
 #[test]
+#[ignore = "needs a local Slurm (.ci/slurm-up.sh; .ci/test runs it with --include-ignored)"]
 fn job_array_shards_merge_into_the_single_process_file() {
-    if std::env::var("COILFIELD_SLURM_TESTS").as_deref() != Ok("1") {
-        eprintln!("skipped: set COILFIELD_SLURM_TESTS=1 with Slurm running (.ci/slurm-up.sh)");
-        return;
-    }
     // Slurm jobs run as root on this node and need a folder they can all see.
     std::fs::create_dir_all(root().join("target")).unwrap();
     let dir = tempfile::Builder::new()

@@ -443,9 +443,8 @@ pub enum DesignError {
     /// The wires of two windings touch or cross. Move or resize one of them.
     #[error(
         "{source_name}: {item}: key '{key}': its wire touches or crosses the wire of {other} \
-         (surface gap {gap_m:.3e} m, i.e. the wires overlap by {overlap_m:.3e} m, near \
-         {} m); move or resize one of them",
-        point(.near_m), overlap_m = -.gap_m
+         ({}, near {} m); move or resize one of them",
+        overlap_phrase(*.gap_m), point(.near_m)
     )]
     Overlap {
         /// File label.
@@ -616,6 +615,26 @@ pub enum DesignError {
     },
 }
 
+/// How far two wires overlap, for a message: "the wires touch" when they meet exactly (never
+/// "overlap by -0.000e0 m").
+pub(crate) fn overlap_phrase(gap_m: f64) -> String {
+    if gap_m < 0.0 {
+        format!(
+            "surface gap {gap_m:.3e} m, i.e. the wires overlap by {:.3e} m",
+            -gap_m
+        )
+    } else {
+        format!(
+            "the wires touch: surface gap {} m",
+            if gap_m == 0.0 {
+                "0".to_string()
+            } else {
+                format!("{gap_m:.3e}")
+            }
+        )
+    }
+}
+
 /// Longest value echoed whole in a message (characters); a longer one is cut in the middle.
 pub const MAX_ECHO_CHARS: usize = 80;
 
@@ -679,6 +698,19 @@ mod tests {
         assert_eq!(sig(0.0), "0");
         assert_eq!(sig(f64::NAN), "NaN");
         assert_eq!(sig(12.0), "12");
+    }
+
+    #[test]
+    fn touching_wires_read_as_touching() {
+        assert_eq!(
+            super::overlap_phrase(0.0),
+            "the wires touch: surface gap 0 m"
+        );
+        assert_eq!(
+            super::overlap_phrase(-0.0),
+            "the wires touch: surface gap 0 m"
+        );
+        assert!(super::overlap_phrase(-1e-4).contains("overlap by 1.000e-4 m"));
     }
 
     #[test]

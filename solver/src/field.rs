@@ -153,8 +153,16 @@ fn cylindrical(
 /// B_rho = mu0 I z / (2 pi sqrt D) cel(kc, 1, 2a/d, -2a/D): the 1/rho has cancelled, so the
 /// axis needs no special case and gives exactly B_z = mu0 I a^2 / (2 (a^2 + z^2)^{3/2}),
 /// B_rho = 0 (cel(1, 1, x, y) = pi (x + y)/4). Infinite on the wire (d = 0).
+///
+/// Far from the ring (distance r above [`RING_MULTIPOLE_RATIO`] radii) the closed form loses
+/// its digits, since the cel arguments nearly cancel (half the value at r = 1e15 a, zero
+/// beyond); there the multipole series of the ring is used instead ([`b_ring_far`]).
 #[inline]
 pub fn b_ring_point(a_m: f64, current_a: f64, rho_m: f64, z_m: f64) -> (f64, f64) {
+    let r_m = rho_m.hypot(z_m);
+    if r_m > RING_MULTIPOLE_RATIO * a_m {
+        return b_ring_far(a_m, current_a, rho_m, z_m, r_m);
+    }
     let big_d = (a_m + rho_m) * (a_m + rho_m) + z_m * z_m;
     let small_d = (a_m - rho_m) * (a_m - rho_m) + z_m * z_m;
     let kc = (small_d / big_d).sqrt();
@@ -168,6 +176,38 @@ pub fn b_ring_point(a_m: f64, current_a: f64, rho_m: f64, z_m: f64) -> (f64, f64
         );
     let brho = pre * z_m * cel_positive_p(kc, 1.0, 2.0 * a_m / small_d, -2.0 * a_m / big_d);
     (brho, bz)
+}
+
+/// Distance from a ring's centre, in radii, beyond which its field is the multipole series
+/// ([`b_ring_far`]): there the series' truncation, about 2 (a/r)^6, is below 1e-17, while the
+/// closed form's cancellation grows as (r/a)^2 times the rounding unit.
+pub const RING_MULTIPOLE_RATIO: f64 = 1e3;
+
+/// (B_rho, B_z) (T) of a ring far away (r >> a): the first three terms (l = 1, 3, 5) of the ring's
+/// magnetic scalar potential, Phi = -(I/2) sum_n binom(-1/2, n) (a/r)^(2n) P_(2n-1)(cos theta)
+/// (the on-axis potential (I/2)(1 - z/sqrt(z^2 + a^2)) expanded in a/z and continued off the
+/// axis by Legendre polynomials; W. R. Smythe, "Static and Dynamic Electricity", 3rd ed., 1968,
+/// sec. 7.10), B = -mu0 grad Phi. A term C r^-(l+1) P_l gives B_r = mu0 (l + 1) C
+/// r^-(l+2) P_l, B_theta = mu0 C r^-(l+2) sin(theta) P_l'; C_1 = I a^2 / 4, C_3 = -3 I a^4 / 16,
+/// C_5 = 5 I a^6 / 32. Relative truncation error about 2 (a/r)^6; powers of a/r taken first so
+/// nothing overflows.
+fn b_ring_far(a_m: f64, current_a: f64, rho_m: f64, z_m: f64, r_m: f64) -> (f64, f64) {
+    let (c, s) = (z_m / r_m, rho_m / r_m);
+    let q = a_m / r_m;
+    let q2 = q * q;
+    // mu0 C_l r^-(l+2), l = 1, 3, 5.
+    let base = MU0 * current_a * q2 / r_m;
+    let k1 = 0.25 * base;
+    let k3 = -3.0 / 16.0 * base * q2;
+    let k5 = 5.0 / 32.0 * base * q2 * q2;
+    let c2 = c * c;
+    let p3 = 0.5 * c * (5.0 * c2 - 3.0);
+    let dp3 = 0.5 * (15.0 * c2 - 3.0);
+    let p5 = 0.125 * c * ((63.0 * c2 - 70.0) * c2 + 15.0);
+    let dp5 = 0.125 * ((315.0 * c2 - 210.0) * c2 + 15.0);
+    let b_r = 2.0 * k1 * c + 4.0 * k3 * p3 + 6.0 * k5 * p5;
+    let b_t = s * (k1 + k3 * dp3 + k5 * dp5);
+    (b_r * s + b_t * c, b_r * c - b_t * s)
 }
 
 /// B (T) at `p` of a straight filament from `a` to `b` carrying `current_a`.
@@ -564,6 +604,53 @@ mod tests {
             assert!(
                 (got - reference).abs() <= tol * magnitude,
                 "{kind} {x:?} {quantity}: {got} vs {reference}"
+            );
+        }
+    }
+
+    #[test]
+    fn ring_field_keeps_its_digits_far_away() {
+        // On the axis the exact field mu0 I a^2 / (2 (a^2 + z^2)^(3/2)) (Jackson, "Classical
+        // Electrodynamics", 3rd ed., 1999, sec. 5.5), written as mu0 I a^2 / (2 z^3 (1 +
+        // (a/z)^2)^(3/2)) so that it neither overflows nor cancels: a different formula from
+        // both branches. Before: half the value at 1e15 m, zero from 1e16 m.
+        let (a, i) = (0.05, 2.0);
+        for z in [0.3, 10.0, 49.0, 51.0, 1e3, 1e6, 1e15, 1e16, 1e100] {
+            let q = a / z;
+            let exact = MU0 * i * a * a / (2.0 * z * z * z * (1.0 + q * q).powf(1.5));
+            let (br, bz) = b_ring_point(a, i, 0.0, z);
+            assert!(rel(bz, exact) < 1e-12, "z = {z}: {bz} vs {exact}");
+            assert!(br.abs() <= 1e-12 * exact, "z = {z}: B_rho {br}");
+        }
+        // In the plane of the ring, far away: the field of a magnetic dipole m = I pi a^2,
+        // B_z = -mu0 m / (4 pi rho^3) (Jackson 1999, eq. 5.56), which the ring's field
+        // approaches with a relative difference of 9/8 (a/rho)^2 (its octupole term).
+        for rho in [1e3, 1e6, 1e15, 1e16, 1e100] {
+            let q = a / rho;
+            let dipole = -MU0 * i * a * a / (4.0 * rho * rho * rho);
+            let (br, bz) = b_ring_point(a, i, rho, 0.0);
+            assert!(
+                rel(bz, dipole) < 1.2 * q * q + 1e-13,
+                "rho = {rho}: {bz} vs {dipole}"
+            );
+            assert!(br.abs() <= 1e-12 * dipole.abs(), "rho = {rho}: B_rho {br}");
+        }
+        // Both branches agree where they meet, in every direction (the closed form holds its
+        // digits there: its cancellation costs about (r/a)^2 rounding units).
+        let r = RING_MULTIPOLE_RATIO * a;
+        for k in 0..=12 {
+            let t = std::f64::consts::PI * k as f64 / 12.0;
+            let (rho, z) = (r * t.sin(), r * t.cos());
+            let near = b_ring_point(a, i, rho * (1.0 - 1e-13), z * (1.0 - 1e-13));
+            let far = b_ring_point(a, i, rho * (1.0 + 1e-13), z * (1.0 + 1e-13));
+            let scale = far.0.hypot(far.1);
+            assert!(
+                (near.0 - far.0).abs() < 1e-9 * scale,
+                "theta {t}: {near:?} {far:?}"
+            );
+            assert!(
+                (near.1 - far.1).abs() < 1e-9 * scale,
+                "theta {t}: {near:?} {far:?}"
             );
         }
     }

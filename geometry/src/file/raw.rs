@@ -21,8 +21,9 @@ pub fn is_valid_name(name: &str) -> bool {
             .all(|b| b.is_ascii_alphanumeric() || b == b'_' || b == b'-')
 }
 
-/// Message for a TOML syntax error, with a 1-based line and column computed from the span.
-pub(crate) fn syntax_error(err: &toml::de::Error, text: &str, source: &str) -> DesignError {
+/// Message for a TOML syntax error, with a 1-based line and column computed from the span: the
+/// one form for design, sweep and seek files.
+pub fn syntax_error(err: &toml::de::Error, text: &str, source: &str) -> DesignError {
     let offset = err.span().map_or(0, |span| span.start).min(text.len());
     // The span is a byte offset; step back to a character boundary before slicing.
     let mut boundary = offset;

@@ -295,7 +295,7 @@ pub fn parse_key(key: &str) -> Result<KeyPath, String> {
 pub fn parse_sweep(text: &str, source: &str) -> Result<Sweep, DesignError> {
     let mut table: Table = text
         .parse()
-        .map_err(|e: toml::de::Error| invalid(source, "syntax", e.message().to_string()))?;
+        .map_err(|e: toml::de::Error| crate::file::raw::syntax_error(&e, text, source))?;
     const KEYS: &[&str] = &["base", "axis", "sample", "metrics", "constraints"];
     if let Some(k) = table.keys().find(|k| !KEYS.contains(&k.as_str())) {
         return Err(invalid(

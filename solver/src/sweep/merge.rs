@@ -1,8 +1,9 @@
 //! Merging the outputs of a sweep's shards into the output one process would have written.
 
 use crate::error::SolverError;
+use crate::numtext::shortest as num;
 use crate::sweep::plan::SweepPlan;
-use crate::sweep::rows::{OutFormat, point_of};
+use crate::sweep::rows::{OutFormat, STATUS_WORDS, csv_row_problem, point_of};
 use std::collections::BTreeMap;
 
 fn bad(message: String) -> SolverError {
@@ -41,13 +42,28 @@ pub fn merge(
                 Some(_) => {}
             }
         }
+        let columns = header.map_or(0, |(h, _)| h.split(',').count());
         for (n, line) in lines.enumerate() {
-            let p = point_of(line, format).ok_or_else(|| {
-                bad(format!(
-                    "{label}: line {}: no point index",
-                    n + 1 + format.header_lines()
-                ))
-            })?;
+            let line_no = n + 1 + format.header_lines();
+            let problem = match format {
+                OutFormat::Csv => csv_row_problem(line, columns),
+                OutFormat::JsonLines => json_row_problem(line),
+            };
+            if let Some(why) = problem {
+                return Err(bad(format!(
+                    "{label}: line {line_no}: not a row of this sweep: {why}"
+                )));
+            }
+            let p = point_of(line, format)
+                .ok_or_else(|| bad(format!("{label}: line {line_no}: no point index")))?;
+            if let Some(plan) = expected
+                && let Some(why) = params_problem(line, format, plan, p)
+            {
+                return Err(bad(format!(
+                    "{label}: line {line_no}: point {p}: {why}; not a row of the sweep {}",
+                    plan.sweep_label()
+                )));
+            }
             if let Some((_, first)) = rows.get(&p) {
                 doubled.push(format!("point {p} ({first} and {label})"));
             } else {
@@ -69,7 +85,9 @@ pub fn merge(
     }
     let total = match expected {
         Some(plan) => plan.points().len(),
-        None => rows.keys().next_back().map_or(0, |p| p + 1),
+        // Every point appears once, so the points are 0..rows: an index beyond is reported,
+        // never a range built up to it (the work stays linear in the rows read).
+        None => rows.len(),
     };
     if let Some(plan) = expected
         && format == OutFormat::Csv
@@ -108,6 +126,70 @@ pub fn merge(
 }
 
 /// `0-4, 7, 9-12` (the first 20 runs).
+/// Why a JSON line is not a row (an object with a point index, params, metrics, a known status
+/// and a message), or `None`.
+fn json_row_problem(line: &str) -> Option<String> {
+    let v: serde_json::Value = match serde_json::from_str(line) {
+        Ok(v) => v,
+        Err(e) => return Some(format!("not JSON: {e}")),
+    };
+    let Some(obj) = v.as_object() else {
+        return Some("not a JSON object".into());
+    };
+    let mut keys: Vec<&str> = obj.keys().map(String::as_str).collect();
+    keys.sort_unstable();
+    if keys != ["message", "metrics", "params", "point", "status"] {
+        return Some(format!(
+            "keys {} (a row has point, params, metrics, status, message)",
+            keys.join(", ")
+        ));
+    }
+    match obj["status"].as_str() {
+        Some(s) if STATUS_WORDS.contains(&s) => None,
+        _ => Some(format!(
+            "unknown status (known: {})",
+            STATUS_WORDS.join(", ")
+        )),
+    }
+}
+
+/// Why the parameters of row `line` (point `p`) differ from the plan's point `p`, or `None`.
+fn params_problem(line: &str, format: OutFormat, plan: &SweepPlan, p: usize) -> Option<String> {
+    let Some(want) = plan.points().get(p) else {
+        return Some(format!("beyond the sweep's {} points", plan.points().len()));
+    };
+    let axes = &plan.sweep().axes;
+    match format {
+        OutFormat::Csv => {
+            let got: Vec<&str> = line.split(',').skip(1).take(axes.len()).collect();
+            for (k, (g, w)) in got.iter().zip(want).enumerate() {
+                if *g != num(*w) {
+                    return Some(format!(
+                        "`{}` is {g}, the sweep's is {}",
+                        axes[k].key,
+                        num(*w)
+                    ));
+                }
+            }
+            None
+        }
+        OutFormat::JsonLines => {
+            let v: serde_json::Value = serde_json::from_str(line).ok()?;
+            for (a, w) in axes.iter().zip(want) {
+                if v["params"][&a.key].as_f64() != Some(*w) {
+                    return Some(format!(
+                        "`{}` is {}, the sweep's is {}",
+                        a.key,
+                        v["params"][&a.key],
+                        num(*w)
+                    ));
+                }
+            }
+            None
+        }
+    }
+}
+
 fn ranges(v: &[usize]) -> String {
     let mut parts: Vec<String> = Vec::new();
     let mut i = 0;

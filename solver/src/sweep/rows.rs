@@ -112,6 +112,52 @@ fn csv_field(s: &str) -> String {
     }
 }
 
+/// The values of `status` a row may hold.
+pub(crate) const STATUS_WORDS: [&str; 3] = ["ok", "infeasible", "error"];
+
+/// Why a CSV row does not have the form of a row under a header of `columns` columns (index,
+/// parameters, metrics, status, message): numbers where numbers go, a known status, and a
+/// message that is one field (RFC 4180 quoting); `None` when it has it.
+pub(crate) fn csv_row_problem(line: &str, columns: usize) -> Option<String> {
+    // Every field before the message is a number, a status word or empty: none holds a comma.
+    let fields: Vec<&str> = line.splitn(columns, ',').collect();
+    if fields.len() < columns {
+        return Some(format!(
+            "{} fields where the header has {columns}",
+            fields.len()
+        ));
+    }
+    if fields[0].parse::<usize>().is_err() {
+        return Some("no point index".into());
+    }
+    for (k, f) in fields[1..columns - 2].iter().enumerate() {
+        if !f.is_empty() && f.parse::<f64>().is_err() {
+            return Some(format!("field {} is not a number", k + 2));
+        }
+    }
+    let status = fields[columns - 2];
+    if !STATUS_WORDS.contains(&status) {
+        return Some(format!(
+            "unknown status \"{}\" (known: {})",
+            status.chars().take(40).collect::<String>(),
+            STATUS_WORDS.join(", ")
+        ));
+    }
+    let message = fields[columns - 1];
+    let one_field = match message.strip_prefix('"') {
+        Some(rest) => rest
+            .strip_suffix('"')
+            .is_some_and(|inner| !inner.replace("\"\"", "").contains('"')),
+        None => !message.contains([',', '"']),
+    };
+    if !one_field {
+        return Some(format!(
+            "more than {columns} fields, or a badly quoted message"
+        ));
+    }
+    None
+}
+
 /// Point index of an output line (a row; not the CSV header).
 pub(crate) fn point_of(line: &str, format: OutFormat) -> Option<usize> {
     match format {
