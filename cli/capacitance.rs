@@ -2,6 +2,7 @@
 //! capacitance, the secondary's equivalent self-capacitance, error estimates and the peak
 //! surface field of each electrode at the drive potentials.
 
+use crate::capacitance_fem::{self, ElectricSolver};
 use crate::{Format, load, output};
 use coilfield_solver::field_model;
 use coilfield_solver::thresholds::AIR_BREAKDOWN_V_PER_M;
@@ -34,6 +35,8 @@ struct PeakOut {
 
 #[derive(Serialize)]
 struct CapOut {
+    /// Which electric solver served: "bem" here ("fem" in `capacitance_fem`).
+    solver: &'static str,
     conductors: Vec<ConductorOut>,
     matrix_f: Vec<Vec<f64>>,
     matrix_error_estimate_f: Vec<Vec<f64>>,
@@ -43,9 +46,26 @@ struct CapOut {
 }
 
 /// Run `coilfield capacitance`.
-pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Result<ExitCode> {
+pub fn run(
+    design_path: &Path,
+    format: Format,
+    out: Option<&Path>,
+    solver: ElectricSolver,
+    mesh_vtk: Option<&Path>,
+) -> anyhow::Result<ExitCode> {
     let design = load::design_resolved(design_path)?.design;
     let label = design_path.display().to_string();
+    if solver.uses_fem(&design) {
+        return capacitance_fem::run(&design, &label, format, out, mesh_vtk);
+    }
+    if mesh_vtk.is_some() {
+        return Err(crate::BadInput(
+            "--mesh-vtk needs the finite-element solver (--electric-solver fem or auto with a \
+             dielectric or an enclosure)"
+                .to_string(),
+        )
+        .into());
+    }
     let sol = field_model::electrostatic_solution(&design, &label, coilfield_solver::Par::Rayon)?;
     let names = sol.conductor_names();
     let matrix = sol.capacitance_matrix_f().to_vec();
@@ -111,6 +131,7 @@ pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Re
         &[],
     ));
     let result = CapOut {
+        solver: "bem",
         conductors,
         matrix_f: matrix,
         matrix_error_estimate_f: err.capacitance_matrix_f.clone(),

@@ -4,6 +4,7 @@
 //! terminal; the `coilfield-geometry` and `coilfield-solver` crates stay pure.
 
 mod capacitance;
+mod capacitance_fem;
 mod clearance;
 mod export;
 mod fields;
@@ -174,6 +175,15 @@ enum Command {
         /// Also write the output to this file (replaced atomically).
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
+        /// Electric solver: bem (boundary elements, free space over a ground plane), fem
+        /// (finite elements: dielectrics, enclosure), or auto (fem when the design has a
+        /// dielectric or an enclosure).
+        #[arg(long, value_enum, default_value_t = capacitance_fem::ElectricSolver::Auto)]
+        electric_solver: capacitance_fem::ElectricSolver,
+        /// With the finite-element solver: also write its mesh with the potential and E as a
+        /// VTK unstructured grid (.vtu) of the (r, z) half-plane.
+        #[arg(long, value_name = "FILE")]
+        mesh_vtk: Option<PathBuf>,
     },
     /// Screening clearance distances: for each threshold (air breakdown, a long-gap mean
     /// gradient, ICNIRP 2010 and 2020 reference levels at the drive frequency, and any
@@ -309,7 +319,15 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             design,
             format,
             out,
-        } => capacitance::run(&design, format, out.as_deref()),
+            electric_solver,
+            mesh_vtk,
+        } => capacitance::run(
+            &design,
+            format,
+            out.as_deref(),
+            electric_solver,
+            mesh_vtk.as_deref(),
+        ),
         Command::Resonance {
             design,
             sections,
