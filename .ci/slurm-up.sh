@@ -1,8 +1,11 @@
 #!/usr/bin/env bash
 # Installs and starts a real single-node Slurm cluster on this machine (controller and compute
 # node on this host, 2 CPUs), for the job-array test of `coilfield sweep --shard` and `merge`.
-# Idempotent: a running cluster is left as it is. Needs root.
+# Idempotent: a running cluster is left as it is. Needs root. The pid files of the daemons it
+# starts (munged, slurmctld, slurmd, in that order) are appended to $SLURM_UP_STARTED_FILE, so
+# the caller can stop exactly those and leave a cluster it found running alone.
 set -euo pipefail
+started=${SLURM_UP_STARTED_FILE:-/dev/null}
 
 if ! command -v slurmctld >/dev/null || ! command -v munged >/dev/null; then
     apt-get update -qq
@@ -25,6 +28,7 @@ mkdir -p /run/munge /var/log/munge /var/lib/munge
 chown -R munge:munge /run/munge /var/log/munge /var/lib/munge 2>/dev/null || true
 if ! munge -n >/dev/null 2>&1; then
     su -s /bin/sh munge -c "/usr/sbin/munged" 2>/dev/null || /usr/sbin/munged --force
+    echo /run/munge/munged.pid >>"$started"
     sleep 1
 fi
 
@@ -61,10 +65,12 @@ rm -f /etc/slurm/cgroup.conf
 
 if ! scontrol ping 2>/dev/null | grep -q UP; then
     /usr/sbin/slurmctld
+    echo /run/slurmctld.pid >>"$started"
     sleep 1
 fi
 if ! pgrep -x slurmd >/dev/null; then
     /usr/sbin/slurmd
+    echo /run/slurmd.pid >>"$started"
 fi
 for _ in $(seq 1 30); do
     if sinfo -h -o '%T' 2>/dev/null | grep -qE '^(idle|mixed|allocated)'; then

@@ -5,6 +5,7 @@
 use crate::capacitance_fem::{self, ElectricSolver};
 use crate::{Format, load, output};
 use coilfield_solver::field_model;
+use coilfield_solver::numtext::fixed;
 use coilfield_solver::thresholds::AIR_BREAKDOWN_V_PER_M;
 use serde::Serialize;
 use std::path::Path;
@@ -25,6 +26,19 @@ struct ConductorOut {
     with_connected_electrodes_error_estimate_f: Option<f64>,
 }
 
+/// What the electrodes connected to the secondary's top add there: the secondary's
+/// self-capacitance with them minus without them (a second solve with those electrodes
+/// removed), the figure a builder adds to the secondary's own.
+#[derive(Serialize)]
+struct EffectiveTopOut {
+    /// The connected electrodes, in file order.
+    electrodes: Vec<String>,
+    /// C(secondary with them) - C(secondary without them) (F).
+    capacitance_f: f64,
+    /// The sum of both solves' |C(n) - C(n/2)| estimates (F).
+    error_estimate_f: f64,
+}
+
 #[derive(Serialize)]
 struct PeakOut {
     name: String,
@@ -38,6 +52,9 @@ struct CapOut {
     /// Which electric solver served: "bem" here ("fem" in `capacitance_fem`).
     solver: &'static str,
     conductors: Vec<ConductorOut>,
+    /// Present when an electrode is connected to the secondary's top.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    effective_top_capacitance: Option<EffectiveTopOut>,
     matrix_f: Vec<Vec<f64>>,
     matrix_error_estimate_f: Vec<Vec<f64>>,
     n_panels: usize,
@@ -99,6 +116,7 @@ pub fn run(
             with_connected_electrodes_error_estimate_f: e.map(|e| e.total_f),
         });
     }
+    let effective_top_capacitance = effective_top(&design, &label, &sol)?;
     let mut warnings = Vec::new();
     let peak_surface_fields = if field_model::has_potentials(&design) {
         sol.peak_surface_fields()
@@ -133,6 +151,7 @@ pub fn run(
     let result = CapOut {
         solver: "bem",
         conductors,
+        effective_top_capacitance,
         matrix_f: matrix,
         matrix_error_estimate_f: err.capacitance_matrix_f.clone(),
         n_panels: sol.n_panels(),
@@ -140,7 +159,7 @@ pub fn run(
         warnings,
     };
     let text = match format {
-        Format::Json => serde_json::to_string_pretty(&result)? + "\n",
+        Format::Json => crate::output::json_text(&result)? + "\n",
         Format::Table => table(&result),
     };
     if let Some(p) = out {
@@ -150,10 +169,67 @@ pub fn run(
     Ok(ExitCode::SUCCESS)
 }
 
+/// The effective top capacitance of the electrodes connected to the secondary's top: the
+/// secondary's self-capacitance (its connected electrodes at its top's potential) minus the
+/// same without those electrodes. None when no electrode is connected there.
+fn effective_top(
+    design: &coilfield_geometry::Design,
+    label: &str,
+    sol: &coilfield_solver::electrostatic::Solution,
+) -> anyhow::Result<Option<EffectiveTopOut>> {
+    let Some(secondary) = design
+        .windings
+        .iter()
+        .find(|w| w.role == coilfield_geometry::Role::Secondary)
+    else {
+        return Ok(None);
+    };
+    let at_top = |e: &coilfield_geometry::Electrode| {
+        e.connect.as_ref().is_some_and(|t| {
+            t.winding == secondary.name && t.end == coilfield_geometry::model::electrode::End::Top
+        })
+    };
+    let electrodes: Vec<String> = design
+        .electrodes
+        .iter()
+        .filter(|e| at_top(e))
+        .map(|e| e.name.clone())
+        .collect();
+    let Some(with) = sol.self_capacitance_f() else {
+        return Ok(None);
+    };
+    if electrodes.is_empty() {
+        return Ok(None);
+    }
+    let mut without_design = design.clone();
+    without_design.electrodes.retain(|e| !at_top(e));
+    let without =
+        field_model::electrostatic_solution(&without_design, label, coilfield_solver::Par::Rayon)?;
+    let Some(bare) = without.self_capacitance_f() else {
+        return Ok(None);
+    };
+    let estimate = |s: &coilfield_solver::electrostatic::Solution| {
+        s.error_estimate()
+            .self_capacitance_f
+            .map_or(f64::NAN, |e| e.total_f)
+    };
+    Ok(Some(EffectiveTopOut {
+        electrodes,
+        capacitance_f: with.total_f - bare.total_f,
+        error_estimate_f: estimate(sol) + estimate(&without),
+    }))
+}
+
 fn table(r: &CapOut) -> String {
     let mut s = format!(
         "Capacitances ({} panels; error estimate = |C(n) - C(n/2)|)\n\n",
         r.n_panels
+    );
+    s.push_str(
+        "kind \"electrode\": the diagonal of the Maxwell matrix (that electrode at 1 V, every other\n\
+         conductor, the secondary too, at 0 V): not what it adds at the secondary's top.\n\
+         kind \"secondary\": its equivalent self-capacitance at the top (C = 2 W / V_top^2),\n\
+         bare (unconnected electrodes at 0 V) and with its connected electrodes.\n\n",
     );
     s.push_str(&format!(
         "{:<24} {:<10} {:>14} {:>14} {:>16}\n",
@@ -165,15 +241,27 @@ fn table(r: &CapOut) -> String {
             c.name,
             c.kind,
             output::si(c.capacitance_f, "F", 5),
-            format!("{:.1e} F", c.error_estimate_f),
+            coilfield_solver::numtext::si_like(c.error_estimate_f, c.capacitance_f, "F", 2),
             c.with_connected_electrodes_f
                 .map_or(String::new(), |v| output::si(v, "F", 5)),
         ));
     }
+    if let Some(t) = &r.effective_top_capacitance {
+        s.push_str(&format!(
+            "\neffective top capacitance of {} (what it adds at the secondary's top: C with it - \
+             C without it): {} (error est. {})\n",
+            t.electrodes.join(" + "),
+            output::si(t.capacitance_f, "F", 5),
+            coilfield_solver::numtext::si_like(t.error_estimate_f, t.capacitance_f, "F", 2),
+        ));
+    }
     if !r.matrix_f.is_empty() {
-        s.push_str("\nMaxwell capacitance matrix (F), electrodes in file order:\n");
+        s.push_str("\nMaxwell capacitance matrix, electrodes in file order:\n");
         for row in &r.matrix_f {
-            let cells: Vec<String> = row.iter().map(|v| format!("{v:>12.4e}")).collect();
+            let cells: Vec<String> = row
+                .iter()
+                .map(|v| format!("{:>12}", output::si(*v, "F", 5)))
+                .collect();
             s.push_str(&format!("  {}\n", cells.join(" ")));
         }
     }
@@ -181,12 +269,12 @@ fn table(r: &CapOut) -> String {
         s.push_str("\nPeak surface field at the drive potentials (peak values):\n");
         for p in &r.peak_surface_fields {
             s.push_str(&format!(
-                "  {:<22} {:>12} at ({:.4}, {:.4}, {:.4}) m\n",
+                "  {:<22} {:>12} at ({}, {}, {}) m\n",
                 p.name,
                 output::si(p.field_v_per_m, "V/m", 4),
-                p.at_m[0],
-                p.at_m[1],
-                p.at_m[2]
+                fixed(p.at_m[0], 4),
+                fixed(p.at_m[1], 4),
+                fixed(p.at_m[2], 4)
             ));
         }
     }

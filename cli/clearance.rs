@@ -34,20 +34,23 @@ pub struct ClearanceArgs<'a> {
 }
 
 #[derive(Serialize)]
-struct ThresholdOut {
-    name: String,
-    quantity: Quantity,
-    limit: f64,
-    unit: &'static str,
+pub(crate) struct ThresholdOut {
+    pub(crate) name: String,
+    pub(crate) quantity: Quantity,
+    pub(crate) limit: f64,
+    pub(crate) unit: &'static str,
     basis: thresholds::Basis,
     compared_with: &'static str,
     peak_limit: f64,
     source: String,
     set_by: String,
     method: Method,
-    distance_from_axis_m: f64,
-    distance_from_top_m: f64,
-    beyond_search: bool,
+    /// null when the limit is never exceeded outside the conductors.
+    pub(crate) distance_from_axis_m: Option<f64>,
+    /// null when the limit is never exceeded outside the conductors.
+    pub(crate) distance_from_top_m: Option<f64>,
+    pub(crate) beyond_search: bool,
+    pub(crate) never_exceeded: bool,
     by_height: Vec<HeightClearance>,
 }
 
@@ -66,9 +69,10 @@ impl ThresholdOut {
             source: t.source,
             set_by: t.set_by,
             method: t.method,
-            distance_from_axis_m: found.distance_from_axis_m,
-            distance_from_top_m: found.distance_from_top_m,
+            distance_from_axis_m: (!found.never_exceeded).then_some(found.distance_from_axis_m),
+            distance_from_top_m: (!found.never_exceeded).then_some(found.distance_from_top_m),
             beyond_search: found.beyond_search,
+            never_exceeded: found.never_exceeded,
             by_height: found.by_height,
         }
     }
@@ -86,18 +90,32 @@ struct AtDistanceOut {
 }
 
 #[derive(Serialize)]
-struct ClearanceOut {
+pub(crate) struct ClearanceOut {
     caution: &'static str,
     frequency_hz: f64,
-    top_conductor: String,
-    thresholds: Vec<ThresholdOut>,
+    pub(crate) top_conductor: String,
+    pub(crate) thresholds: Vec<ThresholdOut>,
     at_distances: Vec<AtDistanceOut>,
-    warnings: Vec<String>,
+    pub(crate) warnings: Vec<String>,
 }
 
 /// Run `coilfield clearance`.
 pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
     let resolved = load::design_resolved(args.design)?;
+    let result = compute(&args, resolved)?;
+    match args.format {
+        Format::Json => println!("{}", crate::output::json_text(&result)?),
+        Format::Table => print!("{}", table(&result)),
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// The clearance of a design whose drive is resolved: what `clearance` prints and the report
+/// summarises.
+pub(crate) fn compute(
+    args: &ClearanceArgs<'_>,
+    resolved: coilfield_solver::resonance::Resolved,
+) -> anyhow::Result<ClearanceOut> {
     let design = resolved.design;
     let label = args.design.display().to_string();
     let frequency_hz = design.drive.frequency_hz.ok_or_else(|| {
@@ -198,22 +216,17 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
             }
         })
         .collect();
-    let mut dist_all: Vec<f64> = out.iter().map(|t| t.distance_from_axis_m).collect();
+    let mut dist_all: Vec<f64> = out.iter().filter_map(|t| t.distance_from_axis_m).collect();
     dist_all.extend(distances.iter().copied());
     warnings.extend(validity_warnings(&design, &dist_all));
-    let result = ClearanceOut {
+    Ok(ClearanceOut {
         caution: thresholds::CAUTION,
         frequency_hz,
         top_conductor: fr.top_name.clone(),
         thresholds: out,
         at_distances,
         warnings,
-    };
-    match args.format {
-        Format::Json => println!("{}", serde_json::to_string_pretty(&result)?),
-        Format::Table => print!("{}", table(&result)),
-    }
-    Ok(ExitCode::SUCCESS)
+    })
 }
 
 fn table(r: &ClearanceOut) -> String {
@@ -223,12 +236,25 @@ fn table(r: &ClearanceOut) -> String {
         output::si(r.frequency_hz, "Hz", 4),
         r.top_conductor
     ));
+    s.push_str(
+        "Each distance is where the peak field falls below the limit for good. \"from axis\": the\n\
+         largest distance from the secondary's axis over the ray heights; \"from top\": the\n\
+         distance from the surface of the top conductor over a fan of rays from it. They are\n\
+         measured from different places, so \"from top\" may exceed \"from axis\": along its\n\
+         axis a coil's B is up to twice its side-on value (a dipole's), so the upward rays reach\n\
+         farther.\n\
+         Points inside conductors are neither above nor below a limit.\n\n",
+    );
     s.push_str(&format!(
         "{:<38} {:>5} {:>14} {:>6} {:>12} {:>12}\n",
         "threshold", "field", "limit", "basis", "from axis", "from top"
     ));
     for t in &r.thresholds {
         let more = if t.beyond_search { ">" } else { "" };
+        let distance = |d: Option<f64>| match d {
+            Some(d) => format!("{more}{} m", coilfield_solver::numtext::fixed(d, 3)),
+            None => "not needed".to_string(),
+        };
         s.push_str(&format!(
             "{:<38} {:>5} {:>14} {:>6} {:>12} {:>12}\n",
             t.name,
@@ -239,8 +265,16 @@ fn table(r: &ClearanceOut) -> String {
                 thresholds::Basis::Peak => "peak",
                 thresholds::Basis::TimeAveraged => "time-avg",
             },
-            format!("{more}{:.3} m", t.distance_from_axis_m),
-            format!("{more}{:.3} m", t.distance_from_top_m),
+            distance(t.distance_from_axis_m),
+            distance(t.distance_from_top_m),
+        ));
+    }
+    for t in r.thresholds.iter().filter(|t| t.never_exceeded) {
+        s.push_str(&format!(
+            "  {}: never exceeded outside the conductors (the field at their surfaces stays \
+             below {}); no distance is needed\n",
+            t.name,
+            output::si(t.limit, t.unit, 3)
         ));
     }
     s.push_str("\nSources:\n");

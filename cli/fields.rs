@@ -6,6 +6,7 @@ use crate::{BadInput, load, output};
 use coilfield_solver::Par;
 use coilfield_solver::electrostatic::validity_warnings;
 use coilfield_solver::field_model::{EValue, FieldModel, Sample, distances_from_centre_m};
+use coilfield_solver::numtext::shortest;
 use nalgebra::{Point3, Vector3};
 use serde::Serialize;
 use std::path::{Path, PathBuf};
@@ -105,7 +106,7 @@ pub fn run(
         warnings,
     };
     let text = match format {
-        FieldFormat::Json => serde_json::to_string_pretty(&result)? + "\n",
+        FieldFormat::Json => crate::output::json_text(&result)? + "\n",
         FieldFormat::Csv => csv_text(&result),
         FieldFormat::Table => table_text(&result),
     };
@@ -180,7 +181,7 @@ fn point_row(
 
 /// A value for CSV and table output: NaN where there is none (JSON has null instead).
 fn opt(v: Option<f64>) -> String {
-    v.map_or("NaN".to_string(), |x| format!("{x:e}"))
+    v.map_or("NaN".to_string(), shortest)
 }
 
 fn csv_text(r: &FieldOut) -> String {
@@ -191,10 +192,10 @@ fn csv_text(r: &FieldOut) -> String {
         let e = p.e_field_v_per_m.map_or([None; 3], |v| v.map(Some));
         let b = p.b_field_t.map_or([None; 3], |v| v.map(Some));
         s.push_str(&format!(
-            "{:e},{:e},{:e},{},{},{},{},{},{},{},{}\n",
-            p.position_m[0],
-            p.position_m[1],
-            p.position_m[2],
+            "{},{},{},{},{},{},{},{},{},{},{}\n",
+            shortest(p.position_m[0]),
+            shortest(p.position_m[1]),
+            shortest(p.position_m[2]),
             opt(e[0]),
             opt(e[1]),
             opt(e[2]),
@@ -217,7 +218,9 @@ fn table_text(r: &FieldOut) -> String {
     for p in &r.points {
         let pos = format!(
             "({}, {}, {})",
-            p.position_m[0], p.position_m[1], p.position_m[2]
+            shortest(p.position_m[0]),
+            shortest(p.position_m[1]),
+            shortest(p.position_m[2])
         );
         let e = p
             .e_mag_v_per_m

@@ -13,7 +13,7 @@ pub fn run(path: &Path, format: Format, out: Option<&Path>) -> anyhow::Result<Ex
     let design = load::design(path)?;
     let report = inductance_report(&design, Par::Rayon)?;
     let text = match format {
-        Format::Json => serde_json::to_string_pretty(&report)? + "\n",
+        Format::Json => crate::output::json_text(&report)? + "\n",
         Format::Table => table(&report),
     };
     print!("{text}");
@@ -82,13 +82,11 @@ pub fn table(report: &InductanceReport) -> String {
         );
     }
     let names: Vec<&str> = report.windings.iter().map(|w| w.name.as_str()).collect();
-    s.push_str("\ninductance matrix (H; diagonal = self-inductance)\n");
-    s.push_str(&matrix_table(&names, &report.mutual_h, |v| {
-        format!("{v:.6e}")
-    }));
+    s.push_str("\ninductance matrix (diagonal = self-inductance)\n");
+    s.push_str(&matrix_table(&names, &report.mutual_h, |v| si(v, "H", 6)));
     s.push_str("\ncoupling coefficient k = M / sqrt(L1 L2)\n");
     s.push_str(&matrix_table(&names, &report.coupling, |v| {
-        format!("{v:.6}")
+        coilfield_solver::numtext::fixed(v, 6)
     }));
     s.push_str("\nkernels\n");
     for k in &report.kernels {

@@ -229,6 +229,6 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
             .collect(),
         warnings,
     };
-    println!("{}", serde_json::to_string_pretty(&result)?);
+    println!("{}", crate::output::json_text(&result)?);
     Ok(ExitCode::SUCCESS)
 }

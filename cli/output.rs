@@ -1,5 +1,7 @@
-//! Output helpers: atomic file writes and SI-prefixed numbers.
+//! Output helpers: atomic file writes and JSON text; numbers through the one formatter
+//! `coilfield_solver::numtext`.
 
+pub use coilfield_solver::numtext::si;
 use std::io::Write;
 use std::path::Path;
 
@@ -31,45 +33,10 @@ pub fn write_atomic(path: &Path, contents: &[u8]) -> anyhow::Result<()> {
     Ok(())
 }
 
-/// A value with an SI prefix and unit, e.g. `15.7002 µH`, to `digits` significant digits.
-pub fn si(value: f64, unit: &str, digits: usize) -> String {
-    if !value.is_finite() {
-        return format!("{value} {unit}");
-    }
-    if value == 0.0 {
-        return format!("0 {unit}");
-    }
-    const PREFIXES: [(f64, &str); 9] = [
-        (1e9, "G"),
-        (1e6, "M"),
-        (1e3, "k"),
-        (1.0, ""),
-        (1e-3, "m"),
-        (1e-6, "µ"),
-        (1e-9, "n"),
-        (1e-12, "p"),
-        (1e-15, "f"),
-    ];
-    let mag = value.abs();
-    let (scale, prefix) = PREFIXES
-        .iter()
-        .copied()
-        .find(|(s, _)| mag >= *s)
-        .unwrap_or((1e-15, "f"));
-    let scaled = value / scale;
-    let int_digits = (scaled.abs().log10().floor() as i64 + 1).max(1) as usize;
-    let decimals = digits.saturating_sub(int_digits);
-    format!("{scaled:.decimals$} {prefix}{unit}")
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn si_prefixes() {
-        assert_eq!(si(15.700_16e-6, "H", 6), "15.7002 µH");
-        assert_eq!(si(0.5, "m", 3), "500 mm");
-        assert_eq!(si(-2.5e-9, "H", 3), "-2.50 nH");
-    }
+/// Pretty JSON of a result, numbers in shortest round-trip form and no `-0` (through
+/// `coilfield_solver::numtext`, the one number formatter).
+pub fn json_text<T: serde::Serialize>(value: &T) -> anyhow::Result<String> {
+    let mut v = serde_json::to_value(value)?;
+    coilfield_solver::numtext::clean_json(&mut v);
+    Ok(serde_json::to_string_pretty(&v)?)
 }

@@ -1,12 +1,15 @@
 //! `coilfield report`: a readable report of a design for people.
 
-use crate::inductance;
-use crate::load;
+use crate::clearance::{self, ClearanceArgs, ClearanceOut};
 use crate::output::si;
+use crate::{Format, inductance, load};
 use coilfield_geometry::discretise::filament_model;
-use coilfield_geometry::{Role, Shape, TapEnd, Winding};
+use coilfield_geometry::{Design, DriveKind, Role, Shape, TapEnd, Winding};
 use coilfield_solver::Par;
 use coilfield_solver::assembly::inductance_report;
+use coilfield_solver::resonance::{
+    Resolved, Resonance, ResonanceParams, resolve, resonance, resonance_roles,
+};
 use std::f64::consts::TAU;
 use std::fmt::Write as _;
 use std::path::Path;
@@ -147,7 +150,152 @@ pub fn run(path: &Path) -> anyhow::Result<ExitCode> {
             );
         }
     }
+    s.push_str(&resonance_and_clearance(&design, path)?);
     let _ = writeln!(s, "\n{CAUTION}");
     print!("{s}");
     Ok(ExitCode::SUCCESS)
+}
+
+/// The resonance section and, when the design has a drive, the clearance at the drive's
+/// voltage and currents; a note instead where the design has no resonance model (no helix
+/// secondary).
+fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<String> {
+    let label = path.display().to_string();
+    let mut s = String::new();
+    let resolved = match resonance_roles(design, &label) {
+        Err(why) => {
+            let _ = writeln!(s, "\nresonance: not modelled ({why})");
+            Resolved {
+                design: design.clone(),
+                resonance: None,
+            }
+        }
+        Ok(()) if design.drive.kind == DriveKind::Explicit => {
+            let r = resonance(design, &label, &ResonanceParams::default(), Par::Rayon)?;
+            s.push_str(&resonance_section(&r));
+            Resolved {
+                design: design.clone(),
+                resonance: None,
+            }
+        }
+        Ok(()) => {
+            let resolved = resolve(design, &label, Par::Rayon)?;
+            if let Some(r) = &resolved.resonance {
+                s.push_str(&resonance_section(r));
+            }
+            resolved
+        }
+    };
+    let drive = &resolved.design.drive;
+    let driven = !(drive.currents_a.is_empty() && drive.potentials_v.is_empty());
+    if driven && drive.frequency_hz.is_some() {
+        let args = ClearanceArgs {
+            design: path,
+            distances: None,
+            long_gap_v_per_m: None,
+            extra: &[],
+            max_distance_m: None,
+            format: Format::Table,
+        };
+        let from_model = resolved.resonance.is_some();
+        let c = clearance::compute(&args, resolved)?;
+        s.push_str(&clearance_section(&c, from_model));
+    } else {
+        s.push_str(
+            "\nclearance: the design has no drive with a frequency ([drive] kind, or currents or \
+             potentials with frequency); no fields or clearance distances\n",
+        );
+    }
+    Ok(s)
+}
+
+/// The resonance in brief: f1 (distributed and lumped), Q, the primary's tuning capacitance
+/// and tap, and the drive's peak top voltage and energy per bang. `coilfield resonance` prints
+/// the whole model.
+fn resonance_section(r: &Resonance) -> String {
+    let sec = &r.secondary;
+    let mut s = format!("\nresonance of the secondary '{}'\n", sec.name);
+    let mut line = |label: &str, value: String| {
+        let _ = writeln!(s, "  {label:<44}  {value}");
+    };
+    line(
+        &format!("f1, distributed model ({} sections)", sec.sections),
+        si(sec.frequency_hz, "Hz", 5),
+    );
+    line(
+        "f1, lumped estimate",
+        format!(
+            "{} ({:+.1} %)",
+            si(sec.lumped_frequency_hz, "Hz", 5),
+            100.0 * (sec.lumped_frequency_hz / sec.frequency_hz - 1.0)
+        ),
+    );
+    line(
+        "equivalent capacitance at f1",
+        si(sec.equivalent_capacitance_f, "F", 4),
+    );
+    line("Q of the secondary", format!("{:.0}", sec.q));
+    if let Some(p) = &r.primary {
+        line(
+            &format!("capacitance tuning primary '{}' to f1", p.name),
+            si(p.tuning_capacitance_f, "F", 4),
+        );
+        let tap = match p.tap_for_tank_turns {
+            Some(t) => format!("{t:.3} turns tune the tank capacitor to f1"),
+            None => format!("{:.3} turns in use", p.tap_turns),
+        };
+        line("tap", tap);
+        line("Q of the primary (the gap apart)", format!("{:.0}", p.q));
+    }
+    if let Some(d) = &r.drive {
+        line(
+            &format!("peak top voltage ({})", d.kind.replace('_', " ")),
+            si(d.peak_top_voltage_v, "V", 4),
+        );
+        if let Some(e) = d.energy_per_bang_j {
+            line("energy per bang", si(e, "J", 4));
+        }
+        if let Some(p) = d.mean_power_w.or(d.input_power_w) {
+            line("mean power", si(p, "W", 4));
+        }
+    }
+    s
+}
+
+/// The clearance distances of every threshold at the drive's fields. `from_model`: the drive
+/// comes from the resonance model (its peak top voltage), else the design's explicit drive.
+fn clearance_section(c: &ClearanceOut, from_model: bool) -> String {
+    let at = if from_model {
+        "at the drive model's peak top voltage and currents"
+    } else {
+        "at the design's explicit drive"
+    };
+    let mut s = format!(
+        "\nclearance {at}: distances beyond which the peak field stays below each limit, from \
+         the axis and from the surface of {}\n",
+        c.top_conductor
+    );
+    for t in &c.thresholds {
+        let more = if t.beyond_search { ">" } else { "" };
+        let where_ = match (t.distance_from_axis_m, t.distance_from_top_m) {
+            (Some(axis), Some(top)) => {
+                format!("from axis {more}{axis:.3} m, from top {more}{top:.3} m")
+            }
+            _ => "never exceeded outside the conductors".to_string(),
+        };
+        let _ = writeln!(
+            s,
+            "  {:<38} {:?} {:>12}  {where_}",
+            t.name,
+            t.quantity,
+            si(t.limit, t.unit, 3),
+        );
+    }
+    for w in &c.warnings {
+        let _ = writeln!(s, "  note: {w}");
+    }
+    s.push_str(
+        "  (`coilfield clearance` gives the sources, heights and fields at set distances)\n",
+    );
+    s
 }

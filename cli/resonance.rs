@@ -60,7 +60,7 @@ pub fn run(
     }
     match format {
         Format::Json => {
-            let text = serde_json::to_string_pretty(&Out {
+            let text = crate::output::json_text(&Out {
                 caution: CAUTION,
                 resonance: &r,
             })?;

@@ -44,10 +44,12 @@ pub fn point(key: &str, text: &str) -> Result<Point3<f64>, BadInput> {
 /// Points from a CSV file with the header `x,y,z` (metres), one point a row.
 pub fn points_csv(path: &Path) -> Result<Vec<Point3<f64>>, BadInput> {
     let label = path.display();
+    // Through the one reader of input files: a regular file, size-limited before reading.
+    let text =
+        crate::load::text(path, "points file").map_err(|e| BadInput(format!("--points {e}")))?;
     let mut reader = csv::ReaderBuilder::new()
         .trim(csv::Trim::All)
-        .from_path(path)
-        .map_err(|e| BadInput(format!("--points {label}: cannot read: {e}")))?;
+        .from_reader(text.as_bytes());
     let header = reader
         .headers()
         .map_err(|e| BadInput(format!("--points {label}: cannot read the header: {e}")))?
@@ -68,7 +70,8 @@ pub fn points_csv(path: &Path) -> Result<Vec<Point3<f64>>, BadInput> {
             let cell = rec.get(k).unwrap_or("");
             v[k] = cell.parse::<f64>().ok().filter(|x| x.is_finite()).ok_or_else(|| {
                 BadInput(format!(
-                    "--points {label}: line {line}, column {name}: {cell:?} is not a finite number of metres"
+                    "--points {label}: line {line}, column {name}: \"{}\" is not a finite number of metres",
+                    coilfield_geometry::error::elide(cell)
                 ))
             })?;
         }

@@ -49,6 +49,16 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
         )
         .into());
     };
+    let (spec, absolute) = match spec.trim().strip_prefix("abs(") {
+        Some(rest) => {
+            let Some(close) = rest.find(')') else {
+                return Err(bad(kind, "abs( without its closing parenthesis").into());
+            };
+            (format!("{}{}", &rest[..close], &rest[close + 1..]), true)
+        }
+        None => (spec.clone(), false),
+    };
+    let spec = &spec;
     let (metric_name, goal) = match kind.as_str() {
         "target" => {
             let (m, v) = spec.split_once('=').ok_or_else(|| {
@@ -100,11 +110,20 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
         })
         .collect();
     let n = bounds.len();
-    // Value of the metric at x; NaN where the design fails or a constraint does not hold,
-    // which the optimisers read as a refused point.
+    // Value of the metric (its magnitude for abs(...)) at x; NaN where the design fails or a
+    // constraint does not hold, which the optimisers read as a refused point. Values are kept,
+    // so reporting the optimum costs no evaluation beyond the limit.
+    let seen: std::cell::RefCell<Vec<(Vec<f64>, f64)>> = std::cell::RefCell::new(Vec::new());
     let value_at = |x: &[f64]| -> f64 {
-        plan.feasible_value(x, metric, "seek point")
-            .unwrap_or(f64::NAN)
+        if let Some((_, v)) = seen.borrow().iter().find(|(p, _)| p.as_slice() == x) {
+            return *v;
+        }
+        let v = plan
+            .feasible_value(x, metric, "seek point")
+            .unwrap_or(f64::NAN);
+        let v = if absolute { v.abs() } else { v };
+        seen.borrow_mut().push((x.to_vec(), v));
+        v
     };
     let (found, method): (Found, &str) = match goal {
         Goal::Target(t) => {
@@ -154,7 +173,32 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
         }
     };
     let value = value_at(&found.x);
+    let metric_label = if absolute {
+        format!("abs({metric_name})")
+    } else {
+        metric_name.clone()
+    };
     let keys: Vec<&str> = plan.sweep().axes.iter().map(|a| a.key.as_str()).collect();
+    // An optimum on a bound of the box may lie beyond it.
+    let on_bound: Vec<String> = match goal {
+        Goal::Target(_) => Vec::new(),
+        _ => keys
+            .iter()
+            .zip(&found.x)
+            .zip(&bounds)
+            .filter_map(|((k, x), (a, b))| {
+                let tol = 1e-9 * (b - a).abs();
+                let which = if (x - a.min(*b)).abs() <= tol {
+                    "lower"
+                } else if (x - a.max(*b)).abs() <= tol {
+                    "upper"
+                } else {
+                    return None;
+                };
+                Some(format!("{k} is on its {which} bound"))
+            })
+            .collect(),
+    };
     match format {
         Format::Json => {
             let mut params = serde_json::Map::new();
@@ -164,21 +208,36 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
             let j = serde_json::json!({
                 "method": method,
                 "params": params,
-                "metric": metric_name,
+                "metric": metric_label,
                 "value": value,
+                "unit": metric_unit(&metric_name),
                 "evaluations": found.evaluations,
+                "max_evaluations": max_evaluations,
                 "stop": found.stop.describe(),
+                "on_bound": on_bound,
             });
-            println!("{}", serde_json::to_string_pretty(&j)?);
+            println!("{}", crate::output::json_text(&j)?);
         }
         Format::Table => {
             println!("method: {method}");
             for (k, x) in keys.iter().zip(&found.x) {
-                println!("{k} = {x}");
+                println!("{k} = {}", with_unit(*x, key_unit(k)));
             }
-            println!("{metric_name} = {value}");
-            println!("evaluations: {}", found.evaluations);
+            println!(
+                "{metric_label} = {}",
+                with_unit(value, metric_unit(&metric_name))
+            );
+            println!(
+                "evaluations: {} of at most {max_evaluations}",
+                found.evaluations
+            );
             println!("{}", found.stop.describe());
+            for b in &on_bound {
+                println!(
+                    "note: the optimum sits on a bound ({b}); the best point may lie beyond it: \
+                     widen the bounds"
+                );
+            }
         }
     }
     eprint!("{}", crate::sweep::cautions(&plan));
@@ -187,4 +246,37 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
         return Ok(ExitCode::from(1));
     }
     Ok(ExitCode::SUCCESS)
+}
+
+/// The SI unit of a metric, from its name's first part ("" for a pure number).
+fn metric_unit(name: &str) -> &'static str {
+    match name.split('.').next().unwrap_or("") {
+        "self_inductance" | "mutual" => "H",
+        "gap" | "clearance" | "clearance_top" => "m",
+        "capacitance" | "self_capacitance" | "equivalent_capacitance" | "tuning_capacitance" => "F",
+        "surface_field" => "V/m",
+        "frequency" => "Hz",
+        "peak_voltage" => "V",
+        _ => "",
+    }
+}
+
+/// The SI unit of a design key set by an axis: metres, except counts, directions and angles.
+fn key_unit(key: &str) -> &'static str {
+    let field = key.rsplit('.').next().unwrap_or("");
+    let field = field.split('[').next().unwrap_or("");
+    match field {
+        "turns" | "tap_turns" | "segments_per_turn" | "axis" => "",
+        "tilt_deg" => "deg",
+        _ => "m",
+    }
+}
+
+/// A value for the table: SI-prefixed with its unit, or the shortest text of a pure number.
+fn with_unit(v: f64, unit: &str) -> String {
+    match unit {
+        "" => coilfield_solver::numtext::shortest(v),
+        "deg" => format!("{} deg", coilfield_solver::numtext::shortest(v)),
+        u => crate::output::si(v, u, 6),
+    }
 }

@@ -339,7 +339,9 @@ pub fn run(
     let stop = std::sync::Arc::new(AtomicBool::new(false));
     {
         let stop = stop.clone();
-        // A second handler cannot be set in one process; tests run one sweep per process.
+        // Ctrl-C, SIGTERM (Slurm's time limit and preemption) and SIGHUP (a closed terminal) all
+        // stop cleanly: rows written so far are synced and the run can resume. A second handler
+        // cannot be set in one process; tests run one sweep per process.
         let _ = ctrlc::set_handler(move || stop.store(true, Ordering::SeqCst));
     }
     let progress = if std::io::stderr().is_terminal() {

@@ -8,7 +8,8 @@
 
 use crate::{BadInput, Format};
 use coilfield_geometry::discretise::ring_model;
-use coilfield_geometry::{Model, Role, Shape, Winding};
+use coilfield_geometry::file::winding::MAX_TURNS;
+use coilfield_geometry::{Winding, limits, winding_from_table};
 use coilfield_solver::Par;
 use coilfield_solver::elliptic::{cel, ellip_e, ellip_k};
 use coilfield_solver::mutual::{Circle, mutual_ring_ring, mutual_ring_ring_coaxial};
@@ -86,17 +87,78 @@ fn z_axis() -> Unit<Vector3<f64>> {
     Vector3::z_axis()
 }
 
-fn winding(shape: Shape, wire_diameter_m: f64) -> Winding {
-    Winding {
-        name: "case".into(),
-        role: Role::Other,
-        model: Model::Ring,
-        wire_diameter_m,
-        segments_per_turn: None,
-        tap: None,
-        conductor: Default::default(),
-        shape,
+/// A row's winding through the design file's checks of a winding by itself
+/// ([`winding_from_table`]: sizes and turns in range, wire thinner than the pitch), so that a
+/// row no design file could hold is refused by name, as in a design file.
+fn checked_winding(label: &str, keys: &[(&str, toml::Value)]) -> anyhow::Result<Winding> {
+    let mut table = toml::Table::new();
+    table.insert("name".into(), "case".into());
+    table.insert("model".into(), "ring".into());
+    table.insert("origin".into(), toml::Value::Array(vec![0.0.into(); 3]));
+    table.insert(
+        "axis".into(),
+        toml::Value::Array(vec![0.0.into(), 0.0.into(), 1.0.into()]),
+    );
+    for (k, v) in keys {
+        table.insert((*k).into(), v.clone());
     }
+    Ok(winding_from_table(table, 1, label)?)
+}
+
+/// A size column (m) inside the design file's range ([`limits::MIN_SIZE_M`] to
+/// [`limits::MAX_SIZE_M`]).
+fn size(row: &Row, key: &str) -> anyhow::Result<f64> {
+    let v = num(row, key)?;
+    if !(limits::MIN_SIZE_M..=limits::MAX_SIZE_M).contains(&v) {
+        anyhow::bail!(BadInput(format!(
+            "column '{key}': {v:e} m is outside the accepted range {}",
+            limits::range_phrase(limits::MIN_SIZE_M, limits::MAX_SIZE_M, "m")
+        )));
+    }
+    Ok(v)
+}
+
+/// A coordinate column (m) inside the design file's range.
+fn coordinate(row: &Row, key: &str) -> anyhow::Result<f64> {
+    let v = num(row, key)?;
+    if !v.is_finite() || v.abs() > limits::MAX_COORDINATE_M {
+        anyhow::bail!(BadInput(format!(
+            "column '{key}': {v:e} m is outside the accepted range of a coordinate, \
+             -{0:e} m to {0:e} m",
+            limits::MAX_COORDINATE_M
+        )));
+    }
+    Ok(v)
+}
+
+/// A whole count column from 1 to `max`.
+fn count(row: &Row, key: &str, max: f64) -> anyhow::Result<usize> {
+    let v = num(row, key)?;
+    if !v.is_finite() || v < 1.0 || v > max || v.fract() != 0.0 {
+        anyhow::bail!(BadInput(format!(
+            "column '{key}': {v:e} is not a whole number from 1 to {max:e}"
+        )));
+    }
+    Ok(v as usize)
+}
+
+/// A finite number column inside `[lo, hi]`.
+fn bounded(row: &Row, key: &str, lo: f64, hi: f64) -> anyhow::Result<f64> {
+    let v = num(row, key)?;
+    if !(lo..=hi).contains(&v) {
+        anyhow::bail!(BadInput(format!(
+            "column '{key}': {v:e} is outside the accepted range {lo:e} to {hi:e}"
+        )));
+    }
+    Ok(v)
+}
+
+/// `v` unless it is zero.
+fn nonzero(v: f64, key: &str) -> anyhow::Result<f64> {
+    if v == 0.0 {
+        anyhow::bail!(BadInput(format!("column '{key}': must not be 0")));
+    }
+    Ok(v)
 }
 
 fn ring_sum(w: &Winding) -> anyhow::Result<f64> {
@@ -105,10 +167,10 @@ fn ring_sum(w: &Winding) -> anyhow::Result<f64> {
 }
 
 /// The computed value of one row of a table.
-fn compute(table: &str, row: &Row) -> anyhow::Result<f64> {
-    Ok(match table {
+fn compute(table: &str, row: &Row, label: &str) -> anyhow::Result<f64> {
+    let value = match table {
         "elliptic" => {
-            let m = num(row, "x")?;
+            let m = bounded(row, "x", -1e15, 1.0)?;
             match text(row, "function")? {
                 "K" => ellip_k(m),
                 "E" => ellip_e(m),
@@ -116,49 +178,74 @@ fn compute(table: &str, row: &Row) -> anyhow::Result<f64> {
             }
         }
         "cel" => cel(
-            num(row, "kc")?,
-            num(row, "p")?,
-            num(row, "a")?,
-            num(row, "b")?,
+            bounded(row, "kc", 1e-300, 1e300)?,
+            nonzero(bounded(row, "p", -1e300, 1e300)?, "p")?,
+            bounded(row, "a", -1e300, 1e300)?,
+            bounded(row, "b", -1e300, 1e300)?,
         ),
-        "maxwell_coaxial" => {
-            mutual_ring_ring_coaxial(num(row, "a_m")?, num(row, "b_m")?, num(row, "d_m")?)
-        }
+        "maxwell_coaxial" => mutual_ring_ring_coaxial(
+            size(row, "a_m")?,
+            size(row, "b_m")?,
+            coordinate(row, "d_m")?,
+        ),
         "rings_general" => {
             let p = Circle {
                 centre_m: Point3::origin(),
                 axis: z_axis(),
-                radius_m: num(row, "rp_m")?,
+                radius_m: size(row, "rp_m")?,
             };
-            let normal = Vector3::new(num(row, "nx")?, num(row, "ny")?, num(row, "nz")?);
+            let normal = Vector3::new(
+                bounded(row, "nx", -1.0, 1.0)?,
+                bounded(row, "ny", -1.0, 1.0)?,
+                bounded(row, "nz", -1.0, 1.0)?,
+            );
+            if normal.norm() < 1e-6 {
+                anyhow::bail!(BadInput("columns nx, ny, nz: no direction".into()));
+            }
             let s = Circle {
-                centre_m: Point3::new(num(row, "cx_m")?, num(row, "cy_m")?, num(row, "cz_m")?),
+                centre_m: Point3::new(
+                    coordinate(row, "cx_m")?,
+                    coordinate(row, "cy_m")?,
+                    coordinate(row, "cz_m")?,
+                ),
                 axis: Unit::new_normalize(normal),
-                radius_m: num(row, "rs_m")?,
+                radius_m: size(row, "rs_m")?,
             };
             mutual_ring_ring(&p, &s)
         }
-        "ring_self" => self_ring_round_wire(num(row, "radius_m")?, num(row, "wire_radius_m")?),
-        "nagaoka" => nagaoka(num(row, "diameter_over_length")?),
-        "rosa_b" => rosa_b(num(row, "turns")? as usize),
+        "ring_self" => {
+            let w = checked_winding(
+                label,
+                &[
+                    ("shape", "ring".into()),
+                    ("radius", num(row, "radius_m")?.into()),
+                    ("wire_diameter", (2.0 * num(row, "wire_radius_m")?).into()),
+                ],
+            )?;
+            self_ring_round_wire(num(row, "radius_m")?, 0.5 * w.wire_diameter_m)
+        }
+        "nagaoka" => nagaoka(bounded(row, "diameter_over_length", 1e-9, 1e9)?),
+        "rosa_b" => rosa_b(count(row, "turns", MAX_TURNS)?),
         "solenoid" => {
             let a = num(row, "radius_m")?;
             let n = num(row, "turns")?;
             let p = num(row, "pitch_m")?;
             let d = num(row, "wire_diameter_m")?;
+            // Every quantity's inputs pass the checks of the helix they describe.
+            let helix = checked_winding(
+                label,
+                &[
+                    ("shape", "helix".into()),
+                    ("radius", a.into()),
+                    ("length", (n * p).into()),
+                    ("turns", n.into()),
+                    ("wire_diameter", d.into()),
+                ],
+            )?;
             match text(row, "quantity")? {
-                "ring_sum" => ring_sum(&winding(
-                    Shape::Helix {
-                        origin_m: Point3::origin(),
-                        axis: z_axis(),
-                        radius_m: a,
-                        length_m: n * p,
-                        turns: n,
-                    },
-                    d,
-                ))?,
+                "ring_sum" => ring_sum(&helix)?,
                 "lorenz_sheet" => lorenz_sheet(a, n, n * p),
-                "rosa" => rosa_solenoid(a, n as usize, p, d),
+                "rosa" => rosa_solenoid(a, count(row, "turns", MAX_TURNS)?, p, d),
                 other => anyhow::bail!(BadInput(format!("unknown quantity '{other}'"))),
             }
         }
@@ -167,28 +254,36 @@ fn compute(table: &str, row: &Row) -> anyhow::Result<f64> {
             let outer = num(row, "outer_radius_m")?;
             let n = num(row, "turns")?;
             let r_w = num(row, "wire_radius_m")?;
+            let spiral = checked_winding(
+                label,
+                &[
+                    ("shape", "spiral".into()),
+                    ("inner_radius", inner.into()),
+                    ("outer_radius", outer.into()),
+                    ("turns", n.into()),
+                    ("wire_diameter", (2.0 * r_w).into()),
+                ],
+            )?;
             match text(row, "quantity")? {
-                "ring_sum" => ring_sum(&winding(
-                    Shape::Spiral {
-                        origin_m: Point3::origin(),
-                        axis: z_axis(),
-                        inner_radius_m: inner,
-                        outer_radius_m: outer,
-                        turns: n,
-                    },
-                    2.0 * r_w,
-                ))?,
+                "ring_sum" => ring_sum(&spiral)?,
                 "wheeler" => wheeler_spiral(inner, outer, n),
                 other => anyhow::bail!(BadInput(format!("unknown quantity '{other}'"))),
             }
         }
         "awg" => {
-            let gauge = num(row, "gauge")?;
+            let gauge = bounded(row, "gauge", -10.0, 100.0)?;
             coilfield_geometry::file::units::awg_diameter_m(gauge as i32)
                 .ok_or_else(|| BadInput(format!("gauge {gauge} out of range")))?
         }
         other => anyhow::bail!(BadInput(format!("unknown table '{other}'"))),
-    })
+    };
+    // Inputs in range give finite values; a non-finite one is a defect, never a pass or fail.
+    if !value.is_finite() {
+        anyhow::bail!(BadInput(format!(
+            "the computed value is {value}, not a finite number"
+        )));
+    }
+    Ok(value)
 }
 
 fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
@@ -212,7 +307,7 @@ fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
         let tolerance = num(&row, "tolerance").map_err(label)?;
         let tolerance_kind = text(&row, "tolerance_kind").map_err(label)?.to_string();
         let source = text(&row, "source").map_err(label)?.to_string();
-        let computed = compute(name, &row).map_err(label)?;
+        let computed = compute(name, &row, "the row").map_err(label)?;
         let error = match tolerance_kind.as_str() {
             "abs" => (computed - reference).abs(),
             "rel" => ((computed - reference) / reference).abs(),
@@ -254,8 +349,7 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
         let contents = match dir {
             Some(dir) => {
                 let path = dir.join(format!("{name}.csv"));
-                std::fs::read_to_string(&path)
-                    .map_err(|e| BadInput(format!("{}: {e}", path.display())))?
+                crate::load::text(&path, "validation table")?
             }
             None => builtin.to_string(),
         };
@@ -270,7 +364,7 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
                 passed,
                 failed,
             };
-            println!("{}", serde_json::to_string_pretty(&summary)?);
+            println!("{}", crate::output::json_text(&summary)?);
         }
         Format::Table => {
             let mut s = String::new();

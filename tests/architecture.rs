@@ -167,13 +167,13 @@ fn find_cycle(graph: &Graph) -> Option<Vec<String>> {
     None
 }
 
-/// Layer of a geometry module: file (top) 3, query 2, model 1, error and constants 0.
+/// Layer of a geometry module: file (top) 3, query 2, model 1, error, constants and limits 0.
 fn geometry_layer(module: &str) -> Option<u8> {
     match module.split("::").next().unwrap_or("") {
         "file" => Some(3),
         "query" => Some(2),
         "model" => Some(1),
-        "error" | "constants" => Some(0),
+        "error" | "constants" | "limits" => Some(0),
         _ => None,
     }
 }

@@ -191,7 +191,31 @@ fn wire_thicker_than_the_pitch() {
     // 800 turns on 0.40 m is a 0.5 mm pitch; 0.6 mm wire cannot fit.
     case(
         &good_with("wire_diameter = 0.0004", "wire_diameter = \"0.6 mm\""),
-        &["winding 'secondary'", "key 'wire_diameter'", "pitch"],
+        &[
+            "winding 'secondary'",
+            "key 'length'",
+            "pitch",
+            "a length above 0.48 m for 800 turns",
+        ],
+    );
+}
+
+#[test]
+fn close_wound_length_below_the_enamelled_wire() {
+    // 800 turns of 0.4 mm wire with 0.05 mm of enamel need 800 x 0.5 mm = 0.40 m; 0.39 m is
+    // refused, naming the smallest valid pitch and length.
+    let text = good_with("length = 0.40", "length = 0.39").replace(
+        "wire_diameter = 0.0004",
+        "wire_diameter = 0.0004\ninsulation = \"0.05 mm\"",
+    );
+    case(
+        &text,
+        &[
+            "key 'length'",
+            "0.0005 m insulated",
+            "smallest valid pitch is the insulated diameter, 0.0005 m",
+            "a length of 0.4 m for 800 turns",
+        ],
     );
 }
 

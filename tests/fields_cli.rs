@@ -952,15 +952,13 @@ fn clearance_of_the_resonator_is_consistent_with_field() {
             .unwrap_or_else(|| panic!("{n}"))
     };
     for t in ths {
-        for key in [
-            "quantity",
-            "limit",
-            "unit",
-            "source",
-            "distance_from_axis_m",
-            "distance_from_top_m",
-        ] {
+        for key in ["quantity", "limit", "unit", "source"] {
             assert!(!t[key].is_null(), "{} lacks {key}", t["name"]);
+        }
+        // Distances are null only for a threshold never exceeded outside the conductors.
+        let never = t["never_exceeded"].as_bool().expect("never_exceeded");
+        for key in ["distance_from_axis_m", "distance_from_top_m"] {
+            assert_eq!(t[key].is_null(), never, "{} {key}", t["name"]);
         }
     }
     // A lower limit of the same quantity cannot give a smaller distance.

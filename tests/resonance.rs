@@ -269,7 +269,8 @@ fn the_exciter_is_driven_at_its_coupled_resonance() {
     assert!(d["input_power_w"].as_f64().unwrap() > 0.0);
     assert!(d["peak_top_voltage_v"].as_f64().unwrap() > 0.0);
     assert!(j["split_frequencies_hz"].is_null());
-    // The report and the plots run on both demos.
+    // The report and the plots run on both demos (the spark gap's report is read in
+    // the_report_gives_the_resonance_and_the_clearance_at_the_drive_voltage).
     for demo in ["exciter.toml", "spark-gap-resonator.toml"] {
         let path = root().join("meshes-demo").join(demo);
         let dir = tempfile::tempdir().unwrap();
@@ -286,13 +287,119 @@ fn the_exciter_is_driven_at_its_coupled_resonance() {
             String::from_utf8_lossy(&out.stderr)
         );
         assert!(std::fs::metadata(&plot).unwrap().len() > 1000);
-        let out = run(&["report", path.to_str().unwrap()]);
+        if demo == "exciter.toml" {
+            let out = run(&["report", path.to_str().unwrap()]);
+            assert!(
+                out.status.success(),
+                "{}",
+                String::from_utf8_lossy(&out.stderr)
+            );
+            let text = String::from_utf8_lossy(&out.stdout);
+            assert!(text.contains("peak top voltage (driven)"), "{text}");
+        }
+    }
+}
+
+/// The number in SI-prefixed text such as "139.16 kHz" or "3.00 MV/m", in base units.
+fn si_value(text: &str) -> f64 {
+    let mut parts = text.split_whitespace();
+    let number: f64 = parts.next().unwrap().parse().unwrap();
+    let unit = parts.next().unwrap();
+    let prefixes = [
+        ('p', 1e-12),
+        ('n', 1e-9),
+        ('µ', 1e-6),
+        ('u', 1e-6),
+        ('m', 1e-3),
+        ('k', 1e3),
+        ('M', 1e6),
+        ('G', 1e9),
+    ];
+    let scale = prefixes
+        .iter()
+        .find(|(p, _)| unit.starts_with(*p) && unit.chars().count() > 1)
+        .map_or(1.0, |(_, s)| *s);
+    number * scale
+}
+
+/// The value printed after `label` on its line of `text`.
+fn labelled<'a>(text: &'a str, label: &str) -> &'a str {
+    let line = text
+        .lines()
+        .find(|l| l.trim_start().starts_with(label))
+        .unwrap_or_else(|| panic!("no line '{label}' in:\n{text}"));
+    line.trim_start()[label.len()..].trim()
+}
+
+#[test]
+fn the_report_gives_the_resonance_and_the_clearance_at_the_drive_voltage() {
+    // The report's summary must carry the same figures as the resonance and clearance
+    // commands (one model behind all three): f1 to its 5 printed digits, the peak top voltage
+    // and the tap to theirs, and the breakdown and exposure distances to the millimetre printed.
+    let demo = root().join("meshes-demo/spark-gap-resonator.toml");
+    let out = run(&["report", demo.to_str().unwrap()]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8_lossy(&out.stdout).into_owned();
+    let j = resonance_json(&demo, &[]);
+    let f1 = j["secondary"]["frequency_hz"].as_f64().unwrap();
+    let sections = j["secondary"]["sections"].as_u64().unwrap();
+    let printed_f1 = si_value(labelled(
+        &text,
+        &format!("f1, distributed model ({sections} sections)"),
+    ));
+    assert!(rel(printed_f1, f1) < 5e-5, "{printed_f1} vs {f1}");
+    let v = j["drive"]["peak_top_voltage_v"].as_f64().unwrap();
+    let printed_v = si_value(labelled(&text, "peak top voltage (spark gap)"));
+    assert!(rel(printed_v, v) < 5e-4, "{printed_v} vs {v}");
+    let tap = j["primary"]["tap_for_tank_turns"].as_f64().unwrap();
+    let printed_tap: f64 = labelled(&text, "tap")
+        .split_whitespace()
+        .next()
+        .unwrap()
+        .parse()
+        .unwrap();
+    assert!((printed_tap - tap).abs() < 6e-4, "{printed_tap} vs {tap}");
+    assert!(labelled(&text, "energy per bang").ends_with(" J"));
+    let out = run(&["clearance", demo.to_str().unwrap(), "--format", "json"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let c: Value = serde_json::from_slice(&out.stdout).unwrap();
+    for name in [
+        "air_breakdown",
+        "icnirp2010_public_e",
+        "icnirp2020_public_whole_body_b",
+    ] {
+        let t = c["thresholds"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|t| t["name"] == name)
+            .unwrap();
+        let rest = labelled(&text, &format!("{name} "));
+        let axis: f64 = rest
+            .split("from axis ")
+            .nth(1)
+            .unwrap()
+            .trim_start_matches('>')
+            .split(' ')
+            .next()
+            .unwrap()
+            .parse()
+            .unwrap();
+        let expected = t["distance_from_axis_m"].as_f64().unwrap();
         assert!(
-            out.status.success(),
-            "{}",
-            String::from_utf8_lossy(&out.stderr)
+            (axis - expected).abs() <= 6e-4,
+            "{name}: {axis} vs {expected}"
         );
     }
+    assert!(text.contains("CAUTION"));
 }
 
 #[test]

@@ -38,6 +38,7 @@ for case in below overlap; do
     m2=$(echo "$t2" | median)
     med2[$case]=$m2
     base=$(for _ in 1 2 3; do python3 validation/sweep_baseline.py --sweep "$sweep" | awk '{print $(NF-1)}'; done | best)
+    rm -f "$tmp/k.csv"
     "$bin" sweep "$sweep" --out "$tmp/k.csv" >/dev/null 2>&1
     check=$(python3 validation/sweep_baseline.py --sweep "$sweep" --check "$tmp/k.csv" | tail -1)
     echo "$case: 1 thread median ${m1} s (best $(echo "$t1" | best)), 2 threads median ${m2} s (best $(echo "$t2" | best))"

@@ -226,6 +226,23 @@ pub enum DesignError {
         limit: String,
     },
 
+    /// A value outside the range this program accepts for its key (see [`crate::limits`]):
+    /// a size below a nanometre or beyond 100 km, a coordinate beyond 100 km, a quantity far
+    /// outside anything a coil carries. Give a value inside the range.
+    #[error("{source_name}: {item}: key '{key}': {} is outside the accepted range: {range}", elide(.value))]
+    OutOfRange {
+        /// File label.
+        source_name: String,
+        /// Which item.
+        item: String,
+        /// The key, with an index for array elements.
+        key: String,
+        /// The value as written.
+        value: String,
+        /// The accepted range, with its unit and reason.
+        range: String,
+    },
+
     /// A word key (`shape`, `role`, `model`) with a value outside its list. Pick one from the list.
     #[error("{source_name}: {item}: key '{key}': unknown value \"{value}\"; allowed: {allowed}")]
     UnknownValue {
@@ -269,8 +286,10 @@ pub enum DesignError {
 
     /// A name outside `[A-Za-z0-9_-]+`. Use only letters, digits, `_` and `-`.
     #[error(
-        "{source_name}: {item}: key 'name': \"{name}\" is not a valid name; use one or more \
-         letters A-Z a-z, digits, '_' or '-'"
+        "{source_name}: {item}: key 'name': \"{}\" is not a valid name; use 1 to {} \
+         letters A-Z a-z, digits, '_' or '-'",
+        elide(.name),
+        crate::limits::MAX_NAME_CHARS
     )]
     BadName {
         /// File label.
@@ -297,26 +316,31 @@ pub enum DesignError {
         first: String,
     },
 
-    /// Adjacent turns would overlap: the wire is at least as thick as the pitch. Use fewer turns,
-    /// more room (length, radii, height) or thinner wire.
+    /// Adjacent turns would overlap: the wire (with its insulation, for a helix) is too thick for
+    /// the pitch. The message names the smallest valid size; use fewer turns, more room
+    /// (length, pitch, radii, height) or thinner wire.
     #[error(
-        "{source_name}: {item}: key 'wire_diameter': the wire ({} m) is not thinner than the \
-         pitch ({} m, {pitch_rule}), so adjacent turns would overlap; use fewer turns, more room \
-         or a thinner wire",
-        sig(*.wire_diameter_m),
-        sig(*.pitch_m)
+        "{source_name}: {item}: key '{key}': the pitch ({} m, {pitch_rule}) is too small for the \
+         wire ({} m bare), so adjacent turns would overlap; {remedy}",
+        sig(*.pitch_m),
+        sig(*.wire_diameter_m)
     )]
     WireThickerThanPitch {
         /// File label.
         source_name: String,
         /// Which winding.
         item: String,
-        /// Wire diameter (m).
+        /// The key that sets the pitch (`length`, `pitch`, `outer_radius`, ...).
+        key: &'static str,
+        /// Bare wire diameter (m).
         wire_diameter_m: f64,
         /// Centre-to-centre distance of adjacent turns (m).
         pitch_m: f64,
         /// How the pitch is computed for this shape.
-        pitch_rule: String,
+        pitch_rule: &'static str,
+        /// The smallest valid sizes (with the insulated diameter, where given) and other ways
+        /// out.
+        remedy: String,
     },
 
     /// A radius not larger than the wire's own radius: the wire would cross the axis. Make it
@@ -590,6 +614,21 @@ pub enum DesignError {
         /// A point midway between the two closest centreline points (m).
         near_m: [f64; 3],
     },
+}
+
+/// Longest value echoed whole in a message (characters); a longer one is cut in the middle.
+pub const MAX_ECHO_CHARS: usize = 80;
+
+/// `text` as a message shows it: whole up to [`MAX_ECHO_CHARS`] characters, else its start and
+/// end around "... (N characters) ...", so a 2 MB value never fills a terminal.
+pub fn elide(text: &str) -> String {
+    let n = text.chars().count();
+    if n <= MAX_ECHO_CHARS {
+        return text.to_string();
+    }
+    let head: String = text.chars().take(MAX_ECHO_CHARS / 2).collect();
+    let tail: String = text.chars().skip(n - MAX_ECHO_CHARS / 4).collect();
+    format!("{head}... ({n} characters) ...{tail}")
 }
 
 /// A point as "[x, y, z]" to 0.1 mm, without the "-0.0000" that rounding noise would print.

@@ -49,6 +49,7 @@
 pub mod constants;
 pub mod error;
 pub mod file;
+pub mod limits;
 pub mod model;
 pub mod query;
 

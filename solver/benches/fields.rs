@@ -50,14 +50,15 @@ fn fields(c: &mut Criterion) {
     };
     let sol = Problem::from_design(&d, &params(1000), "bench")
         .unwrap()
-        .solve(Par::Rayon);
+        .solve(Par::Rayon)
+        .expect("the benchmark design solves");
     g.bench_function("e_plane_200x200_1000_panels", |b| {
         b.iter(|| black_box(sol.e_field(&pts, Par::Rayon)))
     });
     g.bench_function("assemble_solve_2000_panels", |b| {
         b.iter(|| {
             let p = Problem::from_design(&d, &params(2000), "bench").unwrap();
-            black_box(p.solve(Par::Rayon))
+            black_box(p.solve(Par::Rayon).expect("the benchmark design solves"))
         })
     });
     g.finish();

@@ -520,6 +520,23 @@ pub fn inductance_report(design: &Design, par: Par) -> Result<InductanceReport, 
         });
     }
     let coupling = coupling_matrix(&matrix);
+    // Inputs in range give finite entries; anything else is refused, never printed as a number.
+    for (i, j) in pairs.iter().copied() {
+        for (what, v) in [
+            ("inductance", matrix[i][j]),
+            ("coupling coefficient", coupling[i][j]),
+        ] {
+            if !v.is_finite() {
+                return Err(SolverError::NotFinite {
+                    what: format!(
+                        "the {what} of '{}' and '{}'",
+                        windings[i].name, windings[j].name
+                    ),
+                    value: v.to_string(),
+                });
+            }
+        }
+    }
     let lines = windings
         .iter()
         .zip(&models)

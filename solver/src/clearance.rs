@@ -77,7 +77,8 @@ pub struct RayClearance {
     /// Field evaluations used.
     pub evaluations: usize,
     /// Samples where the closure gave no answer (a point on a wire or inside a conductor);
-    /// they count as above the limit, which keeps the clearance on the safe side.
+    /// they are neither above nor below the limit: the ladder passes over them, and a
+    /// bisection point without an answer moves the crossing outwards (past the conductor).
     pub unanswered: usize,
 }
 
@@ -100,7 +101,8 @@ pub fn ray_point(origin_m: Point3<f64>, direction: Vector3<f64>, t_m: f64) -> Po
 /// `origin_m + t * direction` (direction normalised here), `t` in metres.
 ///
 /// `field` returns `None` where it has no answer (on a wire, inside a conductor); such points
-/// count as above the limit. NaN counts as no answer.
+/// are neither above nor below the limit (a conductor's inside must not set a clearance), so
+/// the crossing is between answered samples. NaN counts as no answer.
 pub fn clearance_along_ray<F>(
     field: F,
     origin_m: Point3<f64>,
@@ -143,27 +145,32 @@ where
     let at = |t: f64| ray_point(origin_m, direction, t);
     let mut evaluations = 0usize;
     let mut unanswered = 0usize;
-    let mut above = |t: f64| -> bool {
+    // Some(true) above, Some(false) below, None without an answer.
+    let mut above = |t: f64| -> Option<bool> {
         evaluations += 1;
         match field(at(t)) {
-            Some(v) if !v.is_nan() => v >= limit,
+            Some(v) if !v.is_nan() => Some(v >= limit),
             _ => {
                 unanswered += 1;
-                true
+                None
             }
         }
     };
 
-    // The ladder, outermost first: the first sample above the limit found from outside is the
-    // outer bracket, so the search can stop there.
+    // The ladder, outermost first: the first answered sample above the limit found from
+    // outside is the inner bracket, the answered sample outside it the outer one, so the search
+    // can stop there. Samples without an answer are passed over.
     let ladder = ladder_m(&params);
     let mut outer_below = None;
     let mut inner_above = None;
-    for (idx, &t) in ladder.iter().enumerate().rev() {
-        if above(t) {
-            inner_above = Some(t);
-            outer_below = ladder.get(idx + 1).copied();
-            break;
+    for &t in ladder.iter().rev() {
+        match above(t) {
+            Some(true) => {
+                inner_above = Some(t);
+                break;
+            }
+            Some(false) => outer_below = Some(t),
+            None => {}
         }
     }
     let (outcome, distance_m) = match (inner_above, outer_below) {
@@ -172,7 +179,8 @@ where
         (Some(mut lo), Some(mut hi)) => {
             while hi - lo > tolerance_m {
                 let mid = 0.5 * (lo + hi);
-                if above(mid) {
+                // No answer: a conductor between the brackets; the crossing lies outside it.
+                if above(mid) != Some(false) {
                     lo = mid;
                 } else {
                     hi = mid;
@@ -277,13 +285,25 @@ mod tests {
     }
 
     #[test]
-    fn no_answer_counts_as_above() {
-        // No answer out to 2 m, then zero: the clearance is 2 m, not t_min.
+    fn no_answer_is_neither_above_nor_below() {
+        // Inside a conductor out to 2 m, then a field below the limit: the limit is never
+        // exceeded where the field exists (not "2 m", the conductor's edge).
         let f = |p: Point3<f64>| (p.x >= 2.0).then_some(0.0);
         let r = clearance_along_ray(f, Point3::origin(), Vector3::x(), 1.0, RayParams::default())
             .unwrap();
-        assert!((r.distance_m - 2.0).abs() <= 1e-4);
+        assert_eq!(r.outcome, RayOutcome::BelowEverywhere);
         assert!(r.unanswered > 0);
+        // Above the limit inside 1 m, a conductor from 1 to 2 m, below outside: the crossing
+        // is the conductor's outer surface (the field at its surface is above).
+        let g = |p: Point3<f64>| match p.x {
+            x if x < 1.0 => Some(5.0),
+            x if x < 2.0 => None,
+            _ => Some(0.0),
+        };
+        let r = clearance_along_ray(g, Point3::origin(), Vector3::x(), 1.0, RayParams::default())
+            .unwrap();
+        assert_eq!(r.outcome, RayOutcome::Crossing);
+        assert!((r.distance_m - 2.0).abs() <= 1e-4, "{}", r.distance_m);
     }
 
     #[test]

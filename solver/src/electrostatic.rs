@@ -16,7 +16,7 @@
 //! }
 //! impl Problem {
 //!     pub fn from_design(design: &Design, params: &Params, source: &str) -> Result<Problem, DesignError>;
-//!     pub fn solve(&self, par: Par) -> Solution;
+//!     pub fn solve(&self, par: Par) -> Result<Solution, SolverError>;
 //! }
 //! impl Solution {
 //!     pub fn conductor_names(&self) -> &[String];            // electrodes, file order
@@ -1065,8 +1065,8 @@ impl Problem {
 
     /// Maxwell matrix, self-capacitances, drive sigma, and the nodal matrix when the
     /// secondary is cut into sections.
-    fn solve_core(&self, a: DMatrix<f64>, par: Par) -> CoreResult {
-        let lu = BlockedLu::new(a, par);
+    fn solve_core(&self, a: DMatrix<f64>, par: Par) -> Result<CoreResult, SolverError> {
+        let lu = BlockedLu::new(a, par)?;
         let ne = self.names.len();
         let mut matrix = vec![vec![0.0; ne]; ne];
         for c in 0..ne {
@@ -1108,13 +1108,13 @@ impl Problem {
             _ => None,
         };
         let sigma = lu.solve(&self.rhs(&self.drive_electrode_v, self.drive_secondary_v));
-        CoreResult {
+        Ok(CoreResult {
             matrix,
             self_bare,
             self_total,
             sigma,
             nodal,
-        }
+        })
     }
 
     /// The node (0 = base, n = top) whose potential a connected electrode takes, if electrode
@@ -1223,21 +1223,24 @@ impl Problem {
         }
     }
 
-    /// Solve: Maxwell matrix, self-capacitance, drive charges, and the coarse estimate.
-    pub fn solve(&self, par: Par) -> Solution {
+    /// Solve: Maxwell matrix, self-capacitance, drive charges, and the coarse estimate; or
+    /// [`SolverError::SingularMatrix`] when the boundary-element system has a zero or tiny
+    /// pivot, [`SolverError::NotFinite`] when a capacitance or charge comes out infinite or NaN.
+    pub fn solve(&self, par: Par) -> Result<Solution, SolverError> {
         // Bare self-capacitance: from the bare problem (a submatrix) when electrodes are
         // connected, else from the problem itself.
-        let run = |p: &Problem| -> (CoreResult, Option<f64>) {
+        let run = |p: &Problem| -> Result<(CoreResult, Option<f64>), SolverError> {
             let a = p.matrix(par);
-            let bare = p
-                .bare
-                .as_ref()
-                .map(|b| b.solve_core(submatrix(&a, &b.keep), par).self_bare);
-            let core = p.solve_core(a, par);
+            let bare = match p.bare.as_ref() {
+                Some(b) => Some(b.solve_core(submatrix(&a, &b.keep), par)?.self_bare),
+                None => None,
+            };
+            let core = p.solve_core(a, par)?;
             let bare = bare.unwrap_or(core.self_bare);
-            (core, bare)
+            Ok((core, bare))
         };
-        let (core, bare) = run(self);
+        let (core, bare) = run(self)?;
+        finite_core(&core, bare, &self.names)?;
         let total = core.self_total;
         let self_c = match (bare, total) {
             (Some(bare_f), Some(total_f)) => Some(SelfCapacitance { bare_f, total_f }),
@@ -1246,7 +1249,7 @@ impl Problem {
         let mut nodal_coarse = None;
         let error = match &self.coarse {
             Some(c) => {
-                let (coarse, coarse_bare) = run(c);
+                let (coarse, coarse_bare) = run(c)?;
                 let diff = core
                     .matrix
                     .iter()
@@ -1272,14 +1275,14 @@ impl Problem {
             },
         };
         let nodal = self.nodal_result(core.nodal, nodal_coarse);
-        Solution {
+        Ok(Solution {
             problem: self.clone(),
             matrix_f: core.matrix,
             self_c,
             sigma_drive: core.sigma,
             error,
             nodal,
-        }
+        })
     }
 
     /// The nodal capacitance with its error estimate, or why there is none.
@@ -1344,6 +1347,33 @@ impl Problem {
 /// `sections` if it is in 1..=[`MAX_SECONDARY_SECTIONS`].
 fn valid_sections(sections: Option<usize>) -> Option<usize> {
     sections.filter(|n| (1..=MAX_SECONDARY_SECTIONS).contains(n))
+}
+
+/// Every capacitance and drive charge of `core` finite, or the first that is not.
+fn finite_core(core: &CoreResult, bare: Option<f64>, names: &[String]) -> Result<(), SolverError> {
+    let bad = |what: String, v: f64| SolverError::NotFinite {
+        what,
+        value: v.to_string(),
+    };
+    for (i, row) in core.matrix.iter().enumerate() {
+        for (j, &v) in row.iter().enumerate() {
+            if !v.is_finite() {
+                return Err(bad(
+                    format!("Maxwell capacitance of '{}' and '{}'", names[i], names[j]),
+                    v,
+                ));
+            }
+        }
+    }
+    for (what, v) in [("bare", bare), ("total", core.self_total)] {
+        if let Some(v) = v.filter(|v| !v.is_finite()) {
+            return Err(bad(format!("the secondary's {what} self-capacitance"), v));
+        }
+    }
+    if let Some(v) = core.sigma.iter().copied().find(|v| !v.is_finite()) {
+        return Err(bad("a panel's drive charge density".into(), v));
+    }
+    Ok(())
 }
 
 /// What one factorisation gives.
@@ -1432,9 +1462,30 @@ struct BlockedLu {
 
 const LU_BLOCK: usize = 64;
 
+/// Smallest pivot accepted, relative to the largest entry of the matrix, per unknown: below
+/// n * eps the factorisation has lost every digit (G. H. Golub, C. F. Van Loan, "Matrix
+/// Computations", 4th ed., 2013, sec. 3.3: the growth of partial pivoting and its backward error
+/// bound of order n eps). The boundary-element matrices of valid designs have pivots many
+/// orders above it.
+fn min_relative_pivot(n: usize) -> f64 {
+    n.max(1) as f64 * f64::EPSILON
+}
+
 impl BlockedLu {
-    fn new(mut a: DMatrix<f64>, par: Par) -> BlockedLu {
+    /// Factorise `a`, or the error of a zero, tiny or non-finite pivot.
+    fn new(mut a: DMatrix<f64>, par: Par) -> Result<BlockedLu, SolverError> {
         let n = a.nrows();
+        let scale = a.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        let limit = min_relative_pivot(n);
+        if !scale.is_finite() || scale == 0.0 {
+            return Err(SolverError::SingularMatrix {
+                what: "boundary-element system",
+                index: 0,
+                pivot: scale,
+                relative: if scale == 0.0 { 0.0 } else { f64::NAN },
+                limit,
+            });
+        }
         let mut perm: Vec<usize> = (0..n).collect();
         let mut k = 0;
         while k < n {
@@ -1454,10 +1505,18 @@ impl BlockedLu {
                     perm.swap(j, piv);
                 }
                 let d = a[(j, j)];
-                if d != 0.0 {
-                    for i in j + 1..n {
-                        a[(i, j)] /= d;
-                    }
+                // A pivot must be finite and not tiny (NaN is caught by the first test).
+                if !d.is_finite() || d.abs() <= limit * scale {
+                    return Err(SolverError::SingularMatrix {
+                        what: "boundary-element system",
+                        index: j,
+                        pivot: d,
+                        relative: d.abs() / scale,
+                        limit,
+                    });
+                }
+                for i in j + 1..n {
+                    a[(i, j)] /= d;
                 }
                 for c in j + 1..k + nb {
                     let f = a[(j, c)];
@@ -1506,7 +1565,7 @@ impl BlockedLu {
             }
             k += nb;
         }
-        BlockedLu { lu: a, perm }
+        Ok(BlockedLu { lu: a, perm })
     }
 
     fn solve(&self, b: &[f64]) -> Vec<f64> {
@@ -1862,6 +1921,7 @@ mod tests {
         )
         .unwrap()
         .solve(Par::Rayon)
+        .unwrap()
     }
 
     use super::*;
@@ -1908,7 +1968,7 @@ mod tests {
             "t",
         )
         .unwrap();
-        let s = p.solve(Par::Rayon);
+        let s = p.solve(Par::Rayon).unwrap();
         (
             s.capacitances_f()[0],
             s.error_estimate().capacitance_matrix_f[0][0],
@@ -2001,7 +2061,7 @@ mod tests {
                 "t",
             )
             .unwrap();
-            let s = p.solve(Par::Rayon);
+            let s = p.solve(Par::Rayon).unwrap();
             let c = s.capacitances_f()[0];
             let est = s.error_estimate().capacitance_matrix_f[0][0];
             let err = (c - exact).abs();
@@ -2031,6 +2091,7 @@ mod tests {
             )
             .unwrap()
             .solve(Par::Seq)
+            .unwrap()
             .capacitances_f()[0]
         };
         assert_eq!(c(PanelForm::Curved), c(PanelForm::Chord));
@@ -2189,11 +2250,41 @@ mod tests {
             ((i * 7 + j * 13) % 17) as f64 / 17.0 + if i == j { 0.5 } else { 0.0 }
         });
         let b: Vec<f64> = (0..n).map(|i| (i as f64).sin()).collect();
-        let ours = BlockedLu::new(a.clone(), Par::Rayon).solve(&b);
+        let ours = BlockedLu::new(a.clone(), Par::Rayon).unwrap().solve(&b);
         let want = a.lu().solve(&nalgebra::DVector::from_vec(b)).unwrap();
         for i in 0..n {
             assert!((ours[i] - want[i]).abs() < 1e-9 * want.amax(), "{i}");
         }
+    }
+
+    #[test]
+    fn blocked_lu_refuses_a_zero_or_tiny_pivot() {
+        // Exactly singular: two equal rows (a pivot of exactly 0 after elimination), in the
+        // panel and in the blocked trailing update (n > LU_BLOCK).
+        for n in [5, 150] {
+            let mut a = DMatrix::from_fn(n, n, |i, j| {
+                ((i * 7 + j * 13) % 17) as f64 / 17.0 + if i == j { 0.5 } else { 0.0 }
+            });
+            let row = a.row(1).into_owned();
+            a.set_row(n - 1, &row);
+            let e = BlockedLu::new(a, Par::Seq).err().expect("singular refused");
+            assert!(matches!(e, SolverError::SingularMatrix { .. }), "{e}");
+        }
+        // Singular to working precision: rows differing by 1e-17 of their size.
+        let mut a = DMatrix::identity(3, 3);
+        a[(0, 1)] = 1.0;
+        a[(1, 0)] = 1.0;
+        a[(1, 1)] = 1.0 + 1e-17;
+        assert!(BlockedLu::new(a, Par::Seq).is_err());
+        // A zero matrix and a NaN entry.
+        assert!(BlockedLu::new(DMatrix::zeros(4, 4), Par::Seq).is_err());
+        let mut a = DMatrix::identity(4, 4);
+        a[(2, 2)] = f64::NAN;
+        assert!(BlockedLu::new(a, Par::Seq).is_err());
+        // Well conditioned but badly scaled (1e-30 everywhere) still factorises: the limit is
+        // relative to the largest entry.
+        let a = DMatrix::identity(4, 4) * 1e-30;
+        assert!(BlockedLu::new(a, Par::Seq).is_ok());
     }
 
     #[test]
@@ -2218,7 +2309,8 @@ mod tests {
                 "t",
             )
             .unwrap()
-            .solve(Par::Rayon);
+            .solve(Par::Rayon)
+            .unwrap();
             let c = s.self_capacitance_f().unwrap().bare_f;
             let medhurst = h * 10.0 * 1e-12;
             assert!(
@@ -2294,6 +2386,7 @@ mod tests {
             )
             .unwrap()
             .solve(Par::Seq)
+            .unwrap()
             .self_capacitance_f()
             .unwrap()
             .bare_f
@@ -2342,6 +2435,7 @@ mod tests {
         Problem::from_design(design, &params, "t")
             .unwrap()
             .solve(Par::Rayon)
+            .unwrap()
     }
 
     fn sectioned(design: &Design, panels: usize, n: usize) -> Solution {

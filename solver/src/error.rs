@@ -226,6 +226,38 @@ pub enum SolverError {
         /// Bisection tolerance (m).
         tolerance_m: f64,
     },
+    /// A dense linear system whose LU factorisation meets a zero or tiny pivot (relative to the
+    /// largest entry of the matrix): the system is singular to working precision, and any
+    /// solution of it would be noise.
+    #[error(
+        "{what}: the matrix is singular to working precision (pivot {index} is {pivot:e}, \
+         {relative:e} of the largest entry; accepted: above {limit:e}); the geometry gives \
+         the solver no independent equations there"
+    )]
+    SingularMatrix {
+        /// Which system.
+        what: &'static str,
+        /// The pivot's index (from 0).
+        index: usize,
+        /// The pivot's value.
+        pivot: f64,
+        /// The pivot over the largest entry of the matrix.
+        relative: f64,
+        /// The smallest relative pivot accepted.
+        limit: f64,
+    },
+    /// A result that came out infinite or NaN from inputs in range: refused, never printed as a
+    /// number.
+    #[error(
+        "{what} came out {value}, not a finite number: the inputs lie outside what the model \
+         can represent"
+    )]
+    NotFinite {
+        /// Which result, with its names.
+        what: String,
+        /// The value ("inf", "NaN").
+        value: String,
+    },
     /// Clearance ray search: the ray direction has zero or non-finite length.
     #[error("ray direction must be a finite non-zero vector")]
     BadRayDirection,

@@ -93,7 +93,7 @@ pub fn electrostatic_solution(
     par: Par,
 ) -> Result<Solution, SolverError> {
     let resolved = crate::resonance::resolve(design, source, par)?;
-    Ok(Problem::from_design(&resolved.design, &Params::default(), source)?.solve(par))
+    Problem::from_design(&resolved.design, &Params::default(), source)?.solve(par)
 }
 
 impl FieldModel {

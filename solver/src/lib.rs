@@ -72,6 +72,7 @@ pub mod field_model;
 pub mod losses;
 pub mod metrics;
 pub mod mutual;
+pub mod numtext;
 pub mod optimise;
 pub mod par;
 pub mod quadrature;

@@ -284,6 +284,11 @@ pub struct Constraint {
     pub text: String,
 }
 
+/// The message of a point whose figure came out `v`, not a finite number.
+fn non_finite(what: &str, v: f64) -> String {
+    format!("{what}: the computed value is {v}, not a finite number; the point has no result")
+}
+
 impl Constraint {
     /// Whether `value` satisfies it (NaN never does).
     pub fn holds(&self, value: f64) -> bool {
@@ -437,7 +442,8 @@ impl<'a> Scratch<'a> {
 /// The electric solution of a design, or why there is none.
 fn solve_electric(design: &Design) -> Result<Solution, String> {
     Problem::from_design(design, &Params::default(), "the point's design")
-        .map(|p| p.solve(crate::Par::Seq))
+        .map_err(|e| e.to_string())?
+        .solve(crate::Par::Seq)
         .map_err(|e| e.to_string())
 }
 
@@ -828,16 +834,20 @@ impl Evaluator {
             return error("the point's design has another number of windings".into());
         }
         let mut values = Vec::with_capacity(self.metrics.len());
-        for &m in &self.metrics {
+        for (k, &m) in self.metrics.iter().enumerate() {
             match self.value(&mut s, m) {
-                Ok(v) => values.push(v),
+                Ok(v) if v.is_finite() => values.push(v),
+                Ok(v) => return error(non_finite(&format!("metric #{}", k + 1), v)),
                 Err(e) => return error(e),
             }
         }
         let mut violated = Vec::new();
         for c in &self.constraints {
+            // A metric that is not a finite number satisfies no constraint: the point is an
+            // error, never "ok" (inf >= 0.005 would hold).
             let v = match self.value(&mut s, c.metric) {
-                Ok(v) => v,
+                Ok(v) if v.is_finite() => v,
+                Ok(v) => return error(non_finite(&format!("constraint `{}`", c.text), v)),
                 Err(e) => return error(e),
             };
             if !c.holds(v) {

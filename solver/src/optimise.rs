@@ -144,7 +144,8 @@ fn found(x: f64, value: f64, evaluations: usize, stop: Stop) -> Found {
 /// scaled to the unit cube; trial points are clipped to the box. Points where f is not finite
 /// (infeasible, failed) count as +infinity, so the simplex moves away from them (the extreme
 /// barrier). Stops when the simplex is smaller than `x_tol` (a fraction of each bound's width)
-/// and its values agree to `f_tol` relative, or after `max_evaluations`.
+/// and its values agree to `f_tol` relative, or after `max_evaluations`: f is never called
+/// more often (a trial point past the limit counts as +infinity, unevaluated).
 pub fn nelder_mead<F: FnMut(&[f64]) -> f64>(
     mut f: F,
     lo: &[f64],
@@ -161,6 +162,9 @@ pub fn nelder_mead<F: FnMut(&[f64]) -> f64>(
     };
     let mut evaluations = 0;
     let mut eval = |u: &[f64], evaluations: &mut usize| -> f64 {
+        if *evaluations >= max_evaluations {
+            return f64::INFINITY;
+        }
         *evaluations += 1;
         let v = f(&to_x(u));
         if v.is_finite() { v } else { f64::INFINITY }
@@ -243,6 +247,30 @@ pub fn nelder_mead<F: FnMut(&[f64]) -> f64>(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn nelder_mead_never_exceeds_its_evaluation_limit() {
+        // Rosenbrock's valley takes far more than 20 evaluations; the limit holds exactly,
+        // counted by the function itself.
+        for limit in [3, 7, 20, 41] {
+            let mut calls = 0;
+            let r = nelder_mead(
+                |x| {
+                    calls += 1;
+                    (1.0 - x[0]).powi(2) + 100.0 * (x[1] - x[0] * x[0]).powi(2)
+                },
+                &[-2.0, -2.0],
+                &[2.0, 2.0],
+                1e-12,
+                1e-15,
+                limit,
+            );
+            assert!(calls <= limit, "{calls} calls for a limit of {limit}");
+            assert_eq!(r.evaluations, calls);
+            assert_eq!(r.stop, Stop::MaxEvaluations);
+            assert!(r.value.is_finite());
+        }
+    }
 
     #[test]
     fn brent_finds_the_root_of_brents_test_function() {

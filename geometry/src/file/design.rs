@@ -637,7 +637,7 @@ wire_diameter = "AWG 10"
                 "winding 'coil'",
                 "key 'radious'",
                 "helix",
-                "origin, axis, radius, length, turns, segments_per_turn",
+                "origin, axis, radius, length, pitch, turns, insulation, insulated_diameter",
             ],
         );
         // The list is the shape's own: a helix has no inner_radius.
@@ -1256,11 +1256,110 @@ wire_diameter = "AWG 10"
             &e,
             &[
                 "winding 'coil'",
-                "key 'wire_diameter'",
+                "key 'length'",
                 "pitch",
                 "length / turns",
+                // The smallest valid length for bare 1.2 mm wire, and the way to enamel.
+                "a length above 0.12 m for 100 turns",
+                "insulated_diameter",
             ],
         );
+    }
+
+    // ---- builder inputs: pitch, insulation, turn spacing ----
+
+    /// The shape of a design's only winding.
+    fn shape_of(text: &str) -> Shape {
+        parse_design(text, FILE).unwrap().windings[0].shape.clone()
+    }
+
+    fn helix_length(text: &str) -> f64 {
+        match shape_of(text) {
+            Shape::Helix { length_m, .. } => length_m,
+            s => panic!("not a helix: {s:?}"),
+        }
+    }
+
+    #[test]
+    fn helix_pitch_gives_the_length() {
+        // 50 turns at a 2 mm pitch are 0.1 m long, the same helix as length = 0.1.
+        let by_pitch = helix("length = 0.1").replace("length = 0.1", r#"pitch = "2 mm""#);
+        assert!((helix_length(&by_pitch) - 0.1).abs() < 1e-15);
+        let both = helix(r#"pitch = "2 mm""#);
+        assert_names(&err(&both), &["key 'pitch'", "not both"]);
+    }
+
+    #[test]
+    fn close_wound_helix_from_the_insulation() {
+        // 50 turns of 1 mm wire with 0.05 mm of enamel: 1.1 mm pitch, 55 mm long.
+        let text = helix("-length") + "insulation = \"0.05 mm\"\n";
+        assert!((helix_length(&text) - 0.055).abs() < 1e-12);
+        let text = helix("-length") + "insulated_diameter = \"1.1 mm\"\n";
+        assert!((helix_length(&text) - 0.055).abs() < 1e-12);
+        // A length of exactly turns x insulated diameter is close-wound and accepted.
+        let text = helix("length = 0.055") + "insulated_diameter = \"1.1 mm\"\n";
+        assert!((helix_length(&text) - 0.055).abs() < 1e-15);
+        // Heavy-build enamel by AWG from the table (AWG 24: 0.0218 in overall, from memory).
+        let text = helix(r#"wire_diameter = "AWG 24""#).replace("length = 0.1\n", "")
+            + "insulation = \"heavy\"\n";
+        assert!((helix_length(&text) - 50.0 * 0.0218 * 0.0254).abs() < 1e-12);
+    }
+
+    #[test]
+    fn helix_pitch_below_the_insulated_wire_names_the_smallest_length() {
+        // 50 turns in 50 mm: 1 mm pitch, but the enamelled wire is 1.1 mm across.
+        let text = helix("length = 0.05") + "insulated_diameter = \"1.1 mm\"\n";
+        let e = err(&text);
+        assert!(
+            matches!(e, DesignError::WireThickerThanPitch { .. }),
+            "{e:?}"
+        );
+        assert_names(
+            &e,
+            &[
+                "key 'length'",
+                "0.0011 m insulated",
+                "smallest valid pitch is the insulated diameter, 0.0011 m",
+                "a length of 0.055 m for 50 turns",
+            ],
+        );
+        // The insulated wire must be thicker than the bare one; no length and no insulation
+        // says what to give.
+        let thin = helix("-length") + "insulated_diameter = \"0.9 mm\"\n";
+        assert_names(
+            &err(&thin),
+            &["key 'insulated_diameter'", "thicker than the bare"],
+        );
+        assert_names(
+            &err(&helix("-length")),
+            &["key 'length'", "pitch", "insulation"],
+        );
+        let no_gauge = helix("-length") + "insulation = \"heavy\"\n";
+        assert_names(&err(&no_gauge), &["key 'insulation'", "AWG 24"]);
+    }
+
+    #[test]
+    fn spiral_and_cone_from_turn_spacing() {
+        // 5 turns at 10 mm radial spacing from 50 mm end at 100 mm.
+        let text = spiral("-outer_radius") + "turn_spacing = \"10 mm\"\n";
+        match shape_of(&text) {
+            Shape::Spiral { outer_radius_m, .. } => assert!((outer_radius_m - 0.1).abs() < 1e-15),
+            s => panic!("{s:?}"),
+        }
+        // A cone's spacing runs along the slant: 5 x 13 mm = 65 mm of slant over a 50 mm rise
+        // (height 0.05) leave sqrt(65^2 - 50^2) mm = 41.53 mm of radial growth.
+        let text = cone("-outer_radius") + "turn_spacing = \"13 mm\"\n";
+        match shape_of(&text) {
+            Shape::Cone { outer_radius_m, .. } => {
+                let expected = 0.05 + (0.065f64.powi(2) - 0.05f64.powi(2)).sqrt();
+                assert!((outer_radius_m - expected).abs() < 1e-15);
+            }
+            s => panic!("{s:?}"),
+        }
+        let short = cone("-outer_radius") + "turn_spacing = \"9 mm\"\n";
+        assert_names(&err(&short), &["key 'turn_spacing'", "exceed the height"]);
+        let both = spiral("turn_spacing = 0.01");
+        assert_names(&err(&both), &["key 'turn_spacing'", "not both"]);
     }
 
     #[test]
@@ -1285,8 +1384,9 @@ wire_diameter = "AWG 10"
             &e,
             &[
                 "winding 'flat'",
-                "key 'wire_diameter'",
+                "key 'outer_radius'",
                 "(outer_radius - inner_radius) / turns",
+                "an outer radius above 0.11 m",
             ],
         );
     }
@@ -1299,7 +1399,7 @@ wire_diameter = "AWG 10"
             matches!(e, DesignError::WireThickerThanPitch { .. }),
             "{e:?}"
         );
-        assert_names(&e, &["winding 'funnel'", "key 'wire_diameter'", "slant"]);
+        assert_names(&e, &["winding 'funnel'", "key 'outer_radius'", "slant"]);
         // 30 turns give 2.36 mm along the slant although the radial pitch is only 1.7 mm.
         parse_design(&cone("turns = 30"), FILE).unwrap();
     }

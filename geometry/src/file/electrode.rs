@@ -10,7 +10,9 @@
 //! - `axis` (direction, normalised): the symmetry axis; a cylinder extends from its base along
 //!   it. Optional for a sphere (default `[0, 0, 1]`).
 //! - sizes (lengths, m, positive): torus `major_radius` (centre to tube centre) and
-//!   `minor_radius` (tube radius, below `major_radius`); sphere `radius`; disc `radius` (a
+//!   `minor_radius` (tube radius, below `major_radius`), or as a builder measures it
+//!   `outside_diameter` (across the outer edge) and `tube_diameter` (major radius =
+//!   (outside - tube) / 2, minor radius = tube / 2); sphere `radius`; disc `radius` (a
 //!   disc has no thickness); cylinder `radius` and `length`.
 //! - `connect` (optional): `"<winding>:top"` or `"<winding>:base"`: the electrode takes that
 //!   terminal's potential. The top of a winding is its end (t = 1), the base its start.
@@ -44,8 +46,65 @@ struct RawElectrode {
     radius: Option<RawLength>,
     major_radius: Option<RawLength>,
     minor_radius: Option<RawLength>,
+    outside_diameter: Option<RawLength>,
+    tube_diameter: Option<RawLength>,
     length: Option<RawLength>,
     connect: Option<String>,
+}
+
+/// A torus's major and minor radius (m): `major_radius` and `minor_radius`, or
+/// `outside_diameter` D and `tube_diameter` d as a builder measures them (major = (D - d) / 2,
+/// minor = d / 2); one pair, not a mix.
+fn torus_radii(raw: &RawElectrode, ctx: &Ctx<'_>) -> Result<(f64, f64), DesignError> {
+    let measured = raw.outside_diameter.is_some() || raw.tube_diameter.is_some();
+    if !measured {
+        let major_radius_m = ctx.required_size(
+            "major_radius",
+            &raw.major_radius,
+            "give the distance from the axis to the tube centre, e.g. major_radius = \"30 cm\", \
+             or outside_diameter and tube_diameter",
+        )?;
+        let minor_radius_m = ctx.required_size(
+            "minor_radius",
+            &raw.minor_radius,
+            "give the tube radius, e.g. minor_radius = \"8 cm\"",
+        )?;
+        return Ok((major_radius_m, minor_radius_m));
+    }
+    if raw.major_radius.is_some() || raw.minor_radius.is_some() {
+        return Err(DesignError::BadSetting {
+            source_name: ctx.source.to_string(),
+            item: ctx.item.clone(),
+            key: "outside_diameter".into(),
+            reason: "give either major_radius and minor_radius or outside_diameter and \
+                     tube_diameter, not a mix"
+                .into(),
+        });
+    }
+    let outside_m = ctx.required_size(
+        "outside_diameter",
+        &raw.outside_diameter,
+        "give the diameter across the torus's outer edge, e.g. outside_diameter = \"60 cm\"",
+    )?;
+    let tube_m = ctx.required_size(
+        "tube_diameter",
+        &raw.tube_diameter,
+        "give the diameter of the tube, e.g. tube_diameter = \"15 cm\"",
+    )?;
+    if 2.0 * tube_m >= outside_m {
+        return Err(DesignError::BadSetting {
+            source_name: ctx.source.to_string(),
+            item: ctx.item.clone(),
+            key: "tube_diameter".into(),
+            reason: format!(
+                "the tube ({} m) must be less than half the outside diameter ({} m), or the \
+                 torus has no hole",
+                crate::error::sig(tube_m),
+                crate::error::sig(outside_m)
+            ),
+        });
+    }
+    Ok((0.5 * (outside_m - tube_m), 0.5 * tube_m))
 }
 
 /// Keys of an electrode of each shape.
@@ -58,6 +117,8 @@ fn electrode_keys(shape: &str) -> &'static [&'static str] {
             "axis",
             "major_radius",
             "minor_radius",
+            "outside_diameter",
+            "tube_diameter",
             "connect",
         ],
         "sphere" => &["name", "shape", "origin", "axis", "radius", "connect"],
@@ -205,16 +266,7 @@ fn parse_electrode(
     };
     let shape = match shape.as_str() {
         "torus" => {
-            let major_radius_m = ctx.required_size(
-                "major_radius",
-                &raw.major_radius,
-                "give the distance from the axis to the tube centre, e.g. major_radius = \"30 cm\"",
-            )?;
-            let minor_radius_m = ctx.required_size(
-                "minor_radius",
-                &raw.minor_radius,
-                "give the tube radius, e.g. minor_radius = \"8 cm\"",
-            )?;
+            let (major_radius_m, minor_radius_m) = torus_radii(&raw, &ctx)?;
             if minor_radius_m >= major_radius_m {
                 return Err(DesignError::RadiiOrder {
                     source_name: source.to_string(),
@@ -440,6 +492,31 @@ potentials = { secondary = [0.0, 150e3] }
         for p in parts {
             assert!(msg.contains(p), "message lacks {p:?}: {msg}");
         }
+    }
+
+    #[test]
+    fn torus_from_outside_and_tube_diameter() {
+        // 40 cm across the outside with a 10 cm tube is the 15 cm / 5 cm torus of BASE.
+        let measured = BASE.replace(
+            "major_radius = \"15 cm\"\nminor_radius = \"5 cm\"",
+            "outside_diameter = \"40 cm\"\ntube_diameter = \"10 cm\"",
+        );
+        let d = parse_design(&measured, FILE).unwrap();
+        match d.electrodes[0].shape {
+            ElectrodeShape::Torus {
+                major_radius_m,
+                minor_radius_m,
+                ..
+            } => {
+                assert!((major_radius_m - 0.15).abs() < 1e-15);
+                assert!((minor_radius_m - 0.05).abs() < 1e-15);
+            }
+            ref s => panic!("{s:?}"),
+        }
+        let mixed = BASE.replace("minor_radius = \"5 cm\"", "tube_diameter = \"10 cm\"");
+        assert_has(&err(&mixed), &["key 'outside_diameter'", "not a mix"]);
+        let no_hole = measured.replace("\"10 cm\"", "\"20 cm\"");
+        assert_has(&err(&no_hole), &["key 'tube_diameter'", "no hole"]);
     }
 
     #[test]

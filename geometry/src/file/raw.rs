@@ -4,16 +4,18 @@
 
 use crate::error::DesignError;
 use crate::file::units::{Quantity, parse_length_m, parse_quantity, parse_wire_diameter_m};
+use crate::limits::{MAX_COORDINATE_M, MAX_NAME_CHARS, MAX_SIZE_M, MIN_SIZE_M, range_phrase};
 use nalgebra::{Point3, Unit, Vector3};
 use serde::Deserialize;
 use toml::Value;
 
-/// Whether a name matches `[A-Za-z0-9_-]+`.
+/// Whether a name matches `[A-Za-z0-9_-]+` and has at most [`MAX_NAME_CHARS`] characters.
 ///
 /// Names end up in file names, table headers and command lines; this set needs no quoting in any
-/// of them.
+/// of them, and the length keeps table columns readable.
 pub fn is_valid_name(name: &str) -> bool {
     !name.is_empty()
+        && name.len() <= MAX_NAME_CHARS
         && name
             .bytes()
             .all(|b| b.is_ascii_alphanumeric() || b == b'_' || b == b'-')
@@ -122,8 +124,18 @@ impl RawNumber {
     pub(crate) fn shown(self) -> String {
         match self {
             RawNumber::Int(n) => n.to_string(),
-            RawNumber::Float(x) => x.to_string(),
+            RawNumber::Float(x) => shown_float(x),
         }
+    }
+}
+
+/// A float as a message shows it: plain decimals in the usual range, else in exponent form
+/// (1e308 reads "1e308", not 309 digits).
+pub(crate) fn shown_float(x: f64) -> String {
+    if x == 0.0 || !x.is_finite() || (1e-4..1e15).contains(&x.abs()) {
+        x.to_string()
+    } else {
+        format!("{x:e}")
     }
 }
 
@@ -197,6 +209,16 @@ impl Ctx<'_> {
         }
     }
 
+    pub(crate) fn out_of_range(&self, key: &str, value: String, range: String) -> DesignError {
+        DesignError::OutOfRange {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: key.to_string(),
+            value,
+            range,
+        }
+    }
+
     pub(crate) fn bad_unit(&self, key: &str, reason: String) -> DesignError {
         DesignError::BadUnit {
             source_name: self.source.to_string(),
@@ -224,7 +246,7 @@ impl Ctx<'_> {
         wire: bool,
     ) -> Result<(f64, String), DesignError> {
         match raw {
-            RawLength::Number(v) => Ok((*v, v.to_string())),
+            RawLength::Number(v) => Ok((*v, shown_float(*v))),
             RawLength::Text(text) => {
                 let parsed = if wire {
                     parse_wire_diameter_m(text)
@@ -247,7 +269,7 @@ impl Ctx<'_> {
     ) -> Result<(f64, String), DesignError> {
         let (v, shown) = match value {
             Value::Integer(n) => (*n as f64, n.to_string()),
-            Value::Float(x) => (*x, x.to_string()),
+            Value::Float(x) => (*x, shown_float(*x)),
             Value::String(text) => (
                 parse_quantity(text, q).map_err(|reason| self.bad_unit(key, reason))?,
                 format!("\"{text}\""),
@@ -273,6 +295,17 @@ impl Ctx<'_> {
                 key,
                 &format!("{} that is finite ({})", q.phrase(), q.si_unit()),
                 shown,
+            ));
+        }
+        let (min, max) = q.magnitude_range();
+        if v != 0.0 && !(min..=max).contains(&v.abs()) {
+            return Err(self.out_of_range(
+                key,
+                shown,
+                format!(
+                    "a magnitude {} (or 0 where the key allows it)",
+                    range_phrase(min, max, q.si_unit())
+                ),
             ));
         }
         Ok((v, shown))
@@ -326,6 +359,13 @@ impl Ctx<'_> {
         if !v.is_finite() {
             return Err(self.not_finite(key, "a finite length in metres", shown));
         }
+        if v.abs() > MAX_COORDINATE_M {
+            return Err(self.out_of_range(
+                key,
+                shown,
+                format!("a coordinate from -{MAX_COORDINATE_M:e} m to {MAX_COORDINATE_M:e} m"),
+            ));
+        }
         Ok(v)
     }
 
@@ -338,6 +378,9 @@ impl Ctx<'_> {
         }
         if v <= 0.0 {
             return Err(self.not_positive(key, EXPECTED, shown));
+        }
+        if !(MIN_SIZE_M..=MAX_SIZE_M).contains(&v) {
+            return Err(self.out_of_range(key, shown, range_phrase(MIN_SIZE_M, MAX_SIZE_M, "m")));
         }
         Ok(v)
     }

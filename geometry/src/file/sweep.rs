@@ -56,8 +56,10 @@ use rand_chacha::ChaCha8Rng;
 use rand_core::{RngCore, SeedableRng};
 use toml::{Table, Value};
 
-/// Most points a sweep may have (bounds memory: every point's values are kept).
-pub const MAX_POINTS: usize = 50_000_000;
+/// Most points a sweep may have: every point's values are kept in memory and each distinct axis
+/// value is checked alone before any work, so start-up and memory grow with it (a million points
+/// start in seconds; 50 million took 3 GB).
+pub const MAX_POINTS: usize = 1_000_000;
 
 /// The kind of design table a key path names.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -172,11 +174,11 @@ impl Axis {
                                 return *to;
                             }
                             let t = i as f64 / (n - 1) as f64;
-                            if *log {
+                            snap_to_short_decimal(if *log {
                                 (from.ln() + t * (to.ln() - from.ln())).exp()
                             } else {
                                 from + t * (to - from)
-                            }
+                            })
                         })
                         .collect(),
                 )
@@ -502,6 +504,27 @@ fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<
             ));
         }
     };
+    // Axis values of a length key may carry a unit ("95 mm"), read by the one unit parser;
+    // counts, directions and angles are plain numbers.
+    let takes_length = match &target {
+        Target::Field { key, .. } => !matches!(
+            key.as_str(),
+            "turns" | "tap_turns" | "segments_per_turn" | "axis"
+        ),
+        Target::Tilt { .. } => false,
+    };
+    let wire = matches!(&target, Target::Field { key, .. } if key == "wire_diameter");
+    let number = |v: &Value| -> Option<f64> {
+        match v {
+            Value::String(s) if takes_length => if wire {
+                crate::file::units::parse_wire_diameter_m(s)
+            } else {
+                crate::file::units::parse_length_m(s)
+            }
+            .ok(),
+            _ => number(v),
+        }
+    };
     let values_v = t.remove("values");
     let from = t.remove("from");
     let to = t.remove("to");
@@ -544,7 +567,8 @@ fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<
                     return Err(invalid(
                         source,
                         format!("{label} values[{i}]"),
-                        "expected a finite number (SI units)",
+                        "expected a finite number (SI units), or for a length a string with a \
+                         unit, e.g. \"95 mm\"",
                     ));
                 }
             }
@@ -564,7 +588,8 @@ fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<
                 _ => Err(invalid(
                     source,
                     format!("{label} {k}"),
-                    "missing or not a finite number: give values = [...] or from, to and steps",
+                    "missing or not a finite number (SI units, or for a length a string with a \
+                     unit, e.g. \"95 mm\"): give values = [...] or from, to and steps",
                 )),
             }
         };
@@ -696,6 +721,26 @@ pub fn n_points(sweep: &Sweep, source: &str) -> Result<usize, DesignError> {
             })?;
     }
     Ok(total)
+}
+
+/// A grid value snapped to the decimal a person would have typed: the shortest decimal of at
+/// most 15 significant digits that lies within 4 units in the last place of `v` (0.095, not
+/// 0.09499999999999999, for the fifth of 0.08..0.1 in 5 steps). The snapped value is the one
+/// computed and printed; a value with no such decimal is kept as it is.
+pub fn snap_to_short_decimal(v: f64) -> f64 {
+    if v == 0.0 || !v.is_finite() {
+        return v;
+    }
+    let ulp = (f64::from_bits(v.abs().to_bits() + 1) - v.abs()).abs();
+    for digits in 1..=15usize {
+        let d = digits - 1;
+        if let Ok(c) = format!("{v:.d$e}").parse::<f64>() {
+            if (c - v).abs() <= 4.0 * ulp {
+                return c;
+            }
+        }
+    }
+    v
 }
 
 /// The values of every axis at every point: `points[i][j]` is axis j's value at point i.
@@ -926,6 +971,39 @@ key = "winding.b.turns"
 values = [1, 2]
 group = "g"
 "#;
+
+    #[test]
+    fn grid_values_are_snapped_to_short_decimals() {
+        // Linear interpolation from 0.05 to 0.1 in 11 steps gives 0.05500000000000001 and
+        // 0.08499999999999999 in binary floating point; the grid holds the decimals the user
+        // meant, and values that are not near a short decimal are kept.
+        let text = SWEEP.replace(
+            "from = 0.0\nto = 1.0\nsteps = 3",
+            "from = 0.05\nto = 0.1\nsteps = 11",
+        );
+        let s = parse_sweep(&text, "s.toml").unwrap();
+        assert_eq!(0.05 + 0.7 * (0.1 - 0.05), 0.084_999_999_999_999_99);
+        let expected = [
+            0.05, 0.055, 0.06, 0.065, 0.07, 0.075, 0.08, 0.085, 0.09, 0.095, 0.1,
+        ];
+        assert_eq!(s.axes[0].grid_values().unwrap(), expected);
+        assert_eq!(snap_to_short_decimal(1.0 / 3.0), 1.0 / 3.0);
+        assert_eq!(snap_to_short_decimal(-0.30000000000000004), -0.3);
+        assert_eq!(snap_to_short_decimal(1e-300), 1e-300);
+    }
+
+    #[test]
+    fn axis_values_of_lengths_take_units() {
+        // A length key reads "95 mm" through the one unit parser; a count does not.
+        let text = SWEEP
+            .replace("values = [0.1, 0.2]", "values = [\"100 mm\", \"0.2 m\"]")
+            .replace("from = 0.0\nto = 1.0", "from = \"0 cm\"\nto = \"1 m\"");
+        let s = parse_sweep(&text, "s.toml").unwrap();
+        assert_eq!(s.axes[1].grid_values().unwrap(), vec![0.1, 0.2]);
+        assert_eq!(s.axes[0].grid_values().unwrap(), vec![0.0, 0.5, 1.0]);
+        let turns = SWEEP.replace("values = [1, 2]", "values = [\"1 m\", 2]");
+        assert!(parse_sweep(&turns, "s.toml").is_err());
+    }
 
     #[test]
     fn grid_is_a_product_with_the_first_axis_slowest_and_groups_zipped() {

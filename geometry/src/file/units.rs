@@ -194,6 +194,24 @@ impl Quantity {
         }
     }
 
+    /// The magnitudes accepted for this quantity when it is not zero (SI units): wide enough
+    /// for any coil, narrow enough that every product and square the models form stays a finite
+    /// f64 (a current of 1e308 A gives infinite fields). See [`crate::limits`].
+    pub fn magnitude_range(self) -> (f64, f64) {
+        match self {
+            Quantity::Length => (crate::limits::MIN_SIZE_M, crate::limits::MAX_SIZE_M),
+            Quantity::ElectricField => (1e-9, 1e12),
+            Quantity::FluxDensity => (1e-15, 1e6),
+            Quantity::Frequency => (1e-3, 1e12),
+            Quantity::Voltage => (1e-9, 1e9),
+            Quantity::Current => (1e-12, 1e7),
+            Quantity::Capacitance => (1e-18, 1e3),
+            Quantity::Inductance => (1e-15, 1e3),
+            Quantity::Resistance => (1e-9, 1e12),
+            Quantity::Time => (1e-15, 1e6),
+        }
+    }
+
     /// The SI unit in which a bare number is read.
     pub fn si_unit(self) -> &'static str {
         match self {
@@ -375,6 +393,49 @@ pub fn awg_diameter_m(gauge: i32) -> Option<f64> {
     }
     let exponent = f64::from(36 - gauge) / 39.0;
     Some(0.127e-3 * 92f64.powf(exponent))
+}
+
+/// Enamel builds this program knows by name (the design file's `insulation = "heavy"`).
+pub const ENAMEL_BUILDS: &[&str] = &["heavy"];
+
+/// Overall diameter (in inches) of heavy-build enamelled round magnet wire by AWG, even gauges
+/// 14 to 36: the nominal figures of the magnet-wire tables as recalled, from memory (no source
+/// at hand; check the maker's sheet, builds differ by a few micrometres).
+const HEAVY_BUILD_OVERALL_IN: [(i32, f64); 12] = [
+    (14, 0.0666),
+    (16, 0.0532),
+    (18, 0.0425),
+    (20, 0.0340),
+    (22, 0.0271),
+    (24, 0.0218),
+    (26, 0.0175),
+    (28, 0.0140),
+    (30, 0.0113),
+    (32, 0.0091),
+    (34, 0.0072),
+    (36, 0.0058),
+];
+
+/// Overall diameter (m) of enamelled wire of gauge `gauge` in the named build (`"heavy"`), or
+/// `None` where the table has no entry. A convenience for close-wound coils; the table is from
+/// memory (see [`ENAMEL_BUILDS`]), so a measured `insulated_diameter` is better.
+pub fn enamel_overall_diameter_m(build: &str, gauge: i32) -> Option<f64> {
+    if !build.eq_ignore_ascii_case("heavy") {
+        return None;
+    }
+    HEAVY_BUILD_OVERALL_IN
+        .iter()
+        .find(|(g, _)| *g == gauge)
+        .map(|(_, inches)| inches * 0.0254)
+}
+
+/// The gauges with an enamel-build entry, for messages ("14, 16, ..., 36").
+pub fn enamel_gauges() -> String {
+    HEAVY_BUILD_OVERALL_IN
+        .iter()
+        .map(|(g, _)| g.to_string())
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 /// Gauge number of an "AWG ..." string (0000 and 4/0 are -3), or `None` if it is not a known gauge.

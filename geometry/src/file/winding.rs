@@ -1,8 +1,10 @@
 //! `[[winding]]` tables: keys by shape, one validator per shape, and the checks a winding
 //! gets by itself (sizes, pitch against the wire, polyline points).
 
-use crate::error::DesignError;
+use crate::error::{DesignError, sig};
 use crate::file::raw::{Ctx, RawLength, RawNumber, is_valid_name, type_phrase};
+use crate::file::units;
+use crate::limits::{MAX_POLYLINE_POINTS, MIN_TURNS};
 use crate::model::winding::{Conductor, MIN_TAP_TURNS, Model, Role, Shape, Tap, TapEnd, Winding};
 use nalgebra::Point3;
 use serde::Deserialize;
@@ -85,7 +87,10 @@ impl ShapeKind {
                 "axis",
                 "radius",
                 "length",
+                "pitch",
                 "turns",
+                "insulation",
+                "insulated_diameter",
                 "segments_per_turn",
                 "tap_turns",
                 "tap_from",
@@ -95,6 +100,7 @@ impl ShapeKind {
                 "axis",
                 "inner_radius",
                 "outer_radius",
+                "turn_spacing",
                 "turns",
                 "segments_per_turn",
                 "tap_turns",
@@ -105,6 +111,7 @@ impl ShapeKind {
                 "axis",
                 "inner_radius",
                 "outer_radius",
+                "turn_spacing",
                 "height",
                 "turns",
                 "segments_per_turn",
@@ -148,6 +155,10 @@ struct RawWinding {
     axis: Option<[RawNumber; 3]>,
     radius: Option<RawLength>,
     length: Option<RawLength>,
+    pitch: Option<RawLength>,
+    insulation: Option<RawLength>,
+    insulated_diameter: Option<RawLength>,
+    turn_spacing: Option<RawLength>,
     turns: Option<RawNumber>,
     wire_diameter: Option<RawLength>,
     inner_radius: Option<RawLength>,
@@ -179,18 +190,24 @@ impl Ctx<'_> {
         }
     }
 
+    /// Turns too close for the wire: `key` sets the pitch, `remedy` names the smallest valid
+    /// sizes.
     pub(crate) fn thicker_than_pitch(
         &self,
+        key: &'static str,
         wire_diameter_m: f64,
         pitch_m: f64,
-        rule: &str,
+        pitch_rule: &'static str,
+        remedy: String,
     ) -> DesignError {
         DesignError::WireThickerThanPitch {
             source_name: self.source.to_string(),
             item: self.item.clone(),
+            key,
             wire_diameter_m,
             pitch_m,
-            pitch_rule: rule.to_string(),
+            pitch_rule,
+            remedy,
         }
     }
 
@@ -205,6 +222,16 @@ impl Ctx<'_> {
         }
         if turns <= 0.0 {
             return Err(self.not_positive("turns", EXPECTED, raw.shown()));
+        }
+        if turns < MIN_TURNS {
+            return Err(self.out_of_range(
+                "turns",
+                raw.shown(),
+                format!(
+                    "from {MIN_TURNS} to {MAX_TURNS:e} turns (the ring model needs at least one \
+                     element)"
+                ),
+            ));
         }
         if turns > MAX_TURNS {
             return Err(self.too_large(
@@ -321,7 +348,7 @@ pub(crate) fn parse_winding(
     let wire_diameter_m = ctx.size("wire_diameter", wire_raw, true)?;
     let segments_per_turn = ctx.segments_per_turn(raw.segments_per_turn)?;
     let shape = match kind {
-        ShapeKind::Helix => helix(&raw, &ctx, wire_diameter_m)?,
+        ShapeKind::Helix => helix(&raw, &ctx, wire_diameter_m, wire_raw)?,
         ShapeKind::Spiral => spiral(&raw, &ctx, wire_diameter_m)?,
         ShapeKind::Cone => cone(&raw, &ctx, wire_diameter_m)?,
         ShapeKind::Ring => ring(&raw, &ctx, wire_diameter_m)?,
@@ -495,8 +522,15 @@ fn model_of(raw: &RawWinding, kind: ShapeKind, ctx: &Ctx<'_>) -> Result<Model, D
     }
 }
 
-/// A helix: origin, axis, radius, length, turns; the wire thinner than the pitch.
-fn helix(raw: &RawWinding, ctx: &Ctx<'_>, wire_diameter_m: f64) -> Result<Shape, DesignError> {
+/// A helix: origin, axis, radius, turns, and the length (or the pitch, or neither for a
+/// close-wound coil of insulated wire). The pitch must be at least the insulated diameter
+/// (insulation may touch: close-wound) and more than the bare diameter.
+fn helix(
+    raw: &RawWinding,
+    ctx: &Ctx<'_>,
+    wire_diameter_m: f64,
+    wire_raw: &RawLength,
+) -> Result<Shape, DesignError> {
     let origin_m = ctx.origin(&raw.origin)?;
     let axis = ctx.axis(&raw.axis)?;
     let radius_m = ctx.required_size(
@@ -504,31 +538,162 @@ fn helix(raw: &RawWinding, ctx: &Ctx<'_>, wire_diameter_m: f64) -> Result<Shape,
         &raw.radius,
         "give the centreline radius, e.g. radius = \"50 mm\"",
     )?;
-    let length_m = ctx.required_size(
-        "length",
-        &raw.length,
-        "give the winding length along the axis, e.g. length = \"400 mm\"",
-    )?;
+    let length_m = raw
+        .length
+        .as_ref()
+        .map(|l| ctx.size("length", l, false))
+        .transpose()?;
+    let given_pitch_m = raw
+        .pitch
+        .as_ref()
+        .map(|p| ctx.size("pitch", p, false))
+        .transpose()?;
     let turns = ctx.turns(raw.turns)?;
+    let insulated_m = insulated_diameter_m(raw, ctx, wire_diameter_m, wire_raw)?;
     let wire_radius_m = 0.5 * wire_diameter_m;
     if radius_m <= wire_radius_m {
         return Err(ctx.radius_below_wire("radius", radius_m, wire_radius_m));
     }
-    let pitch_m = length_m / turns;
-    if pitch_m <= wire_diameter_m {
-        return Err(ctx.thicker_than_pitch(wire_diameter_m, pitch_m, "length / turns"));
+    let (pitch_m, key, rule) = match (length_m, given_pitch_m, insulated_m) {
+        (Some(_), Some(_), _) => {
+            return Err(DesignError::BadSetting {
+                source_name: ctx.source.to_string(),
+                item: ctx.item.clone(),
+                key: "pitch".into(),
+                reason: "give either length or pitch, not both (length = turns x pitch)".into(),
+            });
+        }
+        (Some(l), None, _) => (l / turns, "length", "length / turns"),
+        (None, Some(p), _) => (p, "pitch", "as given"),
+        (None, None, Some(d)) => (d, "insulation", "close-wound: the insulated diameter"),
+        (None, None, None) => {
+            return Err(ctx.missing(
+                "length",
+                "give the winding length along the axis, e.g. length = \"400 mm\"; or pitch, \
+                 the centre-to-centre distance of adjacent turns; or, for a close-wound coil, the \
+                 wire's insulation (insulation = \"0.03 mm\" or \"heavy\", or insulated_diameter)",
+            ));
+        }
+    };
+    // Insulation may touch (close-wound); a length typed as turns x insulated diameter may come
+    // out a rounding below it, hence the relative 1e-9.
+    let touching_m = insulated_m.unwrap_or(0.0) * (1.0 - 1e-9);
+    if pitch_m < touching_m || pitch_m <= wire_diameter_m {
+        return Err(ctx.thicker_than_pitch(
+            key,
+            wire_diameter_m,
+            pitch_m,
+            rule,
+            helix_remedy(wire_diameter_m, insulated_m, turns),
+        ));
     }
     Ok(Shape::Helix {
         origin_m,
         axis,
         radius_m,
-        length_m,
+        length_m: pitch_m * turns,
         turns,
     })
 }
 
+/// What a helix refused for its pitch needs: the smallest valid pitch and length, and (for bare
+/// wire) how to describe a close-wound enamelled coil.
+fn helix_remedy(wire_diameter_m: f64, insulated_m: Option<f64>, turns: f64) -> String {
+    match insulated_m {
+        Some(d) => format!(
+            "the wire is {} m insulated, and the smallest valid pitch is the insulated \
+             diameter, {} m (close-wound), a length of {} m for {} turns; use fewer turns, more \
+             length or thinner wire",
+            sig(d),
+            sig(d),
+            sig(d * turns),
+            sig(turns)
+        ),
+        None => format!(
+            "the pitch must exceed the bare diameter {} m (a length above {} m for {} turns); \
+             for enamelled wire wound close, give insulation (a thickness, e.g. \"0.03 mm\", or \
+             \"heavy\" with an AWG wire) or insulated_diameter, and the smallest valid pitch \
+             becomes the insulated diameter",
+            sig(wire_diameter_m),
+            sig(wire_diameter_m * turns),
+            sig(turns)
+        ),
+    }
+}
+
+/// Overall diameter of the insulated wire (m): `insulated_diameter`, or the bare diameter plus
+/// twice `insulation` (a thickness, or an enamel build by name for an AWG wire); `None` when
+/// neither is given.
+fn insulated_diameter_m(
+    raw: &RawWinding,
+    ctx: &Ctx<'_>,
+    wire_diameter_m: f64,
+    wire_raw: &RawLength,
+) -> Result<Option<f64>, DesignError> {
+    let bad = |key: &str, reason: String| DesignError::BadSetting {
+        source_name: ctx.source.to_string(),
+        item: ctx.item.clone(),
+        key: key.to_string(),
+        reason,
+    };
+    let overall_m = match (&raw.insulation, &raw.insulated_diameter) {
+        (Some(_), Some(_)) => {
+            return Err(bad(
+                "insulated_diameter",
+                "give either insulation (a thickness) or insulated_diameter (overall), not both"
+                    .into(),
+            ));
+        }
+        (None, None) => return Ok(None),
+        (None, Some(d)) => ctx.size("insulated_diameter", d, false)?,
+        (Some(RawLength::Text(build)), None)
+            if units::ENAMEL_BUILDS
+                .iter()
+                .any(|b| b.eq_ignore_ascii_case(build.trim())) =>
+        {
+            let gauge = match wire_raw {
+                RawLength::Text(w) => units::parse_awg(w),
+                RawLength::Number(_) => None,
+            };
+            let Some(gauge) = gauge else {
+                return Err(bad(
+                    "insulation",
+                    format!(
+                        "an enamel build (\"{build}\") needs the wire as a gauge, e.g. \
+                         wire_diameter = \"AWG 24\"; otherwise give the thickness or \
+                         insulated_diameter"
+                    ),
+                ));
+            };
+            units::enamel_overall_diameter_m(build.trim(), gauge).ok_or_else(|| {
+                bad(
+                    "insulation",
+                    format!(
+                        "the enamel table (from memory) has no AWG {gauge}; it covers AWG {}. \
+                         Give the thickness or insulated_diameter",
+                        units::enamel_gauges()
+                    ),
+                )
+            })?
+        }
+        (Some(t), None) => wire_diameter_m + 2.0 * ctx.size("insulation", t, false)?,
+    };
+    if overall_m <= wire_diameter_m {
+        return Err(bad(
+            "insulated_diameter",
+            format!(
+                "the insulated wire ({} m) must be thicker than the bare wire ({} m)",
+                sig(overall_m),
+                sig(wire_diameter_m)
+            ),
+        ));
+    }
+    Ok(Some(overall_m))
+}
+
 /// The keys a flat spiral and a cone share: origin, axis, inner and outer radius (growing
-/// outwards, the inner one beyond the wire), turns.
+/// outwards, the inner one beyond the wire), turns. The outer radius may be given as
+/// `turn_spacing` instead (see [`outer_radius_of`]).
 struct Flat {
     origin_m: Point3<f64>,
     axis: nalgebra::Unit<nalgebra::Vector3<f64>>,
@@ -537,33 +702,93 @@ struct Flat {
     turns: f64,
 }
 
-fn flat(raw: &RawWinding, ctx: &Ctx<'_>) -> Result<Flat, DesignError> {
-    Ok(Flat {
-        origin_m: ctx.origin(&raw.origin)?,
-        axis: ctx.axis(&raw.axis)?,
-        inner_radius_m: ctx.required_size(
-            "inner_radius",
-            &raw.inner_radius,
-            "give the centreline radius at the start, e.g. inner_radius = \"70 mm\"",
-        )?,
-        outer_radius_m: ctx.required_size(
+/// Where a flat spiral's or cone's outer radius comes from.
+enum Outer {
+    /// `outer_radius` as given (m).
+    Radius(f64),
+    /// `turn_spacing` (m): centre to centre, radial for a spiral, along the slant for a cone.
+    Spacing(f64),
+}
+
+fn flat(raw: &RawWinding, ctx: &Ctx<'_>) -> Result<(Flat, Outer), DesignError> {
+    let origin_m = ctx.origin(&raw.origin)?;
+    let axis = ctx.axis(&raw.axis)?;
+    let inner_radius_m = ctx.required_size(
+        "inner_radius",
+        &raw.inner_radius,
+        "give the centreline radius at the start, e.g. inner_radius = \"70 mm\"",
+    )?;
+    let outer = match (&raw.outer_radius, &raw.turn_spacing) {
+        (Some(_), Some(_)) => {
+            return Err(DesignError::BadSetting {
+                source_name: ctx.source.to_string(),
+                item: ctx.item.clone(),
+                key: "turn_spacing".into(),
+                reason: "give either outer_radius or turn_spacing, not both".into(),
+            });
+        }
+        (None, Some(s)) => Outer::Spacing(ctx.size("turn_spacing", s, false)?),
+        (o, None) => Outer::Radius(ctx.required_size(
             "outer_radius",
-            &raw.outer_radius,
-            "give the centreline radius at the end, e.g. outer_radius = \"130 mm\"",
-        )?,
+            o,
+            "give the centreline radius at the end, e.g. outer_radius = \"130 mm\", or \
+             turn_spacing, the centre-to-centre distance of adjacent turns",
+        )?),
+    };
+    let f = Flat {
+        origin_m,
+        axis,
+        inner_radius_m,
+        outer_radius_m: 0.0,
         turns: 0.0,
-    })
+    };
+    Ok((f, outer))
+}
+
+/// The outer radius (m) from `outer_radius`, or from `turn_spacing` s: r_in + n s for a flat
+/// spiral, r_in + sqrt((n s)^2 - h^2) for a cone of height h (the spacing runs along the
+/// slant, so n s must exceed h).
+fn outer_radius_of(
+    f: &Flat,
+    outer: &Outer,
+    height_m: Option<f64>,
+    ctx: &Ctx<'_>,
+) -> Result<f64, DesignError> {
+    match *outer {
+        Outer::Radius(r) => Ok(r),
+        Outer::Spacing(s) => {
+            let slant_m = s * f.turns;
+            let h = height_m.unwrap_or(0.0);
+            if slant_m <= h {
+                return Err(DesignError::BadSetting {
+                    source_name: ctx.source.to_string(),
+                    item: ctx.item.clone(),
+                    key: "turn_spacing".into(),
+                    reason: format!(
+                        "turns x turn_spacing ({} m, along the slant) must exceed the height \
+                         ({} m); the smallest valid turn_spacing is above {} m",
+                        sig(slant_m),
+                        sig(h),
+                        sig(h / f.turns)
+                    ),
+                });
+            }
+            Ok(f.inner_radius_m + (slant_m * slant_m - h * h).sqrt())
+        }
+    }
 }
 
 /// Turns and radii of a spiral or cone, read after the keys of [`flat`] (and a cone's height,
 /// so that messages come in the order of the keys).
 fn check_radii(
-    mut f: Flat,
+    (mut f, outer): (Flat, Outer),
     raw: &RawWinding,
     ctx: &Ctx<'_>,
     wire_diameter_m: f64,
+    height_m: Option<f64>,
 ) -> Result<Flat, DesignError> {
     f.turns = ctx.turns(raw.turns)?;
+    f.outer_radius_m = outer_radius_of(&f, &outer, height_m, ctx)?;
     let wire_radius_m = 0.5 * wire_diameter_m;
     if f.inner_radius_m <= wire_radius_m {
         return Err(ctx.radius_below_wire("inner_radius", f.inner_radius_m, wire_radius_m));
@@ -579,15 +804,31 @@ fn check_radii(
     Ok(f)
 }
 
+/// The key that set a spiral's or cone's pitch, for messages.
+fn spacing_key(raw: &RawWinding) -> &'static str {
+    if raw.turn_spacing.is_some() {
+        "turn_spacing"
+    } else {
+        "outer_radius"
+    }
+}
+
 /// A flat Archimedean spiral: the wire thinner than the radial pitch.
 fn spiral(raw: &RawWinding, ctx: &Ctx<'_>, wire_diameter_m: f64) -> Result<Shape, DesignError> {
-    let f = check_radii(flat(raw, ctx)?, raw, ctx, wire_diameter_m)?;
+    let f = check_radii(flat(raw, ctx)?, raw, ctx, wire_diameter_m, None)?;
     let pitch_m = (f.outer_radius_m - f.inner_radius_m) / f.turns;
     if pitch_m <= wire_diameter_m {
         return Err(ctx.thicker_than_pitch(
+            spacing_key(raw),
             wire_diameter_m,
             pitch_m,
             "(outer_radius - inner_radius) / turns",
+            format!(
+                "the turn spacing must exceed the wire ({} m): an outer radius above {} m; use \
+                 fewer turns, more room or a thinner wire",
+                sig(wire_diameter_m),
+                sig(f.inner_radius_m + wire_diameter_m * f.turns)
+            ),
         ));
     }
     Ok(Shape::Spiral {
@@ -607,15 +848,21 @@ fn cone(raw: &RawWinding, ctx: &Ctx<'_>, wire_diameter_m: f64) -> Result<Shape, 
         &raw.height,
         "give the axial rise from start to end, e.g. height = \"60 mm\"",
     )?;
-    let f = check_radii(f, raw, ctx, wire_diameter_m)?;
+    let f = check_radii(f, raw, ctx, wire_diameter_m, Some(height_m))?;
     // Adjacent turns of a cone sit one slant length per turn apart along the cone's surface
     // line.
     let pitch_m = (f.outer_radius_m - f.inner_radius_m).hypot(height_m) / f.turns;
     if pitch_m <= wire_diameter_m {
         return Err(ctx.thicker_than_pitch(
+            spacing_key(raw),
             wire_diameter_m,
             pitch_m,
             "sqrt((outer_radius - inner_radius)^2 + height^2) / turns, along the slant",
+            format!(
+                "the turn spacing along the slant must exceed the wire ({} m); use fewer turns, \
+                 more room or a thinner wire",
+                sig(wire_diameter_m)
+            ),
         ));
     }
     Ok(Shape::Cone {
@@ -659,6 +906,16 @@ fn polyline(raw: &RawWinding, ctx: &Ctx<'_>) -> Result<Shape, DesignError> {
             "give the vertices as points = [[x, y, z], ...] (lengths), in current order",
         )
     })?;
+    if raw_points.len() > MAX_POLYLINE_POINTS {
+        return Err(ctx.too_large(
+            "points",
+            format!("{} points", raw_points.len()),
+            format!(
+                "a polyline has at most {MAX_POLYLINE_POINTS} points (its self-inductance sums \
+                 the square of the point count of Neumann integrals)"
+            ),
+        ));
+    }
     let points_m = raw_points
         .iter()
         .enumerate()
@@ -686,6 +943,17 @@ fn polyline(raw: &RawWinding, ctx: &Ctx<'_>) -> Result<Shape, DesignError> {
                 index_b: j,
                 closing: j == 0,
             });
+        }
+        let piece_m = (points_m[j] - points_m[i]).norm();
+        if piece_m < crate::limits::MIN_SIZE_M {
+            return Err(ctx.out_of_range(
+                &format!("points[{j}]"),
+                format!(
+                    "a piece of {} m from points[{i}]",
+                    crate::error::sig(piece_m)
+                ),
+                format!("pieces of at least {:e} m", crate::limits::MIN_SIZE_M),
+            ));
         }
     }
     Ok(Shape::Polyline { points_m, closed })

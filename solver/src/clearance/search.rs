@@ -3,7 +3,9 @@
 //!
 //! Rays start on the axis (horizontal, at four azimuths, at each height) and at the top
 //! electrode's centre (a fan in elevation); [`clearance_along_ray`] finds each ray's outer
-//! crossing. Points without a value (inside a conductor, on a wire) count as above the limit.
+//! crossing. Points without a value (inside a conductor, on a wire) are neither above nor below
+//! a limit; a threshold never exceeded where the field exists is `never_exceeded`, with both
+//! distances 0 m (so a sweep constraint on `clearance.<t>` keeps working).
 //! A threshold of [`Method::MeanGradient`] is no search: a spark bridges a gap d when the mean
 //! gradient V/d exceeds it, so its distance is the top conductor's peak potential over the
 //! gradient.
@@ -140,10 +142,14 @@ pub struct HeightClearance {
     pub label: String,
     /// Height (m) along the axis above the secondary's origin.
     pub height_m: f64,
-    /// Distance (m) from the axis, the largest over the four azimuths.
+    /// Distance (m) from the axis, the largest over the four azimuths (0 m where the limit is
+    /// never exceeded along them).
     pub distance_from_axis_m: f64,
     /// Whether a ray was still above the limit at the end of the search (a lower bound).
     pub beyond_search: bool,
+    /// Whether the field stays below the limit everywhere along these rays where it exists
+    /// (outside the conductors).
+    pub never_exceeded: bool,
 }
 
 /// What the search found for one threshold.
@@ -161,6 +167,9 @@ pub struct ThresholdClearance {
     /// Whether some ray was still above the limit at the end of the search (the distances are
     /// lower bounds).
     pub beyond_search: bool,
+    /// Whether the field stays below the limit along every ray wherever it exists (outside
+    /// the conductors): no clearance is needed, and both distances are 0 m.
+    pub never_exceeded: bool,
     /// The distances from the axis at each height (empty for a mean gradient).
     pub by_height: Vec<HeightClearance>,
 }
@@ -305,6 +314,7 @@ pub fn search(
                 distance_from_axis_m: r_top + d,
                 distance_from_top_m: d,
                 beyond_search: false,
+                never_exceeded: false,
                 by_height: Vec::new(),
             });
             continue;
@@ -316,7 +326,12 @@ pub fn search(
         for (h, hl) in &fr.heights {
             let o = fr.origin_m + fr.axis.as_ref() * *h;
             let rays = search_rays(&azimuths, o, limit, &f, &limited, par)?;
-            let best = rays.iter().map(|(r, _)| r.distance_m).fold(0.0, f64::max);
+            let below = |r: &RayClearance| r.outcome == RayOutcome::BelowEverywhere;
+            let best = rays
+                .iter()
+                .filter(|(r, _)| !below(r))
+                .map(|(r, _)| r.distance_m)
+                .fold(0.0, f64::max);
             let hit_end = rays.iter().any(|(r, p)| beyond_search(r, p));
             beyond |= hit_end;
             by_height.push(HeightClearance {
@@ -324,6 +339,7 @@ pub fn search(
                 height_m: *h,
                 distance_from_axis_m: best,
                 beyond_search: hit_end,
+                never_exceeded: rays.iter().all(|(r, _)| below(r)),
             });
         }
         let fan_rays = search_rays(&fan, fr.top_m, limit, &f, &limited, par)?;
@@ -341,6 +357,10 @@ pub fn search(
             })
             .fold(0.0, f64::max);
         beyond |= fan_rays.iter().any(|(r, p)| beyond_search(r, p));
+        let never_exceeded = by_height.iter().all(|h| h.never_exceeded)
+            && fan_rays
+                .iter()
+                .all(|(r, _)| r.outcome == RayOutcome::BelowEverywhere);
         out.push(ThresholdClearance {
             threshold: t.clone(),
             compared_with: match t.basis {
@@ -354,6 +374,7 @@ pub fn search(
                 .fold(0.0, f64::max),
             distance_from_top_m: from_top,
             beyond_search: beyond,
+            never_exceeded,
             by_height,
         });
         if beyond {

@@ -341,7 +341,7 @@ fn distributed(
         },
         source,
     )?;
-    let solution = problem.solve(par);
+    let solution = problem.solve(par)?;
     let nodal = solution.nodal_capacitance()?;
     // Node 0 (the base) is held at the reference potential: the free nodes are 1..=n.
     let capacitance = nodal.matrix_f.view((1, 1), (n, n)).into_owned();

@@ -130,17 +130,19 @@ impl SweepPlan {
                 (Values::Range { from, to, .. }, None) => vec![*from, *to],
                 (Values::List(v), None) => v.clone(),
             };
-            let mut seen: Vec<f64> = Vec::new();
+            // A set of bit patterns: checking each distinct value once stays linear in the
+            // number of values (a list scanned per value made a million steps take minutes).
+            let mut seen = std::collections::HashSet::new();
             for v in values {
-                if seen.contains(&v) {
+                if !seen.insert(v.to_bits()) {
                     continue;
                 }
-                seen.push(v);
                 let label = format!(
-                    "{}: axis #{} `{}` = {v} (set alone in {})",
+                    "{}: axis #{} `{}` = {} (set alone in {})",
                     self.sweep_label,
                     j + 1,
                     axis.key,
+                    shown_value(v),
                     self.base_label
                 );
                 self.design_with(&[(j, v)], &label)
@@ -269,6 +271,16 @@ fn edits_of(
 }
 
 /// A message with `label` in front unless it starts with it already.
+/// An axis value as a message shows it: exponent form outside the usual range (5e-324, not 324
+/// digits).
+fn shown_value(v: f64) -> String {
+    if v == 0.0 || !v.is_finite() || (1e-4..1e15).contains(&v.abs()) {
+        v.to_string()
+    } else {
+        format!("{v:e}")
+    }
+}
+
 fn prefixed(label: &str, message: String) -> String {
     if message.starts_with(label) {
         message

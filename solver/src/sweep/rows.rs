@@ -7,6 +7,7 @@
 //! one line.
 
 use crate::metrics::PointResult;
+use crate::numtext::{json_number as json_num, shortest as num};
 use crate::sweep::plan::SweepPlan;
 
 /// Output format of a sweep.
@@ -102,21 +103,6 @@ impl SweepPlan {
     }
 }
 
-/// Shortest round-trip text of a float: the fewest digits that read back to the same value, in
-/// plain or exponent form, whichever is shorter (plain on a tie).
-fn num(v: f64) -> String {
-    let plain = format!("{v}");
-    let exp = format!("{v:e}");
-    if exp.len() < plain.len() { exp } else { plain }
-}
-
-/// A float as a JSON number; null for NaN and infinities, which JSON cannot hold.
-fn json_num(v: f64) -> serde_json::Value {
-    serde_json::Number::from_f64(v)
-        .map(serde_json::Value::Number)
-        .unwrap_or(serde_json::Value::Null)
-}
-
 /// A CSV field, quoted when it holds a comma or a quote (RFC 4180).
 fn csv_field(s: &str) -> String {
     if s.contains([',', '"']) {
@@ -141,19 +127,6 @@ pub(crate) fn point_of(line: &str, format: OutFormat) -> Option<usize> {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn numbers_are_shortest_round_trip_text() {
-        // The text must read back to the same bits (IEEE 754 round trip) and be no longer
-        // than both Rust forms it picks from.
-        for v in [4.940_784_630_798_269e-7, 0.1, 1.0, 1e21, 123_456.0, -2.5e-9] {
-            let t = num(v);
-            assert_eq!(t.parse::<f64>().unwrap().to_bits(), v.to_bits(), "{t}");
-            assert!(t.len() <= format!("{v}").len() && t.len() <= format!("{v:e}").len());
-        }
-        assert_eq!(num(1e-7), "1e-7");
-        assert_eq!(num(0.5), "0.5");
-    }
 
     #[test]
     fn csv_fields_are_quoted_as_rfc_4180_says() {

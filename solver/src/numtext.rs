@@ -1,0 +1,209 @@
+//! The one number formatter of every text output: data files (CSV, JSON, sweep rows) and tables.
+//!
+//! - Data files get [`shortest`]: the fewest digits that read back to the same `f64`, plain or
+//!   exponent form, whichever is shorter; [`json_number`] and [`clean_json`] do the same for
+//!   JSON. Never `-0`: a negative zero prints as `0`.
+//! - Tables get [`si`]: one SI-prefix rule (G, M, k, none, m, µ, n, p, f, a), the prefix chosen
+//!   after rounding so 999.96 µH reads `1.000 mH`, never `1000.0 µH`. [`si_like`] prints a value
+//!   in the prefix of another (an error estimate in the unit of its value).
+//!
+//! Nothing here prints; the CLI and the sweep rows call these functions.
+
+/// The SI prefixes of table output, largest first, with their scale.
+const PREFIXES: [(f64, &str); 10] = [
+    (1e9, "G"),
+    (1e6, "M"),
+    (1e3, "k"),
+    (1.0, ""),
+    (1e-3, "m"),
+    (1e-6, "µ"),
+    (1e-9, "n"),
+    (1e-12, "p"),
+    (1e-15, "f"),
+    (1e-18, "a"),
+];
+
+/// `v` without a negative zero (`-0.0` becomes `0.0`; every other value is unchanged).
+pub fn no_negative_zero(v: f64) -> f64 {
+    if v == 0.0 { 0.0 } else { v }
+}
+
+/// Shortest round-trip text of a float for data files: the fewest digits that read back to the
+/// same value, in plain or exponent form, whichever is shorter (plain on a tie). `-0` prints as
+/// `0`; NaN as `NaN` and infinities as `inf` / `-inf` (CSV readers take these; JSON uses
+/// [`json_number`]).
+pub fn shortest(v: f64) -> String {
+    if v.is_nan() {
+        return "NaN".into();
+    }
+    let v = no_negative_zero(v);
+    let plain = format!("{v}");
+    let exp = format!("{v:e}");
+    if exp.len() < plain.len() { exp } else { plain }
+}
+
+/// A float as a JSON number (shortest round trip, no `-0`); null for NaN and infinities, which
+/// JSON cannot hold.
+pub fn json_number(v: f64) -> serde_json::Value {
+    serde_json::Number::from_f64(no_negative_zero(v))
+        .map(serde_json::Value::Number)
+        .unwrap_or(serde_json::Value::Null)
+}
+
+/// Rewrite every negative zero in a JSON value as `0` (serde writes `-0.0` otherwise).
+pub fn clean_json(value: &mut serde_json::Value) {
+    match value {
+        serde_json::Value::Number(n) if n.is_f64() && n.as_f64() == Some(0.0) => {
+            *value = serde_json::json!(0.0);
+        }
+        serde_json::Value::Array(items) => items.iter_mut().for_each(clean_json),
+        serde_json::Value::Object(map) => map.values_mut().for_each(clean_json),
+        _ => {}
+    }
+}
+
+/// The prefix scale and symbol of a magnitude already rounded to `digits` significant digits.
+fn prefix_of(value: f64, digits: usize) -> (f64, &'static str) {
+    let mag = round_significant(value.abs(), digits);
+    PREFIXES
+        .iter()
+        .copied()
+        .find(|(s, _)| mag >= *s * (1.0 - 1e-12))
+        .unwrap_or(PREFIXES[PREFIXES.len() - 1])
+}
+
+/// `v` rounded to `digits` significant digits (through its decimal text, so it is the value a
+/// reader sees).
+fn round_significant(v: f64, digits: usize) -> f64 {
+    if v == 0.0 || !v.is_finite() {
+        return v;
+    }
+    let d = digits.max(1) - 1;
+    format!("{v:.d$e}").parse().unwrap_or(v)
+}
+
+/// A value with an SI prefix and unit for tables, e.g. `15.7002 µH`, to `digits` significant
+/// digits. Zero prints as `0 unit`; a value that is not finite as `NaN unit` or `inf unit`
+/// (callers print words for missing values where they can).
+pub fn si(value: f64, unit: &str, digits: usize) -> String {
+    if !value.is_finite() {
+        return format!("{} {unit}", shortest(value));
+    }
+    if value == 0.0 {
+        return format!("0 {unit}");
+    }
+    let (scale, prefix) = prefix_of(value, digits);
+    scaled_text(value, scale, prefix, unit, digits)
+}
+
+/// `value` in the SI prefix that [`si`] would choose for `like`, to `digits` significant digits
+/// of `value` (at least one decimal place less than needed is never shown: tiny values print in
+/// exponent form of that prefix). Used for an estimate beside its value: `31.479 pF ± 1.6e-4 pF`.
+pub fn si_like(value: f64, like: f64, unit: &str, digits: usize) -> String {
+    if !value.is_finite() {
+        return format!("{} {unit}", shortest(value));
+    }
+    if like == 0.0 || !like.is_finite() {
+        return si(value, unit, digits);
+    }
+    let (scale, prefix) = prefix_of(like, digits);
+    let scaled = no_negative_zero(value / scale);
+    if scaled == 0.0 {
+        return format!("0 {prefix}{unit}");
+    }
+    if scaled.abs() < 1e-3 {
+        let d = digits.max(1) - 1;
+        return format!("{scaled:.d$e} {prefix}{unit}");
+    }
+    scaled_text(value, scale, prefix, unit, digits)
+}
+
+fn scaled_text(value: f64, scale: f64, prefix: &str, unit: &str, digits: usize) -> String {
+    let scaled = no_negative_zero(value / scale);
+    let int_digits = round_significant(scaled.abs(), digits).log10().floor() as i64 + 1;
+    let decimals = (digits as i64 - int_digits).max(0) as usize;
+    let text = format!("{scaled:.decimals$}");
+    // A value that rounds to zero at these decimals must not read "-0.00".
+    let text = if text
+        .trim_start_matches('-')
+        .chars()
+        .all(|c| c == '0' || c == '.')
+    {
+        text.trim_start_matches('-').to_string()
+    } else {
+        text
+    };
+    format!("{text} {prefix}{unit}")
+}
+
+/// A plain number to `decimals` places for tables, never `-0`.
+pub fn fixed(value: f64, decimals: usize) -> String {
+    if !value.is_finite() {
+        return shortest(value);
+    }
+    let text = format!("{value:.decimals$}");
+    if text
+        .trim_start_matches('-')
+        .chars()
+        .all(|c| c == '0' || c == '.')
+    {
+        text.trim_start_matches('-').to_string()
+    } else {
+        text
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn data_numbers_are_shortest_round_trip_text() {
+        // The text must read back to the same bits (IEEE 754 round trip) and be no longer
+        // than both Rust forms it picks from.
+        for v in [
+            4.940_784_630_798_269e-7,
+            0.1,
+            1.0,
+            1e21,
+            123_456.0,
+            -2.5e-9,
+            0.3,
+        ] {
+            let t = shortest(v);
+            assert_eq!(t.parse::<f64>().unwrap().to_bits(), v.to_bits(), "{t}");
+            assert!(t.len() <= format!("{v}").len() && t.len() <= format!("{v:e}").len());
+        }
+        assert_eq!(shortest(1e-7), "1e-7");
+        assert_eq!(shortest(0.3), "0.3");
+        assert_eq!(shortest(-0.0), "0");
+        assert_eq!(shortest(f64::NAN), "NaN");
+    }
+
+    #[test]
+    fn json_has_no_negative_zero() {
+        let mut v = serde_json::json!({"a": [-0.0, 1.5], "b": {"c": -0.0}});
+        clean_json(&mut v);
+        assert_eq!(v.to_string(), r#"{"a":[0.0,1.5],"b":{"c":0.0}}"#);
+        assert_eq!(json_number(-0.0).to_string(), "0.0");
+        assert_eq!(json_number(f64::INFINITY), serde_json::Value::Null);
+    }
+
+    #[test]
+    fn si_prefix_is_chosen_after_rounding() {
+        assert_eq!(si(15.700_16e-6, "H", 6), "15.7002 µH");
+        assert_eq!(si(0.5, "m", 3), "500 mm");
+        assert_eq!(si(-2.5e-9, "H", 3), "-2.50 nH");
+        // 999.96 µH to four digits is 1.000 mH, not "1000 µH".
+        assert_eq!(si(999.96e-6, "H", 4), "1.000 mH");
+        assert_eq!(si(9.6e-17, "F", 2), "96 aF");
+        assert_eq!(si(-0.0, "V", 3), "0 V");
+    }
+
+    #[test]
+    fn an_estimate_prints_in_the_unit_of_its_value() {
+        assert_eq!(si_like(1.6e-16, 31.479e-12, "F", 2), "1.6e-4 pF");
+        assert_eq!(si_like(0.12e-12, 31.479e-12, "F", 2), "0.12 pF");
+        assert_eq!(fixed(-0.0001, 2), "0.00");
+    }
+}

@@ -1,0 +1,331 @@
+//! What a builder reads and types: one number formatter for every output, grid values snapped
+//! to the decimals a person means, inputs as builders measure them.
+
+mod common;
+
+use common::{root, run};
+
+fn stdout_of(args: &[&str]) -> String {
+    let out = run(args);
+    assert!(
+        out.status.success(),
+        "coilfield {args:?} failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).expect("UTF-8")
+}
+
+fn demo(name: &str) -> String {
+    root()
+        .join("meshes-demo")
+        .join(name)
+        .to_str()
+        .unwrap()
+        .to_string()
+}
+
+/// Every number token of a CSV line must read back as the shortest text of its value: no
+/// exponent where the plain form is as short ("3e-1"), and no "-0".
+fn assert_shortest_csv(text: &str) {
+    for line in text.lines().skip(1) {
+        for field in line.split(',') {
+            let Ok(v) = field.parse::<f64>() else {
+                continue;
+            };
+            assert_ne!(field, "-0", "negative zero in {line}");
+            let plain = format!("{}", if v == 0.0 { 0.0 } else { v });
+            let exp = format!("{:e}", if v == 0.0 { 0.0 } else { v });
+            let shortest = if exp.len() < plain.len() { exp } else { plain };
+            assert_eq!(field, shortest, "not the shortest text in {line}");
+        }
+    }
+}
+
+#[test]
+fn field_csv_and_json_numbers_are_shortest_and_never_negative_zero() {
+    let design = demo("spark-gap-resonator.toml");
+    let csv = stdout_of(&[
+        "field",
+        &design,
+        "--at",
+        "0.3,0,0.5",
+        "--at",
+        "0,-0.3,0.5",
+        "--format",
+        "csv",
+    ]);
+    // The point as typed, not "3e-1,0e0,5e-1".
+    assert!(
+        csv.lines().nth(1).unwrap().starts_with("0.3,0,0.5,"),
+        "{csv}"
+    );
+    assert_shortest_csv(&csv);
+    for point in ["0,0,0.9", "0,-0.3,0.5", "-0.3,0,0.5"] {
+        let json = stdout_of(&["field", &design, "--at", point, "--format", "json"]);
+        assert!(
+            !json.contains("-0.0,") && !json.contains("-0.0\n"),
+            "{json}"
+        );
+    }
+}
+
+#[test]
+fn sweep_grid_values_are_snapped_and_printed_as_typed() {
+    // from 0.05 to 0.1 in 11 steps: binary interpolation gives 0.05500000000000001 and
+    // 0.08499999999999999; the grid computes and prints 0.055 and 0.085.
+    let dir = tempfile::tempdir().unwrap();
+    let sweep = dir.path().join("snap.toml");
+    std::fs::write(
+        &sweep,
+        format!(
+            "base = {:?}\nmetrics = [\"self_inductance.primary\"]\n[[axis]]\nkey = \
+             \"winding.primary.origin[2]\"\nfrom = 0.05\nto = 0.1\nsteps = 11\n",
+            demo("tabletop-resonator.toml")
+        ),
+    )
+    .unwrap();
+    let out = dir.path().join("snap.csv");
+    stdout_of(&[
+        "sweep",
+        sweep.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    let text = std::fs::read_to_string(&out).unwrap();
+    let axis: Vec<&str> = text
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').nth(1).unwrap())
+        .collect();
+    assert_eq!(
+        axis,
+        [
+            "0.05", "0.055", "0.06", "0.065", "0.07", "0.075", "0.08", "0.085", "0.09", "0.095",
+            "0.1"
+        ]
+    );
+    assert_shortest_csv(&text);
+}
+
+/// The first TOML block of the README's "Design file" section.
+fn readme_design() -> String {
+    let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
+    let section = &readme[readme.find("## Design file").expect("design section")..];
+    let start = section.find("```toml\n").expect("toml block") + "```toml\n".len();
+    let end = start + section[start..].find("```").unwrap();
+    section[start..end].to_string()
+}
+
+/// Run every command that applies to a design: inductance, report and export always;
+/// resonance with a secondary; capacitance with an electrode; field, map and clearance with a
+/// drive. A command that does not apply by a stated limit must say so and exit 2.
+fn run_every_command(design: &std::path::Path, text: &str) {
+    let d = design.to_str().unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    let vtk = dir.path().join("vtk");
+    let svg = dir.path().join("map.svg");
+    let mut commands: Vec<Vec<&str>> = vec![
+        vec!["inductance", d],
+        vec!["inductance", d, "--format", "json"],
+        vec!["report", d],
+        vec!["export", d, "--vtk", vtk.to_str().unwrap()],
+    ];
+    let has = |needle: &str| text.lines().any(|l| l.trim_start().starts_with(needle));
+    let secondary = has("role = \"secondary\"");
+    if secondary {
+        commands.push(vec!["resonance", d]);
+    }
+    if has("[[electrode]]") {
+        commands.push(vec!["capacitance", d]);
+    }
+    if has("[drive]") {
+        commands.push(vec!["field", d, "--at", "3,0,0.3"]);
+        commands.push(vec!["clearance", d]);
+        commands.push(vec![
+            "map",
+            d,
+            "--plane",
+            "xz",
+            "--extent",
+            "0.02,1,0,1",
+            "--resolution",
+            "12,12",
+            "--plot",
+            svg.to_str().unwrap(),
+        ]);
+    }
+    for args in &commands {
+        let out = run(args);
+        let stderr = String::from_utf8_lossy(&out.stderr);
+        if args[0] == "resonance" && stderr.contains("the distributed model handles up to") {
+            // A benchmark design beyond the resonance model's stated turn limit.
+            assert_eq!(out.status.code(), Some(2), "{args:?}: {stderr}");
+            continue;
+        }
+        assert!(out.status.success(), "coilfield {args:?} failed: {stderr}");
+        assert!(!out.stdout.is_empty(), "coilfield {args:?} printed nothing");
+    }
+}
+
+#[test]
+fn the_readme_design_runs_through_every_command() {
+    let text = readme_design();
+    // The example shows the builders' keys.
+    for key in [
+        "insulation = \"heavy\"",
+        "turn_spacing",
+        "[drive]",
+        "[[electrode]]",
+    ] {
+        assert!(text.contains(key), "README example lacks {key}");
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let path = common::design_file(dir.path(), "readme.toml", &text);
+    run_every_command(&path, &text);
+}
+
+#[test]
+fn every_demo_design_runs_through_every_command_that_applies() {
+    let mut seen = 0;
+    for entry in std::fs::read_dir(root().join("meshes-demo")).unwrap() {
+        let path = entry.unwrap().path();
+        let text = std::fs::read_to_string(&path).unwrap();
+        // Sweep and seek files name a base design; they run in tests/sweep.rs.
+        if path.extension().is_some_and(|e| e == "toml")
+            && !text.lines().any(|l| l.starts_with("base ="))
+        {
+            run_every_command(&path, &text);
+            seen += 1;
+        }
+    }
+    assert!(seen >= 12, "only {seen} demo designs");
+}
+
+#[test]
+fn clearance_of_a_threshold_never_exceeded_says_so() {
+    // 1 GV/m is far above any field outside the conductors of the demo; points inside the
+    // conductors must not count as above it (they used to give the conductor's edge).
+    let design = demo("bench-fields.toml");
+    let json = stdout_of(&[
+        "clearance",
+        &design,
+        "--threshold",
+        "huge,E,1e9,peak",
+        "--format",
+        "json",
+    ]);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let huge = v["thresholds"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|t| t["name"] == "huge")
+        .expect("the extra threshold");
+    assert_eq!(huge["never_exceeded"], true, "{huge}");
+    assert!(huge["distance_from_axis_m"].is_null(), "{huge}");
+    assert!(huge["distance_from_top_m"].is_null(), "{huge}");
+    let table = stdout_of(&["clearance", &design, "--threshold", "huge,E,1e9,peak"]);
+    assert!(
+        table.contains("huge: never exceeded outside the conductors"),
+        "{table}"
+    );
+    assert!(table.contains("\"from axis\"") && table.contains("\"from top\""));
+}
+
+#[test]
+fn capacitance_names_the_effective_top_capacitance_and_the_matrix_diagonal() {
+    let design = demo("bench-fields.toml");
+    let json = stdout_of(&["capacitance", &design, "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let top = &v["effective_top_capacitance"];
+    let c_top = top["capacitance_f"]
+        .as_f64()
+        .expect("effective top capacitance");
+    // The difference of two solves, checked against the secondary's own figures: with the
+    // electrode (total) minus the effective top capacitance is the secondary alone, which
+    // lies near its bare figure (the electrode at 0 V shields it a little) and is below the
+    // Maxwell diagonal of the electrode (which holds the secondary at 0 V).
+    let secondary = v["conductors"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["kind"] == "secondary")
+        .unwrap();
+    let total = secondary["with_connected_electrodes_f"].as_f64().unwrap();
+    let bare = secondary["capacitance_f"].as_f64().unwrap();
+    let diagonal = v["matrix_f"][0][0].as_f64().unwrap();
+    assert!(c_top > 0.0 && c_top < diagonal, "{c_top} vs {diagonal}");
+    assert!(
+        ((total - c_top) - bare).abs() < 0.05 * bare,
+        "{total} {c_top} {bare}"
+    );
+    let table = stdout_of(&["capacitance", &design]);
+    assert!(
+        table.contains("effective top capacitance of topload"),
+        "{table}"
+    );
+    assert!(table.contains("diagonal of the Maxwell matrix"), "{table}");
+    // Estimates in the unit of their value: no bare "e-17 F" beside "pF".
+    assert!(!table.contains("e-1"), "{table}");
+}
+
+#[test]
+fn seek_maximises_a_magnitude_within_its_budget_and_flags_a_bound() {
+    let seek = demo("seek-pickup.toml");
+    let json = stdout_of(&["seek", &seek, "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    assert_eq!(v["metric"], "abs(coupling.secondary.pickup)");
+    let best = v["value"].as_f64().unwrap();
+    assert!(v["evaluations"].as_u64().unwrap() <= 120, "{v}");
+    // A brute-force reference: |k| on a grid of the same box under the same constraint.
+    let dir = tempfile::tempdir().unwrap();
+    let sweep = dir.path().join("grid.toml");
+    std::fs::write(
+        &sweep,
+        format!(
+            "base = {:?}\nmetrics = [\"coupling.secondary.pickup\"]\nconstraints = \
+             [\"gap.secondary.pickup >= 0.02\"]\n[[axis]]\nkey = \"winding.pickup.origin[0]\"\n\
+             from = 0.12\nto = 0.4\nsteps = 8\n[[axis]]\nkey = \"winding.pickup.tilt_deg\"\n\
+             about = [0.0, 1.0, 0.0]\nfrom = -60.0\nto = 60.0\nsteps = 25\n",
+            demo("tabletop-resonator.toml")
+        ),
+    )
+    .unwrap();
+    let out = dir.path().join("grid.csv");
+    stdout_of(&[
+        "sweep",
+        sweep.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    let grid_best = std::fs::read_to_string(&out)
+        .unwrap()
+        .lines()
+        .skip(1)
+        .filter(|l| l.contains(",ok,"))
+        .map(|l| l.split(',').nth(3).unwrap().parse::<f64>().unwrap().abs())
+        .fold(0.0, f64::max);
+    assert!(best >= 0.99 * grid_best, "seek {best} vs grid {grid_best}");
+    // The largest |k| is at the closest allowed distance: the lower bound, flagged.
+    let on_bound: Vec<&str> = v["on_bound"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|b| b.as_str().unwrap())
+        .collect();
+    assert!(
+        on_bound
+            .iter()
+            .any(|b| b.contains("origin[0] is on its lower bound")),
+        "{on_bound:?}"
+    );
+    let table = stdout_of(&["seek", &seek]);
+    assert!(
+        table.contains("winding.pickup.origin[0] = 120.000 mm"),
+        "{table}"
+    );
+    assert!(
+        table.contains("note: the optimum sits on a bound"),
+        "{table}"
+    );
+}
