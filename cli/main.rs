@@ -101,6 +101,10 @@ enum Command {
         /// Also write the output to this file (replaced atomically).
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
+        /// Electric solver for E: bem, fem, or auto (fem when the design has a dielectric or
+        /// an enclosure).
+        #[arg(long, value_enum, default_value_t = capacitance_fem::ElectricSolver::Auto)]
+        electric_solver: capacitance_fem::ElectricSolver,
     },
     /// Peak E and B sampled on a plane (`--plane`, `--offset`, `--extent`) or in a box
     /// (`--box`), written as VTK RectilinearGrid (.vtr: E_V_per_m, E_mag_V_per_m, B_T,
@@ -363,7 +367,15 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             points,
             format,
             out,
-        } => fields::run(&design, &at, points.as_deref(), format, out.as_deref()),
+            electric_solver,
+        } => fields::run(
+            &design,
+            &at,
+            points.as_deref(),
+            format,
+            out.as_deref(),
+            electric_solver,
+        ),
         Command::Map {
             design,
             plane,

@@ -497,3 +497,39 @@ fn agrees_with_scikit_fem() {
         );
     }
 }
+
+/// `field` serves E from the finite-element model when the design has a form and a room (the
+/// output says which solver served), and from the boundary-element model when asked.
+#[test]
+fn field_command_names_its_electric_solver() {
+    let demo = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/meshes-demo/room-resonator.toml"
+    );
+    let run = |solver: &str| {
+        let out = coilfield(&[
+            "field",
+            demo,
+            "--at",
+            "0.5,0,0.5",
+            "--format",
+            "json",
+            "--electric-solver",
+            solver,
+        ]);
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        serde_json::from_slice::<serde_json::Value>(&out.stdout).unwrap()
+    };
+    let fem = run("auto");
+    let bem = run("bem");
+    assert_eq!(fem["electric_solver"], "fem");
+    assert_eq!(bem["electric_solver"], "bem");
+    let e = |v: &serde_json::Value| v["points"][0]["e_mag_v_per_m"].as_f64().unwrap();
+    // The grounded room pulls field lines that free space would not: the two differ, both
+    // finite and positive.
+    assert!(e(&fem) > 0.0 && e(&bem) > 0.0 && e(&fem) != e(&bem));
+}
