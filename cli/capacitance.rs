@@ -2,6 +2,7 @@
 //! capacitance, the secondary's equivalent self-capacitance, error estimates and the peak
 //! surface field of each electrode at the drive potentials.
 
+use crate::capacitance_fem::{self, ElectricSolver};
 use crate::{Format, load, output};
 use coilfield_solver::field_model;
 use coilfield_solver::numtext::fixed;
@@ -48,6 +49,8 @@ struct PeakOut {
 
 #[derive(Serialize)]
 pub(crate) struct CapOut {
+    /// Which electric solver served: "bem" here ("fem" in `capacitance_fem`).
+    solver: &'static str,
     conductors: Vec<ConductorOut>,
     /// Present when an electrode is connected to the secondary's top.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -60,9 +63,26 @@ pub(crate) struct CapOut {
 }
 
 /// Run `coilfield capacitance`.
-pub fn run(design_path: &Path, format: Format, out: Option<&Path>) -> anyhow::Result<ExitCode> {
+pub fn run(
+    design_path: &Path,
+    format: Format,
+    out: Option<&Path>,
+    solver: ElectricSolver,
+    mesh_vtk: Option<&Path>,
+) -> anyhow::Result<ExitCode> {
     let design = load::design_resolved(design_path)?.design;
     let label = design_path.display().to_string();
+    if solver.uses_fem(&design) {
+        return capacitance_fem::run(&design, &label, format, out, mesh_vtk);
+    }
+    if mesh_vtk.is_some() {
+        return Err(crate::BadInput(
+            "--mesh-vtk needs the finite-element solver (--electric-solver fem or auto with a \
+             dielectric or an enclosure)"
+                .to_string(),
+        )
+        .into());
+    }
     let result = compute(&design, &label)?;
     let text = match format {
         Format::Json => crate::output::json_text(&result)? + "\n",
@@ -146,6 +166,7 @@ pub(crate) fn compute(design: &coilfield_geometry::Design, label: &str) -> anyho
         &[],
     ));
     Ok(CapOut {
+        solver: "bem",
         conductors,
         effective_top_capacitance,
         matrix_f: matrix,

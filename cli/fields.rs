@@ -34,6 +34,8 @@ struct PointOut {
 
 #[derive(Serialize)]
 struct FieldOut {
+    /// Which electric solver gave E: "bem" or "fem".
+    electric_solver: &'static str,
     points: Vec<PointOut>,
     warnings: Vec<String>,
 }
@@ -64,6 +66,7 @@ pub fn run(
     points: Option<&Path>,
     format: FieldFormat,
     out: Option<&Path>,
+    solver: crate::capacitance_fem::ElectricSolver,
 ) -> anyhow::Result<ExitCode> {
     let design = load::design_resolved(design_path)?.design;
     let mut pts = Vec::new();
@@ -89,8 +92,21 @@ pub fn run(
         Par::Rayon,
         None,
     )?;
-    let samples = model.eval(&pts);
+    let mut samples = model.eval(&pts);
     let mut warnings = model.warnings.clone();
+    let fem = solver.uses_fem(&design);
+    if fem {
+        // E from the finite-element model where it has a value; inside a conductor or below
+        // the ground the free-space model's verdict stands. B is the free-space model's.
+        let sol =
+            crate::capacitance_fem::solve_design(&design, &design_path.display().to_string())?;
+        for (s, e) in samples.iter_mut().zip(sol.e_field(&pts)) {
+            if let (EValue::Field(_), Some((_, v))) = (&s.e, e) {
+                s.e = EValue::Field(v);
+            }
+        }
+        warnings.push(crate::capacitance_fem::E_ONLY_WARNING.to_string());
+    }
     warnings.extend(validity_warnings(
         &design,
         &distances_from_centre_m(&design, &pts),
@@ -102,6 +118,7 @@ pub fn run(
         rows.push(row);
     }
     let result = FieldOut {
+        electric_solver: if fem { "fem" } else { "bem" },
         points: rows,
         warnings,
     };

@@ -4,6 +4,7 @@
 //! terminal; the `coilfield-geometry` and `coilfield-solver` crates stay pure.
 
 mod capacitance;
+mod capacitance_fem;
 mod clearance;
 mod export;
 mod fields;
@@ -100,6 +101,10 @@ enum Command {
         /// Also write the output to this file (replaced atomically).
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
+        /// Electric solver for E: bem, fem, or auto (fem when the design has a dielectric or
+        /// an enclosure).
+        #[arg(long, value_enum, default_value_t = capacitance_fem::ElectricSolver::Auto)]
+        electric_solver: capacitance_fem::ElectricSolver,
     },
     /// Peak E and B sampled on a plane (`--plane`, `--offset`, `--extent`) or in a box
     /// (`--box`), written as VTK RectilinearGrid (.vtr: E_V_per_m, E_mag_V_per_m, B_T,
@@ -174,6 +179,15 @@ enum Command {
         /// Also write the output to this file (replaced atomically).
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
+        /// Electric solver: bem (boundary elements, free space over a ground plane), fem
+        /// (finite elements: dielectrics, enclosure), or auto (fem when the design has a
+        /// dielectric or an enclosure).
+        #[arg(long, value_enum, default_value_t = capacitance_fem::ElectricSolver::Auto)]
+        electric_solver: capacitance_fem::ElectricSolver,
+        /// With the finite-element solver: also write its mesh with the potential and E as a
+        /// VTK unstructured grid (.vtu) of the (r, z) half-plane.
+        #[arg(long, value_name = "FILE")]
+        mesh_vtk: Option<PathBuf>,
     },
     /// Screening clearance distances: for each threshold (air breakdown, a long-gap mean
     /// gradient, ICNIRP 2010 and 2020 reference levels at the drive frequency, and any
@@ -309,7 +323,15 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             design,
             format,
             out,
-        } => capacitance::run(&design, format, out.as_deref()),
+            electric_solver,
+            mesh_vtk,
+        } => capacitance::run(
+            &design,
+            format,
+            out.as_deref(),
+            electric_solver,
+            mesh_vtk.as_deref(),
+        ),
         Command::Resonance {
             design,
             sections,
@@ -345,7 +367,15 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             points,
             format,
             out,
-        } => fields::run(&design, &at, points.as_deref(), format, out.as_deref()),
+            electric_solver,
+        } => fields::run(
+            &design,
+            &at,
+            points.as_deref(),
+            format,
+            out.as_deref(),
+            electric_solver,
+        ),
         Command::Map {
             design,
             plane,

@@ -7,8 +7,9 @@
 //! the bytes of the file; the caller writes them atomically.
 
 use vtkio::model::{
-    Attribute, Attributes, ByteOrder, Coordinates, DataSet, Extent, IOBuffer, Piece, PolyDataPiece,
-    RectilinearGridPiece, Version, VertexNumbers, Vtk,
+    Attribute, Attributes, ByteOrder, CellType, Cells as VtkCells, Coordinates, DataSet, Extent,
+    IOBuffer, Piece, PolyDataPiece, RectilinearGridPiece, UnstructuredGridPiece, Version,
+    VertexNumbers, Vtk,
 };
 
 /// One named array of point or cell data: `n_comp` f64 values per point (or cell), interleaved.
@@ -167,6 +168,57 @@ pub fn poly_data(
             pieces: vec![Piece::Inline(Box::new(piece))],
         },
         "coilfield geometry",
+    )
+}
+
+/// An UnstructuredGrid (`.vtu`) of triangles: `points_m` (m) and cells as three point indices
+/// each, with point and cell arrays (the finite-element mesh).
+pub fn unstructured_triangles(
+    points_m: &[[f64; 3]],
+    triangles: &[Vec<u64>],
+    point_data: &[Array],
+    cell_data: &[Array],
+) -> anyhow::Result<Vec<u8>> {
+    for a in point_data {
+        anyhow::ensure!(
+            a.values.len() == points_m.len() * a.n_comp as usize,
+            "VTK point array {} has the wrong length",
+            a.name
+        );
+    }
+    for a in cell_data {
+        anyhow::ensure!(
+            a.values.len() == triangles.len() * a.n_comp as usize,
+            "VTK cell array {} has the wrong length",
+            a.name
+        );
+    }
+    let mut connectivity = Vec::with_capacity(3 * triangles.len());
+    let mut offsets = Vec::with_capacity(triangles.len());
+    for t in triangles {
+        connectivity.extend_from_slice(t);
+        offsets.push(connectivity.len() as u64);
+    }
+    let piece = UnstructuredGridPiece {
+        points: IOBuffer::F64(points_m.iter().flatten().copied().collect()),
+        cells: VtkCells {
+            cell_verts: VertexNumbers::XML {
+                connectivity,
+                offsets,
+            },
+            types: vec![CellType::Triangle; triangles.len()],
+        },
+        data: Attributes {
+            point: point_data.iter().map(Array::attribute).collect(),
+            cell: cell_data.iter().map(Array::attribute).collect(),
+        },
+    };
+    to_bytes(
+        DataSet::UnstructuredGrid {
+            meta: None,
+            pieces: vec![Piece::Inline(Box::new(piece))],
+        },
+        "coilfield finite-element mesh",
     )
 }
 

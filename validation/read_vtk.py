@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """Read coilfield's VTK XML files back with the real VTK library and print them as JSON.
 
-Usage: read_vtk.py FILE.vtr|FILE.vtp|FILE.pvd
+Usage: read_vtk.py FILE.vtr|FILE.vtp|FILE.vtu|FILE.pvd
 
 The tests run this script and compare what VTK itself reads (points, point and cell arrays)
 with coilfield's own JSON for the same points, so a file that VTK misreads fails a test.
@@ -38,8 +38,10 @@ def read(path):
         reader = vtk.vtkXMLRectilinearGridReader()
     elif path.endswith(".vtp"):
         reader = vtk.vtkXMLPolyDataReader()
+    elif path.endswith(".vtu"):
+        reader = vtk.vtkXMLUnstructuredGridReader()
     else:
-        raise SystemExit(f"{path}: not a .vtr, .vtp or .pvd file")
+        raise SystemExit(f"{path}: not a .vtr, .vtp, .vtu or .pvd file")
     reader.SetFileName(path)
     reader.Update()
     if reader.GetErrorCode() != 0:

@@ -60,6 +60,13 @@ pub enum SolverError {
         /// Which matrix.
         quantity: String,
     },
+    /// The finite-element mesh cannot be made as asked (too many elements, a refused vertex,
+    /// an outer boundary too small). The reason says what to change.
+    #[error("finite-element mesh: {reason}")]
+    MeshRefused {
+        /// What is wrong and what to change.
+        reason: String,
+    },
     /// An index names no loop of the circuit.
     #[error("loop {index} does not exist: the circuit has {loops} loops")]
     NoSuchLoop {

@@ -66,6 +66,7 @@ pub mod electrostatic;
 pub mod elliptic;
 pub mod error;
 pub mod euler_maclaurin;
+pub mod fem;
 pub mod field;
 pub mod field_model;
 pub mod losses;

@@ -46,6 +46,7 @@
 
 use crate::error::DesignError;
 use crate::file::clearance::parse_clearance;
+use crate::file::dielectric::{parse_dielectrics, parse_enclosure, parse_mesh};
 use crate::file::drive::parse_drive;
 use crate::file::electrode::{parse_electrodes, parse_ground};
 use crate::file::raw::{syntax_error, type_phrase};
@@ -53,8 +54,10 @@ use crate::file::winding::parse_winding;
 use crate::model::clearance::ClearanceSettings;
 use crate::model::design::{CURRENT_VERSION, Design};
 use crate::model::drive::Drive;
+use crate::model::media::{Media, MeshSettings};
 use crate::model::winding::Winding;
 use crate::query::checks::check_design;
+use crate::query::media::check_media;
 use std::collections::HashMap;
 use toml::{Table, Value};
 
@@ -68,6 +71,9 @@ pub const TOP_LEVEL_KEYS: &[&str] = &[
     "ground",
     "drive",
     "clearance",
+    "dielectric",
+    "enclosure",
+    "mesh",
 ];
 
 /// Parse and validate the text of a design file. `source` labels messages (usually the path).
@@ -108,6 +114,7 @@ pub fn parse_design(text: &str, source: &str) -> Result<Design, DesignError> {
         Some(value) => parse_drive(value, source)?,
         None => Drive::default(),
     };
+    let media = parse_media(&mut table, source)?;
     let clearance = match table.remove("clearance") {
         Some(value) => parse_clearance(value, source)?,
         None => ClearanceSettings::default(),
@@ -202,9 +209,30 @@ pub fn parse_design(text: &str, source: &str) -> Result<Design, DesignError> {
         ground,
         drive,
         clearance,
+        media,
     };
     check_design(&design, source)?;
+    check_media(&design, source)?;
     Ok(design)
+}
+
+/// The `[[dielectric]]`, `[enclosure]` and `[mesh]` tables (see [`crate::file::dielectric`]).
+#[allow(clippy::result_large_err)]
+fn parse_media(table: &mut Table, source: &str) -> Result<Media, DesignError> {
+    Ok(Media {
+        dielectrics: match table.remove("dielectric") {
+            Some(v) => parse_dielectrics(v, source)?,
+            None => Vec::new(),
+        },
+        enclosure: table
+            .remove("enclosure")
+            .map(|v| parse_enclosure(v, source))
+            .transpose()?,
+        mesh: match table.remove("mesh") {
+            Some(v) => parse_mesh(v, source)?,
+            None => MeshSettings::default(),
+        },
+    })
 }
 
 fn read_version(value: Option<&Value>, source: &str) -> Result<u32, DesignError> {

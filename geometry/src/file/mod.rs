@@ -7,6 +7,7 @@
 
 pub mod clearance;
 pub mod design;
+pub mod dielectric;
 pub mod drive;
 pub mod electrode;
 pub mod raw;

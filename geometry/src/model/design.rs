@@ -3,6 +3,7 @@
 use crate::model::clearance::ClearanceSettings;
 use crate::model::drive::Drive;
 use crate::model::electrode::{Electrode, Ground};
+use crate::model::media::Media;
 use crate::model::winding::Winding;
 
 /// Design-file version this build writes and reads by default.
@@ -26,6 +27,10 @@ pub struct Design {
     pub drive: Drive,
     /// Clearance thresholds and search settings (`[clearance]`, see [`crate::file::clearance`]).
     pub clearance: ClearanceSettings,
+    /// Dielectrics, enclosure and mesh settings of the finite-element electric solver
+    /// (`[[dielectric]]`, `[enclosure]`, `[mesh]`, see [`crate::file::dielectric`]); they act on
+    /// E only.
+    pub media: Media,
 }
 
 impl Default for Design {
@@ -37,6 +42,7 @@ impl Default for Design {
             ground: None,
             drive: Drive::default(),
             clearance: ClearanceSettings::default(),
+            media: Media::default(),
         }
     }
 }

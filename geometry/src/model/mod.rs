@@ -10,4 +10,5 @@ pub mod discretise;
 pub mod drive;
 pub mod electrode;
 pub mod images;
+pub mod media;
 pub mod winding;

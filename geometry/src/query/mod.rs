@@ -7,4 +7,5 @@ pub mod axisymmetric;
 pub mod checks;
 pub mod contact;
 pub mod distance;
+pub mod media;
 pub mod overlap;

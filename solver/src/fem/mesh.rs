@@ -1,0 +1,528 @@
+//! Triangle meshes of the (r, z) half-plane: constrained Delaunay triangulation with Ruppert's
+//! refinement (the `spade` crate), the conductor outlines, dielectric interfaces, the axis and
+//! the outer boundary as constraint edges.
+//!
+//! Sizes: edges of h = (conductor size) / (20 density) on conductor and interface outlines, at
+//! least 48 edges on a whole circle (small radii get their share), graded geometrically (ratio
+//! [`super::domain::GRADING`]) down to h / [`super::domain::EDGE_REFINEMENT`] at conductor edges
+//! (disc rims, cylinder corners, the winding's ends), where the field is singular. Ruppert's
+//! refinement (J. Ruppert, "A Delaunay refinement algorithm for quality 2-dimensional mesh
+//! generation", J. Algorithms 18 (1995) 548-585) then adds vertices until no angle is below
+//! 25 degrees, which grades the interior from these edges and resolves thin gaps (a winding
+//! over its form) by the local feature size.
+//!
+//! # Open far boundary: the Kelvin transformation
+//! In open space the disc |x - c| < R (a half-disc of the half-plane, a quarter-disc above a
+//! ground plane) is meshed directly and its exterior is mapped by the inversion
+//! x' = c + R^2 (x - c) / |x - c|^2 onto a second disc of the same radius. Inversion is
+//! conformal in 3-D with the scale factor s = R^2 / |x - c|^2, so the energy
+//! integral of eps |grad phi|^2 dV over the exterior equals that of eps R^2 / |x' - c|^2
+//! |grad' phi|^2 dV' over the second disc: the exterior is solved as a medium of permittivity
+//! eps R^2 / |x' - c|^2, the two discs share the vertices of the circle |x - c| = R, and the
+//! point at infinity is the centre x' = c at 0 V. No truncation error remains; the mapping is
+//! exact at any R beyond the sources. This is the treatment of E. M. Freeman and D. A. Lowther,
+//! "An open boundary technique for axisymmetric and three dimensional magnetic and electric
+//! field problems", IEEE Trans. Magn. 25 (5) (1989) 4135-4137 (title and pages from memory).
+
+use super::domain::{Domain, Outer, Piece, sample_piece};
+use crate::error::SolverError;
+use spade::{
+    AngleLimit, ConstrainedDelaunayTriangulation, Point2, RefinementParameters, Triangulation,
+};
+use std::collections::HashMap;
+
+type Cdt = ConstrainedDelaunayTriangulation<Point2<f64>>;
+
+/// Least angle of the refined triangles (degrees).
+pub const MIN_ANGLE_DEG: f64 = 25.0;
+
+/// The Kelvin map of the open boundary: its centre (0, `centre_z`) and radius (m).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Kelvin {
+    /// Centre on the axis (m).
+    pub centre_z: f64,
+    /// Radius (m).
+    pub radius: f64,
+}
+
+impl Kelvin {
+    /// The image x' = c + R^2 (x - c) / |x - c|^2 of a point (r, z) (m), and back.
+    pub fn map(&self, p: [f64; 2]) -> [f64; 2] {
+        let d = [p[0], p[1] - self.centre_z];
+        let s = self.radius * self.radius / (d[0] * d[0] + d[1] * d[1]);
+        [s * d[0], self.centre_z + s * d[1]]
+    }
+}
+
+/// A triangle mesh of the half-plane problem.
+#[derive(Debug, Clone)]
+pub struct Mesh {
+    /// Vertices (r, z) (m): those of the inner disc or box first, then the Kelvin disc's own
+    /// (in its transformed coordinates).
+    pub nodes: Vec<[f64; 2]>,
+    /// Vertices of the inner part.
+    pub n_inner_nodes: usize,
+    /// Triangles (counter-clockwise vertex indices): the inner part's first.
+    pub triangles: Vec<[usize; 3]>,
+    /// Triangles of the inner part.
+    pub n_inner_triangles: usize,
+    /// Dielectric region of each triangle (None: vacuum).
+    pub region: Vec<Option<usize>>,
+    /// Conductor of each vertex (None: free or grounded).
+    pub conductor: Vec<Option<usize>>,
+    /// Whether a vertex is on a grounded boundary (0 V).
+    pub grounded: Vec<bool>,
+    /// The Kelvin map of the open boundary, if the problem is open.
+    pub kelvin: Option<Kelvin>,
+}
+
+impl Mesh {
+    /// Number of triangles.
+    pub fn elements(&self) -> usize {
+        self.triangles.len()
+    }
+
+    /// Whether triangle `t` belongs to the Kelvin disc.
+    pub fn is_exterior(&self, t: usize) -> bool {
+        t >= self.n_inner_triangles
+    }
+}
+
+fn refused(reason: String) -> SolverError {
+    SolverError::MeshRefused { reason }
+}
+
+/// Vertices of a triangulation, deduplicated to a snapping grid.
+struct Builder {
+    cdt: Cdt,
+    seen: HashMap<(i64, i64), spade::handles::FixedVertexHandle>,
+    snap: f64,
+}
+
+impl Builder {
+    fn new(snap: f64) -> Builder {
+        Builder {
+            cdt: Cdt::new(),
+            seen: HashMap::new(),
+            snap,
+        }
+    }
+
+    fn insert(
+        &mut self,
+        mut p: [f64; 2],
+    ) -> Result<spade::handles::FixedVertexHandle, SolverError> {
+        // Points on the axis exactly on it: a pole at r = 1e-17 would make a sliver angle with
+        // the axis that no refinement can cure.
+        if p[0].abs() <= 10.0 * self.snap {
+            p[0] = 0.0;
+        }
+        let key = (
+            (p[0] / self.snap).round() as i64,
+            (p[1] / self.snap).round() as i64,
+        );
+        if let Some(&h) = self.seen.get(&key) {
+            return Ok(h);
+        }
+        let h = self
+            .cdt
+            .insert(Point2::new(p[0], p[1]))
+            .map_err(|e| refused(format!("a vertex at ({}, {}) m: {e:?}", p[0], p[1])))?;
+        self.seen.insert(key, h);
+        Ok(h)
+    }
+
+    /// A chain of constraint edges through the points.
+    fn chain(&mut self, points: &[[f64; 2]]) -> Result<(), SolverError> {
+        let handles = points
+            .iter()
+            .map(|&p| self.insert(p))
+            .collect::<Result<Vec<_>, _>>()?;
+        for w in handles.windows(2) {
+            if w[0] != w[1] {
+                // A constraint that would cross an existing one (touching outlines meeting at
+                // an angle) is left out; its vertices stay, so the conductor keeps its nodes.
+                self.cdt.try_add_constraint(w[0], w[1]);
+            }
+        }
+        Ok(())
+    }
+
+    /// Constraint edges between consecutive vertices lying on the segment a-b.
+    fn close_line(&mut self, a: [f64; 2], b: [f64; 2], tol: f64) {
+        let len = (b[0] - a[0]).hypot(b[1] - a[1]);
+        let mut on: Vec<(f64, spade::handles::FixedVertexHandle)> = self
+            .cdt
+            .fixed_vertices()
+            .filter_map(|h| {
+                let p = self.cdt.vertex(h).position();
+                let u = ((p.x - a[0]) * (b[0] - a[0]) + (p.y - a[1]) * (b[1] - a[1])) / len;
+                let cross = ((p.x - a[0]) * (b[1] - a[1]) - (p.y - a[1]) * (b[0] - a[0])) / len;
+                (cross.abs() <= tol && u >= -tol && u <= len + tol).then_some((u, h))
+            })
+            .collect();
+        on.sort_by(|x, y| x.0.total_cmp(&y.0));
+        for w in on.windows(2) {
+            self.cdt.try_add_constraint(w[0].1, w[1].1);
+        }
+    }
+}
+
+/// Distance (m) from `p` to a piece.
+pub(crate) fn distance_to_piece(p: [f64; 2], piece: &Piece) -> f64 {
+    match *piece {
+        Piece::Line { p0, p1, .. } => {
+            let d = [p1[0] - p0[0], p1[1] - p0[1]];
+            let l2 = d[0] * d[0] + d[1] * d[1];
+            let u = (((p[0] - p0[0]) * d[0] + (p[1] - p0[1]) * d[1]) / l2).clamp(0.0, 1.0);
+            (p[0] - p0[0] - u * d[0]).hypot(p[1] - p0[1] - u * d[1])
+        }
+        Piece::Arc {
+            centre,
+            radius,
+            t0,
+            t1,
+        } => {
+            let (dx, dy) = (p[0] - centre[0], p[1] - centre[1]);
+            let t = dy.atan2(dx);
+            let within = (t1 - t0).abs() >= std::f64::consts::TAU - 1e-12
+                || [t, t + std::f64::consts::TAU, t - std::f64::consts::TAU]
+                    .iter()
+                    .any(|&tt| tt >= t0.min(t1) && tt <= t0.max(t1));
+            if within {
+                (dx.hypot(dy) - radius).abs()
+            } else {
+                let e0 = [centre[0] + radius * t0.cos(), centre[1] + radius * t0.sin()];
+                let e1 = [centre[0] + radius * t1.cos(), centre[1] + radius * t1.sin()];
+                (p[0] - e0[0])
+                    .hypot(p[1] - e0[1])
+                    .min((p[0] - e1[0]).hypot(p[1] - e1[1]))
+            }
+        }
+    }
+}
+
+/// Mesh a half-plane problem (see the module doc).
+///
+/// Errors ([`SolverError::MeshRefused`]): more elements than the domain's limit, a refinement
+/// that does not finish, or a vertex the triangulation refuses.
+pub fn mesh_domain(domain: &Domain) -> Result<Mesh, SolverError> {
+    let size = domain.conductor_size_m();
+    let h = size / (20.0 * domain.density);
+    let (outer_size, tol) = match domain.outer {
+        Outer::Open { radius, .. } | Outer::Sphere { radius, .. } => (radius, radius * 1e-10),
+        Outer::Cylinder {
+            r_max,
+            z_min,
+            z_max,
+            ..
+        } => (r_max.max(z_max - z_min), r_max.max(z_max - z_min) * 1e-10),
+    };
+    let mut b = Builder::new(tol * 0.1);
+    // Outer boundary.
+    let arc_edges = (48.0 * domain.density).ceil() as usize;
+    let mut arc: Option<(f64, f64, f64)> = None; // (centre_z, radius, start angle)
+    match domain.outer {
+        Outer::Open {
+            centre_z,
+            radius,
+            ground,
+        } => {
+            if ground {
+                // The corner of the axis and the ground line.
+                b.insert([0.0, centre_z])?;
+            }
+            let t0 = if ground {
+                0.0
+            } else {
+                -std::f64::consts::FRAC_PI_2
+            };
+            arc = Some((centre_z, radius, t0));
+        }
+        Outer::Sphere { centre_z, radius } => {
+            arc = Some((centre_z, radius, -std::f64::consts::FRAC_PI_2));
+        }
+        Outer::Cylinder {
+            r_max,
+            z_min,
+            z_max,
+            ..
+        } => {
+            for p in [[0.0, z_min], [r_max, z_min], [r_max, z_max], [0.0, z_max]] {
+                b.insert(p)?;
+            }
+        }
+    }
+    if let Some((cz, radius, t0)) = arc {
+        let piece = Piece::Arc {
+            centre: [0.0, cz],
+            radius,
+            t0,
+            t1: std::f64::consts::FRAC_PI_2,
+        };
+        let n = if t0 == 0.0 { arc_edges / 2 } else { arc_edges };
+        let pts: Vec<[f64; 2]> = (0..=n)
+            .map(|k| {
+                let t = t0 + (std::f64::consts::FRAC_PI_2 - t0) * k as f64 / n as f64;
+                let mut p = [radius * t.cos(), cz + radius * t.sin()];
+                if p[0].abs() < tol {
+                    p[0] = 0.0;
+                }
+                if (p[1] - cz).abs() < tol {
+                    p[1] = cz;
+                }
+                p
+            })
+            .collect();
+        let _ = piece;
+        b.chain(&pts)?;
+    }
+    // Conductors and interfaces.
+    for c in &domain.conductors {
+        for piece in &c.pieces {
+            b.chain(&sample_piece(piece, h))?;
+        }
+    }
+    for r in &domain.regions {
+        for piece in r.area.outline() {
+            b.chain(&sample_piece(&piece, h))?;
+        }
+    }
+    // The axis, the ground line and the box walls through every vertex on them.
+    match domain.outer {
+        Outer::Open {
+            centre_z,
+            radius,
+            ground,
+        } => {
+            let lo = if ground { centre_z } else { centre_z - radius };
+            b.close_line([0.0, lo], [0.0, centre_z + radius], tol);
+            if ground {
+                b.close_line([0.0, centre_z], [radius, centre_z], tol);
+            }
+        }
+        Outer::Sphere { centre_z, radius } => {
+            b.close_line([0.0, centre_z - radius], [0.0, centre_z + radius], tol);
+        }
+        Outer::Cylinder {
+            r_max,
+            z_min,
+            z_max,
+            ..
+        } => {
+            b.close_line([0.0, z_min], [0.0, z_max], tol);
+            b.close_line([0.0, z_min], [r_max, z_min], tol);
+            b.close_line([r_max, z_min], [r_max, z_max], tol);
+            b.close_line([0.0, z_max], [r_max, z_max], tol);
+        }
+    }
+    let h_far = outer_size / (8.0 * domain.density);
+    let params = RefinementParameters::<f64>::new()
+        .with_angle_limit(AngleLimit::from_deg(MIN_ANGLE_DEG))
+        .with_max_allowed_area(0.5 * h_far * h_far)
+        .with_max_additional_vertices(domain.max_elements);
+    let result = b.cdt.refine(params);
+    if !result.refinement_complete || b.cdt.num_inner_faces() > domain.max_elements {
+        return Err(refused(format!(
+            "the mesh needs more than {} elements (the limit of [mesh] max_elements); lower \
+             [mesh] density or raise the limit",
+            domain.max_elements
+        )));
+    }
+    let mut nodes: Vec<[f64; 2]> = b
+        .cdt
+        .vertices()
+        .map(|v| [v.position().x, v.position().y])
+        .collect();
+    let mut triangles: Vec<[usize; 3]> = b
+        .cdt
+        .inner_faces()
+        .map(|f| f.vertices().map(|v| v.fix().index()))
+        .collect();
+    let n_inner_nodes = nodes.len();
+    let n_inner_triangles = triangles.len();
+    // Vertices on the outer circle: the convex hull's, off the axis and the ground line, put
+    // back on the circle (refinement splits its edges at chord midpoints).
+    let mut on_arc = vec![false; n_inner_nodes];
+    if let Some((cz, radius, _)) = arc {
+        for e in b.cdt.convex_hull() {
+            for v in [e.from(), e.to()] {
+                let i = v.fix().index();
+                let p = nodes[i];
+                // Chord midpoints of the circle lie within R (1 - theta^2 / 8) of its centre,
+                // theta = pi / 48 at the coarsest; the axis and ground lines lie well inside
+                // except at their ends on the circle.
+                let d = p[0].hypot(p[1] - cz);
+                if d >= radius * (1.0 - 2e-3) {
+                    nodes[i] = [p[0] * radius / d, cz + (p[1] - cz) * radius / d];
+                    if p[0] <= tol {
+                        nodes[i][0] = 0.0;
+                    }
+                    on_arc[i] = true;
+                }
+            }
+        }
+    }
+    if on_arc.iter().any(|&a| a) && nodes.iter().any(|p| p[0] < 0.0) {
+        return Err(refused("a vertex left the half-plane".to_string()));
+    }
+    // Conductors and grounded boundaries of the inner part.
+    let ctol = size * 1e-9;
+    let mut conductor: Vec<Option<usize>> = nodes
+        .iter()
+        .map(|&p| {
+            domain.conductors.iter().position(|c| {
+                c.pieces.iter().any(|pc| distance_to_piece(p, pc) <= ctol)
+                    || c.area.is_some_and(|a| a.contains(p, ctol))
+            })
+        })
+        .collect();
+    let mut grounded: Vec<bool> = nodes
+        .iter()
+        .enumerate()
+        .map(|(i, &p)| match domain.outer {
+            Outer::Open {
+                centre_z, ground, ..
+            } => ground && (p[1] - centre_z).abs() <= tol,
+            Outer::Sphere { .. } => on_arc[i],
+            Outer::Cylinder {
+                r_max,
+                z_min,
+                z_max,
+                insulated_ends,
+            } => {
+                (p[0] - r_max).abs() <= tol
+                    || !insulated_ends
+                        && ((p[1] - z_min).abs() <= tol || (p[1] - z_max).abs() <= tol)
+            }
+        })
+        .collect();
+    let mut region: Vec<Option<usize>> = triangles
+        .iter()
+        .map(|t| {
+            let c = centroid(&nodes, t);
+            domain.regions.iter().position(|r| r.area.contains(c, 0.0))
+        })
+        .collect();
+    // The Kelvin disc of the open boundary.
+    let mut kelvin = None;
+    if let Outer::Open {
+        centre_z,
+        radius,
+        ground,
+    } = domain.outer
+    {
+        kelvin = Some(Kelvin { centre_z, radius });
+        let mut shared: Vec<(f64, usize)> = (0..n_inner_nodes)
+            .filter(|&i| on_arc[i])
+            .map(|i| ((nodes[i][1] - centre_z).atan2(nodes[i][0]), i))
+            .collect();
+        shared.sort_by(|a, b| a.0.total_cmp(&b.0));
+        let mut e = Builder::new(tol * 0.1);
+        let mut index_of: HashMap<usize, usize> = HashMap::new(); // exterior vertex -> node
+        let arc_pts: Vec<[f64; 2]> = shared.iter().map(|&(_, i)| nodes[i]).collect();
+        for (&(_, i), p) in shared.iter().zip(&arc_pts) {
+            let hv = e.insert(*p)?;
+            index_of.insert(hv.index(), i);
+        }
+        e.chain(&arc_pts)?;
+        // Axis (and ground line) of the Kelvin disc, at the spacing of the arc.
+        let step = radius * std::f64::consts::PI / arc_edges as f64;
+        // Graded towards the centre (the point at infinity), where the potential of a net
+        // charge is a cone |x' - c| (phi ~ Q / (4 pi eps |x|) = Q |x' - c| / (4 pi eps R^2))
+        // and the weight R^2 / |x' - c|^2 amplifies its interpolation error: edges of a
+        // quarter of the distance to the centre, down to R / 10^5.
+        let mut ds = vec![radius];
+        let mut d = radius;
+        while d > radius * 1e-5 {
+            d -= step.min(0.25 * d);
+            ds.push(d);
+        }
+        ds.push(0.0);
+        ds.reverse();
+        let line = |a: [f64; 2], b: [f64; 2]| -> Vec<[f64; 2]> {
+            ds.iter()
+                .map(|&d| {
+                    let u = d / radius;
+                    [a[0] + u * (b[0] - a[0]), a[1] + u * (b[1] - a[1])]
+                })
+                .collect()
+        };
+        let centre = [0.0, centre_z];
+        let top = [0.0, centre_z + radius];
+        let mut lines = vec![line(centre, top)];
+        if ground {
+            lines.push(line(centre, [radius, centre_z]));
+        } else {
+            lines.push(line(centre, [0.0, centre_z - radius]));
+        }
+        for l in &lines {
+            // The line's far end is the arc's shared vertex: reuse its exact coordinates.
+            let mut l = l.clone();
+            let last = l.len() - 1;
+            let end = l[last];
+            if let Some(p) = arc_pts
+                .iter()
+                .min_by(|a, b| dist(**a, end).total_cmp(&dist(**b, end)))
+            {
+                l[last] = *p;
+            }
+            e.chain(&l)?;
+        }
+        let params = RefinementParameters::<f64>::new()
+            .with_angle_limit(AngleLimit::from_deg(MIN_ANGLE_DEG))
+            .with_max_allowed_area(0.5 * (radius / (8.0 * domain.density)).powi(2))
+            .keep_constraint_edges()
+            .with_max_additional_vertices(domain.max_elements);
+        let result = e.cdt.refine(params);
+        if !result.refinement_complete
+            || n_inner_triangles + e.cdt.num_inner_faces() > domain.max_elements
+        {
+            return Err(refused(format!(
+                "the mesh of the open boundary needs more than {} elements; raise [mesh] \
+                 max_elements",
+                domain.max_elements
+            )));
+        }
+        let mut map = vec![0usize; e.cdt.num_vertices()];
+        for v in e.cdt.vertices() {
+            let k = v.fix().index();
+            map[k] = match index_of.get(&k) {
+                Some(&i) => i,
+                None => {
+                    let p = [v.position().x, v.position().y];
+                    nodes.push(p);
+                    conductor.push(None);
+                    grounded
+                        .push(dist(p, centre) <= tol || ground && (p[1] - centre_z).abs() <= tol);
+                    nodes.len() - 1
+                }
+            };
+        }
+        for f in e.cdt.inner_faces() {
+            let t = f.vertices().map(|v| map[v.fix().index()]);
+            triangles.push(t);
+            region.push(None);
+        }
+    }
+    Ok(Mesh {
+        nodes,
+        n_inner_nodes,
+        triangles,
+        n_inner_triangles,
+        region,
+        conductor,
+        grounded,
+        kelvin,
+    })
+}
+
+fn dist(a: [f64; 2], b: [f64; 2]) -> f64 {
+    (a[0] - b[0]).hypot(a[1] - b[1])
+}
+
+/// Centroid of a triangle (m).
+pub(crate) fn centroid(nodes: &[[f64; 2]], t: &[usize; 3]) -> [f64; 2] {
+    let [a, b, c] = t.map(|i| nodes[i]);
+    [(a[0] + b[0] + c[0]) / 3.0, (a[1] + b[1] + c[1]) / 3.0]
+}

@@ -1,0 +1,535 @@
+//! The finite-element electrostatic solver through the library API, against closed forms and
+//! series (values from validation/fem_refs.py, recomputed with mpmath by .ci/test).
+
+use coilfield_solver::fem::{Area, Conductor, Domain, FemProblem, Outer, Piece, Profile2d, Region};
+
+/// The capacitance (F) of a case of validation/fem.csv (validation/fem_refs.py, mpmath).
+fn reference(case: &str) -> f64 {
+    let text = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/validation/fem.csv"))
+        .expect("validation/fem.csv");
+    text.lines()
+        .skip(1)
+        .find_map(|l| {
+            let f: Vec<&str> = l.split(',').collect();
+            (f[0] == case).then(|| f[2].parse().expect("a number"))
+        })
+        .unwrap_or_else(|| panic!("no case {case} in validation/fem.csv"))
+}
+
+fn sphere(name: &str, zc: f64, a: f64) -> Conductor {
+    let area = Area::Disk {
+        centre: [0.0, zc],
+        radius: a,
+    };
+    Conductor {
+        name: name.to_string(),
+        pieces: area.outline(),
+        area: Some(area),
+        profile: Profile2d::Uniform,
+    }
+}
+
+fn domain(conductors: Vec<Conductor>, regions: Vec<Region>, outer: Outer, density: f64) -> Domain {
+    Domain {
+        conductors,
+        regions,
+        outer,
+        density,
+        max_elements: 1_000_000,
+        axis: None,
+        drive: None,
+    }
+}
+
+fn c11(d: Domain) -> (f64, f64, usize) {
+    let p = FemProblem::new(d).expect("mesh");
+    let n = p.mesh().elements();
+    let s = p.solve().expect("solve");
+    (
+        s.capacitance_matrix_f()[0][0],
+        s.error_estimate_f()[0][0],
+        n,
+    )
+}
+
+#[test]
+fn isolated_sphere_in_open_space_through_the_kelvin_disc() {
+    // C = 4 pi eps0 a (any electromagnetics text).
+    let a = 0.1;
+    let exact = reference("isolated_sphere");
+    for radius in [0.15, 0.3, 1.0] {
+        let d = domain(
+            vec![sphere("s", 0.0, a)],
+            vec![],
+            Outer::Open {
+                centre_z: 0.0,
+                radius,
+                ground: false,
+            },
+            8.0,
+        );
+        let (c, est, n) = c11(d);
+        eprintln!(
+            "R = {radius}: C = {c:e}, rel err {:e}, estimate {:e}, {n} elements",
+            c / exact - 1.0,
+            est / exact
+        );
+        // The mapping is exact at any radius: what remains is the discretisation error, which
+        // the recovery estimate bounds here (it runs at about twice the true error).
+        assert!(
+            (c - exact).abs() < est,
+            "R = {radius}: {c} vs {exact}, estimate {est}"
+        );
+        assert!(
+            (c / exact - 1.0).abs() < 3e-3,
+            "R = {radius}: {c} vs {exact}"
+        );
+    }
+}
+
+#[test]
+fn concentric_spheres_with_a_dielectric_shell() {
+    let (a, c, b, eps) = (0.1, 0.15, 0.2, 3.0);
+    let exact = reference("concentric_shell");
+    let d = domain(
+        vec![sphere("inner", 0.0, a)],
+        vec![Region {
+            name: "shell".into(),
+            area: Area::Shell {
+                centre: [0.0, 0.0],
+                r0: a,
+                r1: c,
+            },
+            relative_permittivity: eps,
+        }],
+        Outer::Sphere {
+            centre_z: 0.0,
+            radius: b,
+        },
+        8.0,
+    );
+    let (cap, est, n) = c11(d);
+    eprintln!(
+        "C = {cap:e} vs {exact:e}: {:e}, estimate {:e}, {n} elements",
+        cap / exact - 1.0,
+        est / exact
+    );
+    assert!((cap - exact).abs() < est, "estimate {est} below the error");
+    assert!((cap / exact - 1.0).abs() < 2e-3);
+}
+
+#[test]
+fn coaxial_cylinders_with_a_dielectric_layer() {
+    let (a, c, b, eps, h) = (0.01, 0.02, 0.05, 2.5, 0.05);
+    let inner = Area::Rect {
+        r0: 0.0,
+        r1: a,
+        z0: 0.0,
+        z1: h,
+    };
+    let d = domain(
+        vec![Conductor {
+            name: "inner".into(),
+            pieces: vec![Piece::Line {
+                p0: [a, 0.0],
+                p1: [a, h],
+                edge0: false,
+                edge1: false,
+            }],
+            area: Some(inner),
+            profile: Profile2d::Uniform,
+        }],
+        vec![Region {
+            name: "layer".into(),
+            area: Area::Rect {
+                r0: a,
+                r1: c,
+                z0: 0.0,
+                z1: h,
+            },
+            relative_permittivity: eps,
+        }],
+        Outer::Cylinder {
+            r_max: b,
+            z_min: 0.0,
+            z_max: h,
+            insulated_ends: true,
+        },
+        8.0,
+    );
+    let exact = reference("coaxial_layer");
+    let _ = (c, b, eps);
+    let (cap, est, n) = c11(d);
+    eprintln!(
+        "C = {cap:e} vs {exact:e}: {:e}, estimate {:e}, {n} elements",
+        cap / exact - 1.0,
+        est / exact
+    );
+    assert!((cap - exact).abs() < est, "estimate {est} below the error");
+    assert!((cap / exact - 1.0).abs() < 2e-3);
+}
+
+#[test]
+fn sphere_over_a_grounded_plane() {
+    // Image series (validation/fem_refs.py).
+    let (a, h) = (0.1, 0.25);
+    let exact = reference("sphere_over_plane");
+    let d = domain(
+        vec![sphere("s", h, a)],
+        vec![],
+        Outer::Open {
+            centre_z: 0.0,
+            radius: 0.6,
+            ground: true,
+        },
+        8.0,
+    );
+    let (cap, est, n) = c11(d);
+    eprintln!(
+        "C = {cap:e} vs {exact:e}: {:e}, estimate {:e}, {n} elements",
+        cap / exact - 1.0,
+        est / exact
+    );
+    assert!((cap - exact).abs() < est, "estimate {est} below the error");
+    assert!((cap / exact - 1.0).abs() < 2e-3);
+}
+
+#[test]
+fn sphere_in_a_grounded_spherical_enclosure() {
+    let d = domain(
+        vec![sphere("s", 0.0, 0.1)],
+        vec![],
+        Outer::Sphere {
+            centre_z: 0.0,
+            radius: 0.2,
+        },
+        8.0,
+    );
+    let exact = reference("sphere_in_enclosure");
+    let (cap, est, _) = c11(d);
+    assert!((cap - exact).abs() < est, "estimate {est} below the error");
+    assert!((cap / exact - 1.0).abs() < 5e-4, "{cap} vs {exact}");
+}
+
+/// Convergence under refinement (isolated sphere in a grounded sphere): the error falls about
+/// fourfold per halving of the edge length (second order in the energy, P1 elements), printed
+/// as a table with `--nocapture`.
+#[test]
+fn convergence_table() {
+    let exact = reference("sphere_in_enclosure");
+    let mut last: Option<f64> = None;
+    eprintln!("density  elements  C (F)  relative error  rate per refinement");
+    for density in [2.0, 4.0, 8.0, 16.0] {
+        let d = domain(
+            vec![sphere("s", 0.0, 0.1)],
+            vec![],
+            Outer::Sphere {
+                centre_z: 0.0,
+                radius: 0.2,
+            },
+            density,
+        );
+        let (c, _, n) = c11(d);
+        let err = (c / exact - 1.0).abs();
+        let rate = last.map(|l| l / err);
+        eprintln!("{density:>7} {n:>9} {c:.6e} {err:.3e} {rate:?}");
+        if let Some(r) = rate {
+            assert!(r > 2.5, "refinement gained only {r}");
+        }
+        last = Some(err);
+    }
+}
+
+const DESIGN: &str = r#"
+# Invented for this test: a secondary with a sphere on top over a grounded plane.
+[[winding]]
+name = "secondary"
+shape = "helix"
+role = "secondary"
+origin = [0.0, 0.0, 0.10]
+axis = [0.0, 0.0, 1.0]
+radius = 0.05
+length = 0.40
+turns = 800
+wire_diameter = 0.0004
+
+[[electrode]]
+name = "top"
+shape = "sphere"
+origin = [0.0, 0.0, 0.62]
+radius = "8 cm"
+connect = "secondary:top"
+
+[ground]
+z = 0.0
+
+[drive]
+frequency = 300e3
+potentials = { secondary = [0.0, 100e3] }
+"#;
+
+/// The finite-element and boundary-element solvers on the same design without dielectrics:
+/// the sphere's capacitance and the secondary's self-capacitance within 0.5 %, E at points
+/// away from edges within 1 %.
+#[test]
+fn agrees_with_the_boundary_element_solver() {
+    let mut design = coilfield_geometry::parse_design(DESIGN, "design.toml").unwrap();
+    design.media.mesh.density = 12.0;
+    let fem = FemProblem::from_design(&design, "design.toml")
+        .unwrap()
+        .solve()
+        .unwrap();
+    let bem = coilfield_solver::field_model::electrostatic_solution(
+        &design,
+        "design.toml",
+        coilfield_solver::Par::Seq,
+    )
+    .unwrap();
+    let c_f = fem.capacitance_matrix_f()[0][0];
+    let c_b = bem.capacitance_matrix_f()[0][0];
+    eprintln!("sphere: fem {c_f:e} bem {c_b:e} ({:e})", c_f / c_b - 1.0);
+    assert!((c_f / c_b - 1.0).abs() < 5e-3);
+    let (s_f, _) = fem.self_capacitance_f().unwrap();
+    let s_b = bem.self_capacitance_f().unwrap().total_f;
+    eprintln!("self: fem {s_f:e} bem {s_b:e} ({:e})", s_f / s_b - 1.0);
+    assert!((s_f / s_b - 1.0).abs() < 5e-3);
+    let points = [
+        nalgebra::Point3::new(0.3, 0.0, 0.3),
+        nalgebra::Point3::new(0.0, 0.2, 0.9),
+        nalgebra::Point3::new(0.4, 0.0, 0.6),
+    ];
+    let e_f = fem.e_field(&points);
+    let e_b = bem.e_field(&points, coilfield_solver::Par::Seq);
+    for (k, (f, b)) in e_f.iter().zip(&e_b).enumerate() {
+        let (_, f) = f.expect("a field point");
+        let coilfield_solver::electrostatic::FieldSample::Field(b) = b else {
+            panic!("no field at point {k}");
+        };
+        eprintln!("E at {k}: fem {f:?} bem {b:?}");
+        assert!((f - b).norm() < 1e-2 * b.norm(), "point {k}");
+    }
+}
+
+/// A helix on a PVC form (the demo's winding and form, no room): the change in the
+/// secondary's self-capacitance. The model's limits: the winding is a sheet at its outer
+/// surface, so the enamel and the field between turns, where a form matters most, are not
+/// seen; the result is the form's effect on the outer field only.
+#[test]
+fn helix_on_a_pvc_form() {
+    let text = DESIGN.to_string()
+        + r#"
+[[dielectric]]
+name = "form"
+shape = "tube"
+origin = [0.0, 0.0, 0.08]
+inner_radius = "46.8 mm"
+outer_radius = "49.8 mm"
+length = "44 cm"
+material = "PVC"
+"#;
+    let with = coilfield_geometry::parse_design(&text, "form.toml").unwrap();
+    let without = coilfield_geometry::parse_design(DESIGN, "design.toml").unwrap();
+    let c = |d: &coilfield_geometry::Design| {
+        let mut d = d.clone();
+        d.media.mesh.density = 2.0;
+        FemProblem::from_design(&d, "x")
+            .unwrap()
+            .solve()
+            .unwrap()
+            .self_capacitance_f()
+            .unwrap()
+    };
+    let (c1, e1) = c(&with);
+    let (c0, e0) = c(&without);
+    let change = c1 / c0 - 1.0;
+    eprintln!(
+        "self-capacitance: bare {c0:e} (+-{e0:e}), on the form {c1:e} (+-{e1:e}): {change:+.4}"
+    );
+    // A dielectric can only raise the energy at fixed potentials; a thin form (3 mm of
+    // eps 3 inside a 50 mm sheet) raises it by little.
+    assert!(change > 0.0 && change < 0.2, "{change}");
+}
+
+fn coilfield(args: &[&str]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_coilfield"))
+        .args(args)
+        .output()
+        .expect("run coilfield")
+}
+
+fn read_vtk(path: &std::path::Path) -> serde_json::Value {
+    let out = std::process::Command::new("python3")
+        .arg(concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/validation/read_vtk.py"
+        ))
+        .arg(path)
+        .output()
+        .expect("run python3 validation/read_vtk.py");
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).expect("JSON from read_vtk.py")
+}
+
+/// The demo room resonator: auto picks the finite-element solver (a form and a room), the
+/// JSON names it, warns that the media act on E only, and the mesh written as VTK reads back
+/// with the VTK library with the potential within the drive's range. A design without media
+/// stays with the boundary-element solver.
+#[test]
+fn capacitance_command_names_its_solver_and_writes_the_mesh() {
+    let dir = tempfile::tempdir().unwrap();
+    let vtu = dir.path().join("mesh.vtu");
+    let demo = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/meshes-demo/room-resonator.toml"
+    );
+    let out = coilfield(&[
+        "capacitance",
+        demo,
+        "--format",
+        "json",
+        "--mesh-vtk",
+        vtu.to_str().unwrap(),
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(json["solver"], "fem");
+    assert!(json["warnings"][0].as_str().unwrap().contains("E only"));
+    let secondary = json["conductors"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["kind"] == "secondary")
+        .expect("the secondary's self-capacitance");
+    assert!(secondary["capacitance_f"].as_f64().unwrap() > 0.0);
+    for path in [
+        vtu.clone(),
+        std::path::PathBuf::from(concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/meshes-demo/room-resonator-mesh.vtu"
+        )),
+    ] {
+        let v = read_vtk(&path);
+        assert_eq!(v["class"], "vtkUnstructuredGrid");
+        assert!(v["n_cells"].as_u64().unwrap() > 1000);
+        let phi = v["point_data"]["potential_V"]["values"].as_array().unwrap();
+        assert_eq!(phi.len() as u64, v["n_points"].as_u64().unwrap());
+        assert!(phi.iter().all(|p| {
+            let p = p.as_f64().unwrap();
+            (-1.0..=150e3 + 1.0).contains(&p)
+        }));
+    }
+    let bare = dir.path().join("bare.toml");
+    std::fs::write(&bare, DESIGN).unwrap();
+    let out = coilfield(&["capacitance", bare.to_str().unwrap(), "--format", "json"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(json["solver"], "bem");
+}
+
+/// The capacitance (F) of a case of validation/fem_skfem.csv (scikit-fem on its own mesh).
+fn skfem_reference(case: &str) -> f64 {
+    let text = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/validation/fem_skfem.csv"
+    ))
+    .expect("validation/fem_skfem.csv");
+    text.lines()
+        .skip(1)
+        .find_map(|l| {
+            let f: Vec<&str> = l.split(',').collect();
+            (f[0] == case).then(|| f[1].parse().expect("a number"))
+        })
+        .unwrap_or_else(|| panic!("no case {case} in validation/fem_skfem.csv"))
+}
+
+/// Against scikit-fem (validation/fem_skfem.py, its own structured meshes): within 0.1 % on
+/// two geometries, one with a dielectric shell, one eccentric without.
+#[test]
+fn agrees_with_scikit_fem() {
+    let shell = domain(
+        vec![sphere("inner", 0.0, 0.1)],
+        vec![Region {
+            name: "shell".into(),
+            area: Area::Shell {
+                centre: [0.0, 0.0],
+                r0: 0.1,
+                r1: 0.15,
+            },
+            relative_permittivity: 3.0,
+        }],
+        Outer::Sphere {
+            centre_z: 0.0,
+            radius: 0.2,
+        },
+        8.0,
+    );
+    let eccentric = domain(
+        vec![sphere("inner", 0.05, 0.1)],
+        vec![],
+        Outer::Sphere {
+            centre_z: 0.0,
+            radius: 0.3,
+        },
+        8.0,
+    );
+    for (case, d) in [("shell", shell), ("eccentric", eccentric)] {
+        let reference = skfem_reference(case);
+        let (c, _, _) = c11(d);
+        eprintln!(
+            "{case}: {c:e} vs scikit-fem {reference:e} ({:e})",
+            c / reference - 1.0
+        );
+        assert!(
+            (c / reference - 1.0).abs() < 1e-3,
+            "{case}: {c} vs {reference}"
+        );
+    }
+}
+
+/// `field` serves E from the finite-element model when the design has a form and a room (the
+/// output says which solver served), and from the boundary-element model when asked.
+#[test]
+fn field_command_names_its_electric_solver() {
+    let demo = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/meshes-demo/room-resonator.toml"
+    );
+    let run = |solver: &str| {
+        let out = coilfield(&[
+            "field",
+            demo,
+            "--at",
+            "0.5,0,0.5",
+            "--format",
+            "json",
+            "--electric-solver",
+            solver,
+        ]);
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        serde_json::from_slice::<serde_json::Value>(&out.stdout).unwrap()
+    };
+    let fem = run("auto");
+    let bem = run("bem");
+    assert_eq!(fem["electric_solver"], "fem");
+    assert_eq!(bem["electric_solver"], "bem");
+    let e = |v: &serde_json::Value| v["points"][0]["e_mag_v_per_m"].as_f64().unwrap();
+    // The grounded room pulls field lines that free space would not: the two differ, both
+    // finite and positive.
+    assert!(e(&fem) > 0.0 && e(&bem) > 0.0 && e(&fem) != e(&bem));
+}
