@@ -60,6 +60,19 @@ pub fn sync_dir(dir: &Path) -> std::io::Result<()> {
     std::fs::File::open(dir)?.sync_all()
 }
 
+/// The SI unit of a metric, from its name's first part ("" for a pure number).
+pub fn metric_unit(name: &str) -> &'static str {
+    match name.split('.').next().unwrap_or("") {
+        "self_inductance" | "mutual" => "H",
+        "gap" | "clearance" | "clearance_top" => "m",
+        "capacitance" | "self_capacitance" | "equivalent_capacitance" | "tuning_capacitance" => "F",
+        "surface_field" => "V/m",
+        "frequency" => "Hz",
+        "peak_voltage" => "V",
+        _ => "",
+    }
+}
+
 #[cfg(test)]
 mod tests {
     /// A writer that accepts `left` bytes and then fails as a full disk does.

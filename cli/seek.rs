@@ -210,7 +210,7 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
                 "params": params,
                 "metric": metric_label,
                 "value": value,
-                "unit": metric_unit(&metric_name),
+                "unit": crate::output::metric_unit(&metric_name),
                 "evaluations": found.evaluations,
                 "max_evaluations": max_evaluations,
                 "stop": found.stop.describe(),
@@ -225,7 +225,7 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
             }
             println!(
                 "{metric_label} = {}",
-                with_unit(value, metric_unit(&metric_name))
+                with_unit(value, crate::output::metric_unit(&metric_name))
             );
             println!(
                 "evaluations: {} of at most {max_evaluations}",
@@ -246,19 +246,6 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
         return Ok(ExitCode::from(1));
     }
     Ok(ExitCode::SUCCESS)
-}
-
-/// The SI unit of a metric, from its name's first part ("" for a pure number).
-pub(crate) fn metric_unit(name: &str) -> &'static str {
-    match name.split('.').next().unwrap_or("") {
-        "self_inductance" | "mutual" => "H",
-        "gap" | "clearance" | "clearance_top" => "m",
-        "capacitance" | "self_capacitance" | "equivalent_capacitance" | "tuning_capacitance" => "F",
-        "surface_field" => "V/m",
-        "frequency" => "Hz",
-        "peak_voltage" => "V",
-        _ => "",
-    }
 }
 
 /// The SI unit of a design key set by an axis: metres, except counts, directions and angles.

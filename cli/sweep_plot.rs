@@ -132,7 +132,7 @@ pub fn write(
             .iter()
             .flat_map(|&j| ou.iter().map(move |&i| values[i * nv + j]))
             .collect();
-        let contours = contour_levels(&z, crate::seek::metric_unit(metric_name));
+        let contours = contour_levels(&z, crate::output::metric_unit(metric_name));
         let (u_label, v_label) = (axis_label(axis_names[0]), axis_label(axis_names[1]));
         let title = metric_label(metric_name);
         plot::figure_bytes(
@@ -144,7 +144,7 @@ pub fn write(
                 u_label: &u_label,
                 v_label: &v_label,
                 title: &title,
-                unit: crate::seek::metric_unit(metric_name),
+                unit: crate::output::metric_unit(metric_name),
                 contours: &contours,
             },
             svg,
