@@ -13,7 +13,10 @@
 //! The odd derivatives at the two ends come exactly (to rounding) from Taylor-mode automatic
 //! differentiation of the same cel iteration that gives M (truncated power series through
 //! arithmetic and square roots: A. Griewank, A. Walther, *Evaluating Derivatives*, SIAM 2008,
-//! ch. 13); the integral from adaptive Gauss-Kronrod.
+//! ch. 13); the integral in closed form (the flux of a current sheet through the ring, two
+//! complete elliptic integrals per end: `integral_closed_form`), or by graded Gauss-Legendre
+//! quadrature where rounding would cost the closed form digits (radii far apart, ends whose
+//! antiderivatives nearly cancel).
 //!
 //! # Error control
 //! f(z) is analytic except at z = +-i|a - b| (where (a - b)^2 + z^2 = 0). Two errors remain:
@@ -29,7 +32,7 @@
 //! answers. Both paths are deterministic and sequential: results do not depend on threads.
 
 use crate::constants::MU0;
-use crate::elliptic::maxwell_g;
+use crate::elliptic::{cel_positive_p, k_e_from_kc, maxwell_g};
 use crate::mutual::mutual_ring_ring_coaxial;
 use crate::quadrature::integrate_gl;
 
@@ -93,7 +96,8 @@ pub fn mutual_ring_stack_coaxial(
         return (direct(), StackMethod::Direct);
     }
     let f = |z: f64| mutual_ring_ring_coaxial(a_m, b_m, z);
-    let integral = integral_graded(f, z0_m, z1_m, (a_m - b_m).abs());
+    let integral = integral_closed_form(a_m, b_m, z0_m, z1_m)
+        .unwrap_or_else(|| integral_graded(f, z0_m, z1_m, (a_m - b_m).abs()));
     let sum0 = integral / pitch_m;
     // Corrections through f''' first; more terms only when the first omitted one could
     // matter. The omitted term is estimated as the last kept one times (p / (2 pi rho))^2,
@@ -136,6 +140,74 @@ fn corrections<const N: usize>(a_m: f64, b_m: f64, z0_m: f64, z1_m: f64, p: f64)
         total += last;
     }
     (total, last)
+}
+
+/// Largest ratio of the two radii for which [`integral_closed_form`] answers: its bracket
+/// loses a factor of about that ratio to cancellation far from the ring (module docs of the
+/// function).
+const CLOSED_FORM_MAX_RADIUS_RATIO: f64 = 4.0;
+
+/// Largest (|G(z1)| + |G(z0)|) / |G(z1) - G(z0)| for which [`integral_closed_form`] answers:
+/// the loss to the difference of the two ends' antiderivatives.
+const CLOSED_FORM_MAX_END_CANCELLATION: f64 = 20.0;
+
+/// int_{z0}^{z1} M(a, b, z) dz (H m) in closed form: the flux through a ring of radius b of a
+/// coaxial current sheet of radius a from z0 to z1 (unit surface current density), so two
+/// complete elliptic integrals per end instead of a quadrature of Maxwell's formula.
+///
+/// The sheet's vector potential at the ring is the ring potential integrated over z; the
+/// z-integral gives asinh(z / R), R the distance between points of the two circles at equal
+/// height, and one integration by parts in the azimuth leaves a complete integral of the third
+/// kind. With t the half angle (phi = pi - 2t), s = sin^2 t, c = cos^2 t:
+///
+/// int M dz = (mu0 a b / 2) [I(z1) - I(z0)],
+/// I(z) = (4 z / S) [(K - E)/m - p cel(kc, p, 0, 1)],
+///
+/// S^2 = (a + b)^2 + z^2, m = 4ab / S^2, kc^2 = ((a - b)^2 + z^2) / S^2 (from the geometry, as
+/// in Maxwell's formula), p = ((a - b)/(a + b))^2; K, E of parameter m, and
+/// cel(kc, p, 0, 1) = int_0^{pi/2} s dt / ((c + p s) sqrt(c + kc^2 s)) (Bulirsch 1969, see
+/// [`crate::elliptic`]; (K - E)/m is the same integral with p = 1). The derivation is ours
+/// (textbook steps: NIST DLMF 19.2.4-19.2.7 for the reduction to K, E and the third kind); the
+/// tests check it against the graded Gauss-Legendre quadrature of Maxwell's formula and, through
+/// the stack sum, against the direct sum.
+///
+/// None where rounding could cost more than ~1e-14 relative: radii in a ratio above
+/// [`CLOSED_FORM_MAX_RADIUS_RATIO`] (far from the ring the bracket tends to
+/// (pi/4)(1 - sqrt p)/(1 + sqrt p), a difference of terms near pi/4 that loses about
+/// max(a, b)/min(a, b)), or ends whose antiderivatives nearly cancel (a ring far from a short
+/// sheet; [`CLOSED_FORM_MAX_END_CANCELLATION`]); the caller then integrates numerically.
+fn integral_closed_form(a_m: f64, b_m: f64, z0_m: f64, z1_m: f64) -> Option<f64> {
+    let (lo, hi) = (a_m.min(b_m), a_m.max(b_m));
+    if !(lo > 0.0 && hi <= CLOSED_FORM_MAX_RADIUS_RATIO * lo) {
+        return None;
+    }
+    let p = ((a_m - b_m) / (a_m + b_m)).powi(2);
+    let i0 = sheet_antiderivative(a_m, b_m, p, z0_m);
+    let i1 = sheet_antiderivative(a_m, b_m, p, z1_m);
+    let diff = i1 - i0;
+    if !(diff.is_finite() && i1.abs() + i0.abs() <= CLOSED_FORM_MAX_END_CANCELLATION * diff.abs()) {
+        return None;
+    }
+    Some(0.5 * MU0 * a_m * b_m * diff)
+}
+
+/// I(z) of [`integral_closed_form`] (dimensionless, odd in z).
+fn sheet_antiderivative(a_m: f64, b_m: f64, p: f64, z_m: f64) -> f64 {
+    if z_m == 0.0 {
+        return 0.0;
+    }
+    let z2 = z_m * z_m;
+    let inv_s = 1.0 / ((a_m + b_m) * (a_m + b_m) + z2).sqrt();
+    let kc = ((a_m - b_m) * (a_m - b_m) + z2).sqrt() * inv_s;
+    let m = 4.0 * a_m * b_m * inv_s * inv_s;
+    let (_, _, k_minus_e) = k_e_from_kc(kc, m);
+    // p cel(kc, p, 0, 1) tends to 0 like sqrt(p) as p -> 0 (equal radii), where cel needs p > 0.
+    let third = if p > 0.0 {
+        p * cel_positive_p(kc, p, 0.0, 1.0)
+    } else {
+        0.0
+    };
+    4.0 * z_m * inv_s * (k_minus_e / m - third)
 }
 
 /// Integral of f over [z0, z1] (m) whose only singularities lie at z = +-i w (w >= 0):
@@ -411,6 +483,64 @@ mod tests {
             }
         }
         assert!(em_used >= 6, "the fast path answered only {em_used} cases");
+    }
+
+    #[test]
+    fn the_sheet_integral_in_closed_form_matches_the_quadrature_of_maxwell() {
+        // Radii equal, nearly equal, in ratios up to the limit; ends on both sides, near the
+        // ring and far; adaptive Gauss-Kronrod quadrature of Maxwell's formula to 1e-15 is the
+        // reference.
+        let radii: &[(f64, f64)] = &[
+            (0.055, 0.055),
+            (0.055, 0.055 * (1.0 + 1e-9)),
+            (0.055, 0.0604),
+            (0.055, 0.08),
+            (0.055, 0.14),
+            (0.1, 0.0255),
+            (0.05, 0.199),
+        ];
+        let ends: &[(f64, f64)] = &[
+            (-0.02, 0.43),
+            (0.003, 0.45),
+            (-0.45, -0.004),
+            (0.02, 0.47),
+            (0.1, 0.55),
+            (-3.0, 2.0),
+            (1e-5, 0.01),
+        ];
+        let mut answered = 0;
+        for &(a, b) in radii {
+            for &(z0, z1) in ends {
+                let f = |z: f64| mutual_ring_ring_coaxial(a, b, z);
+                let gk = |lo: f64, hi: f64| {
+                    let r = crate::quadrature::integrate_adaptive(f, lo, hi, 0.0, 1e-15);
+                    assert!(r.converged, "reference quadrature on [{lo}, {hi}]");
+                    r.value
+                };
+                // Split where the integrand peaks (a log singularity when a = b).
+                let quad = if z0 < 0.0 && z1 > 0.0 {
+                    gk(z0, 0.0) + gk(0.0, z1)
+                } else {
+                    gk(z0, z1)
+                };
+                let Some(closed) = integral_closed_form(a, b, z0, z1) else {
+                    continue;
+                };
+                answered += 1;
+                let err = ((closed - quad) / quad).abs();
+                assert!(
+                    err < 2e-14,
+                    "a={a} b={b} [{z0}, {z1}]: {closed} vs {quad} ({err:e})"
+                );
+            }
+        }
+        assert!(
+            answered >= 40,
+            "the closed form answered only {answered} cases"
+        );
+        // Outside its limits it declines: radii 5:1, and a ring far below a short sheet.
+        assert!(integral_closed_form(0.02, 0.1, 0.0, 0.5).is_none());
+        assert!(integral_closed_form(0.05, 0.06, 2.0, 2.01).is_none());
     }
 
     #[test]
