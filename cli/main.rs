@@ -14,6 +14,7 @@ mod map;
 mod output;
 mod plot;
 mod report;
+mod report_html;
 mod resonance;
 mod sample;
 mod seek;
@@ -70,6 +71,11 @@ enum Command {
     Report {
         /// Design file (TOML).
         design: PathBuf,
+        /// Also write the report as one self-contained HTML page (tables and inline SVG
+        /// figures: a side view to scale, a field heat map with threshold contours, k against
+        /// the primary's height), replaced atomically.
+        #[arg(long, value_name = "FILE.html")]
+        html: Option<PathBuf>,
     },
     /// Recompute every case of the validation tables (CSV) and compare with its published or
     /// high-precision reference: inputs, reference, computed, relative error, source.
@@ -317,7 +323,7 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             format,
             out,
         } => inductance::run(&design, format, out.as_deref()),
-        Command::Report { design } => report::run(&design),
+        Command::Report { design, html } => report::run(&design, html.as_deref()),
         Command::Verify { tables, format } => verify::run(tables.as_deref(), format),
         Command::Capacitance {
             design,

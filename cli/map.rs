@@ -72,7 +72,9 @@ pub fn grid(args: &MapArgs<'_>) -> Result<Grid, BadInput> {
     }
 }
 
-fn check_ext(path: &Path, key: &str, allowed: &[&str]) -> Result<String, BadInput> {
+/// The extension of `path` (lower case) when it is one of `allowed`, else a message naming
+/// the option `key`.
+pub(crate) fn check_ext(path: &Path, key: &str, allowed: &[&str]) -> Result<String, BadInput> {
     let ext = path
         .extension()
         .and_then(|e| e.to_str())
@@ -87,6 +89,33 @@ fn check_ext(path: &Path, key: &str, allowed: &[&str]) -> Result<String, BadInpu
             allowed.join(" or .")
         )))
     }
+}
+
+/// Contour levels (peak, in the map's unit) with their legend texts.
+pub(crate) type Contours = Vec<(f64, String)>;
+
+/// The contour levels of a heat map of `quantity` (peak, in `unit`): the same thresholds as
+/// `clearance` without command-line additions (the design's `[clearance]` sets and
+/// thresholds), each with its legend text; and the warnings of merging them.
+pub(crate) fn threshold_contours(
+    design: &coilfield_geometry::Design,
+    label: &str,
+    quantity: Quantity,
+    unit: &str,
+) -> anyhow::Result<(Contours, Vec<String>)> {
+    let (ths, warnings) =
+        thresholds::for_design(design, label, design.drive.frequency_hz, None, &[])?;
+    let contours = ths
+        .iter()
+        .filter(|t| t.quantity == quantity && t.method == Method::FieldSearch)
+        .map(|t| {
+            (
+                t.peak_limit(),
+                format!("{}: peak {}", t.name, output::si(t.peak_limit(), unit, 3)),
+            )
+        })
+        .collect();
+    Ok((contours, warnings))
 }
 
 /// Run `coilfield map`.
@@ -181,21 +210,8 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
             PlotQuantity::E => (&e_mag, Quantity::E, "V/m"),
             PlotQuantity::B => (&b_mag, Quantity::B, "T"),
         };
-        // The same thresholds as `clearance` without command-line additions: the design's
-        // [clearance] sets and thresholds.
-        let (ths, th_warnings) =
-            thresholds::for_design(&design, &label, design.drive.frequency_hz, None, &[])?;
+        let (contours, th_warnings) = threshold_contours(&design, &label, quantity, unit)?;
         warnings.extend(th_warnings);
-        let contours: Vec<(f64, String)> = ths
-            .iter()
-            .filter(|t| t.quantity == quantity && t.method == Method::FieldSearch)
-            .map(|t| {
-                (
-                    t.peak_limit(),
-                    format!("{}: peak {}", t.name, output::si(t.peak_limit(), unit, 3)),
-                )
-            })
-            .collect();
         let title = match quantity {
             Quantity::E => "peak |E| (V/m); screening estimate, not a safety certificate",
             Quantity::B => "peak |B| (T); screening estimate, not a safety certificate",

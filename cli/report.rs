@@ -83,7 +83,13 @@ fn describe(w: &Winding) -> String {
     }
 }
 
-pub fn run(path: &Path) -> anyhow::Result<ExitCode> {
+/// Run `coilfield report`: the text report on stdout and, with `html`, the same report as one
+/// self-contained HTML page with figures ([`crate::report_html`]), written atomically.
+pub fn run(path: &Path, html: Option<&Path>) -> anyhow::Result<ExitCode> {
+    // A wrong file name is refused before any work.
+    if let Some(p) = html {
+        crate::map::check_ext(p, "--html", &["html", "htm"])?;
+    }
     let design = load::design(path)?;
     let report = inductance_report(&design, Par::Rayon)?;
     let mut s = String::new();
@@ -134,16 +140,53 @@ pub fn run(path: &Path) -> anyhow::Result<ExitCode> {
             );
         }
     }
-    s.push_str(&resonance_and_clearance(&design, path)?);
+    let (section, resolved) = resonance_and_clearance(&design, path)?;
+    s.push_str(&section);
     let _ = writeln!(s, "\n{CAUTION}");
+    if let Some(p) = html {
+        let page = html_page(&design, &resolved, path, &s)?;
+        crate::output::write_atomic(p, page.as_bytes())?;
+    }
     print!("{s}");
     Ok(ExitCode::SUCCESS)
 }
 
+/// The report as an HTML page: the text's sections as tables, a side view of `design`, the
+/// field map of `resolved` (the design with its drive resolved) when it has a drive, and k
+/// against the primary's height when it has a primary.
+fn html_page(
+    design: &Design,
+    resolved: &Design,
+    path: &Path,
+    text: &str,
+) -> anyhow::Result<String> {
+    use crate::report_html as h;
+    let label = path.display().to_string();
+    let mut figures = vec![h::side_view(design)];
+    let mut notes = Vec::new();
+    let drive = &resolved.drive;
+    if drive.currents_a.is_empty() && drive.potentials_v.is_empty() {
+        notes.push("No field map: the design has no drive ([drive]).".to_string());
+    } else {
+        figures.push(h::field_map(resolved, &label)?);
+    }
+    match h::coupling_against_height(design)? {
+        Some(f) => figures.push(f),
+        None => notes
+            .push("No coupling curve: the design has no primary and secondary pair.".to_string()),
+    }
+    Ok(h::page(
+        &format!("coilfield design report: {label}"),
+        text,
+        &figures,
+        &notes,
+    ))
+}
+
 /// The resonance section and, when the design has a drive, the clearance at the drive's
 /// voltage and currents; a note instead where the design has no resonance model (no helix
-/// secondary).
-fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<String> {
+/// secondary). Returns the design with its drive resolved too.
+fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<(String, Design)> {
     let label = path.display().to_string();
     let mut s = String::new();
     let resolved = match resonance_roles(design, &label) {
@@ -173,6 +216,7 @@ fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<Strin
     // Warnings are printed once, at the end of the section that raised them first.
     let (cap_text, mut printed) = capacitance_section(&resolved.design, &label);
     s.push_str(&cap_text);
+    let resolved_design = resolved.design.clone();
     let drive = &resolved.design.drive;
     let driven = !(drive.currents_a.is_empty() && drive.potentials_v.is_empty());
     if driven && drive.frequency_hz.is_some() {
@@ -198,7 +242,7 @@ fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<Strin
              potentials with frequency); no fields or clearance distances\n",
         );
     }
-    Ok(s)
+    Ok((s, resolved_design))
 }
 
 /// Distances from the axis (m, at the top conductor's height) at which the report gives the

@@ -13,6 +13,7 @@ use coilfield_geometry::{Winding, limits, winding_from_table};
 use coilfield_solver::Par;
 use coilfield_solver::elliptic::{cel, ellip_e, ellip_k};
 use coilfield_solver::mutual::{Circle, mutual_ring_ring, mutual_ring_ring_coaxial};
+use coilfield_solver::numtext::shortest;
 use coilfield_solver::self_inductance::{
     lorenz_sheet, nagaoka, rosa_b, rosa_solenoid, self_ring_model, self_ring_round_wire,
     wheeler_spiral,
@@ -343,6 +344,13 @@ fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
     Ok(cases)
 }
 
+/// `v` to `digits` significant digits (an error beside its tolerance needs no more), through
+/// its decimal text so that [`shortest`] prints just those digits.
+fn round_to(v: f64, digits: usize) -> f64 {
+    let d = digits.max(1) - 1;
+    format!("{v:.d$e}").parse().unwrap_or(v)
+}
+
 pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
     let mut cases = Vec::new();
     for (name, builtin) in TABLES {
@@ -373,16 +381,16 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
                     c.inputs.iter().map(|(k, v)| format!("{k}={v}")).collect();
                 let _ = writeln!(
                     s,
-                    "{} {:<16} #{:<3} {}\n      reference {:.12e}  computed {:.12e}  error {:.2e} ({} tol {:.0e})  source: {}",
+                    "{} {:<16} #{:<3} {}\n      reference {}  computed {}  error {} ({} tol {})  source: {}",
                     if c.passed { "PASS" } else { "FAIL" },
                     c.table,
                     c.row,
                     inputs.join(" "),
-                    c.reference,
-                    c.computed,
-                    c.error,
+                    shortest(c.reference),
+                    shortest(c.computed),
+                    shortest(round_to(c.error, 3)),
                     c.tolerance_kind,
-                    c.tolerance,
+                    shortest(c.tolerance),
                     c.source
                 );
             }

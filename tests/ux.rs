@@ -434,3 +434,61 @@ fn field_table_shows_the_vectors() {
         "{row}"
     );
 }
+
+/// Whether `text` holds a number in exponent form ("1e-5", "2.1e+05", "3.0E4").
+fn has_exponent(text: &str) -> bool {
+    let b = text.as_bytes();
+    (1..b.len().saturating_sub(1)).any(|i| {
+        (b[i] == b'e' || b[i] == b'E')
+            && b[i - 1].is_ascii_digit()
+            && (b[i + 1].is_ascii_digit()
+                || ((b[i + 1] == b'-' || b[i + 1] == b'+')
+                    && b.get(i + 2).is_some_and(u8::is_ascii_digit)))
+    })
+}
+
+#[test]
+fn drive_model_warnings_print_si_prefixes_not_exponents() {
+    // The driven demo's fields come from its drive model: the warning says with what figures.
+    let json: serde_json::Value = serde_json::from_str(&stdout_of(&[
+        "field",
+        &demo("tabletop-resonator.toml"),
+        "--at",
+        "1,0,0.62",
+        "--format",
+        "json",
+    ]))
+    .unwrap();
+    let warnings: Vec<&str> = json["warnings"]
+        .as_array()
+        .expect("warnings")
+        .iter()
+        .filter_map(|w| w.as_str())
+        .collect();
+    let derived = warnings
+        .iter()
+        .find(|w| w.contains("drive model: peak top voltage"))
+        .unwrap_or_else(|| panic!("no drive-model warning in {warnings:?}"));
+    assert!(!has_exponent(derived), "{derived}");
+    assert!(
+        derived.contains(" kV ") || derived.contains(" MV "),
+        "{derived}"
+    );
+    assert!(derived.contains(" kHz"), "{derived}");
+    assert!(has_exponent("error 1e-5 relative") && !has_exponent("AWG 26e"));
+}
+
+#[test]
+fn verify_prints_values_through_the_one_formatter() {
+    // Grover's Table 36 value for d/l = 1 (validation/nagaoka.csv, row 1) reads as printed,
+    // not as "6.884230000000e-1".
+    let out = run(&["verify"]);
+    let text = String::from_utf8(out.stdout).unwrap();
+    let row = text
+        .lines()
+        .skip_while(|l| !l.contains("nagaoka") || !l.contains("#1 "))
+        .nth(1)
+        .expect("nagaoka row 1");
+    assert!(row.contains("reference 0.688423 "), "{row}");
+    assert!(!text.contains("000000e"), "{text}");
+}

@@ -136,6 +136,17 @@ fn scaled_text(value: f64, scale: f64, prefix: &str, unit: &str, digits: usize) 
     format!("{text} {prefix}{unit}")
 }
 
+/// A ratio as a percentage for text, to `digits` significant digits in plain decimals (never an
+/// exponent): 1e-4 reads `0.01 %`, 2.345e-7 with 2 digits `0.000023 %`.
+pub fn percent(ratio: f64, digits: usize) -> String {
+    if !ratio.is_finite() {
+        return format!("{} %", shortest(ratio));
+    }
+    let v = no_negative_zero(round_significant(100.0 * ratio, digits));
+    // Display of f64 never uses an exponent: the plain decimal of the rounded value.
+    format!("{v} %")
+}
+
 /// A plain number to `decimals` places for tables, never `-0`.
 pub fn fixed(value: f64, decimals: usize) -> String {
     if !value.is_finite() {
@@ -156,6 +167,16 @@ pub fn fixed(value: f64, decimals: usize) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn percentages_never_print_an_exponent() {
+        // 1e-5 relative as Rust's `{:e}` would print it ("1e-5") is what text must not show.
+        assert_eq!(percent(1e-4, 2), "0.01 %");
+        assert_eq!(percent(1e-5, 2), "0.001 %");
+        assert_eq!(percent(2.345e-7, 2), "0.000023 %");
+        assert_eq!(percent(-0.0, 2), "0 %");
+        assert_eq!(percent(0.0123456, 3), "1.23 %");
+    }
 
     #[test]
     fn data_numbers_are_shortest_round_trip_text() {

@@ -128,8 +128,8 @@ pub(crate) fn run(
             if design.drive.frequency_hz.is_none() {
                 warnings.push(format!(
                     "driven: no [drive] frequency: driven at the coupled system's resonance \
-                     nearest f1, {:.6e} Hz, where a self-oscillating driver locks",
-                    r.drive_frequency_hz.unwrap_or(f64::NAN)
+                     nearest f1, {}, where a self-oscillating driver locks",
+                    crate::numtext::si(r.drive_frequency_hz.unwrap_or(f64::NAN), "Hz", 6)
                 ));
             }
             Ok(Some(r))

@@ -49,6 +49,7 @@ use crate::circuit::{LadderMode, Loops, equivalent_capacitance_f, ladder_modes, 
 use crate::electrostatic::{Params, Problem, Solution};
 use crate::error::SolverError;
 use crate::losses::{self, ProximityModel};
+use crate::numtext::{percent, shortest, si};
 use crate::par::Par;
 use coilfield_geometry::{
     Design, DriveKind, End, PotentialSpec, Role, SecondaryBase, Shape, Winding,
@@ -484,8 +485,9 @@ fn secondary_losses(
     if !(total.is_finite() && total.abs() > 0.0 && h_eff.is_finite() && h_eff > 0.0) {
         return Err(SolverError::Resonance {
             reason: format!(
-                "the first mode's charges give no effective height (total {total:e} C, moment \
-                 {moment:e} C m)"
+                "the first mode's charges give no effective height (total {}, moment {})",
+                si(total, "C", 4),
+                si(moment, "C m", 4)
             ),
         });
     }
@@ -590,15 +592,16 @@ fn converge(
     let settled = error <= SECTION_TOLERANCE * f1(&current);
     if !settled {
         warnings.push(format!(
-            "the first frequency did not settle to {SECTION_TOLERANCE:e} relative by {} \
-             sections (the cap: {}); it stands with an estimated error of {:.2e} relative",
+            "the first frequency did not settle to {} by {} sections (the cap: {}); it stands \
+             with an estimated error of {}",
+            percent(SECTION_TOLERANCE, 2),
             current.n,
             if cap < MAX_SECTIONS {
                 "one section per turn"
             } else {
                 "256 sections"
             },
-            error / f1(&current)
+            percent(error / f1(&current), 2)
         ));
     }
     Ok((current, error, history))
@@ -805,17 +808,19 @@ pub fn resonance_with(
         let (l_lo, l_hi) = (inductance_at(lo_t)?, l_whole);
         if needed > l_hi {
             warnings.push(format!(
-                "the tank capacitor {:.4e} F cannot be tuned to f1 = {f1:.1} Hz with winding \
-                 '{}': even all its turns (with the leads) give {:.1} Hz; more turns or more \
-                 capacitance are needed",
-                c_p,
+                "the tank capacitor {} cannot be tuned to f1 = {} with winding '{}': even all \
+                 its turns (with the leads) give {}; more turns or more capacitance are needed",
+                si(c_p, "F", 4),
+                si(f1, "Hz", 5),
                 primary.name,
-                1.0 / (TAU * ((l_hi + lead_h) * c_p).sqrt())
+                si(1.0 / (TAU * ((l_hi + lead_h) * c_p).sqrt()), "Hz", 5)
             ));
         } else if needed < l_lo {
             warnings.push(format!(
-                "the tank capacitor {c_p:.4e} F tunes to f1 only with less than {lo_t} turn of \
-                 winding '{}' (or less lead inductance): less capacitance is needed",
+                "the tank capacitor {} tunes to f1 only with less than {} turn of winding '{}' \
+                 (or less lead inductance): less capacitance is needed",
+                si(c_p, "F", 4),
+                shortest(lo_t),
                 primary.name
             ));
         } else {
@@ -989,16 +994,16 @@ pub fn resolve(design: &Design, source: &str, par: Par) -> Result<Resolved, Solv
         secondary_voltage_profile: Some(mode.voltage_profile.clone()),
         secondary_current_profile: Some(mode.current_profile.clone()),
         derived: Some(format!(
-            "{} drive model: peak top voltage {:.4e} V with the first mode's voltage profile \
-             ({} sections, f1 = {:.6e} Hz), peak primary current {:.4e} A, peak base current \
-             {:.4e} A with the mode's current profile; exposure levels at {:.6e} Hz",
+            "{} drive model: peak top voltage {} with the first mode's voltage profile ({} \
+             sections, f1 = {}), peak primary current {}, peak base current {} with the mode's \
+             current profile; exposure levels at {}",
             d.kind.replace('_', " "),
-            d.peak_top_voltage_v,
+            si(d.peak_top_voltage_v, "V", 4),
             r.secondary.sections,
-            r.secondary.frequency_hz,
-            d.peak_primary_current_a,
-            d.peak_base_current_a,
-            d.exposure_frequency_hz
+            si(r.secondary.frequency_hz, "Hz", 6),
+            si(d.peak_primary_current_a, "A", 4),
+            si(d.peak_base_current_a, "A", 4),
+            si(d.exposure_frequency_hz, "Hz", 6)
         )),
         ..design.drive.clone()
     };
