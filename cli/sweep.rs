@@ -316,6 +316,15 @@ pub fn run(
     } else {
         Vec::new()
     };
+    // The sweep's identity beside its output: checked before any kept row is trusted, written
+    // (atomically) before the first row of a new output.
+    let id_path = identity_path(&out)?;
+    if existing.is_empty() {
+        crate::output::write_atomic(&id_path, plan.identity_text().as_bytes())?;
+    } else {
+        let id_text = read_identity(&id_path, &out)?;
+        plan.check_identity(&id_text, &id_path.display().to_string())?;
+    }
     let resumed = plan.resume(
         existing.as_slice(),
         format,
@@ -413,7 +422,13 @@ pub fn run(
     let failed = failure.into_inner().unwrap_or_else(|e| e.into_inner());
     let written_now = match (result, failed) {
         (Err(e), _) | (Ok(_), Some(e)) => {
-            anyhow::bail!("{}: cannot write: {e}", out.display())
+            // A bad output (full disk, a file system gone read-only): exit 2 like any other.
+            return Err(BadInput(format!(
+                "{}: cannot write: {e}; the rows written so far are kept: make room and rerun \
+                 with --resume",
+                out.display()
+            ))
+            .into());
         }
         (Ok(n), None) => n,
     };
@@ -457,6 +472,28 @@ pub fn run(
         eprintln!("sweep: plot of {name} in {}", p.display());
     }
     Ok(ExitCode::SUCCESS)
+}
+
+/// The identity file of the sweep output `out`: `<out>.sweep-id` beside it.
+pub fn identity_path(out: &Path) -> anyhow::Result<PathBuf> {
+    let name = out
+        .file_name()
+        .ok_or_else(|| BadInput(format!("{}: not a file name", out.display())))?;
+    Ok(out.with_file_name(format!("{}.sweep-id", name.to_string_lossy())))
+}
+
+/// The text of `out`'s identity file `id_path`; a clear refusal when there is none.
+fn read_identity(id_path: &Path, out: &Path) -> anyhow::Result<String> {
+    if !id_path.exists() {
+        return Err(BadInput(format!(
+            "{}: no sweep identity file ({}) beside it, so it cannot be told from another \
+             sweep's output; remove it to start again",
+            out.display(),
+            id_path.display()
+        ))
+        .into());
+    }
+    crate::load::text(id_path, "sweep identity file")
 }
 
 /// The lock file of a merge's `--out`: `.<name>.lock` in its folder.
@@ -527,6 +564,29 @@ pub fn merge(files: &[PathBuf], out: &Path, sweep: Option<&Path>) -> anyhow::Res
         .iter()
         .map(|(label, text)| (label.as_str(), text.as_str()))
         .collect();
+    // All parts of one sweep (and of `--sweep`'s, when given), by their identity files.
+    let mut identity: Option<(String, String)> = None;
+    for f in files {
+        let id_path = identity_path(f)?;
+        let id_text = read_identity(&id_path, f)?;
+        let label = id_path.display().to_string();
+        if let Some(plan) = &expected {
+            plan.check_identity(&id_text, &label)?;
+        }
+        let hash = sweep::identity_hash_of(&id_text, &label)?.to_string();
+        if let Some((first, first_file)) = &identity {
+            if sweep::identity_hash_of(first, "")? != hash {
+                return Err(BadInput(format!(
+                    "{}: written by another sweep than {first_file} (their identity files \
+                     differ); merge only the shards of one sweep",
+                    f.display()
+                ))
+                .into());
+            }
+        } else {
+            identity = Some((id_text.clone(), f.display().to_string()));
+        }
+    }
     let text = sweep::merge(&parts, format, expected.as_ref())?;
     // Two merges into one --out: the second is refused while the first holds the lock file
     // beside it (the output itself is replaced by a rename, so it cannot carry the lock).
@@ -539,6 +599,9 @@ pub fn merge(files: &[PathBuf], out: &Path, sweep: Option<&Path>) -> anyhow::Res
         .open(&lock_path)
         .map_err(|e| BadInput(format!("{}: cannot open: {e}", lock_path.display())))?;
     lock_exclusive(&lock, out)?;
+    if let Some((id_text, _)) = &identity {
+        crate::output::write_atomic(&identity_path(out)?, id_text.as_bytes())?;
+    }
     crate::output::write_atomic(out, text.as_bytes())?;
     drop(lock);
     let total = text.lines().count().saturating_sub(format.header_lines());

@@ -30,17 +30,20 @@ fn json_has_the_documented_shape() {
         .map(|w| w["name"].as_str().unwrap())
         .collect();
     assert_eq!(names, ["secondary", "primary", "pickup"]);
-    for (i, w) in windings.iter().enumerate() {
-        let l = w["self_inductance_h"].as_f64().unwrap();
-        assert!(l > 0.0);
-        assert_eq!(j["mutual_h"][i][i].as_f64().unwrap(), l);
-        assert_eq!(j["coupling"][i][i].as_f64().unwrap(), 1.0);
+    // The shape only: values are checked against independent references elsewhere
+    // (tests/properties.rs against a brute-force Neumann sum, tests/validation.rs against
+    // published tables).
+    for w in windings {
+        assert!(w["self_inductance_h"].as_f64().unwrap() > 0.0);
         assert_eq!(w["model"], "ring");
     }
-    for i in 0..3 {
-        for k in 0..3 {
-            assert_eq!(j["mutual_h"][i][k], j["mutual_h"][k][i]);
-            assert!(j["coupling"][i][k].as_f64().unwrap().abs() <= 1.0);
+    for key in ["mutual_h", "coupling"] {
+        let rows = j[key].as_array().unwrap();
+        assert_eq!(rows.len(), 3, "{key}");
+        for row in rows {
+            let row = row.as_array().unwrap();
+            assert_eq!(row.len(), 3, "{key}");
+            assert!(row.iter().all(|v| v.as_f64().is_some_and(f64::is_finite)));
         }
     }
     // Coaxial secondary/primary by Maxwell; the tilted pickup by the line integral.
@@ -148,10 +151,13 @@ fn help_of_every_command_states_units() {
         let out = run(&[cmd, "--help"]);
         assert!(out.status.success());
         let text = String::from_utf8(out.stdout).unwrap();
-        assert!(
-            text.contains("(H)") || text.contains("H)") || text.contains("relative"),
-            "{cmd}: {text}"
-        );
+        // Each states the unit of what it prints (verify: the relative error of its cases).
+        let unit = match cmd {
+            "inductance" => "Self-inductance (H)",
+            "report" => "inductances (H)",
+            _ => "relative error",
+        };
+        assert!(text.contains(unit), "{cmd} lacks {unit:?}: {text}");
     }
     let out = run(&["--help"]);
     assert!(String::from_utf8(out.stdout).unwrap().contains("metres"));

@@ -428,6 +428,23 @@ fn merge_checks_every_row_and_names_the_first_bad_one() {
             "line 3: not a row",
         ),
     ];
+    // b's output with its own identity file: another sweep, refused by identity (with or
+    // without --sweep).
+    for with_sweep in [false, true] {
+        let mut args = vec!["merge", "a.csv", "b.csv", "--out", "m.csv"];
+        if with_sweep {
+            args.extend(["--sweep", "a.toml"]);
+        }
+        let out = run_in(dir.path(), &args);
+        refused(&out, &["b.csv", "another sweep"]);
+        assert!(!dir.path().join("m.csv").exists());
+    }
+    // The rows themselves, under a's identity.
+    std::fs::copy(
+        dir.path().join("a.csv.sweep-id"),
+        dir.path().join("bad.csv.sweep-id"),
+    )
+    .unwrap();
     for (text, with_sweep, expected) in cases {
         std::fs::write(dir.path().join("bad.csv"), &text).unwrap();
         let mut args = vec!["merge", "bad.csv", "--out", "m.csv"];
@@ -449,6 +466,14 @@ fn merge_without_a_sweep_never_builds_a_range_up_to_a_huge_index() {
         dir.path().join("s.csv"),
         "point,winding.a.turns,self_inductance.a,status,message\n\
          1000000000000000000,5,1e-6,ok,\n",
+    )
+    .unwrap();
+    std::fs::write(
+        dir.path().join("s.csv.sweep-id"),
+        format!(
+            "coilfield sweep identity 1\nplan-sha256 {}\n",
+            "0".repeat(64)
+        ),
     )
     .unwrap();
     let out = run_in(dir.path(), &["merge", "s.csv", "--out", "m.csv"]);
@@ -491,4 +516,73 @@ fn map_extents_beyond_1000_km_are_refused_before_any_work() {
         let out = run_in(dir.path(), &all);
         refused(&out, &[key, "1e6 m"]);
     }
+}
+
+/// Unmounts the tmpfs at its path when dropped (pass or fail).
+struct Unmount(std::path::PathBuf);
+
+impl Drop for Unmount {
+    fn drop(&mut self) {
+        let _ = Command::new("umount").arg(&self.0).status();
+    }
+}
+
+#[test]
+#[ignore = "needs root to mount a small tmpfs; .ci/test runs it with --include-ignored"]
+fn a_full_disk_is_bad_output_exit_2_and_keeps_what_was_there() {
+    // A real full disk (a tmpfs of 16 KiB), beside the injected writer that fails after N
+    // bytes (cli/output.rs): a sweep's rows outgrow it, then an atomic JSON output finds it
+    // full; both exit 2 naming the file, no panic, and the old JSON file is untouched.
+    let dir = tempfile::tempdir().unwrap();
+    let mnt = dir.path().join("small");
+    std::fs::create_dir(&mnt).unwrap();
+    let mounted = Command::new("mount")
+        .args(["-t", "tmpfs", "-o", "size=16k", "tmpfs"])
+        .arg(&mnt)
+        .status()
+        .unwrap();
+    assert!(mounted.success(), "cannot mount a tmpfs: run as root");
+    let _unmount = Unmount(mnt.clone());
+    std::fs::write(mnt.join("c.json"), "old contents").unwrap();
+    std::fs::write(
+        dir.path().join("base.toml"),
+        "[[winding]]\nname = \"a\"\nshape = \"ring\"\norigin = [0.0, 0.0, 0.0]\n\
+         axis = [0.0, 0.0, 1.0]\nradius = 1.0\nwire_diameter = 0.001\n\n[[winding]]\n\
+         name = \"b\"\nshape = \"ring\"\norigin = [0.0, 0.0, 1.0]\naxis = [0.0, 0.0, 1.0]\n\
+         radius = 1.0\nwire_diameter = 0.001\n",
+    )
+    .unwrap();
+    std::fs::write(
+        dir.path().join("ball.toml"),
+        "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 1.0]\n\
+         radius = 0.1\n",
+    )
+    .unwrap();
+    std::fs::write(
+        dir.path().join("s.toml"),
+        "base = \"base.toml\"\nmetrics = [\"mutual.a.b\"]\n[[axis]]\n\
+         key = \"winding.b.origin[2]\"\nfrom = 0.5\nto = 3.0\nsteps = 4000\n",
+    )
+    .unwrap();
+    let out = run_in(
+        dir.path(),
+        &["sweep", "s.toml", "--out", "small/o.csv", "--threads", "1"],
+    );
+    refused(&out, &["o.csv", "No space left on device"]);
+    let out = run_in(
+        dir.path(),
+        &[
+            "capacitance",
+            "ball.toml",
+            "--format",
+            "json",
+            "--out",
+            "small/c.json",
+        ],
+    );
+    refused(&out, &["c.json", "No space left on device"]);
+    assert_eq!(
+        std::fs::read_to_string(mnt.join("c.json")).unwrap(),
+        "old contents"
+    );
 }

@@ -79,7 +79,8 @@ fn csv_rows_hold_maxwell_values_in_point_order() {
         "point,winding.b.origin[2],winding.b.radius,mutual.a.b,coupling.a.b,status,message"
     );
     assert_eq!(lines.len(), 1 + 15);
-    // Point 0: rings of 1 m, 1 m apart. Maxwell 1873; mpmath 30 digits: 4.9407846308e-7 H.
+    // Point 0: rings of 1 m, 1 m apart. Maxwell 1873; mpmath 30 digits: 4.9407846308e-7 H
+    // (validation/inline_refs.py, re-run by .ci/test with --check).
     let f: Vec<&str> = lines[1].split(',').collect();
     assert_eq!(&f[..3], &["0", "1", "1"]);
     let m: f64 = f[3].parse().unwrap();
@@ -93,7 +94,8 @@ fn csv_rows_hold_maxwell_values_in_point_order() {
     assert_eq!(&f5[..3], &["5", "0.5", "1"]);
     assert_eq!(f5[5], "infeasible");
     assert!(f5[6].contains("coupling.a.b <= 0.1"), "{}", lines[6]);
-    // Rings of 1 m radius 0.5 m apart: mpmath 30 digits (Maxwell in K and E): 1.1126108935e-6 H.
+    // Rings of 1 m radius 0.5 m apart: mpmath 30 digits (Maxwell in K and E): 1.1126108935e-6 H
+    // (validation/inline_refs.py).
     let m5: f64 = f5[3].parse().unwrap();
     assert!(rel(m5, 1.112_610_893_52e-6) < 1e-11, "{m5}");
 }
@@ -160,6 +162,14 @@ fn resume_redoes_a_torn_line_and_yields_the_uninterrupted_file() {
     let cut: usize = text.lines().take(7).map(|l| l.len() + 1).sum::<usize>() + 9;
     let part = dir.path().join("part.csv");
     std::fs::write(&part, &whole[..cut]).unwrap();
+    // The sweep's identity lives beside its output.
+    let id = |p: &std::path::Path| {
+        p.with_file_name(format!(
+            "{}.sweep-id",
+            p.file_name().unwrap().to_string_lossy()
+        ))
+    };
+    std::fs::copy(id(&full), id(&part)).unwrap();
     // Without --resume an existing output is refused.
     let o = sweep(&[s.to_str().unwrap(), "--out", part.to_str().unwrap()]);
     assert_eq!(o.status.code(), Some(2));
@@ -181,6 +191,66 @@ fn resume_redoes_a_torn_line_and_yields_the_uninterrupted_file() {
     ]);
     assert!(o.status.success());
     assert_eq!(std::fs::read(&part).unwrap(), whole);
+
+    // The sweep changed since (one more value of an axis): refused, nothing touched. Before,
+    // the rows of the old sweep were kept under the new one's header.
+    let torn = &whole[..cut];
+    std::fs::write(&part, torn).unwrap();
+    let changed = design_file(
+        dir.path(),
+        "changed.toml",
+        &SWEEP.replace("2.0]", "2.0, 1.7]"),
+    );
+    let o = sweep(&[
+        changed.to_str().unwrap(),
+        "--out",
+        part.to_str().unwrap(),
+        "--resume",
+    ]);
+    assert_eq!(
+        o.status.code(),
+        Some(2),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let e = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        e.contains("part.csv.sweep-id") && e.contains("another sweep"),
+        "{e}"
+    );
+    assert_eq!(std::fs::read(&part).unwrap(), torn);
+    // No identity file: refused, naming it.
+    std::fs::remove_file(id(&part)).unwrap();
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        part.to_str().unwrap(),
+        "--resume",
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("no sweep identity file"));
+    std::fs::copy(id(&full), id(&part)).unwrap();
+    // A kept row whose parameter, field count or status was changed: refused, naming the line.
+    let text = String::from_utf8(torn.to_vec()).unwrap();
+    let row = text.lines().nth(2).unwrap().to_string();
+    let p1 = row.split(',').nth(1).unwrap().to_string();
+    for bad in [
+        row.replacen(&format!(",{p1},"), ",9.5,", 1),
+        format!("{row},extra"),
+        row.replace(",ok,", ",okay,")
+            .replace(",infeasible,", ",okay,"),
+    ] {
+        std::fs::write(&part, text.replacen(&row, &bad, 1)).unwrap();
+        let o = sweep(&[
+            s.to_str().unwrap(),
+            "--out",
+            part.to_str().unwrap(),
+            "--resume",
+        ]);
+        assert_eq!(o.status.code(), Some(2), "{bad}");
+        let e = String::from_utf8_lossy(&o.stderr);
+        assert!(e.contains("line 3: not a row of this sweep"), "{bad}: {e}");
+    }
 }
 
 #[test]
@@ -337,7 +407,7 @@ values = [0.9995, 0.7]
 #[test]
 fn seek_finds_the_distance_of_a_known_mutual_inductance() {
     // Two rings of 1 m radius 1 m apart: M = 4.94078463079826907e-7 H (Maxwell 1873, mpmath
-    // 30 digits). Brent's method must find the distance 1 m from that M.
+    // 30 digits; validation/inline_refs.py). Brent's method must find the distance 1 m from that M.
     let dir = tempfile::tempdir().unwrap();
     design_file(dir.path(), "base.toml", BASE);
     let s = design_file(
@@ -546,8 +616,8 @@ fn csv_rows(path: &Path) -> Vec<Vec<String>> {
 
 #[test]
 fn electrode_axes_give_the_capacitance_of_an_isolated_sphere() {
-    // C = 4 pi eps0 a, exact (check-values section 9; J. C. Maxwell, "A Treatise on Electricity
-    // and Magnetism", 1873, vol. 1, the sphere's capacity); the issue asks 0.1 %.
+    // C = 4 pi eps0 a, exact (J. C. Maxwell, "A Treatise on Electricity and Magnetism", 1873,
+    // vol. 1, the sphere's capacity); the issue asks 0.1 %.
     let dir = tempfile::tempdir().unwrap();
     design_file(
         dir.path(),
@@ -895,7 +965,8 @@ fn a_sweep_run_from_rust_writes_the_binary_s_file_byte_for_byte() {
         }
     }
     // The values themselves: point 0 of the grid is two rings of 1 m, 1 m apart (Maxwell 1873;
-    // mpmath 30 digits: 4.9407846308e-7 H), point 5 rings 0.5 m apart (1.1126108935e-6 H).
+    // mpmath 30 digits: 4.9407846308e-7 H), point 5 rings 0.5 m apart (1.1126108935e-6 H;
+    // both from validation/inline_refs.py).
     let plan = library_plan(&dir.path().join("sweep.toml"));
     let r0 = plan.evaluate(0);
     assert!((r0.values[0] - 4.940_784_630_8e-7).abs() < 1e-16, "{r0:?}");

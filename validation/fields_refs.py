@@ -7,11 +7,14 @@ Writes validation/fields_b.csv and validation/fields_capacitance.csv. Nothing is
 Rust code; each row's source column names the formula or integral used. SI units; mu0 = 4 pi 1e-7
 H/m (classical), eps0 = 1/(mu0 c^2), c = 299792458 m/s.
 
-    python3 validation/fields_refs.py        # regenerate both tables (a few seconds)
+    python3 validation/fields_refs.py          # regenerate both tables (a few seconds)
+    python3 validation/fields_refs.py --check  # recompute and compare with the tables (.ci/test)
 """
 
 import csv
+import io
 import os
+import sys
 
 from mpmath import mp, mpf, pi, sqrt, cos, sin, quad, ellipk, ellipe, sinh, acosh, legenp, legenq, nsum, inf
 
@@ -78,7 +81,7 @@ def torus(ratio):
     return (8 * c * s / (4 * pi)).real
 
 
-def main():
+def b_rows():
     rows = []
     src_bs = "mpmath 30 digits, direct Biot-Savart quadrature over the loop"
     for rho, z in [(0, 0), (0, 1), (0.5, 0.5), (2, 0), (0.9, 0.1), (3, 2)]:
@@ -90,30 +93,70 @@ def main():
         br, bz = b_sheet(1, 1, 1000, rho, z)
         rows.append(("sheet", 1, 1, 1000, rho, z, "b_rho", br, 1e-9, "rel_to_magnitude", src_sh))
         rows.append(("sheet", 1, 1, 1000, rho, z, "b_z", bz, 1e-9, "rel_to_magnitude", src_sh))
-    with open(os.path.join(HERE, "fields_b.csv"), "w", newline="") as f:
-        w = csv.writer(f)
-        w.writerow(["kind", "radius_m", "half_length_m", "current_per_length_a_per_m", "rho_m", "z_m", "quantity", "reference", "tolerance", "tolerance_kind", "source"])
-        for r in rows:
-            w.writerow([r[0], r[1], r[2], r[3], r[4], r[5], r[6], mp.nstr(r[7], 20), r[8], r[9], r[10]])
+    out = io.StringIO(newline="")
+    w = csv.writer(out)
+    w.writerow(["kind", "radius_m", "half_length_m", "current_per_length_a_per_m", "rho_m", "z_m", "quantity", "reference", "tolerance", "tolerance_kind", "source"])
+    for r in rows:
+        w.writerow([r[0], r[1], r[2], r[3], r[4], r[5], r[6], mp.nstr(r[7], 20), r[8], r[9], r[10]])
+    return out.getvalue()
 
+
+def capacitance_rows():
     caps = []
     for h in ["1.1", "2", "5"]:
         caps.append(("sphere_over_plane", h, sphere_over_plane(mpf(h)), 1e-3, "rel",
-                     "image series sinh(al) sum 1/sinh(n al), cosh(al) = h/a (Smythe; series form from memory), mpmath nsum"))
+                     "image series sinh(al) sum 1/sinh(n al), cosh(al) = h/a (W. R. Smythe, Static and Dynamic Electricity, 1950; series form from memory), mpmath nsum"))
     for ratio in [2, 5, 10]:
         caps.append(("torus", ratio, torus(ratio), 3e-3, "rel",
-                     "toroidal harmonics 8 eps0 c sum eps_n Q_{n-1/2}/P_{n-1/2} (Smythe; section from memory), mpmath legenp/legenq"))
-    caps.append(("sphere", 0, mpf(1), 1e-3, "rel", "exact, C = 4 pi eps0 a"))
-    caps.append(("disc", 0, 8 / (4 * pi), 1e-3, "rel", "exact, C = 8 eps0 a (thin disc)"))
-    with open(os.path.join(HERE, "fields_capacitance.csv"), "w", newline="") as f:
-        w = csv.writer(f)
-        w.writerow(["shape", "ratio", "reference", "tolerance", "tolerance_kind", "source"])
-        for r in caps:
-            w.writerow([r[0], r[1], mp.nstr(r[2], 20), r[3], r[4], r[5]])
-    # Cross-checks against check-values.md s.7-9 (printed, not stored).
-    print("loop (0.5,0.5)", b_loop_biot_savart(1, 0.5, 0.5), b_loop_elliptic(1, 0.5, 0.5))
-    print("sheet (0.5,0.5)", b_sheet(1, 1, 1000, 0.5, 0.5))
-    print("sphere-plane 2", sphere_over_plane(2), "torus 2", torus(2))
+                     "toroidal harmonics 8 eps0 c sum eps_n Q_{n-1/2}/P_{n-1/2} (W. R. Smythe, Static and Dynamic Electricity, 1950; section from memory), mpmath legenp/legenq"))
+    caps.append(("sphere", 0, mpf(1), 1e-3, "rel", "exact, C = 4 pi eps0 a (J. C. Maxwell, A Treatise on Electricity and Magnetism, 1873, vol. 1)"))
+    caps.append(("disc", 0, 8 / (4 * pi), 1e-3, "rel", "exact, C = 8 eps0 a of a thin disc (J. C. Maxwell, A Treatise on Electricity and Magnetism, 1873, vol. 1; article from memory)"))
+    out = io.StringIO(newline="")
+    w = csv.writer(out)
+    w.writerow(["shape", "ratio", "reference", "tolerance", "tolerance_kind", "source"])
+    for r in caps:
+        w.writerow([r[0], r[1], mp.nstr(r[2], 20), r[3], r[4], r[5]])
+    return out.getvalue()
+
+
+def same_table(name, fresh, stored):
+    """True when two CSV texts agree: every text cell equal, every number to 1e-15 relative
+    (1e-30 absolute for a reference that vanishes)."""
+    a = list(csv.reader(io.StringIO(fresh)))
+    b = list(csv.reader(io.StringIO(stored)))
+    if len(a) != len(b):
+        print(f"{name}: {len(b)} rows stored, {len(a)} recomputed")
+        return False
+    ok = True
+    for i, (ra, rb) in enumerate(zip(a, b)):
+        if len(ra) != len(rb):
+            print(f"{name} row {i}: {len(rb)} fields stored, {len(ra)} recomputed")
+            ok = False
+            continue
+        for ca, cb in zip(ra, rb):
+            try:
+                x, y = mpf(ca), mpf(cb)
+                same = abs(x - y) <= mpf("1e-15") * max(abs(x), abs(y)) + mpf("1e-30")
+            except (ValueError, TypeError):
+                same = ca == cb
+            if not same:
+                print(f"{name} row {i}: stored {cb!r}, recomputed {ca!r}")
+                ok = False
+    return ok
+
+
+def main():
+    tables = {"fields_b.csv": b_rows(), "fields_capacitance.csv": capacitance_rows()}
+    if "--check" in sys.argv:
+        bad = [n for n, text in tables.items()
+               if not same_table(n, text, open(os.path.join(HERE, n), newline="").read())]
+        if bad:
+            sys.exit(f"fields_refs.py: {', '.join(bad)} disagree with mpmath; regenerate them")
+        print("fields_refs.py: fields_b.csv and fields_capacitance.csv agree with mpmath")
+        return
+    for name, text in tables.items():
+        with open(os.path.join(HERE, name), "w", newline="") as f:
+            f.write(text)
 
 
 if __name__ == "__main__":

@@ -190,7 +190,7 @@ def _rings_rows():
     s60, c60 = sin(radians(60)), cos(radians(60))
     s89, c89 = sin(radians(89)), cos(radians(89))
     spec = [
-        # check-values section 5 (tilt t -> normal (sin t, 0, cos t))
+        # Grover 1944's configurations (tilt t -> normal (sin t, 0, cos t))
         ("0.2", "0.1", "0.1", "0", "0.1", "0", "0", "1", SRC_RINGS_GROVER),
         ("0.2", "0.1", "0.1", "0", "0.1", "0.5", "0", fmt_in(c30), SRC_RINGS),
         ("1.0", "0.5", "0", "0", "0", fmt_in(s60), "0", "0.5", SRC_RINGS),

@@ -376,7 +376,8 @@ mod tests {
     use super::*;
 
     /// mpmath 1.3.0 (30 digits): `mp.diff(M, z, k)` for k = 0..7 with M from Maxwell's formula
-    /// in K and E, mu0 = 4 pi 1e-7.
+    /// in K and E, mu0 = 4 pi 1e-7 (validation/inline_refs.py recomputes them; .ci/test runs it
+    /// with --check).
     const MPMATH_DERIVATIVES: [((f64, f64, f64), [f64; 8]); 4] = [
         (
             (0.055, 0.1, 0.01),

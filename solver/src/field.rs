@@ -575,8 +575,9 @@ mod tests {
     }
 
     #[test]
-    fn ring_matches_check_values_section_7() {
-        // check-values.md s.7 (computed), regenerated in validation/fields_refs.py.
+    fn ring_matches_the_closed_form_in_mpmath() {
+        // The K, E closed form (J. D. Jackson, "Classical Electrodynamics", 3rd ed. 1999, 5.5),
+        // mpmath 30 digits: validation/inline_refs.py, re-run by .ci/test with --check.
         for &(rho, z, br, bz) in &[
             (0.0, 0.0, 0.0, 6.28318530718e-7),
             (0.0, 1.0, 0.0, 2.22144146908e-7),
@@ -756,8 +757,9 @@ mod tests {
     }
 
     #[test]
-    fn sheet_matches_check_values_section_8() {
-        // check-values.md s.8: a = 1, length 2 (b = 1), n I = 1000 A/m.
+    fn sheet_matches_the_integral_of_loops_in_mpmath() {
+        // a = 1, length 2 (b = 1), n I = 1000 A/m: the loop field integrated over the length
+        // (mpmath 30 digits; validation/inline_refs.py, re-run by .ci/test with --check).
         let (br, bz) = b_sheet_point(1.0, 1.0, 1000.0, 0.0, 0.0);
         assert_eq!(br, 0.0);
         assert!(rel(bz, 8.88576587632e-4) < 1e-11, "{bz}");

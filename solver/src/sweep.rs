@@ -45,12 +45,14 @@
 //! assert!(text.starts_with("point,winding.b.origin[2],mutual.a.b,status,message\n0,1,"));
 //! ```
 
+mod identity;
 mod merge;
 mod plan;
 mod resume;
 mod rows;
 mod run;
 
+pub use identity::identity_hash_of;
 pub use merge::merge;
 pub use plan::SweepPlan;
 pub use resume::{Resumed, Shard};

@@ -128,7 +128,7 @@ pub fn merge(
 /// `0-4, 7, 9-12` (the first 20 runs).
 /// Why a JSON line is not a row (an object with a point index, params, metrics, a known status
 /// and a message), or `None`.
-fn json_row_problem(line: &str) -> Option<String> {
+pub(crate) fn json_row_problem(line: &str) -> Option<String> {
     let v: serde_json::Value = match serde_json::from_str(line) {
         Ok(v) => v,
         Err(e) => return Some(format!("not JSON: {e}")),
@@ -154,7 +154,12 @@ fn json_row_problem(line: &str) -> Option<String> {
 }
 
 /// Why the parameters of row `line` (point `p`) differ from the plan's point `p`, or `None`.
-fn params_problem(line: &str, format: OutFormat, plan: &SweepPlan, p: usize) -> Option<String> {
+pub(crate) fn params_problem(
+    line: &str,
+    format: OutFormat,
+    plan: &SweepPlan,
+    p: usize,
+) -> Option<String> {
     let Some(want) = plan.points().get(p) else {
         return Some(format!("beyond the sweep's {} points", plan.points().len()));
     };

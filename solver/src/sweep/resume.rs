@@ -6,8 +6,9 @@
 //! writes.
 
 use crate::error::SolverError;
+use crate::sweep::merge::{json_row_problem, params_problem};
 use crate::sweep::plan::SweepPlan;
-use crate::sweep::rows::{OutFormat, point_of};
+use crate::sweep::rows::{OutFormat, csv_row_problem, point_of};
 use std::io::Read;
 
 /// Which share of the points one process runs: those with index % n == k.
@@ -93,6 +94,7 @@ impl SweepPlan {
                 }
             }
         }
+        let columns = header.trim_end().split(',').count();
         for (pos, line) in rows.iter().enumerate() {
             if pos >= mine.len() || point_of(line, format) != Some(mine[pos]) {
                 return Err(SolverError::BadSweep {
@@ -103,6 +105,22 @@ impl SweepPlan {
                         mine.get(pos).map_or("-".into(), |p| p.to_string()),
                         shard.k,
                         shard.n
+                    ),
+                });
+            }
+            // A kept row must be a whole row of this sweep (field count, status, parameters),
+            // not only carry the expected index: it goes into the output unchanged.
+            let problem = match format {
+                OutFormat::Csv => csv_row_problem(line, columns),
+                OutFormat::JsonLines => json_row_problem(line),
+            }
+            .or_else(|| params_problem(line, format, self, mine[pos]));
+            if let Some(why) = problem {
+                return Err(SolverError::BadSweep {
+                    message: format!(
+                        "{label}: line {}: not a row of this sweep: {why}; remove the output to \
+                         start again",
+                        pos + 1 + format.header_lines(),
                     ),
                 });
             }
