@@ -20,19 +20,23 @@ pub enum ElectricSolver {
 }
 
 impl ElectricSolver {
+    /// The solver library's choice.
+    pub fn choice(self) -> coilfield_solver::fem::ElectricSolver {
+        match self {
+            ElectricSolver::Bem => coilfield_solver::fem::ElectricSolver::Bem,
+            ElectricSolver::Fem => coilfield_solver::fem::ElectricSolver::Fem,
+            ElectricSolver::Auto => coilfield_solver::fem::ElectricSolver::Auto,
+        }
+    }
+
     /// Whether the finite-element solver serves this design.
     pub fn uses_fem(self, design: &Design) -> bool {
-        match self {
-            ElectricSolver::Bem => false,
-            ElectricSolver::Fem => true,
-            ElectricSolver::Auto => design.media.acts_on_field(),
-        }
+        self.choice().uses_fem(design)
     }
 }
 
 /// The warning every finite-element result carries.
-pub const E_ONLY_WARNING: &str = "dielectrics and the enclosure act on E only: inductances, \
-     couplings and B ignore them";
+pub use coilfield_solver::fem::E_ONLY_WARNING;
 
 #[derive(Serialize)]
 struct ConductorOut {

@@ -31,6 +31,8 @@ pub struct ClearanceArgs<'a> {
     pub max_distance_m: Option<f64>,
     /// Output format.
     pub format: Format,
+    /// Electric solver for E.
+    pub electric: crate::capacitance_fem::ElectricSolver,
 }
 
 #[derive(Serialize)]
@@ -92,6 +94,8 @@ pub(crate) struct AtDistanceOut {
 #[derive(Serialize)]
 pub(crate) struct ClearanceOut {
     caution: &'static str,
+    /// Which electric solver gave E: "bem" or "fem".
+    pub(crate) electric_solver: &'static str,
     frequency_hz: f64,
     pub(crate) top_conductor: String,
     pub(crate) thresholds: Vec<ThresholdOut>,
@@ -101,7 +105,7 @@ pub(crate) struct ClearanceOut {
 
 /// Run `coilfield clearance`.
 pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
-    let resolved = load::design_resolved(args.design)?;
+    let resolved = load::design_resolved_with(args.design, args.electric.choice())?;
     let result = compute(&args, resolved)?;
     match args.format {
         Format::Json => println!("{}", crate::output::json_text(&result)?),
@@ -186,7 +190,15 @@ pub(crate) fn compute(
         model,
         thresholds: found,
         warnings: found_warnings,
-    } = search(&design, &label, &ths, max_distance_m, Par::Rayon, None)?;
+    } = search(
+        &design,
+        &label,
+        &ths,
+        max_distance_m,
+        Par::Rayon,
+        None,
+        args.electric.choice(),
+    )?;
     warnings.extend(found_warnings);
     let out: Vec<ThresholdOut> = found.into_iter().map(ThresholdOut::of).collect();
     let (x_hat, _) = local_frame(&fr.axis);
@@ -221,6 +233,7 @@ pub(crate) fn compute(
     warnings.extend(validity_warnings(&design, &dist_all));
     Ok(ClearanceOut {
         caution: thresholds::CAUTION,
+        electric_solver: model.electric_solver(),
         frequency_hz,
         top_conductor: fr.top_name.clone(),
         thresholds: out,

@@ -68,7 +68,7 @@ pub fn run(
     out: Option<&Path>,
     solver: crate::capacitance_fem::ElectricSolver,
 ) -> anyhow::Result<ExitCode> {
-    let design = load::design_resolved(design_path)?.design;
+    let design = load::design_resolved_with(design_path, solver.choice())?.design;
     let mut pts = Vec::new();
     let mut origins = Vec::new();
     for t in at {
@@ -86,27 +86,15 @@ pub fn run(
             BadInput("field: give at least one --at x,y,z or --points FILE.csv".into()).into(),
         );
     }
-    let model = FieldModel::new(
+    let model = FieldModel::with_solver(
         &design,
         &design_path.display().to_string(),
         Par::Rayon,
         None,
+        solver.choice(),
     )?;
-    let mut samples = model.eval(&pts);
+    let samples = model.eval(&pts);
     let mut warnings = model.warnings.clone();
-    let fem = solver.uses_fem(&design);
-    if fem {
-        // E from the finite-element model where it has a value; inside a conductor or below
-        // the ground the free-space model's verdict stands. B is the free-space model's.
-        let sol =
-            crate::capacitance_fem::solve_design(&design, &design_path.display().to_string())?;
-        for (s, e) in samples.iter_mut().zip(sol.e_field(&pts)) {
-            if let (EValue::Field(_), Some((_, v))) = (&s.e, e) {
-                s.e = EValue::Field(v);
-            }
-        }
-        warnings.push(crate::capacitance_fem::E_ONLY_WARNING.to_string());
-    }
     warnings.extend(validity_warnings(
         &design,
         &distances_from_centre_m(&design, &pts),
@@ -118,7 +106,7 @@ pub fn run(
         rows.push(row);
     }
     let result = FieldOut {
-        electric_solver: if fem { "fem" } else { "bem" },
+        electric_solver: model.electric_solver(),
         points: rows,
         warnings,
     };

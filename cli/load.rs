@@ -96,10 +96,19 @@ pub fn design(path: &Path) -> anyhow::Result<Design> {
 /// ([`coilfield_solver::resonance::resolve`]): what the field, clearance, capacitance and
 /// export commands compute from.
 pub fn design_resolved(path: &Path) -> anyhow::Result<coilfield_solver::resonance::Resolved> {
+    design_resolved_with(path, coilfield_solver::fem::ElectricSolver::Auto)
+}
+
+/// [`design_resolved`] with the drive model's capacitances from the electric solver `electric`.
+pub fn design_resolved_with(
+    path: &Path,
+    electric: coilfield_solver::fem::ElectricSolver,
+) -> anyhow::Result<coilfield_solver::resonance::Resolved> {
     let design = design(path)?;
-    Ok(coilfield_solver::resonance::resolve(
+    Ok(coilfield_solver::resonance::resolve_with(
         &design,
         &path.display().to_string(),
         coilfield_solver::Par::Rayon,
+        electric,
     )?)
 }

@@ -147,6 +147,10 @@ enum Command {
         /// Quantity of the heat map: e or b.
         #[arg(long, value_enum, default_value_t = map::PlotQuantity::E)]
         plot_quantity: map::PlotQuantity,
+        /// Electric solver for E: bem, fem, or auto (fem when the design has a dielectric or
+        /// an enclosure).
+        #[arg(long, value_enum, default_value_t = capacitance_fem::ElectricSolver::Auto)]
+        electric_solver: capacitance_fem::ElectricSolver,
     },
     /// The secondary's resonance (a distributed model of its winding, and the lumped estimate),
     /// its modes and Q; the primary's tuning capacitance, the tap that tunes the tank
@@ -170,6 +174,10 @@ enum Command {
         /// Draw the primary's frequency with the tank capacitor against the tap (.svg or .png).
         #[arg(long, value_name = "FILE")]
         plot_tap: Option<PathBuf>,
+        /// Electric solver of the capacitances: bem, fem, or auto (fem when the design has a
+        /// dielectric or an enclosure).
+        #[arg(long, value_enum, default_value_t = capacitance_fem::ElectricSolver::Auto)]
+        electric_solver: capacitance_fem::ElectricSolver,
     },
     /// Capacitances (F) from the axisymmetric electrostatic model: the Maxwell matrix of the
     /// electrodes (file order), each electrode's capacitance (its diagonal entry), the
@@ -225,6 +233,10 @@ enum Command {
         /// table or json.
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
+        /// Electric solver for E: bem, fem, or auto (fem when the design has a dielectric or
+        /// an enclosure).
+        #[arg(long, value_enum, default_value_t = capacitance_fem::ElectricSolver::Auto)]
+        electric_solver: capacitance_fem::ElectricSolver,
     },
     /// Geometry as VTK XML for any VTK viewer: each winding as polylines (turn index, peak
     /// current in A), each electrode as a surface, one .vtp file each, and a .pvd collection
@@ -344,12 +356,14 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             format,
             plot,
             plot_tap,
+            electric_solver,
         } => resonance::run(
             &design,
             sections,
             format,
             plot.as_deref(),
             plot_tap.as_deref(),
+            electric_solver,
         ),
         Command::Clearance {
             design,
@@ -358,6 +372,7 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             threshold,
             max_distance,
             format,
+            electric_solver,
         } => clearance::run(clearance::ClearanceArgs {
             design: &design,
             distances: distance.as_deref(),
@@ -365,6 +380,7 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             extra: &threshold,
             max_distance_m: max_distance,
             format,
+            electric: electric_solver,
         }),
         Command::Export { design, vtk } => export::run(&design, &vtk),
         Command::Field {
@@ -392,6 +408,7 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             vtk,
             plot,
             plot_quantity,
+            electric_solver,
         } => map::run(map::MapArgs {
             design: &design,
             plane,
@@ -402,6 +419,7 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             vtk: vtk.as_deref(),
             plot: plot.as_deref(),
             plot_quantity,
+            electric: electric_solver,
         }),
         Command::Sweep {
             sweep,

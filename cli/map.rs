@@ -41,11 +41,15 @@ pub struct MapArgs<'a> {
     pub plot: Option<&'a Path>,
     /// Quantity of the heat map.
     pub plot_quantity: PlotQuantity,
+    /// Electric solver for E.
+    pub electric: crate::capacitance_fem::ElectricSolver,
 }
 
 #[derive(Serialize)]
 struct MapOut {
     caution: &'static str,
+    /// Which electric solver gave E: "bem" or "fem".
+    electric_solver: &'static str,
     n_points: usize,
     max_e_mag_v_per_m: Option<f64>,
     max_b_mag_t: Option<f64>,
@@ -123,7 +127,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
     // The grid first: a grid out of bounds is refused before the design's work (a drive
     // model's resonance solve).
     let g = grid(&args)?;
-    let design = load::design_resolved(args.design)?.design;
+    let design = load::design_resolved_with(args.design, args.electric.choice())?.design;
     let label = args.design.display().to_string();
     if args.vtk.is_none() && args.plot.is_none() {
         return Err(
@@ -145,7 +149,13 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
         }
         None => false,
     };
-    let model = FieldModel::new(&design, &label, coilfield_solver::Par::Rayon, None)?;
+    let model = FieldModel::with_solver(
+        &design,
+        &label,
+        coilfield_solver::Par::Rayon,
+        None,
+        args.electric.choice(),
+    )?;
     let pts = g.points();
     let samples = model.eval(&pts);
     let n = pts.len();
@@ -240,6 +250,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
     }
     let result = MapOut {
         caution: CAUTION,
+        electric_solver: model.electric_solver(),
         n_points: n,
         max_e_mag_v_per_m: max(&e_mag),
         max_b_mag_t: max(&b_mag),

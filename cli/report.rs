@@ -232,6 +232,7 @@ fn resonance_and_clearance(design: &Design, path: &Path) -> anyhow::Result<(Stri
             extra: &[],
             max_distance_m: None,
             format: Format::Table,
+            electric: crate::capacitance_fem::ElectricSolver::Auto,
         };
         let from_model = resolved.resonance.is_some();
         let c = clearance::compute(&args, resolved)?;

@@ -30,6 +30,7 @@ pub fn run(
     format: Format,
     plot: Option<&Path>,
     plot_tap: Option<&Path>,
+    electric: crate::capacitance_fem::ElectricSolver,
 ) -> anyhow::Result<ExitCode> {
     let design = load::design(design_path)?;
     let label = design_path.display().to_string();
@@ -38,6 +39,7 @@ pub fn run(
     }
     let params = ResonanceParams {
         sections,
+        electric: electric.choice(),
         ..ResonanceParams::default()
     };
     let r = resonance(&design, &label, &params, Par::Rayon)?;

@@ -533,3 +533,119 @@ fn field_command_names_its_electric_solver() {
     // finite and positive.
     assert!(e(&fem) > 0.0 && e(&bem) > 0.0 && e(&fem) != e(&bem));
 }
+
+/// The demo with its form made of vacuum (relative permittivity 1): the same mesh as the demo,
+/// so the difference between the two is the form's alone.
+fn room_resonator_variant(
+    dir: &std::path::Path,
+    name: &str,
+    edit: &dyn Fn(&str) -> String,
+) -> String {
+    let demo = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/meshes-demo/room-resonator.toml"
+    );
+    let text = std::fs::read_to_string(demo).unwrap();
+    let path = dir.join(name);
+    std::fs::write(&path, edit(&text)).unwrap();
+    path.display().to_string()
+}
+
+fn json_of(args: &[&str]) -> serde_json::Value {
+    let out = coilfield(args);
+    assert!(
+        out.status.success(),
+        "{args:?}: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).unwrap()
+}
+
+/// The resonance model takes its capacitances from the finite-element model when the design
+/// has a form and a room, and says so; the PVC form raises the self-capacitance and lowers f1
+/// against the same form of permittivity 1 (the same mesh: the discrete capacitance matrix
+/// grows with the permittivity, so f1 of the ladder must fall).
+#[test]
+fn resonance_takes_the_form_through_finite_elements() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/meshes-demo/room-resonator.toml"
+    );
+    let vacuum = room_resonator_variant(dir.path(), "vacuum-form.toml", &|t| {
+        t.replace("material = \"PVC\"", "relative_permittivity = 1.0")
+    });
+    let run = |path: &str| {
+        json_of(&["resonance", path, "--format", "json", "--sections", "8"])["secondary"].clone()
+    };
+    let (pvc, air) = (run(demo), run(&vacuum));
+    assert_eq!(pvc["electric_solver"], "fem");
+    assert_eq!(air["electric_solver"], "fem");
+    let f = |v: &serde_json::Value, k: &str| v[k].as_f64().unwrap();
+    assert!(
+        f(&pvc, "self_capacitance_f") > 1.005 * f(&air, "self_capacitance_f"),
+        "{pvc} {air}"
+    );
+    assert!(
+        f(&pvc, "frequency_hz") < f(&air, "frequency_hz"),
+        "{pvc} {air}"
+    );
+}
+
+/// Under a drive model the finite-element path gets the drive's potentials: `field` and `map`
+/// give a nonzero E from the finite-element model (named in the output), and `clearance`
+/// names it too.
+#[test]
+fn map_field_and_clearance_take_the_finite_element_solver() {
+    let dir = tempfile::tempdir().unwrap();
+    let spark = room_resonator_variant(dir.path(), "spark.toml", &|t| {
+        let i = t.find("[drive]").unwrap();
+        format!(
+            "{}[drive]\nkind = \"spark_gap\"\ntank_capacitance = \"30 nF\"\n\
+             charge_voltage = \"12 kV\"\ngap_resistance = \"2 ohm\"\nbreak_rate = \"120 Hz\"\n\
+             lead_inductance = \"1 uH\"\n",
+            &t[..i]
+        )
+    });
+    let vtr = dir.path().join("m.vtr");
+    let map = json_of(&[
+        "map",
+        &spark,
+        "--plane",
+        "xz",
+        "--extent",
+        "0,1.5,0,2",
+        "--resolution",
+        "6,6",
+        "--vtk",
+        vtr.to_str().unwrap(),
+    ]);
+    assert_eq!(map["electric_solver"], "fem");
+    assert!(map["max_e_mag_v_per_m"].as_f64().unwrap() > 1e3, "{map}");
+    assert!(
+        map["warnings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|w| w.as_str().unwrap().contains("act on E only")),
+        "{map}"
+    );
+    let field = json_of(&["field", &spark, "--at", "0.5,0,0.9", "--format", "json"]);
+    assert_eq!(field["electric_solver"], "fem");
+    assert!(field["points"][0]["e_mag_v_per_m"].as_f64().unwrap() > 1e3);
+    let demo = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/meshes-demo/room-resonator.toml"
+    );
+    let clearance = json_of(&["clearance", demo, "--format", "json"]);
+    assert_eq!(clearance["electric_solver"], "fem");
+    let bem = json_of(&[
+        "clearance",
+        demo,
+        "--format",
+        "json",
+        "--electric-solver",
+        "bem",
+    ]);
+    assert_eq!(bem["electric_solver"], "bem");
+}

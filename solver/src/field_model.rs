@@ -9,6 +9,7 @@
 
 use crate::electrostatic::{FieldSample, Params, Problem, Solution};
 use crate::error::SolverError;
+use crate::fem::{E_ONLY_WARNING, ElectricSolver, FemProblem, FemSolution, FromDesignError};
 use crate::field::{self, Source};
 use crate::par::Par;
 use coilfield_geometry::{
@@ -55,12 +56,35 @@ impl Sample {
 #[derive(Debug, Clone)]
 pub struct FieldModel {
     sources: Vec<Source>,
-    solution: Option<Solution>,
+    electric: Electric,
+    /// "bem" or "fem": the electric solver that serves E.
+    solver_name: &'static str,
     electrodes: Vec<Electrode>,
     ground: Option<Ground>,
     par: Par,
     /// Warnings about the model itself (image currents, a zero field).
     pub warnings: Vec<String>,
+}
+
+/// Where E comes from.
+#[derive(Debug, Clone)]
+enum Electric {
+    /// No conductor has a potential: E = 0.
+    Zero,
+    /// Boundary elements.
+    Bem(Box<Solution>),
+    /// Finite elements.
+    Fem(Box<FemSolution>),
+}
+
+/// The finite-element solution of a design (its drive resolved already), meshed and solved
+/// once; a design the half-plane model refuses is an error naming it.
+pub fn fem_solution(design: &Design, source: &str) -> Result<FemSolution, SolverError> {
+    let problem = FemProblem::from_design(design, source).map_err(|e| match e {
+        FromDesignError::Design(d) => SolverError::Design(d),
+        FromDesignError::Solver(s) => s,
+    })?;
+    problem.solve()
 }
 
 /// The drive a field computation needs: at least winding currents or conductor potentials.
@@ -85,7 +109,7 @@ pub fn has_potentials(design: &Design) -> bool {
     })
 }
 
-/// The electrostatic solution of a design at the default panel count (its drive model
+/// The boundary-element solution of a design at the default panel count (its drive model
 /// resolved first, [`crate::resonance::resolve`]).
 pub fn electrostatic_solution(
     design: &Design,
@@ -101,15 +125,28 @@ impl FieldModel {
     /// carries current), E from [`crate::electrostatic`] (zero when no conductor has a
     /// potential). `solved` is the design's electrostatic solution when the caller has it
     /// already (default panels); `par` says how both are solved and evaluated. `source`
-    /// labels messages.
+    /// labels messages. The electric solver is chosen automatically
+    /// ([`ElectricSolver::Auto`]: finite elements with a dielectric or an enclosure).
     pub fn new(
         design: &Design,
         source: &str,
         par: Par,
         solved: Option<Solution>,
     ) -> Result<FieldModel, SolverError> {
+        FieldModel::with_solver(design, source, par, solved, ElectricSolver::Auto)
+    }
+
+    /// [`FieldModel::new`] with the electric solver `choice`; `solved` (a boundary-element
+    /// solution) is used only when boundary elements serve.
+    pub fn with_solver(
+        design: &Design,
+        source: &str,
+        par: Par,
+        solved: Option<Solution>,
+        choice: ElectricSolver,
+    ) -> Result<FieldModel, SolverError> {
         // A drive model sets the currents and potentials (and their profiles) first.
-        let resolved = crate::resonance::resolve(design, source, par)?;
+        let resolved = crate::resonance::resolve_with(design, source, par, choice)?;
         let design = &resolved.design;
         let solved = if resolved.resonance.is_some() {
             None
@@ -130,18 +167,25 @@ impl FieldModel {
         if !has_currents {
             warnings.push("no winding carries current in [drive] currents: B is zero".into());
         }
-        let solution = if has_potentials(design) {
-            match solved {
-                Some(sol) => Some(sol),
-                None => Some(electrostatic_solution(design, source, par)?),
-            }
-        } else {
+        let fem = choice.uses_fem(design);
+        let electric = if !has_potentials(design) {
             warnings.push("no conductor has a potential in [drive] potentials: E is zero".into());
-            None
+            Electric::Zero
+        } else if fem {
+            Electric::Fem(Box::new(fem_solution(design, source)?))
+        } else {
+            match solved {
+                Some(sol) => Electric::Bem(Box::new(sol)),
+                None => Electric::Bem(Box::new(electrostatic_solution(design, source, par)?)),
+            }
         };
+        if fem {
+            warnings.push(E_ONLY_WARNING.to_string());
+        }
         Ok(FieldModel {
             sources,
-            solution,
+            electric,
+            solver_name: choice.name_for(design),
             electrodes: design.electrodes.clone(),
             ground: design.ground,
             par,
@@ -152,8 +196,8 @@ impl FieldModel {
     /// E and B at `points_m`.
     pub fn eval(&self, points_m: &[Point3<f64>]) -> Vec<Sample> {
         let b = field::b_field(&self.sources, points_m, self.par);
-        let e: Vec<EValue> = match &self.solution {
-            Some(sol) => sol
+        let e: Vec<EValue> = match &self.electric {
+            Electric::Bem(sol) => sol
                 .e_field(points_m, self.par)
                 .into_iter()
                 .map(|s| match s {
@@ -162,9 +206,19 @@ impl FieldModel {
                     FieldSample::BelowGround => EValue::BelowGround,
                 })
                 .collect(),
+            // Inside an electrode and below the ground the same verdicts as the boundary
+            // elements give; elsewhere the finite-element field, 0 beyond a grounded wall.
+            Electric::Fem(sol) => points_m
+                .iter()
+                .zip(sol.e_field(points_m))
+                .map(|(p, e)| match self.zero_e_at(p) {
+                    EValue::Field(zero) => EValue::Field(e.map_or(zero, |(_, v)| v)),
+                    other => other,
+                })
+                .collect(),
             // E is zero without potentials, but still undefined inside a conductor: the
             // points are told apart the same way as with a solution.
-            None => points_m.iter().map(|p| self.zero_e_at(p)).collect(),
+            Electric::Zero => points_m.iter().map(|p| self.zero_e_at(p)).collect(),
         };
         e.into_iter()
             .zip(b)
@@ -173,6 +227,22 @@ impl FieldModel {
                 _ => Sample { e, b },
             })
             .collect()
+    }
+
+    /// The electric solver that serves E: "bem" or "fem".
+    pub fn electric_solver(&self) -> &'static str {
+        self.solver_name
+    }
+
+    /// The largest surface field on each conductor under the drive (V/m, with its place):
+    /// the electrodes' from boundary elements, every conductor's from finite elements; empty
+    /// when no conductor has a potential.
+    pub fn peak_surface_fields(&self) -> Vec<crate::electrostatic::PeakField> {
+        match &self.electric {
+            Electric::Zero => Vec::new(),
+            Electric::Bem(sol) => sol.peak_surface_fields(),
+            Electric::Fem(sol) => sol.peak_surface_fields(),
+        }
     }
 
     /// E = 0 at `p` when no conductor has a potential, or no value inside an electrode or

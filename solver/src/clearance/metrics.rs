@@ -143,6 +143,7 @@ impl External for ClearanceMetrics {
             self.max_distance_m,
             Par::Seq,
             electric.cloned(),
+            crate::fem::ElectricSolver::Auto,
         )
         .map_err(|e| e.to_string())?;
         let values: Vec<f64> = wanted

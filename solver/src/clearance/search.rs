@@ -219,8 +219,8 @@ pub fn magnitude(s: &Sample, q: Quantity) -> Option<f64> {
 /// The clearance of every threshold in `ths` for `design` (`label` names it in messages):
 /// rays from the axis at each height and a fan from the top conductor, searched out to
 /// `max_distance_m`. `par` runs the field evaluations and the rays in parallel or not; the
-/// results do not depend on it. `solved` is the design's electrostatic solution when the
-/// caller has it (default panels).
+/// results do not depend on it. `solved` is the design's boundary-element solution when the
+/// caller has it (default panels); `electric` chooses the electric solver of E.
 pub fn search(
     design: &Design,
     label: &str,
@@ -228,9 +228,10 @@ pub fn search(
     max_distance_m: f64,
     par: Par,
     solved: Option<Solution>,
+    electric: crate::fem::ElectricSolver,
 ) -> Result<Search, SolverError> {
     let fr = ray_frame(design, label)?;
-    let model = FieldModel::new(design, label, par, solved)?;
+    let model = FieldModel::with_solver(design, label, par, solved, electric)?;
     let mut warnings = model.warnings.clone();
     let (x_hat, y_hat) = local_frame(&fr.axis);
     let params = RayParams {

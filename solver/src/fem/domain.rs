@@ -248,6 +248,25 @@ pub struct DriveV {
     pub secondary: Option<usize>,
     /// Per conductor: whether it is connected to the secondary's top (true, false) or base.
     pub connected: Vec<Option<bool>>,
+    /// The secondary's potential profile under a drive model: node values at equal steps from
+    /// base to top, 1 at the top (a mode of the resonance model); None: linear.
+    pub secondary_profile: Option<Vec<f64>>,
+}
+
+impl DriveV {
+    /// The fraction of the secondary's top potential at the fraction `t` of its length from
+    /// the base: the drive's node profile interpolated linearly, or `t` itself.
+    pub fn secondary_fraction(&self, t: f64) -> f64 {
+        match &self.secondary_profile {
+            Some(v) if v.len() >= 2 => {
+                let n = v.len() - 1;
+                let x = t.clamp(0.0, 1.0) * n as f64;
+                let j = (x.floor() as usize).min(n - 1);
+                v[j] + (v[j + 1] - v[j]) * (x - j as f64)
+            }
+            _ => t,
+        }
+    }
 }
 
 impl Domain {
@@ -302,6 +321,18 @@ impl Domain {
     /// enclosure or open space. `source` labels messages.
     #[allow(clippy::result_large_err)]
     pub fn from_design(design: &Design, source: &str) -> Result<Domain, FromDesignError> {
+        Domain::from_design_sheet(design, source, None)
+    }
+
+    /// [`Domain::from_design`] with the secondary's winding surface cut into `sheet_pieces`
+    /// equal pieces (each meshed with at least one edge), so that a potential profile varying
+    /// along the winding (the hat functions of the resonance model's sections) is resolved.
+    #[allow(clippy::result_large_err)]
+    pub fn from_design_sheet(
+        design: &Design,
+        source: &str,
+        sheet_pieces: Option<usize>,
+    ) -> Result<Domain, FromDesignError> {
         let axis0 = check_axisymmetric(design, source).map_err(Box::new)?;
         // With a ground plane, z grows away from it (upwards).
         let axis = match design.ground {
@@ -420,14 +451,18 @@ impl Domain {
             let r = radius_m + w.wire_radius_m();
             let (lo, hi) = (zb.min(zt), zb.max(zt));
             secondary_index = Some(conductors.len());
+            let k = sheet_pieces.unwrap_or(1).max(1);
+            let at = |i: usize| lo + (hi - lo) * i as f64 / k as f64;
             conductors.push(Conductor {
                 name: w.name.clone(),
-                pieces: vec![Piece::Line {
-                    p0: [r, lo],
-                    p1: [r, hi],
-                    edge0: true,
-                    edge1: true,
-                }],
+                pieces: (0..k)
+                    .map(|i| Piece::Line {
+                        p0: [r, at(i)],
+                        p1: [r, at(i + 1)],
+                        edge0: i == 0,
+                        edge1: i + 1 == k,
+                    })
+                    .collect(),
                 area: None,
                 profile: Profile2d::Linear {
                     z_base: zb,
@@ -469,6 +504,7 @@ impl Domain {
                 conductor_v,
                 secondary: secondary_index,
                 connected,
+                secondary_profile: design.drive.secondary_voltage_profile.clone(),
             }),
         };
         domain.outer = match (design.media.enclosure, ground_z) {
@@ -507,6 +543,28 @@ impl Domain {
             }
         };
         Ok(domain)
+    }
+
+    /// The same problem without the conductors connected to the secondary (the bare
+    /// secondary of the resonance model's self-capacitance).
+    pub fn without_connected(&self) -> Domain {
+        let mut out = self.clone();
+        let Some(drive) = &self.drive else {
+            return out;
+        };
+        let keep: Vec<usize> = (0..self.conductors.len())
+            .filter(|&i| drive.connected[i].is_none())
+            .collect();
+        out.conductors = keep.iter().map(|&i| self.conductors[i].clone()).collect();
+        out.drive = Some(DriveV {
+            conductor_v: keep.iter().map(|&i| drive.conductor_v[i]).collect(),
+            secondary: drive
+                .secondary
+                .and_then(|s| keep.iter().position(|&i| i == s)),
+            connected: vec![None; keep.len()],
+            secondary_profile: drive.secondary_profile.clone(),
+        });
+        out
     }
 
     /// Middle of the conductors' z extent (m).

@@ -43,22 +43,59 @@
 
 pub mod domain;
 pub mod mesh;
+mod nodal;
 mod solve;
 
 pub use domain::{
     Area, Conductor, Domain, DriveV, FromDesignError, Outer, Piece, Profile2d, Region,
 };
 pub use mesh::{Kelvin, Mesh, mesh_domain};
-pub use solve::Probe;
+pub use nodal::FemNodal;
+pub use solve::{Probe, SurfacePeak};
 
+use crate::electrostatic::PeakField;
 use crate::error::SolverError;
-use coilfield_geometry::Design;
+use coilfield_geometry::{Design, local_frame};
 use nalgebra::{Point3, Vector3};
 use nalgebra_sparse::CsrMatrix;
 use solve::{
     Excitation, Locator, TWO_PI_EPS0, assemble, drive_excitation, energy_product, probe,
-    recovery_error, solve_all, unit_excitation,
+    recovery_error, solve_all, surface_peaks, unit_excitation,
 };
+
+/// Which electric solver serves a computation of E and the capacitances.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ElectricSolver {
+    /// Boundary elements ([`crate::electrostatic`]): conductors in free space over a ground
+    /// plane.
+    Bem,
+    /// Finite elements on the (r, z) half-plane (this module): dielectrics, an enclosure.
+    Fem,
+    /// Finite elements when the design has a dielectric or an enclosure, else boundary
+    /// elements.
+    #[default]
+    Auto,
+}
+
+impl ElectricSolver {
+    /// Whether the finite-element solver serves `design`.
+    pub fn uses_fem(self, design: &Design) -> bool {
+        match self {
+            ElectricSolver::Bem => false,
+            ElectricSolver::Fem => true,
+            ElectricSolver::Auto => design.media.acts_on_field(),
+        }
+    }
+
+    /// The name of the solver that serves `design`: "bem" or "fem".
+    pub fn name_for(self, design: &Design) -> &'static str {
+        if self.uses_fem(design) { "fem" } else { "bem" }
+    }
+}
+
+/// The warning every finite-element result carries.
+pub const E_ONLY_WARNING: &str = "dielectrics and the enclosure act on E only: inductances, \
+     couplings and B ignore them";
 
 /// A meshed finite-element problem (plan once, solve once, evaluate many).
 #[derive(Debug, Clone)]
@@ -93,6 +130,11 @@ impl FemProblem {
     pub fn from_design(design: &Design, source: &str) -> Result<FemProblem, FromDesignError> {
         let domain = Domain::from_design(design, source)?;
         Ok(FemProblem::new(domain)?)
+    }
+
+    /// The secondary's fine nodal capacitance matrix on this mesh ([`FemNodal`]).
+    pub fn nodal(&self) -> Result<FemNodal, SolverError> {
+        FemNodal::new(&self.domain, &self.mesh)
     }
 
     /// The mesh.
@@ -213,6 +255,42 @@ impl FemSolution {
     pub fn probe(&self, index: usize, r_m: f64, z_m: f64) -> Option<Probe> {
         let phi = self.potentials.get(index)?;
         Some(probe(&self.mesh, &self.locator, phi, [r_m, z_m]))
+    }
+
+    /// The largest surface field (V/m) on each conductor (in the order of the matrix) for
+    /// solution `index` (see [`FemSolution::nodal_potential_v`]), and the vertex (r, z) (m)
+    /// where it occurs; None for a conductor without a vertex or an index without a solution.
+    pub fn peak_surface_fields_rz(&self, index: usize) -> Vec<SurfacePeak> {
+        match self.potentials.get(index) {
+            Some(phi) => surface_peaks(&self.mesh, &self.locator, &self.domain, phi),
+            None => vec![None; self.domain.conductors.len()],
+        }
+    }
+
+    /// The largest surface field on each conductor under the design's drive, in the design's
+    /// frame (at azimuth 0 of the axis frame), as the boundary-element solver reports it;
+    /// empty for a domain not built from a design or without drive potentials.
+    pub fn peak_surface_fields(&self) -> Vec<PeakField> {
+        let Some(axis) = self.domain.axis else {
+            return Vec::new();
+        };
+        let index = self.domain.conductors.len();
+        if self.potentials.len() <= index {
+            return Vec::new();
+        }
+        let (x_hat, _) = local_frame(&axis.direction);
+        self.peak_surface_fields_rz(index)
+            .into_iter()
+            .zip(&self.domain.conductors)
+            .filter_map(|(p, c)| {
+                let (e, [r, z]) = p?;
+                Some(PeakField {
+                    name: c.name.clone(),
+                    field_v_per_m: e,
+                    at_m: axis.origin_m + axis.direction.as_ref() * z + x_hat * r,
+                })
+            })
+            .collect()
     }
 
     /// Potential (V) and E (V/m) at points of the design's frame under the drive; None for a

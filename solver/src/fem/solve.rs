@@ -122,7 +122,9 @@ pub(crate) fn drive_excitation(mesh: &Mesh, domain: &Domain) -> Option<Excitatio
         let (vb, vt) = drive.conductor_v[c];
         match domain.conductors[c].profile {
             Profile2d::Uniform => vt,
-            p @ Profile2d::Linear { .. } => vb + (vt - vb) * p.fraction(z),
+            p @ Profile2d::Linear { .. } => {
+                vb + (vt - vb) * drive.secondary_fraction(p.fraction(z))
+            }
         }
     }))
 }
@@ -473,3 +475,54 @@ fn kelvin_gradient(k: Kelvin, p: [f64; 2], g: [f64; 2]) -> [f64; 2] {
 
 /// 2 pi eps0 (F/m): the factor from phi^T K phi (m V^2) to twice the energy per volt squared.
 pub(crate) const TWO_PI_EPS0: f64 = 2.0 * PI * EPS0;
+
+/// A conductor's largest surface field (V/m) and the vertex (r, z) (m) where it occurs.
+pub type SurfacePeak = Option<(f64, [f64; 2])>;
+
+/// The largest |E| (V/m) on each conductor's surface for the nodal potential `phi`, with the
+/// vertex (r, z) (m) where it occurs: per conductor vertex, the field of each element touching
+/// it from outside the conductor, recovered (Zienkiewicz-Zhu averaging over the elements of
+/// the same region around the vertex) on a closed conductor, the element's own gradient on a
+/// sheet (a disc, the winding surface), whose two faces carry different fields that an
+/// average would mix. None for a conductor without a vertex.
+pub(crate) fn surface_peaks(
+    mesh: &Mesh,
+    loc: &Locator,
+    domain: &Domain,
+    phi: &[f64],
+) -> Vec<SurfacePeak> {
+    let mut best: Vec<SurfacePeak> = vec![None; domain.conductors.len()];
+    for (i, c) in mesh.conductor.iter().enumerate() {
+        let Some(c) = *c else { continue };
+        let sheet = domain.conductors[c].area.is_none();
+        for &t in &loc.around[loc.around_ptr[i]..loc.around_ptr[i + 1]] {
+            if loc.dead[t] || mesh.is_exterior(t) {
+                continue;
+            }
+            let g = if sheet {
+                gradient(mesh, phi, t).1
+            } else {
+                loc.recovered(mesh, phi, t, i)
+            };
+            let e = g[0].hypot(g[1]);
+            if best[c].is_none_or(|b| e > b.0) {
+                best[c] = Some((e, mesh.nodes[i]));
+            }
+        }
+    }
+    best
+}
+
+/// K phi (m V): its entries at the fixed nodes are the reactions whose sums over a
+/// conductor's nodes, times 2 pi eps0, are its charge (C) for the potential phi.
+pub(crate) fn reactions(k: &CsrMatrix<f64>, phi: &[f64]) -> Vec<f64> {
+    k.row_iter()
+        .map(|row| {
+            row.col_indices()
+                .iter()
+                .zip(row.values())
+                .map(|(&j, &v)| v * phi[j])
+                .sum()
+        })
+        .collect()
+}

@@ -39,15 +39,24 @@
 //! - Retardation: quasi-static throughout; the secondary's wire may be a sizeable fraction of a
 //!   wavelength (the distributed model accounts for the standing wave along the winding, not
 //!   for radiation other than the radiation resistance).
-//! - Dielectrics (a coil form) and the primary's own potentials in the electric model.
+//! - The primary's own potentials in the electric model.
+//!
+//! **Dielectrics and an enclosure.** With a coil form or a grounded room (chosen by
+//! [`ResonanceParams::electric`], automatically when the design has one) the nodal capacitance
+//! matrix comes from the finite-element model instead ([`crate::fem::FemNodal`]: one solve per
+//! vertex of the winding surface, meshed with at least two vertices per section of the finest
+//! section count, and C_n = P^T C P for every n without another solve); the bare
+//! self-capacitance from the same model without the connected electrodes. They act on the
+//! capacitances only: L and M ignore them.
 
 mod drive;
 mod sections;
 
 use crate::assembly::{WindingModel, inductance_entry};
 use crate::circuit::{LadderMode, Loops, equivalent_capacitance_f, ladder_modes, loop_modes};
-use crate::electrostatic::{Params, Problem, Solution};
+use crate::electrostatic::{Params, Problem, SelfCapacitance, Solution};
 use crate::error::SolverError;
+use crate::fem::{Domain, ElectricSolver, FemNodal, FemProblem, FromDesignError};
 use crate::losses::{self, ProximityModel};
 use crate::numtext::{percent, shortest, si};
 use crate::par::Par;
@@ -93,6 +102,8 @@ pub struct ResonanceParams {
     /// With `sections` given: whether to solve at half the sections too for f1's error
     /// estimate (else the estimate is NaN: a sweep's points reuse the base's count).
     pub estimate_error: bool,
+    /// The electric solver of the capacitances.
+    pub electric: ElectricSolver,
 }
 
 impl Default for ResonanceParams {
@@ -101,6 +112,7 @@ impl Default for ResonanceParams {
             sections: None,
             panels: 1000,
             estimate_error: true,
+            electric: ElectricSolver::Auto,
         }
     }
 }
@@ -183,6 +195,8 @@ pub struct SecondaryResonance {
     pub effective_height_m: f64,
     /// Wire length (m).
     pub wire_length_m: f64,
+    /// The electric solver of the capacitances: "bem" or "fem".
+    pub electric_solver: &'static str,
 }
 
 /// One point of f against the tap (at every whole turn).
@@ -258,8 +272,85 @@ struct Distributed {
     /// Section inductance matrix (H).
     inductance: DMatrix<f64>,
     modes: Vec<LadderMode>,
-    solution: Solution,
+    electric: SectionElectric,
+    /// The (n + 1) x (n + 1) nodal capacitance matrix (F), base node first.
+    nodal_f: DMatrix<f64>,
+    /// Height (m) of each node above the secondary's base, along its axis.
+    node_heights_m: Vec<f64>,
     bounds_turns: Vec<f64>,
+}
+
+/// The electric part of the distributed model at n sections.
+#[derive(Debug, Clone)]
+enum SectionElectric {
+    /// Boundary elements solved for these sections.
+    Bem(Box<Solution>),
+    /// The finite-element fine basis, shared by every section count.
+    Fem(std::sync::Arc<FemElectric>),
+}
+
+/// The finite-element electric model of a secondary: its fine nodal matrix and its bare
+/// self-capacitance.
+#[derive(Debug, Clone)]
+struct FemElectric {
+    nodal: FemNodal,
+    bare_f: f64,
+}
+
+impl FemElectric {
+    /// Mesh and solve the secondary's electric model with `sheet_pieces` pieces of its winding
+    /// surface.
+    fn new(design: &Design, source: &str, sheet_pieces: usize) -> Result<Self, SolverError> {
+        let to_solver = |e: FromDesignError| match e {
+            FromDesignError::Design(d) => SolverError::Design(d),
+            FromDesignError::Solver(s) => s,
+        };
+        let domain =
+            Domain::from_design_sheet(design, source, Some(sheet_pieces)).map_err(to_solver)?;
+        let nodal = FemProblem::new(domain.clone())?.nodal()?;
+        let bare = FemProblem::new(domain.without_connected())?.solve()?;
+        let bare_f =
+            bare.self_capacitance_f()
+                .map(|(c, _)| c)
+                .ok_or_else(|| SolverError::Resonance {
+                    reason: "the electric model has no secondary".into(),
+                })?;
+        Ok(FemElectric { nodal, bare_f })
+    }
+}
+
+impl SectionElectric {
+    /// The secondary's linear-profile self-capacitance, bare and with its connected
+    /// electrodes (F).
+    fn self_capacitance(&self) -> Option<SelfCapacitance> {
+        match self {
+            SectionElectric::Bem(sol) => sol.self_capacitance_f(),
+            SectionElectric::Fem(f) => Some(SelfCapacitance {
+                bare_f: f.bare_f,
+                total_f: f.nodal.capacitance_for_nodes_f(&[0.0, 1.0]),
+            }),
+        }
+    }
+
+    /// The largest surface field (V/m) of the named electrodes with node voltages `node_v`.
+    fn peak_field_of(&self, names: &[&str], node_v: &[f64]) -> Result<f64, SolverError> {
+        Ok(match self {
+            SectionElectric::Bem(sol) => sol
+                .peak_surface_fields_for_nodes(node_v)?
+                .into_iter()
+                .filter(|p| names.contains(&p.name.as_str()))
+                .map(|p| p.field_v_per_m)
+                .fold(0.0, f64::max),
+            SectionElectric::Fem(f) => f
+                .nodal
+                .peak_fields_for_nodes(node_v)?
+                .into_iter()
+                .zip(&f.nodal.domain().conductors)
+                .filter(|(_, c)| names.contains(&c.name.as_str()))
+                .filter_map(|(p, _)| p.map(|p| p.0))
+                .fold(0.0, f64::max),
+        })
+    }
 }
 
 /// The one winding with `role = "secondary"`, and the primary if there is one.
@@ -320,7 +411,21 @@ fn section_cap(turns: f64) -> usize {
     (turns.floor() as usize).clamp(1, MAX_SECTIONS)
 }
 
-/// The distributed model at `n` sections.
+/// The secondary's length (m) along its axis.
+fn secondary_shape_length_m(design: &Design) -> Option<f64> {
+    design
+        .windings
+        .iter()
+        .find(|w| w.role == Role::Secondary)
+        .and_then(|w| match w.shape {
+            Shape::Helix { length_m, .. } => Some(length_m),
+            _ => None,
+        })
+}
+
+/// The distributed model at `n` sections: its capacitances from boundary elements, or from
+/// the finite-element model `fem` when one is given.
+#[allow(clippy::too_many_arguments)]
 fn distributed(
     design: &Design,
     source: &str,
@@ -329,28 +434,53 @@ fn distributed(
     n: usize,
     params: &ResonanceParams,
     par: Par,
+    fem: Option<&std::sync::Arc<FemElectric>>,
 ) -> Result<Distributed, SolverError> {
     let bounds_turns = equal_bounds(turns, n);
     let inductance = turn_matrix.sections(&bounds_turns, par);
-    let problem = Problem::from_design(
-        design,
-        &Params {
-            panels: params.panels,
-            secondary_sections: Some(n),
-            ..Params::default()
-        },
-        source,
-    )?;
-    let solution = problem.solve(par)?;
-    let nodal = solution.nodal_capacitance()?;
+    let (electric, nodal_f, node_heights_m) = match fem {
+        None => {
+            let problem = Problem::from_design(
+                design,
+                &Params {
+                    panels: params.panels,
+                    secondary_sections: Some(n),
+                    ..Params::default()
+                },
+                source,
+            )?;
+            let solution = problem.solve(par)?;
+            let nodal = solution.nodal_capacitance()?;
+            let (matrix, heights) = (nodal.matrix_f.clone(), nodal.node_heights_m.clone());
+            (SectionElectric::Bem(Box::new(solution)), matrix, heights)
+        }
+        Some(f) => {
+            let length_m = match secondary_shape_length_m(design) {
+                Some(l) => l,
+                None => {
+                    return Err(SolverError::Resonance {
+                        reason: "the secondary is not a helix".into(),
+                    });
+                }
+            };
+            let heights = (0..=n).map(|j| length_m * j as f64 / n as f64).collect();
+            (
+                SectionElectric::Fem(f.clone()),
+                f.nodal.section_matrix_f(n),
+                heights,
+            )
+        }
+    };
     // Node 0 (the base) is held at the reference potential: the free nodes are 1..=n.
-    let capacitance = nodal.matrix_f.view((1, 1), (n, n)).into_owned();
+    let capacitance = nodal_f.view((1, 1), (n, n)).into_owned();
     let modes = ladder_modes(&capacitance, &inductance, MODES.min(n))?.modes;
     Ok(Distributed {
         n,
         inductance,
         modes,
-        solution,
+        electric,
+        nodal_f,
+        node_heights_m,
         bounds_turns,
     })
 }
@@ -465,17 +595,12 @@ fn secondary_losses(
     let share = |k: usize| (d.bounds_turns[k + 1] - d.bounds_turns[k]) / turns;
     let weight: f64 = (0..n).map(|k| share(k) * phi[k] * phi[k]).sum();
     // Radiation: the mode's nodal charges (C v) at their heights above the ground plane.
-    let nodal = d.solution.nodal_capacitance()?;
     let q: Vec<f64> = (0..=n)
-        .map(|i| (0..=n).map(|j| nodal.matrix_f[(i, j)] * node_v[j]).sum())
+        .map(|i| (0..=n).map(|j| d.nodal_f[(i, j)] * node_v[j]).sum())
         .collect();
     let base_z = origin_m.coords.dot(axis.as_ref());
     let z0 = ground_z.unwrap_or(base_z);
-    let heights: Vec<f64> = nodal
-        .node_heights_m
-        .iter()
-        .map(|h| base_z - z0 + h)
-        .collect();
+    let heights: Vec<f64> = d.node_heights_m.iter().map(|h| base_z - z0 + h).collect();
     // The charge centroid: the mode's dipole moment over its total charge (the base current
     // charges the whole winding). Nodes near the base may carry a little charge of the other
     // sign (their potential is near zero while their neighbours pull): kept in both sums.
@@ -523,13 +648,7 @@ fn breakout_top_voltage(
     if top.is_empty() {
         return Ok(None);
     }
-    let per_volt = d
-        .solution
-        .peak_surface_fields_for_nodes(node_v)?
-        .into_iter()
-        .filter(|p| top.contains(&p.name.as_str()))
-        .map(|p| p.field_v_per_m)
-        .fold(0.0, f64::max);
+    let per_volt = d.electric.peak_field_of(&top, node_v)?;
     Ok((per_volt > 0.0).then(|| AIR_BREAKDOWN_V_PER_M / per_volt))
 }
 
@@ -547,6 +666,19 @@ fn converge(
     warnings: &mut Vec<String>,
 ) -> Result<Converged, SolverError> {
     let cap = section_cap(turns);
+    // The finite-element model once for every section count: at least two vertices of the
+    // winding surface per section of the finest count.
+    let fem = if params.electric.uses_fem(design) {
+        let finest = params.sections.unwrap_or(cap).max(1);
+        Some(std::sync::Arc::new(FemElectric::new(
+            design,
+            source,
+            2 * finest,
+        )?))
+    } else {
+        None
+    };
+    let fem = fem.as_ref();
     let f1 = |d: &Distributed| d.modes[0].frequency_hz;
     let mut history: Vec<(usize, f64)> = Vec::new();
     if let Some(n) = params.sections {
@@ -563,11 +695,11 @@ fn converge(
                 ),
             });
         }
-        let d = distributed(design, source, turn_matrix, turns, n, params, par)?;
+        let d = distributed(design, source, turn_matrix, turns, n, params, par, fem)?;
         history.push((n, f1(&d)));
         // The error estimate: the same at half the sections.
         let error = if n >= 2 && params.estimate_error {
-            let half = distributed(design, source, turn_matrix, turns, n / 2, params, par)?;
+            let half = distributed(design, source, turn_matrix, turns, n / 2, params, par, fem)?;
             history.insert(0, (n / 2, f1(&half)));
             (f1(&d) - f1(&half)).abs()
         } else {
@@ -576,12 +708,12 @@ fn converge(
         return Ok((d, error, history));
     }
     let mut n = FIRST_SECTIONS.min(cap);
-    let mut current = distributed(design, source, turn_matrix, turns, n, params, par)?;
+    let mut current = distributed(design, source, turn_matrix, turns, n, params, par, fem)?;
     history.push((n, f1(&current)));
     let mut error = f64::NAN;
     while n < cap {
         n = (2 * n).min(cap);
-        let next = distributed(design, source, turn_matrix, turns, n, params, par)?;
+        let next = distributed(design, source, turn_matrix, turns, n, params, par, fem)?;
         error = (f1(&next) - f1(&current)).abs();
         history.push((n, f1(&next)));
         current = next;
@@ -647,8 +779,8 @@ pub fn secondary_model(
     let l_s: f64 = d.inductance.sum();
     let c_eq = equivalent_capacitance_f(f1, l_s)?;
     let self_c = d
-        .solution
-        .self_capacitance_f()
+        .electric
+        .self_capacitance()
         .ok_or_else(|| SolverError::Resonance {
             reason: "the electric model has no secondary".into(),
         })?;
@@ -698,6 +830,7 @@ pub fn secondary_model(
         breakout_top_voltage_v: breakout,
         effective_height_m: h_eff,
         wire_length_m: wire_len,
+        electric_solver: params.electric.name_for(design),
     };
     if secondary.model != coilfield_geometry::Model::Ring {
         warnings.push(format!(
@@ -959,13 +1092,27 @@ pub struct Resolved {
 /// follow through their terminals. E and B peak a quarter period apart in a resonator: each is
 /// its own peak.
 pub fn resolve(design: &Design, source: &str, par: Par) -> Result<Resolved, SolverError> {
+    resolve_with(design, source, par, ElectricSolver::Auto)
+}
+
+/// [`resolve`] with the resonance model's capacitances from the electric solver `electric`.
+pub fn resolve_with(
+    design: &Design,
+    source: &str,
+    par: Par,
+    electric: ElectricSolver,
+) -> Result<Resolved, SolverError> {
     if design.drive.kind == DriveKind::Explicit {
         return Ok(Resolved {
             design: design.clone(),
             resonance: None,
         });
     }
-    let r = resonance(design, source, &ResonanceParams::default(), par)?;
+    let params = ResonanceParams {
+        electric,
+        ..ResonanceParams::default()
+    };
+    let r = resonance(design, source, &params, par)?;
     let Some(d) = r.drive.as_ref() else {
         return Err(SolverError::Resonance {
             reason: format!("{source}: drive: the drive model gave no figures"),
