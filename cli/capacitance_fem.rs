@@ -47,6 +47,14 @@ struct ConductorOut {
 }
 
 #[derive(Serialize)]
+struct PeakOut {
+    name: String,
+    field_v_per_m: f64,
+    at_m: [f64; 3],
+    above_air_breakdown: bool,
+}
+
+#[derive(Serialize)]
 struct CapOut {
     solver: &'static str,
     conductors: Vec<ConductorOut>,
@@ -54,6 +62,8 @@ struct CapOut {
     matrix_error_estimate_f: Vec<Vec<f64>>,
     n_elements: usize,
     n_nodes: usize,
+    /// The largest |E| on each conductor's surface at the drive potentials, with its place.
+    peak_surface_fields: Vec<PeakOut>,
     warnings: Vec<String>,
 }
 
@@ -105,6 +115,27 @@ pub fn run(
             error_estimate_f: e,
         });
     }
+    let mut warnings = vec![E_ONLY_WARNING.to_string()];
+    let peak_surface_fields: Vec<PeakOut> = if coilfield_solver::field_model::has_potentials(design)
+    {
+        sol.peak_surface_fields()
+            .into_iter()
+            .map(|p| PeakOut {
+                above_air_breakdown: p.field_v_per_m
+                    >= coilfield_solver::resonance::AIR_BREAKDOWN_V_PER_M,
+                name: p.name,
+                field_v_per_m: p.field_v_per_m,
+                at_m: [p.at_m.x, p.at_m.y, p.at_m.z],
+            })
+            .collect()
+    } else {
+        warnings.push(
+            "no conductor has a potential in [drive] potentials: peak surface fields not \
+                 computed"
+                .to_string(),
+        );
+        Vec::new()
+    };
     let result = CapOut {
         solver: "fem",
         conductors,
@@ -112,7 +143,8 @@ pub fn run(
         matrix_error_estimate_f: err,
         n_elements: sol.mesh().elements(),
         n_nodes: sol.mesh().nodes.len(),
-        warnings: vec![E_ONLY_WARNING.to_string()],
+        peak_surface_fields,
+        warnings,
     };
     if let Some(p) = mesh_vtk {
         output::write_atomic(p, &mesh_vtu(&sol)?)?;
@@ -199,6 +231,19 @@ fn table(r: &CapOut) -> String {
     for row in &r.matrix_f {
         let cells: Vec<String> = row.iter().map(|v| format!("{v:>12.4e}")).collect();
         s.push_str(&format!("  {}\n", cells.join(" ")));
+    }
+    if !r.peak_surface_fields.is_empty() {
+        s.push_str("\nPeak surface field at the drive potentials (peak values):\n");
+        for p in &r.peak_surface_fields {
+            s.push_str(&format!(
+                "  {:<24} {:>14} at ({:.4}, {:.4}, {:.4}) m\n",
+                p.name,
+                output::si(p.field_v_per_m, "V/m", 4),
+                p.at_m[0],
+                p.at_m[1],
+                p.at_m[2]
+            ));
+        }
     }
     for w in &r.warnings {
         s.push_str(&format!("\nwarning: {w}"));

@@ -132,8 +132,11 @@ pub struct Material {
 }
 
 /// Typical relative permittivities of insulating materials used for coil forms and supports,
-/// at about 100 kHz to 1 MHz and room temperature. Values from memory of the tables in A. R.
-/// von Hippel (ed.), *Dielectric Materials and Applications* (MIT Press, 1954); real grades
+/// at about 100 kHz to 1 MHz and room temperature. All values from memory, none checked
+/// against a source at hand: those of PTFE, polyethylene, polystyrene, acrylic, PVC and nylon
+/// as recalled from the tables in A. R. von Hippel (ed.), *Dielectric Materials and
+/// Applications* (MIT Press, 1954); polypropylene, polycarbonate and FR4 postdate or are not in
+/// those tables and are typical data-sheet figures, from memory, no source; real grades
 /// differ by several percent (fillers, plasticisers, moisture): give `relative_permittivity`
 /// from the material's data sheet when it matters.
 pub const MATERIALS: &[Material] = &[

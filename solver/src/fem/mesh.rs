@@ -22,7 +22,10 @@
 //! point at infinity is the centre x' = c at 0 V. No truncation error remains; the mapping is
 //! exact at any R beyond the sources. This is the treatment of E. M. Freeman and D. A. Lowther,
 //! "An open boundary technique for axisymmetric and three dimensional magnetic and electric
-//! field problems", IEEE Trans. Magn. 25 (5) (1989) 4135-4137 (title and pages from memory).
+//! field problems", IEEE Trans. Magn. 25 (5) (1989) 4135-4137 (authors, journal and year as
+//! commonly cited; title, issue and pages from memory, not checked against the paper: no copy
+//! at hand). The exactness of the map itself follows from the conformal scale factor above
+//! and is checked independently by the tests (the isolated sphere in open space).
 
 use super::domain::{Domain, Outer, Piece, sample_piece};
 use crate::error::SolverError;
