@@ -29,7 +29,7 @@
 //! Dielectrics and the enclosure act on E only: inductances, couplings and B ignore them.
 
 use crate::error::DesignError;
-use crate::file::raw::{Ctx, RawLength, RawNumber, is_valid_name, type_phrase};
+use crate::file::raw::{Ctx, RawLength, RawNumber, type_phrase};
 use crate::model::media::{
     Dielectric, DielectricShape, Enclosure, MATERIALS, MAX_MESH_ELEMENTS, MeshSettings, material,
 };
@@ -152,31 +152,8 @@ fn parse_dielectric(
         source,
         item: format!("dielectric #{number}"),
     };
-    let name = match table.remove("name") {
-        None => format!("dielectric-{number}"),
-        Some(Value::String(name)) if is_valid_name(&name) => {
-            ctx.item = format!("dielectric '{name}'");
-            name
-        }
-        Some(Value::String(name)) => {
-            return Err(DesignError::BadName {
-                source_name: source.to_string(),
-                item: ctx.item,
-                name,
-            });
-        }
-        Some(other) => {
-            return Err(wrong_type(
-                source,
-                &ctx.item,
-                "name",
-                format!(
-                    "expected a string such as \"form\", got {}",
-                    type_phrase(&other)
-                ),
-            ));
-        }
-    };
+    let name = ctx.read_name(&table, "dielectric", "form", number)?;
+    table.remove("name");
     let shape = match table.remove("shape") {
         None => {
             return Err(ctx.missing(

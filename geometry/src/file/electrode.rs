@@ -186,31 +186,8 @@ fn parse_electrode(
         source,
         item: format!("electrode #{number}"),
     };
-    let name = match table.remove("name") {
-        None => format!("electrode-{number}"),
-        Some(Value::String(name)) if is_valid_name(&name) => {
-            ctx.item = format!("electrode '{name}'");
-            name
-        }
-        Some(Value::String(name)) => {
-            return Err(DesignError::BadName {
-                source_name: source.to_string(),
-                item: ctx.item,
-                name,
-            });
-        }
-        Some(other) => {
-            return Err(DesignError::WrongType {
-                source_name: source.to_string(),
-                item: ctx.item,
-                key: "name".to_string(),
-                reason: format!(
-                    "expected a string such as \"topload\", got {}",
-                    type_phrase(&other)
-                ),
-            });
-        }
-    };
+    let name = ctx.read_name(&table, "electrode", "topload", number)?;
+    table.remove("name");
     let shape = match table.remove("shape") {
         None => {
             return Err(ctx.missing(

@@ -171,6 +171,40 @@ pub(crate) struct Ctx<'a> {
 }
 
 impl Ctx<'_> {
+    /// The `name` key of the `number`-th table of kind `kind` ("winding", "electrode", ...):
+    /// `<kind>-<number>` when absent; a valid name also becomes the item every later message
+    /// names (`<kind> '<name>'`). `example` is a typical name for the message on a wrong type.
+    /// The key stays in the table.
+    pub(crate) fn read_name(
+        &mut self,
+        table: &toml::Table,
+        kind: &str,
+        example: &str,
+        number: usize,
+    ) -> Result<String, DesignError> {
+        match table.get("name") {
+            None => Ok(format!("{kind}-{number}")),
+            Some(Value::String(name)) if is_valid_name(name) => {
+                self.item = format!("{kind} '{name}'");
+                Ok(name.clone())
+            }
+            Some(Value::String(name)) => Err(DesignError::BadName {
+                source_name: self.source.to_string(),
+                item: self.item.clone(),
+                name: name.clone(),
+            }),
+            Some(other) => Err(DesignError::WrongType {
+                source_name: self.source.to_string(),
+                item: self.item.clone(),
+                key: "name".to_string(),
+                reason: format!(
+                    "expected a string such as \"{example}\", got {}",
+                    type_phrase(other)
+                ),
+            }),
+        }
+    }
+
     pub(crate) fn missing(&self, key: &str, hint: &str) -> DesignError {
         DesignError::MissingKey {
             source_name: self.source.to_string(),

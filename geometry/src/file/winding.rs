@@ -2,7 +2,7 @@
 //! gets by itself (sizes, pitch against the wire, polyline points).
 
 use crate::error::{DesignError, sig};
-use crate::file::raw::{Ctx, RawLength, RawNumber, is_valid_name, type_phrase};
+use crate::file::raw::{Ctx, RawLength, RawNumber, type_phrase};
 use crate::file::units;
 use crate::limits::{MAX_POLYLINE_POINTS, MIN_TURNS};
 use crate::model::winding::{Conductor, MIN_TAP_TURNS, Model, Role, Shape, Tap, TapEnd, Winding};
@@ -324,7 +324,7 @@ pub(crate) fn parse_winding(
         source,
         item: format!("winding #{number}"),
     };
-    let name = winding_name(&table, number, &mut ctx)?;
+    let name = ctx.read_name(&table, "winding", "secondary", number)?;
     let kind = shape_kind(&table, &ctx)?;
     check_keys(&table, kind, &ctx)?;
     // Name and shape are read already; the raw struct does not carry them.
@@ -417,33 +417,6 @@ fn conductor_of(
         material,
         tube_wall_m,
     })
-}
-
-/// The winding's name (default `winding-<number>`); names the winding in `ctx` from then on.
-fn winding_name(table: &Table, number: usize, ctx: &mut Ctx<'_>) -> Result<String, DesignError> {
-    match table.get("name") {
-        None => Ok(format!("winding-{number}")),
-        Some(Value::String(name)) => {
-            if !is_valid_name(name) {
-                return Err(DesignError::BadName {
-                    source_name: ctx.source.to_string(),
-                    item: ctx.item.clone(),
-                    name: name.clone(),
-                });
-            }
-            ctx.item = format!("winding '{name}'");
-            Ok(name.clone())
-        }
-        Some(other) => Err(DesignError::WrongType {
-            source_name: ctx.source.to_string(),
-            item: ctx.item.clone(),
-            key: "name".to_string(),
-            reason: format!(
-                "expected a string such as \"secondary\", got {}",
-                type_phrase(other)
-            ),
-        }),
-    }
 }
 
 /// The `shape` key.
