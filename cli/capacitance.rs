@@ -2,7 +2,7 @@
 //! capacitance, the secondary's equivalent self-capacitance, error estimates and the peak
 //! surface field of each electrode at the drive potentials.
 
-use crate::capacitance_fem::{self, ElectricSolver};
+use crate::capacitance_fem::{self, ElectricSolver, PeakOut};
 use crate::{Format, load, output};
 use coilfield_solver::field_model;
 use coilfield_solver::numtext::fixed;
@@ -37,14 +37,6 @@ struct EffectiveTopOut {
     capacitance_f: f64,
     /// The sum of both solves' |C(n) - C(n/2)| estimates (F).
     error_estimate_f: f64,
-}
-
-#[derive(Serialize)]
-struct PeakOut {
-    name: String,
-    field_v_per_m: f64,
-    at_m: [f64; 3],
-    above_air_breakdown: bool,
 }
 
 #[derive(Serialize)]

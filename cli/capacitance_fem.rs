@@ -46,12 +46,13 @@ struct ConductorOut {
     error_estimate_f: f64,
 }
 
+/// A conductor's largest surface field (V/m) and its place (m), in both solvers' output.
 #[derive(Serialize)]
-struct PeakOut {
-    name: String,
-    field_v_per_m: f64,
-    at_m: [f64; 3],
-    above_air_breakdown: bool,
+pub(crate) struct PeakOut {
+    pub(crate) name: String,
+    pub(crate) field_v_per_m: f64,
+    pub(crate) at_m: [f64; 3],
+    pub(crate) above_air_breakdown: bool,
 }
 
 #[derive(Serialize)]

@@ -118,6 +118,39 @@ pub enum Cells {
     Polys,
 }
 
+/// Every point array holds `n_points` tuples and every cell array `n_cells`.
+fn check_array_lengths(
+    n_points: usize,
+    n_cells: usize,
+    point_data: &[Array],
+    cell_data: &[Array],
+) -> anyhow::Result<()> {
+    for (arrays, n, what) in [
+        (point_data, n_points, "point"),
+        (cell_data, n_cells, "cell"),
+    ] {
+        for a in arrays {
+            anyhow::ensure!(
+                a.values.len() == n * a.n_comp as usize,
+                "VTK {what} array {} has the wrong length",
+                a.name
+            );
+        }
+    }
+    Ok(())
+}
+
+/// VTK's XML cell layout: the cells' point indices end to end, and where each cell ends.
+fn flat_cells(cells: &[Vec<u64>]) -> (Vec<u64>, Vec<u64>) {
+    let mut connectivity = Vec::with_capacity(cells.iter().map(Vec::len).sum());
+    let mut offsets = Vec::with_capacity(cells.len());
+    for c in cells {
+        connectivity.extend_from_slice(c);
+        offsets.push(connectivity.len() as u64);
+    }
+    (connectivity, offsets)
+}
+
 /// A PolyData (`.vtp`) of `points_m` (m) and cells given as lists of point indices.
 pub fn poly_data(
     points_m: &[[f64; 3]],
@@ -126,26 +159,8 @@ pub fn poly_data(
     point_data: &[Array],
     cell_data: &[Array],
 ) -> anyhow::Result<Vec<u8>> {
-    for a in point_data {
-        anyhow::ensure!(
-            a.values.len() == points_m.len() * a.n_comp as usize,
-            "VTK point array {} has the wrong length",
-            a.name
-        );
-    }
-    for a in cell_data {
-        anyhow::ensure!(
-            a.values.len() == cells.len() * a.n_comp as usize,
-            "VTK cell array {} has the wrong length",
-            a.name
-        );
-    }
-    let mut connectivity = Vec::new();
-    let mut offsets = Vec::with_capacity(cells.len());
-    for c in cells {
-        connectivity.extend_from_slice(c);
-        offsets.push(connectivity.len() as u64);
-    }
+    check_array_lengths(points_m.len(), cells.len(), point_data, cell_data)?;
+    let (connectivity, offsets) = flat_cells(cells);
     let topology = Some(VertexNumbers::XML {
         connectivity,
         offsets,
@@ -179,26 +194,8 @@ pub fn unstructured_triangles(
     point_data: &[Array],
     cell_data: &[Array],
 ) -> anyhow::Result<Vec<u8>> {
-    for a in point_data {
-        anyhow::ensure!(
-            a.values.len() == points_m.len() * a.n_comp as usize,
-            "VTK point array {} has the wrong length",
-            a.name
-        );
-    }
-    for a in cell_data {
-        anyhow::ensure!(
-            a.values.len() == triangles.len() * a.n_comp as usize,
-            "VTK cell array {} has the wrong length",
-            a.name
-        );
-    }
-    let mut connectivity = Vec::with_capacity(3 * triangles.len());
-    let mut offsets = Vec::with_capacity(triangles.len());
-    for t in triangles {
-        connectivity.extend_from_slice(t);
-        offsets.push(connectivity.len() as u64);
-    }
+    check_array_lengths(points_m.len(), triangles.len(), point_data, cell_data)?;
+    let (connectivity, offsets) = flat_cells(triangles);
     let piece = UnstructuredGridPiece {
         points: IOBuffer::F64(points_m.iter().flatten().copied().collect()),
         cells: VtkCells {
