@@ -130,6 +130,15 @@ impl RawNumber {
     }
 }
 
+/// A length as a message shows it: the number as written, or the string and its value `v_m` in
+/// metres.
+pub(crate) fn shown_length(raw: &RawLength, v_m: f64) -> String {
+    match raw {
+        RawLength::Number(x) => shown_float(*x),
+        RawLength::Text(text) => format!("\"{text}\" (= {} m)", crate::error::sig(v_m)),
+    }
+}
+
 /// A float as a message shows it: plain decimals in the usual range, else in exponent form
 /// (1e308 reads "1e308", not 309 digits).
 pub(crate) fn shown_float(x: f64) -> String {
@@ -273,23 +282,24 @@ impl Ctx<'_> {
         }
     }
 
-    /// A length in metres plus how to show it: the number, or the string and its value in metres.
+    /// A length in metres as written (a number in metres or a string with a unit); messages
+    /// show it with [`shown_length`] (built only on the error path: designs are parsed once
+    /// per sweep point).
     pub(crate) fn metres(
         &self,
         key: &str,
         raw: &RawLength,
         wire: bool,
-    ) -> Result<(f64, String), DesignError> {
+    ) -> Result<f64, DesignError> {
         match raw {
-            RawLength::Number(v) => Ok((*v, shown_float(*v))),
+            RawLength::Number(v) => Ok(*v),
             RawLength::Text(text) => {
                 let parsed = if wire {
                     parse_wire_diameter_m(text)
                 } else {
                     parse_length_m(text)
                 };
-                let v = parsed.map_err(|e| self.bad_unit(key, e))?;
-                Ok((v, format!("\"{text}\" (= {} m)", crate::error::sig(v))))
+                parsed.map_err(|e| self.bad_unit(key, e))
             }
         }
     }
@@ -390,14 +400,14 @@ impl Ctx<'_> {
 
     /// A finite length of any sign (coordinates).
     pub(crate) fn coordinate(&self, key: &str, raw: &RawLength) -> Result<f64, DesignError> {
-        let (v, shown) = self.metres(key, raw, false)?;
+        let v = self.metres(key, raw, false)?;
         if !v.is_finite() {
-            return Err(self.not_finite(key, "a finite length in metres", shown));
+            return Err(self.not_finite(key, "a finite length in metres", shown_length(raw, v)));
         }
         if v.abs() > MAX_COORDINATE_M {
             return Err(self.out_of_range(
                 key,
-                shown,
+                shown_length(raw, v),
                 format!("a coordinate from -{MAX_COORDINATE_M:e} m to {MAX_COORDINATE_M:e} m"),
             ));
         }
@@ -406,16 +416,20 @@ impl Ctx<'_> {
 
     /// A finite, positive length (sizes).
     pub(crate) fn size(&self, key: &str, raw: &RawLength, wire: bool) -> Result<f64, DesignError> {
-        let (v, shown) = self.metres(key, raw, wire)?;
+        let v = self.metres(key, raw, wire)?;
         const EXPECTED: &str = "a positive length in metres";
         if !v.is_finite() {
-            return Err(self.not_finite(key, EXPECTED, shown));
+            return Err(self.not_finite(key, EXPECTED, shown_length(raw, v)));
         }
         if v <= 0.0 {
-            return Err(self.not_positive(key, EXPECTED, shown));
+            return Err(self.not_positive(key, EXPECTED, shown_length(raw, v)));
         }
         if !(MIN_SIZE_M..=MAX_SIZE_M).contains(&v) {
-            return Err(self.out_of_range(key, shown, range_phrase(MIN_SIZE_M, MAX_SIZE_M, "m")));
+            return Err(self.out_of_range(
+                key,
+                shown_length(raw, v),
+                range_phrase(MIN_SIZE_M, MAX_SIZE_M, "m"),
+            ));
         }
         Ok(v)
     }
