@@ -119,9 +119,6 @@ pub struct FemSolution {
 impl FemProblem {
     /// Mesh a half-plane problem.
     pub fn new(domain: Domain) -> Result<FemProblem, SolverError> {
-        if let Outer::Open { .. } = domain.outer {
-            // The Kelvin disc is vacuum: every dielectric must lie inside the inner disc.
-        }
         let mesh = mesh_domain(&domain)?;
         Ok(FemProblem { domain, mesh })
     }
