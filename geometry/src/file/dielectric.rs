@@ -154,30 +154,7 @@ fn parse_dielectric(
     };
     let name = ctx.read_name(&table, "dielectric", "form", number)?;
     table.remove("name");
-    let shape = match table.remove("shape") {
-        None => {
-            return Err(ctx.missing(
-                "shape",
-                &format!("give shape = one of {}", DIELECTRIC_SHAPE_NAMES.join(", ")),
-            ));
-        }
-        Some(Value::String(s)) if DIELECTRIC_SHAPE_NAMES.contains(&s.as_str()) => s,
-        Some(Value::String(s)) => {
-            return Err(ctx.unknown_value("shape", &s, DIELECTRIC_SHAPE_NAMES));
-        }
-        Some(other) => {
-            return Err(wrong_type(
-                source,
-                &ctx.item,
-                "shape",
-                format!(
-                    "expected one of the strings {}, got {}",
-                    DIELECTRIC_SHAPE_NAMES.join(", "),
-                    type_phrase(&other)
-                ),
-            ));
-        }
-    };
+    let shape = ctx.take_shape(&mut table, DIELECTRIC_SHAPE_NAMES)?;
     let allowed = dielectric_keys(&shape);
     if let Some(key) = table.keys().find(|k| !allowed.contains(&k.as_str())) {
         return Err(DesignError::UnknownKey {

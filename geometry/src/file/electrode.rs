@@ -188,30 +188,7 @@ fn parse_electrode(
     };
     let name = ctx.read_name(&table, "electrode", "topload", number)?;
     table.remove("name");
-    let shape = match table.remove("shape") {
-        None => {
-            return Err(ctx.missing(
-                "shape",
-                &format!("give shape = one of {}", ELECTRODE_SHAPE_NAMES.join(", ")),
-            ));
-        }
-        Some(Value::String(s)) if ELECTRODE_SHAPE_NAMES.contains(&s.as_str()) => s,
-        Some(Value::String(s)) => {
-            return Err(ctx.unknown_value("shape", &s, ELECTRODE_SHAPE_NAMES));
-        }
-        Some(other) => {
-            return Err(DesignError::WrongType {
-                source_name: source.to_string(),
-                item: ctx.item,
-                key: "shape".to_string(),
-                reason: format!(
-                    "expected one of the strings {}, got {}",
-                    ELECTRODE_SHAPE_NAMES.join(", "),
-                    type_phrase(&other)
-                ),
-            });
-        }
-    };
+    let shape = ctx.take_shape(&mut table, ELECTRODE_SHAPE_NAMES)?;
     let allowed = electrode_keys(&shape);
     if let Some(key) = table.keys().find(|k| !allowed.contains(&k.as_str())) {
         return Err(DesignError::UnknownKey {

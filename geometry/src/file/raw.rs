@@ -214,6 +214,33 @@ impl Ctx<'_> {
         }
     }
 
+    /// Removes and returns the `shape` key of a table whose shapes are `names`; the message
+    /// names the shapes when it is absent, unknown or not a string.
+    pub(crate) fn take_shape(
+        &self,
+        table: &mut toml::Table,
+        names: &[&str],
+    ) -> Result<String, DesignError> {
+        match table.remove("shape") {
+            None => Err(self.missing(
+                "shape",
+                &format!("give shape = one of {}", names.join(", ")),
+            )),
+            Some(Value::String(s)) if names.contains(&s.as_str()) => Ok(s),
+            Some(Value::String(s)) => Err(self.unknown_value("shape", &s, names)),
+            Some(other) => Err(DesignError::WrongType {
+                source_name: self.source.to_string(),
+                item: self.item.clone(),
+                key: "shape".to_string(),
+                reason: format!(
+                    "expected one of the strings {}, got {}",
+                    names.join(", "),
+                    type_phrase(&other)
+                ),
+            }),
+        }
+    }
+
     pub(crate) fn missing(&self, key: &str, hint: &str) -> DesignError {
         DesignError::MissingKey {
             source_name: self.source.to_string(),
