@@ -25,6 +25,10 @@ mod verify;
 mod vtk;
 
 use clap::{Parser, Subcommand, ValueEnum};
+
+/// Every allocation of the program goes through mimalloc (see Cargo.toml for why).
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 use std::path::PathBuf;
 use std::process::ExitCode;
 

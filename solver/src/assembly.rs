@@ -171,10 +171,18 @@ fn coaxial_sign(a: &RingModel, b: &RingModel) -> Option<f64> {
 }
 
 /// Whole turns of a ring model that form a uniform stack (0 when it is not one).
+///
+/// A uniform stack's rings are whole turns but possibly the last
+/// ([`RingModel::uniform_pitch_m`]), so only the last ring is read: sweeps ask this of a
+/// thousand-turn secondary at every point.
 fn stack_len(r: &RingModel) -> usize {
-    match r.uniform_pitch_m {
-        Some(_) => r.rings.iter().take_while(|x| x.weight == 1.0).count(),
-        None => 0,
+    match (r.uniform_pitch_m, r.rings.last()) {
+        (Some(_), Some(last)) => {
+            let n = r.rings.len() - usize::from(last.weight != 1.0);
+            debug_assert_eq!(n, r.rings.iter().take_while(|x| x.weight == 1.0).count());
+            n
+        }
+        _ => 0,
     }
 }
 

@@ -33,13 +33,94 @@ pub fn no_negative_zero(v: f64) -> f64 {
 /// `0`; NaN as `NaN` and infinities as `inf` / `-inf` (CSV readers take these; JSON uses
 /// [`json_number`]).
 pub fn shortest(v: f64) -> String {
+    let mut s = String::with_capacity(24);
+    push_shortest(&mut s, v);
+    s
+}
+
+/// [`shortest`] appended to `out`, without a text of its own: sweep rows are built of many
+/// numbers per point, on every thread.
+///
+/// The digits are formatted once, in exponent form (`d.ddde±x`, the same shortest digits as the
+/// plain form: both come from the standard library's shortest round-trip conversion); the plain
+/// form is laid out from those digits when it is not longer.
+pub fn push_shortest(out: &mut String, v: f64) {
+    use std::fmt::Write;
     if v.is_nan() {
-        return "NaN".into();
+        out.push_str("NaN");
+        return;
     }
     let v = no_negative_zero(v);
-    let plain = format!("{v}");
-    let exp = format!("{v:e}");
-    if exp.len() < plain.len() { exp } else { plain }
+    if v.is_infinite() {
+        out.push_str(if v > 0.0 { "inf" } else { "-inf" });
+        return;
+    }
+    let mut exp = StackText::default();
+    // Writing at most 24 bytes ("-d.dddddddddddddddde-308") into 32 cannot fail.
+    let _ = write!(exp, "{v:e}");
+    let text = exp.as_str();
+    let (mantissa, e) = text.split_once('e').unwrap_or((text, "0"));
+    let e: i32 = e.parse().unwrap_or(0);
+    let (sign, mantissa) = match mantissa.strip_prefix('-') {
+        Some(m) => ("-", m),
+        None => ("", mantissa),
+    };
+    let (lead, frac) = mantissa.split_once('.').unwrap_or((mantissa, ""));
+    let n_digits = (lead.len() + frac.len()) as i32;
+    // Plain length without the sign: digits with zeros to the point, or "0." and leading zeros.
+    let plain_len = if e >= 0 {
+        n_digits.max(e + 1) + i32::from(n_digits > e + 1)
+    } else {
+        2 + (-e - 1) + n_digits
+    };
+    if text.len() < sign.len() + plain_len as usize {
+        out.push_str(text);
+        return;
+    }
+    out.push_str(sign);
+    let digits = lead.bytes().chain(frac.bytes());
+    if e >= 0 {
+        let point = (e + 1) as usize;
+        for (k, d) in digits.enumerate() {
+            if k == point {
+                out.push('.');
+            }
+            out.push(char::from(d));
+        }
+        for _ in n_digits..=e {
+            out.push('0');
+        }
+    } else {
+        out.push_str("0.");
+        for _ in 0..(-e - 1) {
+            out.push('0');
+        }
+        digits.for_each(|d| out.push(char::from(d)));
+    }
+}
+
+/// A short text on the stack (the exponent form of one float).
+#[derive(Default)]
+struct StackText {
+    bytes: [u8; 32],
+    len: usize,
+}
+
+impl StackText {
+    fn as_str(&self) -> &str {
+        // Only whole `&str`s are written in.
+        std::str::from_utf8(&self.bytes[..self.len]).unwrap_or("")
+    }
+}
+
+impl std::fmt::Write for StackText {
+    fn write_str(&mut self, s: &str) -> std::fmt::Result {
+        let end = self.len + s.len();
+        let slot = self.bytes.get_mut(self.len..end).ok_or(std::fmt::Error)?;
+        slot.copy_from_slice(s.as_bytes());
+        self.len = end;
+        Ok(())
+    }
 }
 
 /// A float as a JSON number (shortest round trip, no `-0`); null for NaN and infinities, which
@@ -196,6 +277,48 @@ mod tests {
             assert!(t.len() <= format!("{v}").len() && t.len() <= format!("{v:e}").len());
         }
         assert_eq!(shortest(1e-7), "1e-7");
+        assert_eq!(shortest(f64::INFINITY), "inf");
+        assert_eq!(shortest(f64::NEG_INFINITY), "-inf");
+    }
+
+    #[test]
+    fn shortest_text_is_the_shorter_of_the_standard_forms() {
+        // Reference: the standard library's plain (`{}`) and exponent (`{:e}`) shortest
+        // round-trip texts, the shorter one (plain on a tie), over powers of ten at every
+        // exponent, their neighbours, and a million pseudo-random bit patterns.
+        fn reference(v: f64) -> String {
+            let v = no_negative_zero(v);
+            let (plain, exp) = (format!("{v}"), format!("{v:e}"));
+            if exp.len() < plain.len() { exp } else { plain }
+        }
+        let mut values: Vec<f64> = (-330..=310)
+            .map(|k| format!("1e{k}").parse::<f64>().unwrap())
+            .flat_map(|p| [p, -p, f64::from_bits(p.to_bits() + 1), 1.5 * p, 123.456 * p])
+            .collect();
+        values.extend([
+            0.0,
+            -0.0,
+            f64::MIN_POSITIVE,
+            5e-324,
+            f64::MAX,
+            0.095,
+            1e15,
+            1e16,
+        ]);
+        let mut state = 0x9e37_79b9_7f4a_7c15_u64;
+        for _ in 0..1_000_000 {
+            // xorshift64 (Marsaglia 2003), a bit pattern per step; NaN patterns are skipped.
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            let v = f64::from_bits(state);
+            if !v.is_nan() {
+                values.push(v);
+            }
+        }
+        for v in values {
+            assert_eq!(shortest(v), reference(v), "{v:e}");
+        }
         assert_eq!(shortest(0.3), "0.3");
         assert_eq!(shortest(-0.0), "0");
         assert_eq!(shortest(f64::NAN), "NaN");

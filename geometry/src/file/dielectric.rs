@@ -165,13 +165,7 @@ fn parse_dielectric(
             allowed: allowed.join(", "),
         });
     }
-    let raw: RawDielectric =
-        serde_path_to_error::deserialize(table).map_err(|err| DesignError::WrongType {
-            source_name: source.to_string(),
-            item: ctx.item.clone(),
-            key: err.path().to_string(),
-            reason: err.inner().message().to_string(),
-        })?;
+    let raw: RawDielectric = ctx.typed(table)?;
     let origin = raw.origin.as_ref().ok_or_else(|| {
         ctx.missing(
             "origin",
@@ -329,13 +323,7 @@ pub(crate) fn parse_enclosure(value: Value, source: &str) -> Result<Enclosure, D
             allowed: "radius, height".to_string(),
         });
     }
-    let raw: RawEnclosure =
-        serde_path_to_error::deserialize(table).map_err(|err| DesignError::WrongType {
-            source_name: source.to_string(),
-            item: ctx.item.clone(),
-            key: err.path().to_string(),
-            reason: err.inner().message().to_string(),
-        })?;
+    let raw: RawEnclosure = ctx.typed(table)?;
     Ok(Enclosure {
         radius_m: ctx.required_size(
             "radius",
@@ -381,13 +369,7 @@ pub(crate) fn parse_mesh(value: Value, source: &str) -> Result<MeshSettings, Des
             allowed: KEYS.join(", "),
         });
     }
-    let raw: RawMesh =
-        serde_path_to_error::deserialize(table).map_err(|err| DesignError::WrongType {
-            source_name: source.to_string(),
-            item: ctx.item.clone(),
-            key: err.path().to_string(),
-            reason: err.inner().message().to_string(),
-        })?;
+    let raw: RawMesh = ctx.typed(table)?;
     let mut mesh = MeshSettings::default();
     if let Some(d) = raw.density {
         let v = d.as_f64();

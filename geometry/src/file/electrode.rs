@@ -199,13 +199,7 @@ fn parse_electrode(
             allowed: allowed.join(", "),
         });
     }
-    let raw: RawElectrode =
-        serde_path_to_error::deserialize(table).map_err(|err| DesignError::WrongType {
-            source_name: source.to_string(),
-            item: ctx.item.clone(),
-            key: err.path().to_string(),
-            reason: err.inner().message().to_string(),
-        })?;
+    let raw: RawElectrode = ctx.typed(table)?;
     let origin = raw.origin.as_ref().ok_or_else(|| {
         ctx.missing(
             "origin",
@@ -331,13 +325,7 @@ pub(crate) fn parse_ground(value: Value, source: &str) -> Result<Ground, DesignE
             allowed: "z, conducting".to_string(),
         });
     }
-    let raw: RawGround =
-        serde_path_to_error::deserialize(table).map_err(|err| DesignError::WrongType {
-            source_name: source.to_string(),
-            item: ctx.item.clone(),
-            key: err.path().to_string(),
-            reason: err.inner().message().to_string(),
-        })?;
+    let raw: RawGround = ctx.typed(table)?;
     let z = raw.z.as_ref().ok_or_else(|| {
         ctx.missing(
             "z",

@@ -180,6 +180,25 @@ pub(crate) struct Ctx<'a> {
 }
 
 impl Ctx<'_> {
+    /// The typed form `T` of a table (keys checked already). A well-typed table is read
+    /// without tracking paths (a sweep reads a table per point and tracking costs more than
+    /// the copy); a table that fails is read again with its path tracked, so the message names
+    /// the key (`origin[1]`) and says why.
+    pub(crate) fn typed<T: serde::de::DeserializeOwned>(
+        &self,
+        table: toml::Table,
+    ) -> Result<T, DesignError> {
+        if let Ok(t) = T::deserialize(table.clone()) {
+            return Ok(t);
+        }
+        serde_path_to_error::deserialize(table).map_err(|err| DesignError::WrongType {
+            source_name: self.source.to_string(),
+            item: self.item.clone(),
+            key: err.path().to_string(),
+            reason: err.inner().message().to_string(),
+        })
+    }
+
     /// The `name` key of the `number`-th table of kind `kind` ("winding", "electrode", ...):
     /// `<kind>-<number>` when absent; a valid name also becomes the item every later message
     /// names (`<kind> '<name>'`). `example` is a typical name for the message on a wrong type.
@@ -478,7 +497,11 @@ impl Ctx<'_> {
     ) -> Result<Point3<f64>, DesignError> {
         let mut xyz = [0.0; 3];
         for (i, (slot, c)) in xyz.iter_mut().zip(raw).enumerate() {
-            *slot = self.coordinate(&format!("{key}[{i}]"), c)?;
+            *slot = match c {
+                // A plain number in range needs no key text (sweeps read points per point).
+                RawLength::Number(v) if v.is_finite() && v.abs() <= MAX_COORDINATE_M => *v,
+                _ => self.coordinate(&format!("{key}[{i}]"), c)?,
+            };
         }
         Ok(Point3::from(xyz))
     }

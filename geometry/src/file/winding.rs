@@ -330,13 +330,7 @@ pub(crate) fn parse_winding(
     // Name and shape are read already; the raw struct does not carry them.
     table.remove("name");
     table.remove("shape");
-    let raw: RawWinding =
-        serde_path_to_error::deserialize(table).map_err(|err| DesignError::WrongType {
-            source_name: source.to_string(),
-            item: ctx.item.clone(),
-            key: err.path().to_string(),
-            reason: err.inner().message().to_string(),
-        })?;
+    let raw: RawWinding = ctx.typed(table)?;
     let role = role_of(&raw, &ctx)?;
     let model = model_of(&raw, kind, &ctx)?;
     let wire_raw = raw.wire_diameter.as_ref().ok_or_else(|| {

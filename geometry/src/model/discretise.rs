@@ -36,8 +36,9 @@ pub struct RingModel {
     pub rings: Vec<Ring>,
     /// Wire radius (m), for the self term of each ring.
     pub wire_radius_m: f64,
-    /// Set when all rings but possibly the last share one radius and ring i sits at
-    /// `origin + (i + 1/2) * pitch * axis`: the turn-to-turn matrix is then Toeplitz.
+    /// Set when all rings but possibly the last share one radius, carry one turn (weight 1)
+    /// and ring i sits at `origin + (i + 1/2) * pitch * axis`: the turn-to-turn matrix is then
+    /// Toeplitz.
     pub uniform_pitch_m: Option<f64>,
 }
 

@@ -7,8 +7,9 @@
 //! one line.
 
 use crate::metrics::PointResult;
-use crate::numtext::{json_number as json_num, shortest as num};
+use crate::numtext::{json_number as json_num, push_shortest};
 use crate::sweep::plan::SweepPlan;
+use std::fmt::Write;
 
 /// Output format of a sweep.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -60,17 +61,21 @@ impl SweepPlan {
         let metrics = &self.sweep().metrics;
         match format {
             OutFormat::Csv => {
-                let mut s = i.to_string();
+                // One allocation per row in the usual case: 24 bytes per number at most.
+                let n_numbers = self.sweep().axes.len() + metrics.len();
+                let mut s = String::with_capacity(32 + 25 * n_numbers + message.len());
+                // Writing into a String cannot fail.
+                let _ = write!(s, "{i}");
                 for k in 0..self.sweep().axes.len() {
                     s.push(',');
                     if let Some(v) = params.get(k) {
-                        s.push_str(&num(*v));
+                        push_shortest(&mut s, *v);
                     }
                 }
                 for k in 0..metrics.len() {
                     s.push(',');
                     if let Some(v) = r.values.get(k) {
-                        s.push_str(&num(*v));
+                        push_shortest(&mut s, *v);
                     }
                 }
                 s.push(',');
