@@ -16,6 +16,7 @@ use coilfield_solver::circuit::{
     Drive, LadderModes, LoopState, Loops, Quench, SimulationSettings, equivalent_capacitance_f,
     ladder_modes, loop_modes, simulate, steady_state,
 };
+use coilfield_solver::electrostatic::{Params, Problem, Profile, Solution};
 use coilfield_solver::elliptic::{cel, ellip_e, ellip_k};
 use coilfield_solver::field::{b_ring_point, b_sheet_point};
 use coilfield_solver::mutual::{Circle, mutual_ring_ring, mutual_ring_ring_coaxial};
@@ -30,9 +31,10 @@ use std::collections::BTreeMap;
 use std::fmt::Write as _;
 use std::path::Path;
 use std::process::ExitCode;
+use std::sync::Mutex;
 
 /// The tables, by name, with their built-in contents.
-pub const TABLES: [(&str, &str); 16] = [
+pub const TABLES: [(&str, &str); 18] = [
     ("elliptic", include_str!("../validation/elliptic.csv")),
     ("cel", include_str!("../validation/cel.csv")),
     (
@@ -55,6 +57,11 @@ pub const TABLES: [(&str, &str); 16] = [
     ("images", include_str!("../validation/images.csv")),
     ("tap", include_str!("../validation/tap.csv")),
     ("circuits", include_str!("../validation/circuits.csv")),
+    (
+        "fields_capacitance",
+        include_str!("../validation/fields_capacitance.csv"),
+    ),
+    ("tube_bem", include_str!("../validation/tube_bem.csv")),
 ];
 
 /// The designs the rows of `tap.csv` name (invented for the check; `validation/tap_refs.py`
@@ -243,6 +250,8 @@ fn compute(table: &str, row: &Row, label: &str) -> anyhow::Result<Computed> {
         "images" => images(row)?.into(),
         "tap" => tap(row)?.into(),
         "circuits" => circuits(row)?.into(),
+        "fields_capacitance" => fields_capacitance(row)?.into(),
+        "tube_bem" => tube_bem(row)?.into(),
         _ => kernel(table, row, label)?.into(),
     };
     // Inputs in range give finite values; a non-finite one is a defect, never a pass or fail.
@@ -781,6 +790,150 @@ fn quench(p: &Row, quantity: &str, row: &Row) -> anyhow::Result<Option<f64>> {
         }
         _ => None,
     })
+}
+
+/// A design through the `capacitance` command's boundary-element solver
+/// ([`coilfield_solver::electrostatic`]) with `params`.
+fn electrostatic(text: &str, params: &Params) -> anyhow::Result<Solution> {
+    let design = design(text)?;
+    let problem = Problem::from_design(&design, params, "the row's design")?;
+    Ok(problem.solve(Par::Rayon)?)
+}
+
+/// Panels of the `fields_capacitance.csv` solves, as in the solver's tests: 400 for the sphere
+/// over the plane (down to a gap of a tenth of the radius) and the disc, 300 for the torus; the
+/// table's tolerances (1e-3, 3e-3) are the reach of these meshes.
+const SPHERE_PANELS: usize = 400;
+const TORUS_PANELS: usize = 300;
+
+/// A row of `fields_capacitance.csv`: C / (4 pi eps0 r) of an isolated sphere of radius
+/// r = 0.1 m, of a thin disc of radius r = 0.2 m, of the sphere with its centre at `ratio`
+/// radii over a grounded plane, or of a torus of minor radius r = 0.05 m and major radius
+/// `ratio` r (`ratio` 0 for the first two).
+fn fields_capacitance(row: &Row) -> anyhow::Result<f64> {
+    let ratio = || bounded(row, "ratio", 1.0 + 1e-6, 1e3);
+    let (r, text, panels) = match text(row, "shape")? {
+        "sphere" => (
+            0.1,
+            "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 0.0]\n\
+             radius = 0.1\n"
+                .to_string(),
+            SPHERE_PANELS,
+        ),
+        "disc" => (
+            0.2,
+            "[[electrode]]\nname = \"plate\"\nshape = \"disc\"\norigin = [0.0, 0.0, 0.0]\n\
+             axis = [0.0, 0.0, 1.0]\nradius = 0.2\n"
+                .to_string(),
+            SPHERE_PANELS,
+        ),
+        "sphere_over_plane" => (
+            0.1,
+            format!(
+                "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, {:?}]\n\
+                 radius = 0.1\n[ground]\nz = 0.0\n",
+                0.1 * ratio()?
+            ),
+            SPHERE_PANELS,
+        ),
+        "torus" => (
+            0.05,
+            format!(
+                "[[electrode]]\nname = \"ring\"\nshape = \"torus\"\norigin = [0.0, 0.0, 0.0]\n\
+                 axis = [0.0, 0.0, 1.0]\nmajor_radius = {:?}\nminor_radius = 0.05\n",
+                0.05 * ratio()?
+            ),
+            TORUS_PANELS,
+        ),
+        other => anyhow::bail!(BadInput(format!(
+            "column 'shape': '{other}' is not sphere, disc, sphere_over_plane or torus"
+        ))),
+    };
+    let params = Params {
+        panels,
+        ..Default::default()
+    };
+    let c = electrostatic(&text, &params)?.capacitances_f()[0];
+    Ok(c / (4.0 * std::f64::consts::PI * coilfield_geometry::constants::EPS0 * r))
+}
+
+/// Panels of the sectioned `tube_bem.csv` solves, as in the solver's tests (the tolerance
+/// 1e-4 sqrt(C_ii C_jj) is their reach).
+const TUBE_PANELS: usize = 1000;
+
+/// Nodal matrices (F) already solved, by tube and sections: the rows of one matrix share a
+/// solve.
+static NODAL: Mutex<BTreeMap<String, DMatrix<f64>>> = Mutex::new(BTreeMap::new());
+
+/// A row of `tube_bem.csv`: the bare secondary as a tube (radius `tube_radius_m`, length
+/// `length_m`, base at `base_z_m`, over a grounded plane at `ground_z_m` when given): its
+/// capacitance as one conductor (`tube`), with the linear profile (`linear`), or an entry of
+/// its nodal matrix in `sections` sections (`nodal`, entry `i`, `j`). The winding is that of
+/// the solver's tests: 0.4 mm wire at a pitch of 0.5 mm.
+fn tube_bem(row: &Row) -> anyhow::Result<f64> {
+    let a = size(row, "tube_radius_m")?;
+    let l = size(row, "length_m")?;
+    let zb = coordinate(row, "base_z_m")?;
+    let wire = 0.0004;
+    let turns = (l / 0.0005).round();
+    let mut text = format!(
+        "[[winding]]\nname = \"sec\"\nshape = \"helix\"\nrole = \"secondary\"\n\
+         origin = [0.0, 0.0, {zb:?}]\naxis = [0.0, 0.0, 1.0]\nradius = {:?}\nlength = {l:?}\n\
+         turns = {turns:?}\nwire_diameter = {wire:?}\n",
+        a - wire / 2.0
+    );
+    if !self::text(row, "ground_z_m")?.is_empty() {
+        text.push_str(&format!(
+            "[ground]\nz = {:?}\n",
+            coordinate(row, "ground_z_m")?
+        ));
+    }
+    let by_profile = |profile: Profile| -> anyhow::Result<f64> {
+        let params = Params {
+            profile,
+            ..Default::default()
+        };
+        electrostatic(&text, &params)?
+            .self_capacitance_f()
+            .map(|c| c.bare_f)
+            .ok_or_else(|| BadInput("the design has no secondary".into()).into())
+    };
+    match self::text(row, "quantity")? {
+        "tube" => by_profile(Profile::Custom(|_| 1.0)),
+        "linear" => by_profile(Profile::Linear),
+        "nodal" => {
+            let n = count(row, "sections", 64.0)?;
+            let (i, j) = (
+                bounded(row, "i", 0.0, n as f64)? as usize,
+                bounded(row, "j", 0.0, n as f64)? as usize,
+            );
+            let key = format!("{text}{n}");
+            let cached = NODAL.lock().ok().and_then(|m| m.get(&key).cloned());
+            let matrix = match cached {
+                Some(m) => m,
+                None => {
+                    let params = Params {
+                        panels: TUBE_PANELS,
+                        secondary_sections: Some(n),
+                        ..Default::default()
+                    };
+                    let m = electrostatic(&text, &params)?
+                        .nodal_capacitance()
+                        .map_err(bad)?
+                        .matrix_f
+                        .clone();
+                    if let Ok(mut cache) = NODAL.lock() {
+                        cache.insert(key, m.clone());
+                    }
+                    m
+                }
+            };
+            Ok(matrix[(i, j)])
+        }
+        other => anyhow::bail!(BadInput(format!(
+            "column 'quantity': '{other}' is not tube, linear or nodal"
+        ))),
+    }
 }
 
 /// The computed value of one row of a table of kernels and closed forms.
