@@ -687,3 +687,193 @@ fn finite_element_peak_surface_fields() {
     let r = at[0].as_f64().unwrap().hypot(at[1].as_f64().unwrap());
     assert!((r - 0.19).abs() < 0.02, "{fem}");
 }
+
+/// A dielectric outline crossing a conductor's outline (a slab cutting through a sphere, the
+/// crossing at an angle that no sample of either outline shares) is split where they cross,
+/// never dropped: no triangle outside the conductor straddles the slab's face. (A dropped
+/// constraint leaves triangles with vertices on both sides of the face, whose centroid then
+/// puts them wholly in one medium.)
+#[test]
+fn crossing_outlines_are_split_not_dropped() {
+    let slab = Area::Rect {
+        r0: 0.0,
+        r1: 0.2,
+        z0: -0.04,
+        z1: 0.15,
+    };
+    for density in [1.0, 2.0, 3.0] {
+        let d = domain(
+            vec![sphere("s", 0.0, 0.1)],
+            vec![Region {
+                name: "slab".to_string(),
+                area: slab,
+                relative_permittivity: 4.0,
+            }],
+            Outer::Sphere {
+                centre_z: 0.0,
+                radius: 0.3,
+            },
+            density,
+        );
+        let p = FemProblem::new(d).expect("mesh");
+        let m = p.mesh();
+        let tol = 1e-9;
+        let mut straddling = 0;
+        for (t, tri) in m.triangles.iter().enumerate() {
+            if tri.iter().all(|&i| m.conductor[i].is_some()) {
+                continue;
+            }
+            let inside = m.region[t].is_some();
+            let agree = tri.iter().all(|&i| {
+                let q = m.nodes[i];
+                if inside {
+                    slab.contains(q, tol)
+                } else {
+                    // Outside the slab or on its outline.
+                    !slab.contains(q, -tol)
+                }
+            });
+            if !agree {
+                straddling += 1;
+            }
+        }
+        assert_eq!(
+            straddling, 0,
+            "density {density}: triangles across the slab's face"
+        );
+    }
+}
+
+/// A sweep's capacitance metrics keep the design's media: over the demo (PVC form, grounded
+/// room) they come from the finite-element solver, differ from the same sweep with the form
+/// and the room removed (boundary elements, free space over the floor), and equal a single
+/// `capacitance` run on the design at the same point (the same mesh, so to rounding).
+#[test]
+fn sweep_capacitance_keeps_the_design_media() {
+    let dir = tempfile::tempdir().unwrap();
+    // A coarse mesh keeps the test short; the comparison holds at any density.
+    let coarse = |t: &str| t.replace("[enclosure]", "[mesh]\ndensity = 0.5\n\n[enclosure]");
+    let with_media = room_resonator_variant(dir.path(), "media.toml", &|t| coarse(t));
+    let bare = room_resonator_variant(dir.path(), "bare.toml", &|t| {
+        let form = t.find("[[dielectric]]").unwrap();
+        let drive = t.find("[drive]").unwrap();
+        format!("{}{}", &t[..form], &t[drive..])
+    });
+    let at_z = room_resonator_variant(dir.path(), "at.toml", &|t| {
+        coarse(t).replace("origin = [0.0, 0.0, 0.82]", "origin = [0.0, 0.0, 0.9]")
+    });
+    let sweep = |base: &str, name: &str| -> Vec<f64> {
+        let file = dir.path().join(format!("{name}.toml"));
+        std::fs::write(
+            &file,
+            format!(
+                "base = \"{}\"\nmetrics = [\"capacitance.topload\"]\n\n[[axis]]\n\
+                 key = \"electrode.topload.origin[2]\"\nfrom = 0.9\nto = 1.0\nsteps = 2\n",
+                std::path::Path::new(base)
+                    .file_name()
+                    .unwrap()
+                    .to_str()
+                    .unwrap()
+            ),
+        )
+        .unwrap();
+        let out = dir.path().join(format!("{name}.jsonl"));
+        let run = coilfield(&[
+            "sweep",
+            file.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ]);
+        assert!(
+            run.status.success(),
+            "{}",
+            String::from_utf8_lossy(&run.stderr)
+        );
+        std::fs::read_to_string(&out)
+            .unwrap()
+            .lines()
+            .map(|l| {
+                let v: serde_json::Value = serde_json::from_str(l).unwrap();
+                assert_eq!(v["status"], "ok", "{l}");
+                v["metrics"]["capacitance.topload"].as_f64().unwrap()
+            })
+            .collect()
+    };
+    let media = sweep(&with_media, "s-media");
+    let free = sweep(&bare, "s-bare");
+    assert_eq!(media.len(), 2);
+    for (m, f) in media.iter().zip(&free) {
+        assert!((m / f - 1.0).abs() > 0.01, "media {m} F, free space {f} F");
+    }
+    let single = json_of(&["capacitance", &at_z, "--format", "json"]);
+    assert_eq!(single["solver"], "fem");
+    let c = single["conductors"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["name"] == "topload")
+        .unwrap()["capacitance_f"]
+        .as_f64()
+        .unwrap();
+    assert!(
+        (media[0] / c - 1.0).abs() < 1e-9,
+        "sweep {} F, capacitance {c} F",
+        media[0]
+    );
+}
+
+/// Convergence of the demo room resonator (`meshes-demo/room-resonator.toml`) under mesh
+/// refinement: the torus's capacitance and the secondary's self-capacitance against
+/// `[mesh] density`, with the Richardson extrapolation of the last two (P1 elements: the
+/// energy error falls as h^2, i.e. as 1 / density^2) and each density's distance from it.
+/// The README's convergence table comes from this run:
+/// `cargo test --test fem demo_convergence -- --ignored --nocapture`.
+#[test]
+#[ignore = "a study (minutes): run by hand for the README's table"]
+fn demo_convergence_table() {
+    let demo = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/meshes-demo/room-resonator.toml"
+    );
+    let text = std::fs::read_to_string(demo).unwrap();
+    let densities = [0.5, 1.0, 2.0, 4.0, 8.0];
+    let mut rows = Vec::new();
+    for &density in &densities {
+        let t = text.replace(
+            "[enclosure]",
+            &format!("[mesh]\ndensity = {density}\nmax_elements = 2000000\n\n[enclosure]"),
+        );
+        let design = coilfield_geometry::parse_design(&t, demo).expect("demo");
+        let started = std::time::Instant::now();
+        let p = FemProblem::from_design(&design, demo).expect("mesh");
+        let meshed = started.elapsed().as_secs_f64();
+        let n = p.mesh().elements();
+        let s = p.solve().expect("solve");
+        let names = s.conductor_names();
+        let k = names.iter().position(|n| n == "topload").unwrap();
+        let c_top = s.capacitance_matrix_f()[k][k];
+        let c_self = s.self_capacitance_f().unwrap().0;
+        rows.push((density, n, meshed, c_top, c_self));
+    }
+    let rich = |a: f64, b: f64| b + (b - a) / 3.0; // density doubled: error / 4
+    let (l1, l2) = (rows[rows.len() - 2], rows[rows.len() - 1]);
+    let (top_x, self_x) = (rich(l1.3, l2.3), rich(l1.4, l2.4));
+    eprintln!(
+        "| density | elements | meshing (s) | C torus (pF) | vs extrapolated | C self (pF) | vs extrapolated |"
+    );
+    eprintln!("|---|---|---|---|---|---|---|");
+    for (d, n, t, ct, cs) in &rows {
+        eprintln!(
+            "| {d} | {n} | {t:.2} | {:.4} | {:+.3} % | {:.4} | {:+.3} % |",
+            ct * 1e12,
+            (ct / top_x - 1.0) * 100.0,
+            cs * 1e12,
+            (cs / self_x - 1.0) * 100.0
+        );
+    }
+    eprintln!(
+        "| extrapolated | | | {:.4} | | {:.4} | |",
+        top_x * 1e12,
+        self_x * 1e12
+    );
+}

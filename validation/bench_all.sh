@@ -4,6 +4,7 @@
 #     base, medians of 9 on 1 and 2 threads, the numpy/scipy baseline; 1,000 tilted points);
 #   - the resonance model (criterion: 200-section distributed model; the spark-gap solution over
 #     2 ms) and the 200-point sweep of f1 against the toroid's height;
+#   - the 100-point finite-element sweep of the torus's height over the PVC form (target 60 s);
 #   (the inductance and field kernels: `cargo bench -p coilfield-solver --bench inductance`
 #   and `--bench fields`, figures in the README's earlier tables).
 # Run it on a quiet machine: the script prints the load average before each part.
@@ -24,6 +25,16 @@ for _ in 1 2 3; do
     rm -f "$tmp/f.csv"
     t0=$(date +%s%N)
     "$bin" sweep meshes-demo/bench-sweep-topload-frequency.toml --out "$tmp/f.csv" --threads 2 >/dev/null 2>&1
+    t1=$(date +%s%N)
+    awk -v a="$t0" -v b="$t1" 'BEGIN { printf "%.2f\n", (b - a) / 1e9 }'
+done | sort -g | awk '{ v[NR] = $1 } END { print "  median " v[2] " s (runs " v[1] ", " v[2] ", " v[3] " s)" }'
+
+echo "== 100-point sweep of the torus's height over the PVC form, finite elements (wall time, 2 threads, median of 3)"
+echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg)"
+for _ in 1 2 3; do
+    rm -f "$tmp/c.csv"
+    t0=$(date +%s%N)
+    "$bin" sweep meshes-demo/bench-sweep-form-topload.toml --out "$tmp/c.csv" --threads 2 >/dev/null 2>&1
     t1=$(date +%s%N)
     awk -v a="$t0" -v b="$t1" 'BEGIN { printf "%.2f\n", (b - a) / 1e9 }'
 done | sort -g | awk '{ v[NR] = $1 } END { print "  median " v[2] " s (runs " v[1] ", " v[2] ", " v[3] " s)" }'

@@ -18,6 +18,7 @@ use crate::Par;
 use crate::assembly::{WindingModel, image_model, inductance_entry};
 use crate::coupling::coupling;
 use crate::electrostatic::{Params, Problem, Solution};
+use crate::fem::{ElectricSolver, FemProblem, FemSolution, FromDesignError};
 use coilfield_geometry::query::checks::PreparedDesign;
 use coilfield_geometry::{Design, Role, Winding};
 use std::sync::OnceLock;
@@ -399,6 +400,8 @@ pub struct Evaluator {
     prepared: PreparedDesign,
     base_design: Design,
     base_electric: OnceLock<Result<Solution, String>>,
+    /// The base design's finite-element solution (when its media act on E), on first use.
+    base_fem: OnceLock<Result<FemSolution, String>>,
     metrics: Vec<Metric>,
     constraints: Vec<Constraint>,
     external: Option<Box<dyn External>>,
@@ -416,6 +419,7 @@ struct Scratch<'a> {
     gap_m: Vec<((usize, usize), f64)>,
     resonance: Option<Result<crate::resonance::Resonance, String>>,
     electric: Option<Result<Solution, String>>,
+    fem: Option<Result<FemSolution, String>>,
     /// The external figures of the point (ids as `Evaluator::external_ids`).
     external: Option<Result<Vec<f64>, String>>,
     notes: Vec<String>,
@@ -433,6 +437,7 @@ impl<'a> Scratch<'a> {
             gap_m: Vec::new(),
             resonance: None,
             electric: None,
+            fem: None,
             external: None,
             notes: Vec::new(),
         }
@@ -447,14 +452,26 @@ fn solve_electric(design: &Design) -> Result<Solution, String> {
         .map_err(|e| e.to_string())
 }
 
+/// The finite-element solution of a design (its own mesh), or why there is none.
+fn solve_fem(design: &Design) -> Result<FemSolution, String> {
+    FemProblem::from_design(design, "the point's design")
+        .map_err(|e| match e {
+            FromDesignError::Design(d) => d.to_string(),
+            FromDesignError::Solver(s) => s.to_string(),
+        })?
+        .solve()
+        .map_err(|e| e.to_string())
+}
+
 /// Whether the electric model of `a` and `b` is the same: the secondary windings, the
-/// electrodes, the ground plane and the drive.
+/// electrodes, the ground plane, the drive, and the dielectrics, enclosure and mesh settings.
 fn same_electric_model(a: &Design, b: &Design) -> bool {
     fn secondaries(d: &Design) -> impl Iterator<Item = &Winding> {
         d.windings.iter().filter(|w| w.role == Role::Secondary)
     }
     a.electrodes == b.electrodes
         && a.ground == b.ground
+        && a.media == b.media
         && a.drive == b.drive
         && secondaries(a).eq(secondaries(b))
 }
@@ -496,6 +513,7 @@ impl Evaluator {
             base_resonance: OnceLock::new(),
             base_design: base.clone(),
             base_electric: OnceLock::new(),
+            base_fem: OnceLock::new(),
             metrics,
             constraints,
             external,
@@ -570,7 +588,61 @@ impl Evaluator {
             .map_err(Clone::clone)
     }
 
+    /// The point's finite-element solution: the base's when its electric model is the base's.
+    fn fem<'s>(&'s self, s: &'s mut Scratch<'_>) -> Result<&'s FemSolution, String> {
+        if same_electric_model(s.design, &self.base_design) {
+            return self
+                .base_fem
+                .get_or_init(|| solve_fem(&self.base_design))
+                .as_ref()
+                .map_err(Clone::clone);
+        }
+        let design = s.design;
+        s.fem
+            .get_or_insert_with(|| solve_fem(design))
+            .as_ref()
+            .map_err(Clone::clone)
+    }
+
+    /// A capacitance or surface-field metric from the finite-element solver (the design has a
+    /// dielectric or an enclosure): the same figures as [`Evaluator::electric_value`].
+    fn fem_value(&self, s: &mut Scratch<'_>, m: Metric) -> Result<f64, String> {
+        let design = s.design;
+        let sol = self.fem(s)?;
+        let names = sol.conductor_names();
+        let position = |e: usize| {
+            let name = &design.electrodes[e].name;
+            names.iter().position(|n| n == name).ok_or_else(|| {
+                format!("electrode `{name}` is not a conductor of the finite-element model")
+            })
+        };
+        match m {
+            Metric::Capacitance(e) => {
+                let i = position(e)?;
+                Ok(sol.capacitance_matrix_f()[i][i])
+            }
+            Metric::SelfCapacitance(_) => sol
+                .self_capacitance_f()
+                .map(|(c, _)| c)
+                .ok_or_else(|| "the electric model has no secondary".to_string()),
+            Metric::SurfaceField(e) => {
+                let name = &design.electrodes[e].name;
+                sol.peak_surface_fields()
+                    .into_iter()
+                    .find(|p| &p.name == name)
+                    .map(|p| p.field_v_per_m)
+                    .ok_or_else(|| format!("electrode `{name}` has no surface field in the mesh"))
+            }
+            _ => Err(format!("{m:?} is not an electric metric")),
+        }
+    }
+
     fn electric_value(&self, s: &mut Scratch<'_>, m: Metric) -> Result<f64, String> {
+        // The same automatic rule as `capacitance`: finite elements when a dielectric or an
+        // enclosure acts on E.
+        if ElectricSolver::Auto.uses_fem(s.design) {
+            return self.fem_value(s, m);
+        }
         let design = s.design;
         let sol = self.electric(s)?;
         let position = |e: usize| {

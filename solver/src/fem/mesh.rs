@@ -22,13 +22,15 @@
 //! point at infinity is the centre x' = c at 0 V. No truncation error remains; the mapping is
 //! exact at any R beyond the sources. This is the treatment of E. M. Freeman and D. A. Lowther,
 //! "An open boundary technique for axisymmetric and three dimensional magnetic and electric
-//! field problems", IEEE Trans. Magn. 25 (5) (1989) 4135-4137 (authors, journal and year as
-//! commonly cited; title, issue and pages from memory, not checked against the paper: no copy
-//! at hand). The exactness of the map itself follows from the conformal scale factor above
+//! field problems", IEEE Trans. Magn. 25 (5) (1989) 4135-4137 (the title matches a public
+//! reading list of open-boundary techniques found by search, which names no authors, journal
+//! or year; authors, journal and year as commonly cited, issue and pages from memory: none
+//! checked against the paper, no copy at hand). The exactness of the map itself follows from the conformal scale factor above
 //! and is checked independently by the tests (the isolated sphere in open space).
 
 use super::domain::{Domain, Outer, Piece, sample_piece};
 use crate::error::SolverError;
+use spade::handles::FixedVertexHandle;
 use spade::{
     AngleLimit, ConstrainedDelaunayTriangulation, Point2, RefinementParameters, Triangulation,
 };
@@ -143,9 +145,7 @@ impl Builder {
             .collect::<Result<Vec<_>, _>>()?;
         for w in handles.windows(2) {
             if w[0] != w[1] {
-                // A constraint that would cross an existing one (touching outlines meeting at
-                // an angle) is left out; its vertices stay, so the conductor keeps its nodes.
-                self.cdt.try_add_constraint(w[0], w[1]);
+                self.constrain(w[0], w[1]);
             }
         }
         Ok(())
@@ -166,7 +166,22 @@ impl Builder {
             .collect();
         on.sort_by(|x, y| x.0.total_cmp(&y.0));
         for w in on.windows(2) {
-            self.cdt.try_add_constraint(w[0].1, w[1].1);
+            if w[0].1 != w[1].1 {
+                self.constrain(w[0].1, w[1].1);
+            }
+        }
+    }
+
+    /// The constraint edge `a`-`b`, split where it crosses an edge already constrained (a
+    /// dielectric's face cutting through a conductor's outline, or two outlines touching at
+    /// an angle whose polygons cross): the new vertex at the crossing lies on both outlines,
+    /// so neither loses a piece. Dropping the edge instead would leave triangles across an
+    /// interface, put wholly in one medium by their centroid.
+    fn constrain(&mut self, a: FixedVertexHandle, b: FixedVertexHandle) {
+        if self.cdt.can_add_constraint(a, b) {
+            self.cdt.add_constraint(a, b);
+        } else {
+            self.cdt.add_constraint_and_split(a, b, |p| p);
         }
     }
 }
