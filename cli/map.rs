@@ -215,7 +215,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
     }
     if let Some(p) = args.plot {
         let (u, v) = g.plane_axes().expect("plane grid");
-        let (ul, vl) = g.plane.expect("plane grid").labels();
+        let (ul, vl) = g.plane.expect("plane grid").axis_names();
         let (values, quantity, unit) = match args.plot_quantity {
             PlotQuantity::E => (&e_mag, Quantity::E, "V/m"),
             PlotQuantity::B => (&b_mag, Quantity::B, "T"),
@@ -232,8 +232,14 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
                 v,
                 values,
                 scale: plot::Scale::Log,
-                u_label: ul,
-                v_label: vl,
+                u_axis: plot::Axis {
+                    name: ul,
+                    unit: "m",
+                },
+                v_axis: plot::Axis {
+                    name: vl,
+                    unit: "m",
+                },
                 title,
                 unit: match quantity {
                     Quantity::E => "V/m",

@@ -14,12 +14,15 @@ use std::sync::Once;
 /// Embedded font for every label (Bitstream Vera licence, `cli/assets/DejaVu-LICENSE.txt`).
 const FONT: &[u8] = include_bytes!("assets/DejaVuSans.ttf");
 
+/// The family every label asks for; registered with the embedded font's bytes.
+const FONT_FAMILY: &str = "sans-serif";
+
 fn register_font() {
     static ONCE: Once = Once::new();
     ONCE.call_once(|| {
         // The bytes are a valid TrueType font shipped with the binary; a failure here is a
         // build mistake, reported when text is drawn.
-        let _ = plotters::style::register_font("sans-serif", FontStyle::Normal, FONT);
+        let _ = plotters::style::register_font(FONT_FAMILY, FontStyle::Normal, FONT);
     });
 }
 
@@ -55,10 +58,10 @@ pub struct HeatMap<'a> {
     pub values: &'a [f64],
     /// Colour and contour scale.
     pub scale: Scale,
-    /// Axis labels, e.g. `x (m)`.
-    pub u_label: &'a str,
-    /// Axis labels, e.g. `z (m)`.
-    pub v_label: &'a str,
+    /// The horizontal axis (the quantity of `u` and its SI unit).
+    pub u_axis: Axis<'a>,
+    /// The vertical axis (the quantity of `v` and its SI unit).
+    pub v_axis: Axis<'a>,
     /// Title, with the quantity and its unit.
     pub title: &'a str,
     /// SI unit of the values (`"V/m"`, `"T"`, `"F"`; `""` for a pure number): the colour bar's
@@ -66,6 +69,39 @@ pub struct HeatMap<'a> {
     pub unit: &'a str,
     /// Contour levels (same unit as `values`) with a short name for the legend.
     pub contours: &'a [(f64, String)],
+}
+
+/// An axis of a figure: the quantity shown and the unit of the values given (SI: `"m"`, `"H"`,
+/// `"F"`; `""` for a pure number; a unit that takes no prefix, such as `"deg"` or `"turns"`,
+/// is shown as it is).
+#[derive(Debug, Clone, Copy)]
+pub struct Axis<'a> {
+    /// What the axis shows, e.g. `x` or `mutual.a.b`.
+    pub name: &'a str,
+    /// Unit of the values given.
+    pub unit: &'a str,
+}
+
+/// Units an axis reads with an SI prefix (the others, degrees or turns, as they are).
+const PREFIXED_UNITS: [&str; 11] = ["m", "H", "F", "V/m", "T", "Hz", "V", "A", "s", "W", "A/m"];
+
+/// How an axis reads: the factor dividing values in the axis's unit and the caption naming
+/// the unit read. One rule for every axis, the SI prefix of the tables
+/// ([`coilfield_solver::numtext::si_prefix`]) chosen for the largest magnitude on the axis: a
+/// plane 0.02 m to 0.3 m across reads in mm, an inductance near 8e-5 H in µH, 2e-11 F in pF.
+pub(crate) fn axis_reading(axis: Axis<'_>, lo: f64, hi: f64) -> (f64, String) {
+    if axis.unit.is_empty() {
+        return (1.0, axis.name.to_string());
+    }
+    if !PREFIXED_UNITS.contains(&axis.unit) {
+        return (1.0, format!("{} ({})", axis.name, axis.unit));
+    }
+    let largest = [lo, hi]
+        .into_iter()
+        .filter(|x| x.is_finite())
+        .fold(0.0f64, |m, x| m.max(x.abs()));
+    let (scale, prefix) = coilfield_solver::numtext::si_prefix(largest, 3);
+    (scale, format!("{} ({prefix}{})", axis.name, axis.unit))
 }
 
 /// One straight piece of a contour line, in plane coordinates (m).
@@ -183,10 +219,10 @@ pub struct LinePlot<'a> {
     pub x: &'a [f64],
     /// Ordinates; NaN = no value (a gap in the line).
     pub y: &'a [f64],
-    /// Axis label of x, with its unit.
-    pub x_label: &'a str,
-    /// Axis label of y, with its unit.
-    pub y_label: &'a str,
+    /// The abscissa's quantity and unit.
+    pub x_axis: Axis<'a>,
+    /// The ordinate's quantity and unit.
+    pub y_axis: Axis<'a>,
     /// Title.
     pub title: &'a str,
 }
@@ -225,18 +261,25 @@ impl Figure for LinePlot<'_> {
         root.fill(&WHITE).map_err(err)?;
         let (x0, x1) = finite_range(self.x.iter().copied());
         let (y0, y1) = finite_range(self.y.iter().copied());
+        let (sx, x_caption) = axis_reading(self.x_axis, x0, x1);
+        let (sy, y_caption) = axis_reading(self.y_axis, y0, y1);
+        let (x0, x1, y0, y1) = (x0 / sx, x1 / sx, y0 / sy, y1 / sy);
         let mut chart = ChartBuilder::on(root)
-            .caption(self.title, ("sans-serif", 20))
+            .caption(self.title, (FONT_FAMILY, 20))
             .margin(16)
             .x_label_area_size(44)
             .y_label_area_size(90)
             .build_cartesian_2d(x0..x1, y0..y1)
             .map_err(err)?;
+        let x_tick = |x: &f64| coilfield_solver::numtext::axis_tick(*x, x1 - x0);
+        let y_tick = |y: &f64| coilfield_solver::numtext::axis_tick(*y, y1 - y0);
         chart
             .configure_mesh()
-            .x_desc(self.x_label)
-            .y_desc(self.y_label)
-            .label_style(("sans-serif", 14))
+            .x_desc(x_caption)
+            .y_desc(y_caption)
+            .x_label_formatter(&x_tick)
+            .y_label_formatter(&y_tick)
+            .label_style((FONT_FAMILY, 14))
             .draw()
             .map_err(err)?;
         // Runs of finite values, each its own line, so a failed point leaves a gap.
@@ -244,7 +287,7 @@ impl Figure for LinePlot<'_> {
         for (&x, &y) in self.x.iter().zip(self.y) {
             if y.is_finite() {
                 if let Some(r) = runs.last_mut() {
-                    r.push((x, y));
+                    r.push((x / sx, y / sy));
                 }
             } else if runs.last().is_some_and(|r| !r.is_empty()) {
                 runs.push(Vec::new());
@@ -293,21 +336,30 @@ where
     );
     let (lo, hi) = finite_range(map.values.iter().map(|&x| map.scale.of(x)));
     let (plot_area, bar_area) = root.split_horizontally(780);
-    let (u0, u1) = (map.u[0], map.u[nu - 1]);
-    let (v0, v1) = (map.v[0], map.v[nv - 1]);
+    // Coordinates as the axes read them (mm for a plane a few decimetres across).
+    let (su, u_caption) = axis_reading(map.u_axis, map.u[0], map.u[nu - 1]);
+    let (sv, v_caption) = axis_reading(map.v_axis, map.v[0], map.v[nv - 1]);
+    let u: Vec<f64> = map.u.iter().map(|x| x / su).collect();
+    let v: Vec<f64> = map.v.iter().map(|x| x / sv).collect();
+    let (u0, u1) = (u[0], u[nu - 1]);
+    let (v0, v1) = (v[0], v[nv - 1]);
     let mut chart = ChartBuilder::on(&plot_area)
-        .caption(map.title, ("sans-serif", 20))
+        .caption(map.title, (FONT_FAMILY, 20))
         .margin(12)
-        .x_label_area_size(40)
-        .y_label_area_size(60)
+        .x_label_area_size(44)
+        .y_label_area_size(70)
         .build_cartesian_2d(u0..u1, v0..v1)
         .map_err(err)?;
+    let u_tick = |x: &f64| coilfield_solver::numtext::axis_tick(*x, u1 - u0);
+    let v_tick = |y: &f64| coilfield_solver::numtext::axis_tick(*y, v1 - v0);
     chart
         .configure_mesh()
         .disable_mesh()
-        .x_desc(map.u_label)
-        .y_desc(map.v_label)
-        .label_style(("sans-serif", 14))
+        .x_desc(u_caption)
+        .y_desc(v_caption)
+        .x_label_formatter(&u_tick)
+        .y_label_formatter(&v_tick)
+        .label_style((FONT_FAMILY, 14))
         .draw()
         .map_err(err)?;
     // Each sample colours the cell around it (half-way to its neighbours).
@@ -330,8 +382,8 @@ where
             (0..nv)
                 .flat_map(|j| (0..nu).map(move |i| (i, j)))
                 .map(|(i, j)| {
-                    let (a, b) = edge(map.u, i);
-                    let (c, d) = edge(map.v, j);
+                    let (a, b) = edge(&u, i);
+                    let (c, d) = edge(&v, j);
                     let x = map.scale.of(map.values[j * nu + i]);
                     let colour = if x.is_finite() {
                         ViridisRGB::get_color_normalized(x, lo, hi)
@@ -356,7 +408,7 @@ where
     ];
     for (k, (level, name)) in map.contours.iter().enumerate() {
         let colour = palette[k % palette.len()];
-        let segs = contour_segments(map.u, map.v, map.values, *level, map.scale);
+        let segs = contour_segments(&u, &v, map.values, *level, map.scale);
         chart
             .draw_series(
                 segs.iter()
@@ -374,7 +426,7 @@ where
             .position(SeriesLabelPosition::UpperLeft)
             .background_style(WHITE.mix(0.8))
             .border_style(BLACK)
-            .label_font(("sans-serif", 13))
+            .label_font((FONT_FAMILY, 13))
             .draw()
             .map_err(err)?;
     }
@@ -384,7 +436,7 @@ where
         .margin_bottom(52)
         .margin_right(8)
         .y_label_area_size(58)
-        .caption(colour_bar_caption(map.scale, map.unit), ("sans-serif", 14))
+        .caption(colour_bar_caption(map.scale, map.unit), (FONT_FAMILY, 14))
         .build_cartesian_2d(0.0..1.0, lo..hi)
         .map_err(err)?;
     let tick = |y: &f64| colour_bar_tick(*y, map.scale, map.unit);
@@ -392,7 +444,7 @@ where
         .disable_mesh()
         .disable_x_axis()
         .y_label_formatter(&tick)
-        .label_style(("sans-serif", 13))
+        .label_style((FONT_FAMILY, 13))
         .draw()
         .map_err(err)?;
     let steps = 100;
@@ -481,8 +533,14 @@ mod tests {
             v: &v,
             values: &vals,
             scale: Scale::Log,
-            u_label: "x (m)",
-            v_label: "z (m)",
+            u_axis: Axis {
+                name: "x",
+                unit: "m",
+            },
+            v_axis: Axis {
+                name: "z",
+                unit: "m",
+            },
             title: "|E| (V/m)",
             unit: "V/m",
             contours: &contours,
@@ -501,8 +559,14 @@ mod tests {
         let plot = LinePlot {
             x: &x,
             y: &y,
-            x_label: "h (m)",
-            y_label: "k",
+            x_axis: Axis {
+                name: "h",
+                unit: "m",
+            },
+            y_axis: Axis {
+                name: "k",
+                unit: "",
+            },
             title: "k against h",
         };
         let svg = String::from_utf8(figure_bytes(&plot, true).unwrap()).unwrap();
@@ -515,6 +579,114 @@ mod tests {
         assert_eq!(svg.matches("<circle").count(), 4);
         assert!(svg.contains("k against h"));
         assert_eq!(&figure_bytes(&plot, false).unwrap()[1..4], b"PNG");
+    }
+
+    /// The texts of an SVG's `<text>` elements (plotters writes each on its own line).
+    pub(crate) fn svg_texts(svg: &str) -> Vec<String> {
+        svg.split("<text")
+            .skip(1)
+            .filter_map(|t| {
+                let body = &t[t.find('>')? + 1..t.find("</text>")?];
+                Some(body.trim().to_string())
+            })
+            .collect()
+    }
+
+    #[test]
+    fn axes_read_in_the_prefix_of_their_largest_value() {
+        // A plane 0.02 m to 0.3 m across reads in mm (the tables' SI-prefix rule); ticks are
+        // round numbers of mm, not 0.09499999999999999.
+        let u: Vec<f64> = (0..12).map(|k| 0.02 + 0.025 * k as f64).collect();
+        let v = [0.0, 0.095, 0.19];
+        let vals: Vec<f64> = (0..36).map(|k| 1.0 + k as f64).collect();
+        let map = HeatMap {
+            u: &u,
+            v: &v,
+            values: &vals,
+            scale: Scale::Log,
+            u_axis: Axis {
+                name: "x",
+                unit: "m",
+            },
+            v_axis: Axis {
+                name: "z",
+                unit: "m",
+            },
+            title: "t",
+            unit: "V/m",
+            contours: &[],
+        };
+        let texts = svg_texts(&String::from_utf8(heat_map_bytes(&map, true).unwrap()).unwrap());
+        assert!(texts.iter().any(|t| t == "x (mm)"), "{texts:?}");
+        assert!(texts.iter().any(|t| t == "z (mm)"), "{texts:?}");
+        assert!(texts.iter().any(|t| t == "100"), "{texts:?}");
+        let mut ticks = texts.iter().filter(|t| t.parse::<f64>().is_ok());
+        assert!(
+            ticks.clone().count() > 8 && ticks.all(|t| t.len() <= 3),
+            "{texts:?}"
+        );
+        // An inductance near 80 µH reads in µH, a coupling (a pure number) as it is.
+        let x = [0.1, 0.2, 0.3];
+        let y = [7.9e-5, 8.1e-5, 8.4e-5];
+        let plot = LinePlot {
+            x: &x,
+            y: &y,
+            x_axis: Axis {
+                name: "winding.b.radius",
+                unit: "m",
+            },
+            y_axis: Axis {
+                name: "self_inductance.b",
+                unit: "H",
+            },
+            title: "L",
+        };
+        let texts = svg_texts(&String::from_utf8(figure_bytes(&plot, true).unwrap()).unwrap());
+        assert!(
+            texts.iter().any(|t| t == "self_inductance.b (µH)"),
+            "{texts:?}"
+        );
+        assert!(
+            texts.iter().any(|t| t == "winding.b.radius (mm)"),
+            "{texts:?}"
+        );
+        // Ticks in µH, short: 79.5, not 7.95e-5 or 0.0000795.
+        let ticks: Vec<f64> = texts.iter().filter_map(|t| t.parse().ok()).collect();
+        assert!(
+            ticks.iter().any(|&t| (79.0..=84.0).contains(&t)),
+            "{texts:?}"
+        );
+        assert!(
+            texts.iter().all(|t| t.len() < 40 && !t.contains("e-")),
+            "{texts:?}"
+        );
+        let (s, caption) = axis_reading(
+            Axis {
+                name: "k",
+                unit: "",
+            },
+            0.0,
+            0.3,
+        );
+        assert_eq!((s, caption.as_str()), (1.0, "k"));
+        let (s, caption) = axis_reading(
+            Axis {
+                name: "tilt",
+                unit: "deg",
+            },
+            0.0,
+            0.001,
+        );
+        assert_eq!((s, caption.as_str()), (1.0, "tilt (deg)"));
+        let (s, caption) = axis_reading(
+            Axis {
+                name: "C",
+                unit: "F",
+            },
+            1.5e-11,
+            2.2e-11,
+        );
+        assert_eq!((s, caption.as_str()), (1e-12, "C (pF)"));
     }
 
     #[test]

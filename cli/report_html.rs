@@ -433,14 +433,20 @@ pub fn field_map(design: &Design, label: &str) -> anyhow::Result<Figure> {
         .collect();
     let (contours, _) = threshold_contours(design, label, quantity, unit)?;
     let title = format!("peak {name} ({unit}) on the x-z plane through the secondary's axis");
-    let (ul, vl) = Plane::Xz.labels();
+    let (ul, vl) = Plane::Xz.axis_names();
     let map = HeatMap {
         u: &grid.xs_m,
         v: &grid.zs_m,
         values: &values,
         scale: plot::Scale::Log,
-        u_label: ul,
-        v_label: vl,
+        u_axis: plot::Axis {
+            name: ul,
+            unit: "m",
+        },
+        v_axis: plot::Axis {
+            name: vl,
+            unit: "m",
+        },
         title: &title,
         unit,
         contours: &contours,
@@ -527,7 +533,7 @@ pub fn coupling_against_height(design: &Design) -> anyhow::Result<Option<Figure>
         let d = -down + (down + sec_len) * i as f64 / (n - 1) as f64;
         let mut moved = pri.clone();
         moved.shape = raised(&pri.shape, d);
-        dz.push(1000.0 * d);
+        dz.push(d);
         k.push(coupling_with(&sec_model, l_sec, &moved, ground.as_ref()).unwrap_or(f64::NAN));
     }
     let title = format!(
@@ -537,8 +543,14 @@ pub fn coupling_against_height(design: &Design) -> anyhow::Result<Option<Figure>
     let curve = LinePlot {
         x: &dz,
         y: &k,
-        x_label: "height of the primary from its place in the design (mm)",
-        y_label: "k",
+        x_axis: plot::Axis {
+            name: "height of the primary from its place in the design",
+            unit: "m",
+        },
+        y_axis: plot::Axis {
+            name: "k",
+            unit: "",
+        },
         title: &title,
     };
     let svg = String::from_utf8(plot::figure_bytes(&curve, true)?)?;
@@ -546,7 +558,7 @@ pub fn coupling_against_height(design: &Design) -> anyhow::Result<Option<Figure>
         id: COUPLING_ID,
         caption: format!(
             "k of the primary '{}' with the secondary '{}' as the primary is raised or lowered \
-             along z (0 mm: where the design places it); gaps: heights where no value could be computed.",
+             along z (0: where the design places it); gaps: heights where no value could be computed.",
             pri.name, sec.name
         ),
         svg,

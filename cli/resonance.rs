@@ -101,7 +101,7 @@ fn tap_plot(path: &Path, p: &PrimaryTuning, f1_hz: f64) -> anyhow::Result<()> {
     let y: Vec<f64> = p
         .frequency_against_tap
         .iter()
-        .map(|t| t.frequency_hz / 1e3)
+        .map(|t| t.frequency_hz)
         .collect();
     let title = format!(
         "primary '{}' with the tank: f against the tap (secondary f1 = {:.2} kHz)",
@@ -112,8 +112,14 @@ fn tap_plot(path: &Path, p: &PrimaryTuning, f1_hz: f64) -> anyhow::Result<()> {
         &LinePlot {
             x: &x,
             y: &y,
-            x_label: "turns in use",
-            y_label: "frequency (kHz)",
+            x_axis: plot::Axis {
+                name: "turns in use",
+                unit: "",
+            },
+            y_axis: plot::Axis {
+                name: "frequency",
+                unit: "Hz",
+            },
             title: &title,
         },
         is_svg(path)?,
@@ -126,14 +132,19 @@ fn resonance_plot(path: &Path, r: &Resonance) -> anyhow::Result<()> {
     let svg = is_svg(path)?;
     let bytes = match r.drive.as_ref().and_then(|d| d.envelope.as_ref()) {
         Some(env) => {
-            let x: Vec<f64> = env.top_voltage_times_s.iter().map(|t| t * 1e3).collect();
-            let y: Vec<f64> = env.top_voltage_v.iter().map(|v| v / 1e3).collect();
+            let (x, y) = (&env.top_voltage_times_s, &env.top_voltage_v);
             plot::figure_bytes(
                 &LinePlot {
-                    x: &x,
-                    y: &y,
-                    x_label: "time (ms)",
-                    y_label: "top voltage, peaks (kV)",
+                    x,
+                    y,
+                    x_axis: plot::Axis {
+                        name: "time",
+                        unit: "s",
+                    },
+                    y_axis: plot::Axis {
+                        name: "top voltage, peaks",
+                        unit: "V",
+                    },
                     title: "spark gap: envelope of the top voltage (gap quenched at the first notch)",
                 },
                 svg,
@@ -152,8 +163,14 @@ fn resonance_plot(path: &Path, r: &Resonance) -> anyhow::Result<()> {
                 &LinePlot {
                     x: &x,
                     y: &m.voltage_profile,
-                    x_label: "fraction of the winding from the base",
-                    y_label: "voltage / top voltage",
+                    x_axis: plot::Axis {
+                        name: "fraction of the winding from the base",
+                        unit: "",
+                    },
+                    y_axis: plot::Axis {
+                        name: "voltage / top voltage",
+                        unit: "",
+                    },
                     title: &title,
                 },
                 svg,

@@ -103,12 +103,12 @@ pub enum Plane {
 }
 
 impl Plane {
-    /// Axis labels (u, v) with the unit.
-    pub fn labels(self) -> (&'static str, &'static str) {
+    /// The coordinates (u, v) the plane's axes show (both in m).
+    pub fn axis_names(self) -> (&'static str, &'static str) {
         match self {
-            Plane::Xz => ("x (m)", "z (m)"),
-            Plane::Yz => ("y (m)", "z (m)"),
-            Plane::Xy => ("x (m)", "y (m)"),
+            Plane::Xz => ("x", "z"),
+            Plane::Yz => ("y", "z"),
+            Plane::Xy => ("x", "y"),
         }
     }
 }

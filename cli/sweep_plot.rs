@@ -42,10 +42,10 @@ pub fn check(plot: &Path, grid_counts: Option<&[usize]>) -> anyhow::Result<()> {
     }
 }
 
-/// An axis key with its unit: lengths in m, tilts in degrees, turn counts in turns.
-fn axis_label(key: &str) -> String {
+/// The unit of an axis key's values: lengths in m, tilts in degrees, turn counts in turns.
+fn axis_unit(key: &str) -> &'static str {
     let field = key.rsplit('.').next().unwrap_or(key);
-    let unit = if field == "tilt_deg" {
+    if field == "tilt_deg" {
         "deg"
     } else if field == "turns" || field == "tap_turns" {
         "turns"
@@ -53,8 +53,23 @@ fn axis_label(key: &str) -> String {
         "per turn"
     } else {
         "m"
-    };
-    format!("{key} ({unit})")
+    }
+}
+
+/// The plot axis of a grid key.
+fn key_axis(key: &str) -> plot::Axis<'_> {
+    plot::Axis {
+        name: key,
+        unit: axis_unit(key),
+    }
+}
+
+/// The plot axis of a metric (its SI unit; a pure number has none).
+fn metric_axis(name: &str) -> plot::Axis<'_> {
+    plot::Axis {
+        name,
+        unit: crate::output::metric_unit(name),
+    }
 }
 
 /// A metric name with its unit.
@@ -111,13 +126,12 @@ pub fn write(
         let x: Vec<f64> = order.iter().map(|&i| grids[0][i]).collect();
         let y: Vec<f64> = order.iter().map(|&i| values[i]).collect();
         let title = format!("{metric_name} against {}", axis_names[0]);
-        let (x_label, y_label) = (axis_label(axis_names[0]), metric_label(metric_name));
         plot::figure_bytes(
             &LinePlot {
                 x: &x,
                 y: &y,
-                x_label: &x_label,
-                y_label: &y_label,
+                x_axis: key_axis(axis_names[0]),
+                y_axis: metric_axis(metric_name),
                 title: &title,
             },
             svg,
@@ -133,7 +147,6 @@ pub fn write(
             .flat_map(|&j| ou.iter().map(move |&i| values[i * nv + j]))
             .collect();
         let contours = contour_levels(&z, crate::output::metric_unit(metric_name));
-        let (u_label, v_label) = (axis_label(axis_names[0]), axis_label(axis_names[1]));
         let title = metric_label(metric_name);
         plot::figure_bytes(
             &HeatMap {
@@ -141,8 +154,8 @@ pub fn write(
                 v: &v,
                 values: &z,
                 scale: Scale::Linear,
-                u_label: &u_label,
-                v_label: &v_label,
+                u_axis: key_axis(axis_names[0]),
+                v_axis: key_axis(axis_names[1]),
                 title: &title,
                 unit: crate::output::metric_unit(metric_name),
                 contours: &contours,
@@ -167,8 +180,8 @@ mod tests {
 
     #[test]
     fn labels_carry_units() {
-        assert_eq!(axis_label("winding.p.origin[2]"), "winding.p.origin[2] (m)");
-        assert_eq!(axis_label("winding.p.tilt_deg"), "winding.p.tilt_deg (deg)");
+        assert_eq!(axis_unit("winding.p.origin[2]"), "m");
+        assert_eq!(axis_unit("winding.p.tilt_deg"), "deg");
         assert_eq!(metric_label("coupling.a.b"), "coupling.a.b (1)");
         assert_eq!(metric_label("surface_field.t"), "surface_field.t (V/m)");
     }

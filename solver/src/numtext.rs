@@ -153,6 +153,16 @@ fn prefix_of(value: f64, digits: usize) -> (f64, &'static str) {
         .unwrap_or(PREFIXES[PREFIXES.len() - 1])
 }
 
+/// The SI prefix (scale and symbol) that [`si`] chooses for `value` at `digits` significant
+/// digits: the one rule of every prefixed output, tables and plot axes alike (an axis reads in
+/// the prefix of its largest magnitude, so 0.02 m to 0.3 m reads in mm).
+pub fn si_prefix(value: f64, digits: usize) -> (f64, &'static str) {
+    if value == 0.0 || !value.is_finite() {
+        return (1.0, "");
+    }
+    prefix_of(value, digits)
+}
+
 /// `v` rounded to `digits` significant digits (through its decimal text, so it is the value a
 /// reader sees).
 fn round_significant(v: f64, digits: usize) -> f64 {
@@ -240,6 +250,27 @@ pub fn fixed(value: f64, decimals: usize) -> String {
         .all(|c| c == '0' || c == '.')
     {
         text.trim_start_matches('-').to_string()
+    } else {
+        text
+    }
+}
+
+/// An axis tick for plots: `value` to the precision of an axis spanning `span` (five
+/// significant digits of the span), trailing zeros dropped, never `-0`; so a grid value of
+/// 0.09499999999999999 on a 0.1-wide axis reads `0.095`.
+pub fn axis_tick(value: f64, span: f64) -> String {
+    if !value.is_finite() {
+        return shortest(value);
+    }
+    let span = if span.is_finite() && span > 0.0 {
+        span
+    } else {
+        value.abs().max(1.0)
+    };
+    let decimals = (4 - span.log10().floor() as i64).clamp(0, 17) as usize;
+    let text = fixed(value, decimals);
+    if text.contains('.') {
+        text.trim_end_matches('0').trim_end_matches('.').to_string()
     } else {
         text
     }
@@ -342,6 +373,18 @@ mod tests {
         assert_eq!(si(999.96e-6, "H", 4), "1.000 mH");
         assert_eq!(si(9.6e-17, "F", 2), "96 aF");
         assert_eq!(si(-0.0, "V", 3), "0 V");
+        assert_eq!(si_prefix(0.3, 3), (1e-3, "m"));
+        assert_eq!(si_prefix(8.2e-5, 3), (1e-6, "µ"));
+        assert_eq!(si_prefix(0.0, 3), (1.0, ""));
+    }
+
+    #[test]
+    fn axis_ticks_read_at_the_axis_precision() {
+        assert_eq!(axis_tick(0.094_999_999_999_999_99, 0.1), "0.095");
+        assert_eq!(axis_tick(-1e-17, 2.0), "0");
+        assert_eq!(axis_tick(1500.0, 3000.0), "1500");
+        assert_eq!(axis_tick(12.5, 100.0), "12.5");
+        assert_eq!(axis_tick(-0.25, 1.0), "-0.25");
     }
 
     #[test]
