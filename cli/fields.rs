@@ -5,7 +5,7 @@ use crate::sample;
 use crate::{BadInput, load, output};
 use coilfield_solver::Par;
 use coilfield_solver::electrostatic::validity_warnings;
-use coilfield_solver::field_model::{EValue, FieldModel, Sample, distances_from_centre_m};
+use coilfield_solver::field_model::{FieldModel, NoValue, Sample, distances_from_centre_m};
 use coilfield_solver::numtext::shortest;
 use nalgebra::{Point3, Vector3};
 use serde::Serialize;
@@ -129,12 +129,11 @@ pub fn run(
 
 /// The output row of one point, and the warning it raises, if any.
 ///
-/// A point inside a conductor is bad input when it was typed with `--at` (the user asked for
-/// that point alone), but on a list of points (`--points`) it is one sample among many, as on a
-/// grid: inside an electrode E and B are left without a value (the free-space magnetic model
-/// does not see the conductor, which shuts the field out at the drive frequency), below the
-/// ground plane E alone, and a warning names the point and the conductor. A point on a wire has
-/// no value for either field.
+/// The values and markers are the field model's ([`Sample`]), as on a `map` grid. A point
+/// inside a conductor is bad input when it was typed with `--at` (the user asked for that point
+/// alone), but on a list of points (`--points`) it is one sample among many: its fields are
+/// left without a value and a warning names the point and the reason, as for a point on a wire
+/// or beyond the model's range.
 fn point_row(
     p: &Point3<f64>,
     s: &Sample,
@@ -143,43 +142,23 @@ fn point_row(
     let position_m = [p.x, p.y, p.z];
     let at = format!("{}: the point ({}, {}, {}) m", o.label(), p.x, p.y, p.z);
     let mut warning = None;
-    let inside = match &s.e {
-        EValue::Inside(name) => Some(format!("electrode '{name}'")),
-        EValue::BelowGround => Some("the ground (below the ground plane)".to_string()),
-        EValue::Field(_) => None,
-    };
-    if let Some(what) = &inside {
-        if let Origin::At(_) = o {
-            return Err(BadInput(format!(
-                "{at} lies inside {what}, where the field is not defined; move it outside"
-            )));
+    if let Some(why) = s.no_value() {
+        if let (Origin::At(_), NoValue::Inside(_) | NoValue::BelowGround) = (o, why) {
+            return Err(BadInput(format!("{at} {}; move it outside", why.reason())));
         }
-        let which = if matches!(s.e, EValue::Inside(_)) {
-            "E and B are"
-        } else {
-            "E is"
-        };
         warning = Some(format!(
-            "{at} lies inside {what}: {which} not defined there (null in JSON, NaN in CSV and \
-             table)"
+            "{at} {} (null in JSON, NaN in CSV and table)",
+            why.reason()
         ));
     }
-    let on_wire = inside.is_none() && s.b.is_none();
-    if on_wire {
-        warning = Some(format!(
-            "{at} lies on a winding's wire: no field given (null in JSON, NaN in CSV and table)"
-        ));
-    }
-    let e = match &s.e {
-        EValue::Field(v) if !on_wire => Some(*v),
-        _ => None,
-    };
+    let e = s.e.as_ref().ok().copied();
+    let b = s.b.as_ref().ok().copied();
     let row = PointOut {
         position_m,
         e_field_v_per_m: e.map(arr),
         e_mag_v_per_m: e.map(|v| v.norm()),
-        b_field_t: s.b.map(arr),
-        b_mag_t: s.b.map(|v| v.norm()),
+        b_field_t: b.map(arr),
+        b_mag_t: b.map(|v| v.norm()),
     };
     Ok((row, warning))
 }

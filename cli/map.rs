@@ -6,8 +6,9 @@ use crate::sample::{self, Grid, Plane};
 use crate::thresholds;
 use crate::vtk::{self, Array};
 use crate::{BadInput, load, output};
-use coilfield_solver::field_model::{EValue, FieldModel, distances_from_centre_m};
+use coilfield_solver::field_model::{FieldModel, Sample, distances_from_centre_m};
 use coilfield_solver::thresholds::{CAUTION, Method, Quantity};
+use nalgebra::Point3;
 use serde::Serialize;
 use std::path::Path;
 use std::process::ExitCode;
@@ -51,12 +52,82 @@ struct MapOut {
     /// Which electric solver gave E: "bem" or "fem".
     electric_solver: &'static str,
     n_points: usize,
+    /// The largest |E| among the points with a value, those near a conductor edge set aside.
     max_e_mag_v_per_m: Option<f64>,
+    /// Where it occurs (m).
+    max_e_at_m: Option<[f64; 3]>,
+    /// The largest |B| among the points with a value.
     max_b_mag_t: Option<f64>,
+    /// Where it occurs (m).
+    max_b_at_m: Option<[f64; 3]>,
+    /// Points set aside from the |E| summary: within `edge_distance_panels` panel lengths of a
+    /// conductor edge, where the panels do not resolve E.
+    near_edge: NearEdge,
     points_without_e: usize,
     points_without_b: usize,
     files: Vec<String>,
     warnings: Vec<String>,
+}
+
+/// Which points the |E| summary sets aside ([`coilfield_solver::electrostatic::Edge`]).
+const NEAR_EDGE_RULE: &str = "within 2 panel lengths or 1% of the conductor's generatrix \
+     length (the larger) of a conductor edge";
+
+/// The points of a map set aside from its |E| summary near conductor edges.
+#[derive(Serialize)]
+struct NearEdge {
+    /// The stated distance, in words.
+    rule: &'static str,
+    /// How many points were set aside.
+    points_skipped: usize,
+    /// The largest |E| among them (V/m): edges are where breakdown starts.
+    max_e_mag_v_per_m: Option<f64>,
+    /// Where it occurs (m).
+    max_e_at_m: Option<[f64; 3]>,
+}
+
+/// The largest of `values` (NaN = no value) among the points `keep` allows, with its point.
+fn peak(
+    values: &[f64],
+    pts: &[Point3<f64>],
+    keep: impl Fn(usize) -> bool,
+) -> Option<(f64, [f64; 3])> {
+    values
+        .iter()
+        .enumerate()
+        .filter(|(k, x)| x.is_finite() && keep(*k))
+        .fold(None, |m: Option<(f64, usize)>, (k, &x)| match m {
+            Some((best, _)) if best >= x => m,
+            _ => Some((x, k)),
+        })
+        .map(|(x, k)| (x, [pts[k].x, pts[k].y, pts[k].z]))
+}
+
+/// One warning per reason of the points without a value: how many, and the first of them.
+fn no_value_warnings(samples: &[Sample], pts: &[Point3<f64>]) -> Vec<String> {
+    let mut seen: Vec<(String, usize, Point3<f64>)> = Vec::new();
+    for (s, p) in samples.iter().zip(pts) {
+        let Some(why) = s.no_value() else { continue };
+        let reason = why.reason();
+        match seen.iter_mut().find(|(r, _, _)| *r == reason) {
+            Some(entry) => entry.1 += 1,
+            None => seen.push((reason, 1, *p)),
+        }
+    }
+    seen.into_iter()
+        .map(|(reason, n, p)| {
+            let what = if reason.contains("E is not") {
+                "no E"
+            } else {
+                "no E or B"
+            };
+            format!(
+                "{n} grid point(s), the first ({}, {}, {}) m, {reason}: {what} there (NaN in \
+                 the VTK file, grey in the heat map)",
+                p.x, p.y, p.z
+            )
+        })
+        .collect()
 }
 
 /// The grid the options describe.
@@ -159,41 +230,48 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
     let pts = g.points();
     let samples = model.eval(&pts);
     let n = pts.len();
-    // NaN marks "no value" (inside a conductor, on its surface, on a wire): it round-trips
-    // through VTK and viewers leave it blank; Inf would ruin their colour ranges.
+    // NaN marks "no value" (the field model's rule: on a wire, inside a conductor, below the
+    // ground for E, beyond the model's range): it round-trips through VTK and viewers leave it
+    // blank; Inf would ruin their colour ranges.
     let mut e_vec = Vec::with_capacity(3 * n);
     let mut b_vec = Vec::with_capacity(3 * n);
     let mut e_mag = Vec::with_capacity(n);
     let mut b_mag = Vec::with_capacity(n);
     for s in &samples {
-        match &s.e {
-            EValue::Field(v) => {
-                e_vec.extend_from_slice(&[v.x, v.y, v.z]);
-                e_mag.push(v.norm());
-            }
-            _ => {
-                e_vec.extend_from_slice(&[f64::NAN; 3]);
-                e_mag.push(f64::NAN);
-            }
-        }
-        match s.b {
-            Some(v) => {
-                b_vec.extend_from_slice(&[v.x, v.y, v.z]);
-                b_mag.push(v.norm());
-            }
-            None => {
-                b_vec.extend_from_slice(&[f64::NAN; 3]);
-                b_mag.push(f64::NAN);
+        for (value, vec, mag) in [
+            (&s.e, &mut e_vec, &mut e_mag),
+            (&s.b, &mut b_vec, &mut b_mag),
+        ] {
+            match value {
+                Ok(v) => {
+                    vec.extend_from_slice(&[v.x, v.y, v.z]);
+                    mag.push(v.norm());
+                }
+                Err(_) => {
+                    vec.extend_from_slice(&[f64::NAN; 3]);
+                    mag.push(f64::NAN);
+                }
             }
         }
     }
-    let max = |v: &[f64]| {
-        v.iter()
-            .copied()
-            .filter(|x| x.is_finite())
-            .fold(None, |m: Option<f64>, x| Some(m.map_or(x, |m| m.max(x))))
-    };
+    let near_edge = model.near_edge(&pts);
+    let e_peak = peak(&e_mag, &pts, |k| !near_edge[k]);
+    let e_edge_peak = peak(&e_mag, &pts, |k| near_edge[k]);
+    let b_peak = peak(&b_mag, &pts, |_| true);
     let mut warnings = model.warnings.clone();
+    warnings.extend(no_value_warnings(&samples, &pts));
+    let n_near_edge = near_edge.iter().filter(|x| **x).count();
+    if let Some((e, at)) = e_edge_peak {
+        warnings.push(format!(
+            "{n_near_edge} grid point(s) {NEAR_EDGE_RULE} are left out of max_e_mag_v_per_m \
+             (the boundary elements do not resolve E there); the largest |E| among them is {} \
+             at ({}, {}, {}) m: edges are where breakdown starts",
+            output::si(e, "V/m", 4),
+            at[0],
+            at[1],
+            at[2]
+        ));
+    }
     warnings.extend(coilfield_solver::electrostatic::validity_warnings(
         &design,
         &distances_from_centre_m(&design, &pts),
@@ -258,8 +336,16 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
         caution: CAUTION,
         electric_solver: model.electric_solver(),
         n_points: n,
-        max_e_mag_v_per_m: max(&e_mag),
-        max_b_mag_t: max(&b_mag),
+        max_e_mag_v_per_m: e_peak.map(|(x, _)| x),
+        max_e_at_m: e_peak.map(|(_, at)| at),
+        max_b_mag_t: b_peak.map(|(x, _)| x),
+        max_b_at_m: b_peak.map(|(_, at)| at),
+        near_edge: NearEdge {
+            rule: NEAR_EDGE_RULE,
+            points_skipped: n_near_edge,
+            max_e_mag_v_per_m: e_edge_peak.map(|(x, _)| x),
+            max_e_at_m: e_edge_peak.map(|(_, at)| at),
+        },
         points_without_e: e_mag.iter().filter(|x| x.is_nan()).count(),
         points_without_b: b_mag.iter().filter(|x| x.is_nan()).count(),
         files: files_out

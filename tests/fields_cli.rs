@@ -1093,3 +1093,184 @@ fn field_csv_and_table_agree_with_json_and_the_box_grid_reads_back() {
     let p3 = &g["points"][3];
     assert_eq!((f(&p3[0]), f(&p3[1]), f(&p3[2])), (0.3, 0.1, 0.2));
 }
+
+#[test]
+fn map_and_field_agree_on_a_wire_inside_an_electrode_and_in_free_air() {
+    // One evaluator, one rule: a 3 x 2 grid whose points are on the secondary's wire (turn
+    // 100 of the ring model: 55 mm from the axis, z = 0.10 m + 100.5 pitches), inside the
+    // torus's tube (0.12, 0, 0.62) and in free air, through `map` (VTK read back by the real
+    // VTK library) and `field --points` (JSON): the same values and the same markers (NaN in
+    // VTK, null in JSON), and the same reasons in the warnings. Before, `map` gave a value of E
+    // on the wire where `field` gave none.
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let d = d.to_str().unwrap();
+    let z_wire = 0.10 + 100.5 * 0.45 / 900.0;
+    let vtr = dir.path().join("m.vtr");
+    let summary = field_json(&[
+        "map",
+        d,
+        "--plane",
+        "xz",
+        "--extent",
+        &format!("0.055,0.185,{z_wire:?},0.62"),
+        "--resolution",
+        "3,2",
+        "--vtk",
+        vtr.to_str().unwrap(),
+    ]);
+    assert_eq!(summary["n_points"], 6);
+    let map_warnings = summary["warnings"].to_string();
+    assert!(
+        map_warnings.contains("on a winding's wire"),
+        "{map_warnings}"
+    );
+    assert!(
+        map_warnings.contains("inside electrode 'topload'"),
+        "{map_warnings}"
+    );
+    let j = read_vtk(&vtr);
+    let pts = j["points"].as_array().unwrap();
+    let data = &j["point_data"];
+    let mut text = String::from("x,y,z\n");
+    for p in pts {
+        text.push_str(&format!("{:?},{:?},{:?}\n", f(&p[0]), f(&p[1]), f(&p[2])));
+    }
+    let csv = dir.path().join("p.csv");
+    std::fs::write(&csv, text).unwrap();
+    let fj = field_json(&[
+        "field",
+        d,
+        "--points",
+        csv.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    let fp = fj["points"].as_array().unwrap();
+    assert_eq!(fp.len(), 6);
+    let field_warnings = fj["warnings"].to_string();
+    let (mut on_wire, mut inside, mut free) = (0, 0, 0);
+    for (k, p) in fp.iter().enumerate() {
+        let (x, z) = (f(&pts[k][0]), f(&pts[k][2]));
+        let wire = (x - 0.055).hypot(z - z_wire) < 2e-4;
+        let torus = (x - 0.12).hypot(z - 0.62) < 0.04;
+        for (vtk_vec, vtk_mag, key_vec, key_mag) in [
+            (
+                "E_V_per_m",
+                "E_mag_V_per_m",
+                "e_field_v_per_m",
+                "e_mag_v_per_m",
+            ),
+            ("B_T", "B_mag_T", "b_field_t", "b_mag_t"),
+        ] {
+            let m = f(&data[vtk_mag]["values"][k]);
+            if wire || torus {
+                assert!(
+                    m.is_nan(),
+                    "point {k} ({x}, {z}): {vtk_mag} = {m} in the map"
+                );
+                assert!(
+                    p[key_mag].is_null() && p[key_vec].is_null(),
+                    "point {k}: {p}"
+                );
+                continue;
+            }
+            assert_eq!(m, f(&p[key_mag]), "point {k}: {vtk_mag}");
+            for c in 0..3 {
+                assert_eq!(
+                    f(&data[vtk_vec]["values"][k][c]),
+                    f(&p[key_vec][c]),
+                    "point {k}: {vtk_vec}[{c}]"
+                );
+            }
+            assert!(m > 0.0);
+        }
+        on_wire += usize::from(wire);
+        inside += usize::from(torus);
+        free += usize::from(!wire && !torus);
+    }
+    assert_eq!((on_wire, inside, free), (1, 1, 4));
+    assert!(
+        field_warnings.contains("on a winding's wire"),
+        "{field_warnings}"
+    );
+    assert!(
+        field_warnings.contains("inside electrode 'topload'"),
+        "{field_warnings}"
+    );
+}
+
+#[test]
+fn each_reason_for_no_value_has_its_own_warning() {
+    // Before, a point beyond the model's range read as "on a winding's wire". Now: on a wire,
+    // inside an electrode (tested above) and beyond the model's range, each in its own words.
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", &dipole_loop());
+    let d = d.to_str().unwrap();
+    let j = field_json(&[
+        "field",
+        d,
+        "--at",
+        "0,0,1e155",
+        "--at",
+        "0,0,1e60",
+        "--format",
+        "json",
+    ]);
+    let w = j["warnings"].to_string();
+    assert!(
+        w.contains("--at 0,0,1e155") && w.contains("beyond the model's range"),
+        "{w}"
+    );
+    assert!(!w.contains("wire"), "{w}");
+    let p = &j["points"][0];
+    for key in ["e_field_v_per_m", "e_mag_v_per_m", "b_field_t", "b_mag_t"] {
+        assert!(p[key].is_null(), "{key}: {}", p[key]);
+    }
+    // 1e60 m is within range: a value, and no warning about it.
+    assert!(j["points"][1]["b_mag_t"].as_f64().is_some());
+    assert!(!w.contains("1e60"), "{w}");
+}
+
+#[test]
+fn map_summary_sets_aside_the_edge_at_the_grounded_base_and_names_it() {
+    // The secondary's base (z = 0.10 m, held at 0 V) is a rim of the thin-sheet model: a grid
+    // point 0.2 mm from it read 2.3 MV/m, five times the field anywhere else on this grid (the
+    // top at 150 kV), and the summary reported it as the map's peak. Now it is set aside and
+    // named: how many points, the largest value among them and its place.
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", RESONATOR);
+    let vtr = dir.path().join("m.vtr");
+    let j = field_json(&[
+        "map",
+        d.to_str().unwrap(),
+        "--plane",
+        "xz",
+        "--extent",
+        "0,0.2,0,0.3",
+        "--resolution",
+        "41,31",
+        "--vtk",
+        vtr.to_str().unwrap(),
+    ]);
+    let near = &j["near_edge"];
+    assert!(near["points_skipped"].as_u64().unwrap() >= 1, "{near}");
+    let at = near["max_e_at_m"].as_array().unwrap();
+    // At the base rim: 55 mm from the axis, z = 0.10 m.
+    assert!(
+        (f(&at[0]) - 0.055).abs() < 1e-9 && (f(&at[2]) - 0.10).abs() < 1e-9,
+        "{near}"
+    );
+    let edge = f(&near["max_e_mag_v_per_m"]);
+    let peak = f(&j["max_e_mag_v_per_m"]);
+    assert!(edge > 3.0 * peak, "edge {edge} vs peak {peak}");
+    // The summary's peak is away from the base rim.
+    let p = j["max_e_at_m"].as_array().unwrap();
+    assert!((f(&p[0]) - 0.055).hypot(f(&p[2]) - 0.10) > 0.01, "{p:?}");
+    let w = j["warnings"].to_string();
+    assert!(
+        w.contains("conductor edge") && w.contains("(0.05500000000000001, 0, 0.1)")
+            || w.contains("(0.055, 0, 0.1)"),
+        "{w}"
+    );
+}

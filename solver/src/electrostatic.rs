@@ -1812,12 +1812,122 @@ impl Solution {
         (er, ez)
     }
 
+    /// The monopole and axial dipole of the drive's panel charges (and their images in the
+    /// ground plane), for points beyond [`E_FAR_RATIO`] sizes ([`FarCharges`]).
+    fn far_charges(&self) -> FarCharges {
+        let pr = &self.problem;
+        let qz: Vec<(f64, f64)> = pr
+            .panels
+            .iter()
+            .zip(&self.sigma_drive)
+            .map(|(p, sigma)| (sigma * 2.0 * PI * p.length_m * p.mid.0, p.mid.1))
+            .collect();
+        let (z_lo, z_hi) = pr
+            .panels
+            .iter()
+            .flat_map(|p| [p.a.1, p.b.1])
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), z| {
+                (lo.min(z), hi.max(z))
+            });
+        // With a grounded plane the images -q at 2 z_g - z make the total charge exactly 0
+        // and the dipole about the plane 2 sum q (z - z_g).
+        let (centre_z, charge, dipole) = match pr.ground_z {
+            Some(zg) => (
+                zg,
+                0.0,
+                2.0 * qz.iter().map(|(q, z)| q * (z - zg)).sum::<f64>(),
+            ),
+            None => {
+                let c = 0.5 * (z_lo + z_hi);
+                (
+                    c,
+                    qz.iter().map(|(q, _)| q).sum::<f64>(),
+                    qz.iter().map(|(q, z)| q * (z - c)).sum::<f64>(),
+                )
+            }
+        };
+        let size_m = pr
+            .panels
+            .iter()
+            .flat_map(|p| [p.a, p.b])
+            .map(|(rho, z)| rho.hypot(z - centre_z))
+            .fold(0.0, f64::max);
+        FarCharges {
+            centre_z_m: centre_z,
+            size_m,
+            charge_c: charge,
+            dipole_c_m: dipole,
+        }
+    }
+
+    /// The conductor edges of the panel model, where the field of the panels' constant charge
+    /// densities is not resolved (the true field is singular at an edge): each end of a
+    /// surface's generatrix off the axis (the base and top rims of the secondary's cylinder, a
+    /// disc's rim) and each corner where consecutive panels turn by more than
+    /// [`EDGE_CORNER_DEG`] (a closed cylinder's rims). In the meridian half-plane of the axis.
+    pub fn edges(&self) -> Vec<Edge> {
+        let pr = &self.problem;
+        let mut out = Vec::new();
+        let size = pr
+            .panels
+            .iter()
+            .map(|p| p.a.0.abs().max(p.b.0.abs()))
+            .fold(0.0, f64::max);
+        let on_axis = |rho: f64| rho <= 1e-9 * size;
+        let mut k = 0;
+        while k < pr.panels.len() {
+            let surface = pr.panels[k].surface;
+            let mut j = k + 1;
+            while j < pr.panels.len() && pr.panels[j].surface == surface {
+                j += 1;
+            }
+            let name = pr.surfaces[surface].0.clone();
+            let generatrix_m: f64 = pr.panels[k..j].iter().map(|p| p.length_m).sum();
+            let mut push = |at: (f64, f64), panel_m: f64| {
+                out.push(Edge {
+                    surface: name.clone(),
+                    rho_z_m: at,
+                    unresolved_within_m: (EDGE_UNRESOLVED_PANELS * panel_m)
+                        .max(EDGE_UNRESOLVED_FRACTION * generatrix_m),
+                })
+            };
+            let (first, last) = (&pr.panels[k], &pr.panels[j - 1]);
+            let closed = first.a == last.b;
+            if !closed && !on_axis(first.a.0) {
+                push(first.a, first.length_m);
+            }
+            if !closed && !on_axis(last.b.0) {
+                push(last.b, last.length_m);
+            }
+            for m in k + 1..j {
+                let (p, q) = (&pr.panels[m - 1], &pr.panels[m]);
+                let u = (p.b.0 - p.a.0, p.b.1 - p.a.1);
+                let v = (q.b.0 - q.a.0, q.b.1 - q.a.1);
+                let cos = (u.0 * v.0 + u.1 * v.1) / (u.0.hypot(u.1) * v.0.hypot(v.1));
+                if cos < EDGE_CORNER_DEG.to_radians().cos() {
+                    push(q.a, p.length_m.max(q.length_m));
+                }
+            }
+            k = j;
+        }
+        out
+    }
+
+    /// The meridian coordinates (rho, z) (m) of `p` about the problem's axis.
+    pub fn meridian_m(&self, p: &Point3<f64>) -> (f64, f64) {
+        let pr = &self.problem;
+        let r = p - pr.axis.origin_m;
+        let z = r.dot(pr.axis.direction.as_ref());
+        ((r - pr.axis.direction.as_ref() * z).norm(), z)
+    }
+
     /// E (V/m, peak of the drive potentials) at each point; a point inside an electrode or
     /// below the ground plane is reported as such.
     pub fn e_field(&self, points_m: &[Point3<f64>], par: Par) -> Vec<FieldSample> {
         let pr = &self.problem;
         let n_hat = pr.axis.direction;
         let clusters = self.clusters();
+        let far = self.far_charges();
         map_indexed(points_m.len(), par, |i| {
             let p = &points_m[i];
             for (k, shape) in pr.shapes.iter().enumerate() {
@@ -1834,6 +1944,15 @@ impl Solution {
             }
             let perp = r - n_hat.as_ref() * z;
             let rho = perp.norm();
+            let rho_hat = if rho > 0.0 {
+                perp / rho
+            } else {
+                Vector3::zeros()
+            };
+            if far.applies_at(rho, z) {
+                let (er, ez) = far.e_at(rho, z);
+                return FieldSample::Field(rho_hat * er + n_hat.as_ref() * ez);
+            }
             let (mut er, mut ez) = self.e_clusters(&clusters, rho, z);
             if let Some(zg) = pr.ground_z {
                 // The image charge -q at 2 zg - z0, seen from (rho, z), is the real charge seen
@@ -1843,15 +1962,78 @@ impl Solution {
                 er -= r2;
                 ez += z2;
             }
-            let rho_hat = if rho > 0.0 {
-                perp / rho
-            } else {
-                Vector3::zeros()
-            };
             FieldSample::Field(rho_hat * er + n_hat.as_ref() * ez)
         })
     }
 }
+
+/// Distance from the charges' centre, in units of their size, beyond which E is their
+/// monopole and dipole (the charges' total and axial dipole): there the panel sum of charges of both signs (or of
+/// charges and their images) cancels, losing about 1e-16 r / size, while the expansion's
+/// truncation is about size / r: both near 1e-8 here.
+pub const E_FAR_RATIO: f64 = 1e8;
+
+/// The drive's charges seen from far away: total charge Q at the centre (on the axis) and the
+/// axial dipole p about it, E = (1 / 4 pi eps0) [Q r^ / r^2 + (3 (p . r^) r^ - p) / r^3]
+/// (J. D. Jackson, "Classical Electrodynamics", 3rd ed., 1999, eqs. 4.10 and 4.13).
+#[derive(Debug, Clone, Copy)]
+struct FarCharges {
+    centre_z_m: f64,
+    size_m: f64,
+    charge_c: f64,
+    dipole_c_m: f64,
+}
+
+impl FarCharges {
+    /// Whether (rho, z) lies beyond [`E_FAR_RATIO`] sizes from the centre.
+    fn applies_at(&self, rho_m: f64, z_m: f64) -> bool {
+        rho_m.hypot(z_m - self.centre_z_m) > E_FAR_RATIO * self.size_m
+    }
+
+    /// (E_rho, E_z) (V/m) at (rho, z); each term divided by r one factor at a time, so that
+    /// it underflows only when its true value does.
+    fn e_at(&self, rho_m: f64, z_m: f64) -> (f64, f64) {
+        let dz = z_m - self.centre_z_m;
+        let r = rho_m.hypot(dz);
+        let (s, c) = (rho_m / r, dz / r);
+        let k = 1.0 / (4.0 * PI * EPS0);
+        let mono = k * self.charge_c / r / r;
+        let p = k * self.dipole_c_m;
+        let (dr, dz_) = (
+            3.0 * p * c * s / r / r / r,
+            (3.0 * p * c * c - p) / r / r / r,
+        );
+        (mono * s + dr, mono * c + dz_)
+    }
+}
+
+/// A corner of a conductor's generatrix counts as an edge ([`Solution::edges`]) when the
+/// panels turn by more than this (degrees).
+pub const EDGE_CORNER_DEG: f64 = 30.0;
+
+/// A conductor edge of the panel model ([`Solution::edges`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Edge {
+    /// The conductor (electrode or secondary) it belongs to.
+    pub surface: String,
+    /// Its place in the meridian half-plane: (distance from the axis, height along it) (m).
+    pub rho_z_m: (f64, f64),
+    /// Distance (m) from it within which E is not resolved: [`EDGE_UNRESOLVED_PANELS`] lengths
+    /// of the panel there (the larger of two at a corner), and at least
+    /// [`EDGE_UNRESOLVED_FRACTION`] of its conductor's generatrix length.
+    pub unresolved_within_m: f64,
+}
+
+/// Within this many lengths of the panel at an edge E is not resolved: constant charge
+/// densities on panels of length h leave errors of order one within about h of an edge, where
+/// the true field is singular (common practice of panel methods, no source).
+pub const EDGE_UNRESOLVED_PANELS: f64 = 2.0;
+
+/// ... and within this fraction of the conductor's generatrix length: the model's edges are
+/// sharp (a thin sheet for the secondary, whose real rim is a round wire), so its edge field
+/// there reflects the model's sharpness more than the real conductor's (our own choice, no
+/// source).
+pub const EDGE_UNRESOLVED_FRACTION: f64 = 0.01;
 
 /// Panels per cluster of the E evaluation.
 pub const CLUSTER_PANELS: usize = 8;
