@@ -17,6 +17,51 @@ const FONT: &[u8] = include_bytes!("assets/DejaVuSans.ttf");
 /// The family every label asks for; registered with the embedded font's bytes.
 const FONT_FAMILY: &str = "sans-serif";
 
+/// The family name of the embedded font inside SVG: a name of our own, because a generic family
+/// such as `sans-serif` cannot be given a font by `@font-face`; `sans-serif` stays as the
+/// fallback.
+pub const SVG_FONT_FAMILY: &str = "coilfield-dejavu-sans";
+
+/// The CSS rule that carries the embedded font (TrueType, base64 in a `data:` URL), so SVG text
+/// renders in DejaVu Sans without system fonts and without fetching anything.
+pub fn svg_font_face_css() -> String {
+    use base64::Engine;
+    format!(
+        "@font-face {{ font-family: \"{SVG_FONT_FAMILY}\"; src: url(data:font/ttf;base64,{}) \
+         format(\"truetype\"); }}",
+        base64::engine::general_purpose::STANDARD.encode(FONT)
+    )
+}
+
+/// SVG text of `figure` whose labels ask for the embedded font first, without the font itself:
+/// a page that holds several figures carries [`svg_font_face_css`] once.
+pub fn figure_svg_fragment(figure: &impl Figure) -> anyhow::Result<String> {
+    register_font();
+    let mut s = String::new();
+    {
+        let root = SVGBackend::with_string(&mut s, (W, H)).into_drawing_area();
+        figure.draw_on(&root)?;
+        root.present()
+            .map_err(|e| anyhow::anyhow!("cannot draw the SVG: {e}"))?;
+    }
+    Ok(s.replace(
+        &format!("font-family=\"{FONT_FAMILY}\""),
+        &format!("font-family=\"{SVG_FONT_FAMILY}, {FONT_FAMILY}\""),
+    ))
+}
+
+/// A whole SVG file: [`figure_svg_fragment`] with the font embedded in its `<defs>`.
+fn standalone_svg(figure: &impl Figure) -> anyhow::Result<String> {
+    let s = figure_svg_fragment(figure)?;
+    let defs = format!("<defs><style>{}</style></defs>", svg_font_face_css());
+    // After the end of the opening <svg ...> tag.
+    let at = s
+        .find("<svg")
+        .and_then(|i| s[i..].find('>').map(|j| i + j + 1))
+        .ok_or_else(|| anyhow::anyhow!("cannot draw the SVG: no <svg> element"))?;
+    Ok(format!("{}{defs}{}", &s[..at], &s[at..]))
+}
+
 fn register_font() {
     static ONCE: Once = Once::new();
     ONCE.call_once(|| {
@@ -187,14 +232,7 @@ const H: u32 = 760;
 pub fn figure_bytes(figure: &impl Figure, svg: bool) -> anyhow::Result<Vec<u8>> {
     register_font();
     if svg {
-        let mut s = String::new();
-        {
-            let root = SVGBackend::with_string(&mut s, (W, H)).into_drawing_area();
-            figure.draw_on(&root)?;
-            root.present()
-                .map_err(|e| anyhow::anyhow!("cannot draw the SVG: {e}"))?;
-        }
-        Ok(s.into_bytes())
+        Ok(standalone_svg(figure)?.into_bytes())
     } else {
         let mut buf = vec![0u8; (W * H * 3) as usize];
         {
@@ -548,6 +586,32 @@ mod tests {
         let svg = String::from_utf8(heat_map_bytes(&map, true).unwrap()).unwrap();
         assert!(svg.starts_with("<svg"));
         assert!(svg.contains("level 2.5"));
+        // The font travels inside the file: the data URL decodes to the shipped TrueType
+        // bytes, and every label asks for that family first.
+        use base64::Engine;
+        let (_, after) = svg.split_once("url(data:font/ttf;base64,").unwrap();
+        let encoded = &after[..after.find(')').unwrap()];
+        let decoded = base64::engine::general_purpose::STANDARD
+            .decode(encoded)
+            .unwrap();
+        assert_eq!(
+            decoded,
+            std::fs::read(concat!(
+                env!("CARGO_MANIFEST_DIR"),
+                "/cli/assets/DejaVuSans.ttf"
+            ))
+            .unwrap()
+        );
+        let families: Vec<&str> = svg
+            .split("font-family=\"")
+            .skip(1)
+            .map(|rest| &rest[..rest.find('"').unwrap()])
+            .collect();
+        assert!(!families.is_empty());
+        assert!(
+            families.iter().all(|f| f.starts_with(SVG_FONT_FAMILY)),
+            "{families:?}"
+        );
         let png = heat_map_bytes(&map, false).unwrap();
         assert_eq!(&png[1..4], b"PNG");
     }

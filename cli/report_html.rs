@@ -102,8 +102,15 @@ pub fn page(title: &str, text: &str, figures: &[Figure], notes: &[String]) -> St
     let _ = writeln!(s, "<title>{}</title>", escape(title));
     // Fixed sizes for the title and the figures' boxes: the page lays out the same with any
     // fonts, and figure k's picture is at (16, 48 + 840 k) px (the browser test relies on it).
+    // The embedded font once for the page and its figures (no system fonts, nothing fetched).
+    let _ = writeln!(s, "<style>\n{}\n</style>", plot::svg_font_face_css());
+    let _ = writeln!(
+        s,
+        "<style>\nbody {{ font-family: \"{}\", sans-serif; }}\n</style>",
+        plot::SVG_FONT_FAMILY
+    );
     s.push_str(
-        "<style>\nbody { font-family: sans-serif; margin: 0; padding: 0 16px; }\n\
+        "<style>\nbody { margin: 0; padding: 0 16px; }\n\
          h1 { font-size: 20px; margin: 0; height: 48px; line-height: 48px; overflow: hidden; }\n\
          figure { margin: 0; width: 960px; height: 840px; overflow: hidden; }\n\
          figure svg { display: block; }\nfigcaption { margin-top: 4px; font-size: 13px; }\n\
@@ -244,7 +251,8 @@ pub fn side_view(design: &Design) -> Figure {
     let _ = writeln!(
         s,
         "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{w_px:.0}\" height=\"{h_px:.0}\" \
-         viewBox=\"0 0 {w_px:.0} {h_px:.0}\" font-family=\"sans-serif\" font-size=\"13\">"
+         viewBox=\"0 0 {w_px:.0} {h_px:.0}\" font-family=\"{}, sans-serif\" font-size=\"13\">",
+        plot::SVG_FONT_FAMILY
     );
     let _ = writeln!(
         s,
@@ -451,7 +459,7 @@ pub fn field_map(design: &Design, label: &str) -> anyhow::Result<Figure> {
         unit,
         contours: &contours,
     };
-    let svg = String::from_utf8(plot::heat_map_bytes(&map, true)?)?;
+    let svg = plot::figure_svg_fragment(&map)?;
     Ok(Figure {
         id: FIELD_MAP_ID,
         caption: format!(
@@ -553,7 +561,7 @@ pub fn coupling_against_height(design: &Design) -> anyhow::Result<Option<Figure>
         },
         title: &title,
     };
-    let svg = String::from_utf8(plot::figure_bytes(&curve, true)?)?;
+    let svg = plot::figure_svg_fragment(&curve)?;
     Ok(Some(Figure {
         id: COUPLING_ID,
         caption: format!(
