@@ -175,29 +175,7 @@ fn square_loops_match_neumanns_double_integral() {
 }
 
 /// The windings of `validation/images.csv` (invented for the check) over the plane z = 0.
-const IMAGE_DESIGN: &str = r#"
-[[winding]]
-name = "secondary"
-shape = "helix"
-role = "secondary"
-origin = [0.0, 0.0, 0.03]
-axis = [0.0, 0.0, 1.0]
-radius = 0.05
-length = 0.04
-turns = 40
-wire_diameter = 0.0005
-
-[[winding]]
-name = "primary"
-shape = "spiral"
-role = "primary"
-origin = [0.0, 0.0, 0.015]
-axis = [0.0, 0.0, 1.0]
-inner_radius = 0.07
-outer_radius = 0.1
-turns = 6
-wire_diameter = 0.002
-"#;
+const IMAGE_DESIGN: &str = include_str!("../validation/images_design.toml");
 
 /// Reference of `validation/images.csv` (mpmath image rings, `validation/images_refs.py`).
 fn image_reference(case: &str, quantity: &str) -> f64 {
