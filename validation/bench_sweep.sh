@@ -65,6 +65,7 @@ if perf record -e cpu-clock -o "$tmp/perf.data" "$bin" sweep "$sweep" --out "$tm
             else if (s ~ /coilfield_solver::/) f += p;
             else o += p }
             END { printf "  profile (1 thread): geometric checks %.0f %%, physics %.0f %%, rest %.0f %%\n", g, f, o }'
+    # Field 3 is the symbol (after "[.]"); newer perf appends IPC columns, so not the last field.
     perf report -i "$tmp/perf.data" --no-children --stdio --sort symbol --percent-limit 3 2>/dev/null |
-        awk '/^ +[0-9.]+%/ { print "    " $1, $NF }'
+        awk '/^ +[0-9.]+%/ { print "    " $1, $3 }'
 fi
