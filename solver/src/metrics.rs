@@ -463,6 +463,22 @@ fn solve_fem(design: &Design) -> Result<FemSolution, String> {
         .map_err(|e| e.to_string())
 }
 
+/// A solution solved at most once: in the sweep's shared cell when the point's electric model
+/// is the base's (`same`), else in the point's own slot.
+fn solved_once<'s, T>(
+    same: bool,
+    base: &'s OnceLock<Result<T, String>>,
+    point: &'s mut Option<Result<T, String>>,
+    solve: impl FnOnce() -> Result<T, String>,
+) -> Result<&'s T, String> {
+    let slot = if same {
+        base.get_or_init(solve)
+    } else {
+        point.get_or_insert_with(solve)
+    };
+    slot.as_ref().map_err(Clone::clone)
+}
+
 /// Whether the electric model of `a` and `b` is the same: the secondary windings, the
 /// electrodes, the ground plane, the drive, and the dielectrics, enclosure and mesh settings.
 fn same_electric_model(a: &Design, b: &Design) -> bool {
@@ -574,34 +590,20 @@ impl Evaluator {
 
     /// The point's electric solution: the base's when its electric model is the base's.
     fn electric<'s>(&'s self, s: &'s mut Scratch<'_>) -> Result<&'s Solution, String> {
-        if same_electric_model(s.design, &self.base_design) {
-            return self
-                .base_electric
-                .get_or_init(|| solve_electric(&self.base_design))
-                .as_ref()
-                .map_err(Clone::clone);
-        }
+        let same = same_electric_model(s.design, &self.base_design);
         let design = s.design;
-        s.electric
-            .get_or_insert_with(|| solve_electric(design))
-            .as_ref()
-            .map_err(Clone::clone)
+        solved_once(same, &self.base_electric, &mut s.electric, || {
+            solve_electric(if same { &self.base_design } else { design })
+        })
     }
 
     /// The point's finite-element solution: the base's when its electric model is the base's.
     fn fem<'s>(&'s self, s: &'s mut Scratch<'_>) -> Result<&'s FemSolution, String> {
-        if same_electric_model(s.design, &self.base_design) {
-            return self
-                .base_fem
-                .get_or_init(|| solve_fem(&self.base_design))
-                .as_ref()
-                .map_err(Clone::clone);
-        }
+        let same = same_electric_model(s.design, &self.base_design);
         let design = s.design;
-        s.fem
-            .get_or_insert_with(|| solve_fem(design))
-            .as_ref()
-            .map_err(Clone::clone)
+        solved_once(same, &self.base_fem, &mut s.fem, || {
+            solve_fem(if same { &self.base_design } else { design })
+        })
     }
 
     /// A capacitance or surface-field metric from the finite-element solver (the design has a
