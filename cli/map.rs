@@ -310,14 +310,8 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
                 v,
                 values,
                 scale: plot::Scale::Log,
-                u_axis: plot::Axis {
-                    name: ul,
-                    unit: "m",
-                },
-                v_axis: plot::Axis {
-                    name: vl,
-                    unit: "m",
-                },
+                u_axis: plot::Axis::metres(ul),
+                v_axis: plot::Axis::metres(vl),
                 title,
                 unit: match quantity {
                     Quantity::E => "V/m",

@@ -127,6 +127,13 @@ pub struct Axis<'a> {
     pub unit: &'a str,
 }
 
+impl<'a> Axis<'a> {
+    /// A length axis (values in metres), as the field maps' plane axes are.
+    pub fn metres(name: &'a str) -> Axis<'a> {
+        Axis { name, unit: "m" }
+    }
+}
+
 /// Units an axis reads with an SI prefix (the others, degrees or turns, as they are).
 const PREFIXED_UNITS: [&str; 11] = ["m", "H", "F", "V/m", "T", "Hz", "V", "A", "s", "W", "A/m"];
 
@@ -571,14 +578,8 @@ mod tests {
             v: &v,
             values: &vals,
             scale: Scale::Log,
-            u_axis: Axis {
-                name: "x",
-                unit: "m",
-            },
-            v_axis: Axis {
-                name: "z",
-                unit: "m",
-            },
+            u_axis: Axis::metres("x"),
+            v_axis: Axis::metres("z"),
             title: "|E| (V/m)",
             unit: "V/m",
             contours: &contours,
@@ -668,14 +669,8 @@ mod tests {
             v: &v,
             values: &vals,
             scale: Scale::Log,
-            u_axis: Axis {
-                name: "x",
-                unit: "m",
-            },
-            v_axis: Axis {
-                name: "z",
-                unit: "m",
-            },
+            u_axis: Axis::metres("x"),
+            v_axis: Axis::metres("z"),
             title: "t",
             unit: "V/m",
             contours: &[],

@@ -447,14 +447,8 @@ pub fn field_map(design: &Design, label: &str) -> anyhow::Result<Figure> {
         v: &grid.zs_m,
         values: &values,
         scale: plot::Scale::Log,
-        u_axis: plot::Axis {
-            name: ul,
-            unit: "m",
-        },
-        v_axis: plot::Axis {
-            name: vl,
-            unit: "m",
-        },
+        u_axis: plot::Axis::metres(ul),
+        v_axis: plot::Axis::metres(vl),
         title: &title,
         unit,
         contours: &contours,
