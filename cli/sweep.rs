@@ -49,6 +49,7 @@ pub fn plan_from_text(text: &str, path: &Path) -> anyhow::Result<SweepPlan> {
         &sweep_label,
         &base_text,
         &base_label,
+        coilfield_solver::Par::Rayon,
     )?)
 }
 

@@ -907,7 +907,14 @@ fn library_plan(path: &Path) -> SweepPlan {
     let sweep = parse_sweep(&text, &label).unwrap();
     let base_path = path.parent().unwrap().join(&sweep.base);
     let base_text = std::fs::read_to_string(&base_path).unwrap();
-    SweepPlan::new(sweep, &label, &base_text, &base_path.display().to_string()).unwrap()
+    SweepPlan::new(
+        sweep,
+        &label,
+        &base_text,
+        &base_path.display().to_string(),
+        Par::Rayon,
+    )
+    .unwrap()
 }
 
 /// The whole output of `points` of `plan` written from Rust into memory: header, then rows.

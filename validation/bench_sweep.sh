@@ -6,7 +6,7 @@
 #     medians, the ratio overlap / below, and the numpy/scipy baseline of the same k
 #     (validation/sweep_baseline.py, best of 3) with its agreement check;
 #   - the 1,000-point sweep meshes-demo/bench-sweep-tilted.toml (primary offset and tilted):
-#     wall time, and where the time goes (perf, when the machine allows it).
+#     wall time, and where the time goes (callgrind instruction counts, inclusive).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 cargo build --release --quiet
@@ -54,18 +54,19 @@ sweep=meshes-demo/bench-sweep-tilted.toml
 t1=$(times "$sweep" 1 3 | median)
 t2=$(times "$sweep" 2 3 | median)
 echo "tilted (1,000 points): 1 thread ${t1} s, 2 threads ${t2} s (medians of 3)"
-if perf record -e cpu-clock -o "$tmp/perf.data" "$bin" sweep "$sweep" --out "$tmp/t.csv" \
-    --threads 1 >/dev/null 2>&1; then
-    # Self time by symbol, grouped: the geometric checks (geometry's queries and the sampling
-    # of curves), the physics (the solver's kernels), and the rest (parsing, output, libc, libm).
-    perf report -i "$tmp/perf.data" --no-children --stdio --sort symbol 2>/dev/null |
-        awk '/^ +[0-9.]+%/ {
-            p = $1; sub("%", "", p); s = $0;
-            if (s ~ /coilfield_geometry::(query|model::winding::Shape::point_at)/) g += p;
-            else if (s ~ /coilfield_solver::/) f += p;
-            else o += p }
-            END { printf "  profile (1 thread): geometric checks %.0f %%, physics %.0f %%, rest %.0f %%\n", g, f, o }'
-    # Field 3 is the symbol (after "[.]"); newer perf appends IPC columns, so not the last field.
-    perf report -i "$tmp/perf.data" --no-children --stdio --sort symbol --percent-limit 3 2>/dev/null |
-        awk '/^ +[0-9.]+%/ { print "    " $1, $3 }'
+# Where the time goes, counted inclusively in instructions (callgrind: repeatable whatever else
+# the machine runs; one thread): the geometric checks (every call of the prepared design's check,
+# at planning and at the points, with the sampling and the sine, cosine and hypot calls under
+# it), the physics (the metrics' evaluation at the points), and the rest (reading, planning,
+# building each point's design from its table, output).
+if command -v valgrind >/dev/null; then
+    valgrind --tool=callgrind --callgrind-out-file="$tmp/cg.out" "$bin" sweep "$sweep" \
+        --out "$tmp/t.csv" --threads 1 >/dev/null 2>&1
+    callgrind_annotate --inclusive=yes "$tmp/cg.out" 2>/dev/null |
+        awk '{ gsub(",", "", $1) }
+            /PROGRAM TOTALS/ { total = $1 }
+            /checks\.rs:coilfield_geometry::query::checks::PreparedDesign::check \[/ { g = $1 }
+            /metrics\.rs:coilfield_solver::metrics::Evaluator::evaluate \[/ { f = $1 }
+            END { printf "  profile (1 thread, %.0f million instructions, inclusive): geometric checks %.0f %%, physics %.0f %%, rest %.0f %%\n",
+                total / 1e6, 100 * g / total, 100 * f / total, 100 * (total - g - f) / total }'
 fi

@@ -33,7 +33,8 @@
 //!     "sweep.toml",
 //! )
 //! .unwrap();
-//! let plan = SweepPlan::new(sweep, "sweep.toml", base, "base.toml").unwrap();
+//! let plan = SweepPlan::new(sweep, "sweep.toml", base, "base.toml", coilfield_solver::Par::Seq)
+//!     .unwrap();
 //! let mut out = plan.header(OutFormat::Csv).into_bytes();
 //! let points = Shard::ALL.indices(plan.points().len());
 //! let stop = AtomicBool::new(false);

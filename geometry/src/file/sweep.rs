@@ -153,6 +153,15 @@ pub struct Axis {
 }
 
 impl Axis {
+    /// How many grid values the axis has (None for a range without steps), without computing
+    /// them.
+    pub fn grid_len(&self) -> Option<usize> {
+        match &self.values {
+            Values::List(v) => Some(v.len()),
+            Values::Range { steps, .. } => *steps,
+        }
+    }
+
     /// The grid values of the axis (None for a range without steps).
     pub fn grid_values(&self) -> Option<Vec<f64>> {
         match &self.values {
@@ -675,7 +684,7 @@ fn parse_axis(mut t: Table, label: &str, source: &str, sampled: bool) -> Result<
 fn factors(sweep: &Sweep, source: &str) -> Result<Vec<(Vec<usize>, usize)>, DesignError> {
     let mut out: Vec<(Option<&str>, Vec<usize>, usize)> = Vec::new();
     for (i, a) in sweep.axes.iter().enumerate() {
-        let n = a.grid_values().map(|v| v.len()).unwrap_or(0);
+        let n = a.grid_len().unwrap_or(0);
         match a.group.as_deref() {
             Some(g) => {
                 if let Some(f) = out.iter_mut().find(|f| f.0 == Some(g)) {
@@ -732,15 +741,31 @@ pub fn snap_to_short_decimal(v: f64) -> f64 {
         return v;
     }
     let ulp = (f64::from_bits(v.abs().to_bits() + 1) - v.abs()).abs();
-    for digits in 1..=15usize {
+    // v rounded to `digits` significant digits, when that lies within 4 ulp of v.
+    let near = |digits: usize| {
         let d = digits - 1;
-        if let Ok(c) = format!("{v:.d$e}").parse::<f64>() {
-            if (c - v).abs() <= 4.0 * ulp {
-                return c;
+        format!("{v:.d$e}")
+            .parse::<f64>()
+            .ok()
+            .filter(|c| (c - v).abs() <= 4.0 * ulp)
+    };
+    // Rounding to more digits never moves further from v, so the digits that work form a
+    // range up to 15: bisect for its start (4 roundings, not up to 15, per value).
+    let (mut lo, mut hi) = (1usize, 15usize);
+    let Some(mut best) = near(hi) else {
+        return v;
+    };
+    while lo < hi {
+        let mid = (lo + hi) / 2;
+        match near(mid) {
+            Some(c) => {
+                best = c;
+                hi = mid;
             }
+            None => lo = mid + 1,
         }
     }
-    v
+    best
 }
 
 /// The values of every axis at every point: `points[i][j]` is axis j's value at point i.
@@ -990,6 +1015,49 @@ group = "g"
         assert_eq!(snap_to_short_decimal(1.0 / 3.0), 1.0 / 3.0);
         assert_eq!(snap_to_short_decimal(-0.30000000000000004), -0.3);
         assert_eq!(snap_to_short_decimal(1e-300), 1e-300);
+    }
+
+    #[test]
+    fn snapping_by_bisection_agrees_with_trying_every_digit_count() {
+        // The brute-force reference: the shortest of 1..=15 significant digits tried in turn.
+        fn by_every_count(v: f64) -> f64 {
+            let ulp = (f64::from_bits(v.abs().to_bits() + 1) - v.abs()).abs();
+            (0..15usize)
+                .filter_map(|d| format!("{v:.d$e}").parse::<f64>().ok())
+                .find(|c| (c - v).abs() <= 4.0 * ulp)
+                .unwrap_or(v)
+        }
+        // Grid values of many ranges and step counts (short decimals, near misses, values no
+        // short decimal is near), and random bit patterns over the normal range.
+        let mut values = Vec::new();
+        for (from, to) in [
+            (0.05, 0.1),
+            (0.08, 0.2125),
+            (-1.0, 3.0),
+            (1e-9, 2e-6),
+            (3e5, 1.7e6),
+        ] {
+            for n in [3_usize, 7, 11, 101, 999] {
+                values.extend((0..n).map(|i| from + i as f64 / (n - 1) as f64 * (to - from)));
+            }
+        }
+        let mut state = 0x005e_ed0f_5aa9_u64;
+        for _ in 0..20_000 {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            let v = f64::from_bits(state);
+            if v.is_normal() {
+                values.push(v);
+            }
+        }
+        for v in values {
+            assert_eq!(
+                snap_to_short_decimal(v).to_bits(),
+                by_every_count(v).to_bits(),
+                "{v:e}"
+            );
+        }
     }
 
     #[test]

@@ -164,6 +164,15 @@ fn wires_touch(a: &Winding, b: &Winding, box_a: &Aabb, box_b: &Aabb) -> Option<W
     if !box_a.inflated(touch_m).intersects(box_b) || coaxial_clear(a, b) {
         return None;
     }
+    // The smaller winding's exact curve against the larger one's trace first, unsampled.
+    let (small, large) = if estimated_pieces(a) <= estimated_pieces(b) {
+        (a, b)
+    } else {
+        (b, a)
+    };
+    if curve_clears_trace(large, small) == Some(true) {
+        return None;
+    }
     let ca = Chain::of(a, Some(&box_b.inflated(touch_m)));
     let cb = Chain::of(b, Some(&box_a.inflated(touch_m)));
     if trace_clears(a, &cb, b) || trace_clears(b, &ca, a) {
@@ -245,6 +254,57 @@ pub fn coaxial_gap_lower_bound_m(a: &Winding, b: &Winding) -> Option<f64> {
     Some(d2.sqrt() - a.wire_radius_m() - b.wire_radius_m())
 }
 
+/// An axisymmetric winding's meridian trace in its own frame: distances of points from it in
+/// the (distance from the axis, height along it) half-plane.
+struct TraceFrame {
+    origin_m: Point3<f64>,
+    axis: Vector3<f64>,
+    /// First end of the trace (m, m) and the step to the second.
+    start: (f64, f64),
+    step: (f64, f64),
+    step_len2: f64,
+}
+
+impl TraceFrame {
+    /// The trace of `axisym`, or None when it has no axis (a polyline).
+    fn of(axisym: &Winding) -> Option<TraceFrame> {
+        let (o, n) = axisym.shape.origin_axis()?;
+        let t = meridian_trace(&axisym.shape, &o, n.as_ref())?;
+        let step = (t[1].0 - t[0].0, t[1].1 - t[0].1);
+        Some(TraceFrame {
+            origin_m: o,
+            axis: n.into_inner(),
+            start: t[0],
+            step,
+            step_len2: step.0 * step.0 + step.1 * step.1,
+        })
+    }
+
+    /// Distance (m) of `x`'s (distance from the axis, height) to the trace: a lower bound of
+    /// its distance to any point of the winding's centreline (see
+    /// [`coaxial_gap_lower_bound_m`]), and 1-Lipschitz in `x`.
+    fn distance_m(&self, x: &Point3<f64>) -> f64 {
+        let r = x - self.origin_m;
+        let z = r.dot(&self.axis);
+        let rho = (r - self.axis * z).norm();
+        let (u, v) = (rho - self.start.0, z - self.start.1);
+        let s = if self.step_len2 > 0.0 {
+            ((u * self.step.0 + v * self.step.1) / self.step_len2).clamp(0.0, 1.0)
+        } else {
+            0.0
+        };
+        (u - s * self.step.0).hypot(v - s * self.step.1)
+    }
+}
+
+/// The margin (m) a lower bound of the centreline distance of `a`'s and `b`'s wires must
+/// exceed for the pair to pass without the sampled check: both wire radii plus the sampled
+/// check's own tolerance (both sampling sagittas), so that no bound passes a pair the sampled
+/// check refuses.
+fn trace_margin_m(a: &Winding, b: &Winding) -> f64 {
+    a.wire_radius_m() + b.wire_radius_m() + sampling_sagitta_m(a) + sampling_sagitta_m(b)
+}
+
 /// Whether every piece of `chain` (a sampling of another winding, with its sagitta
 /// `chain.sagitta_m`) stays clear of the wire of the axisymmetric winding `axisym`, judged on
 /// `axisym`'s meridian trace; false when `axisym` has no axis or any piece comes too near.
@@ -257,36 +317,72 @@ pub fn coaxial_gap_lower_bound_m(a: &Winding, b: &Winding) -> Option<f64> {
 /// true surface gap exceeds the sampled check's own tolerance, so it never passes a pair the
 /// sampled check refuses. No sampling of `axisym`: a long secondary costs nothing here.
 fn trace_clears(axisym: &Winding, chain: &Chain, other: &Winding) -> bool {
-    let Some((o, n)) = axisym.shape.origin_axis() else {
+    let Some(trace) = TraceFrame::of(axisym) else {
         return false;
     };
-    let Some(t) = meridian_trace(&axisym.shape, &o, n.as_ref()) else {
-        return false;
-    };
-    let margin_m = axisym.wire_radius_m()
-        + other.wire_radius_m()
-        + chain.sagitta_m
-        + sampling_sagitta_m(axisym)
-        + sampling_sagitta_m(other);
-    // Distance in the (rho, z) half-plane from a point to the trace segment t0-t1.
-    let (t0, d) = (t[0], (t[1].0 - t[0].0, t[1].1 - t[0].1));
-    let len2 = d.0 * d.0 + d.1 * d.1;
-    let to_trace = |rho: f64, z: f64| {
-        let (x, y) = (rho - t0.0, z - t0.1);
-        let s = if len2 > 0.0 {
-            ((x * d.0 + y * d.1) / len2).clamp(0.0, 1.0)
-        } else {
-            0.0
-        };
-        (x - s * d.0).hypot(y - s * d.1)
-    };
-    chain.segs.iter().all(|[p, q]| {
-        let mid = nalgebra::center(p, q);
-        let r = mid - o;
-        let z = r.dot(n.as_ref());
-        let rho = (r - n.as_ref() * z).norm();
-        to_trace(rho, z) - 0.5 * (q - p).norm() > margin_m
-    })
+    let margin_m = trace_margin_m(axisym, other) + chain.sagitta_m;
+    chain
+        .segs
+        .iter()
+        .all(|[p, q]| trace.distance_m(&nalgebra::center(p, q)) - 0.5 * (q - p).norm() > margin_m)
+}
+
+/// Most curve points [`curve_clears_trace`] evaluates per piece the sampled check would make:
+/// past it, the sampled check is the cheaper way.
+const ADAPTIVE_POINTS_PER_PIECE: f64 = 0.5;
+
+/// As [`trace_clears`] for the exact curve of the axisymmetric winding `other` (not a polyline),
+/// without sampling it at the check's resolution: its arcs are bisected only where they come
+/// near `axisym`'s trace.
+///
+/// An arc over the parameter interval h (rad) strays from its chord by at most
+/// h^2/8 sqrt(R^2 + 4 b^2) (the bound [`sample_curve`] uses), so every point of the arc lies
+/// within |chord|/2 + that bow of the chord's midpoint, and by the 1-Lipschitz trace distance
+/// the arc clears the trace by at least the midpoint's trace distance minus both. An arc
+/// passes when that exceeds the margin of [`trace_margin_m`]; one that does not is halved, down
+/// to the sampled check's own step, where the answer is "not clear" (the sampled check decides).
+/// A curve far from the trace costs a few points per eighth of a turn; one near it stops once
+/// it has cost half the sampled check's points.
+///
+/// None when the bound cannot tell within that budget, or does not apply (`axisym` or `other`
+/// a polyline): the caller falls back on [`trace_clears`] over a sampled chain.
+fn curve_clears_trace(axisym: &Winding, other: &Winding) -> Option<bool> {
+    let trace = TraceFrame::of(axisym)?;
+    let curve = CurveSteps::of(&other.shape, sampling_sagitta_m(other))?;
+    let margin_m = trace_margin_m(axisym, other);
+    let budget = (ADAPTIVE_POINTS_PER_PIECE * curve.pieces_f).max(64.0);
+    let mut evaluated = 0.0;
+    // Intervals (start, end) of the parameter t in [0, 1] with their end points, depth first.
+    let mut stack: Vec<(f64, f64, Point3<f64>, Point3<f64>)> = Vec::new();
+    let n_chunks = curve.n_chunks_f as usize;
+    let mut start = other.shape.point_at(0.0);
+    for c in 0..n_chunks {
+        let t1 = (c + 1) as f64 / curve.n_chunks_f;
+        let end = other.shape.point_at(t1);
+        stack.push((c as f64 / curve.n_chunks_f, t1, start, end));
+        start = end;
+    }
+    evaluated += curve.n_chunks_f;
+    while let Some((t0, t1, p, q)) = stack.pop() {
+        let h_rad = (t1 - t0) * curve.total_rad;
+        let bow_m = h_rad * h_rad / 8.0 * curve.curvature_scale_m;
+        let bound_m = trace.distance_m(&nalgebra::center(&p, &q)) - 0.5 * (q - p).norm() - bow_m;
+        if bound_m > margin_m {
+            continue;
+        }
+        if h_rad <= curve.step_rad {
+            return Some(false);
+        }
+        evaluated += 1.0;
+        if evaluated > budget {
+            return None;
+        }
+        let tm = 0.5 * (t0 + t1);
+        let m = other.shape.point_at(tm);
+        stack.push((t0, tm, p, m));
+        stack.push((tm, t1, m, q));
+    }
+    Some(true)
 }
 
 /// About how many pieces sampling `w` whole takes (to sample the smaller of two windings).
@@ -351,16 +447,17 @@ pub fn wires_touch_prepared(a: &PreparedWire, b: &PreparedWire) -> Option<WireCo
     if !a.bounds.inflated(touch_m).intersects(&b.bounds) || coaxial_clear(&a.winding, &b.winding) {
         return None;
     }
-    // The smaller winding is sampled and judged against the other's meridian trace first;
-    // only when that fails is the larger one sampled too.
+    // The smaller winding's exact curve is judged against the other's meridian trace first
+    // (bisected near it; sampled only when the bisection cannot tell); only when that fails is
+    // the larger one sampled too.
     let (small, large) = if estimated_pieces(&a.winding) <= estimated_pieces(&b.winding) {
         (a, b)
     } else {
         (b, a)
     };
-    if trace_clears(&large.winding, small.chain(), &small.winding)
-        || trace_clears(&small.winding, large.chain(), &large.winding)
-    {
+    let small_clear = curve_clears_trace(&large.winding, &small.winding)
+        .unwrap_or_else(|| trace_clears(&large.winding, small.chain(), &small.winding));
+    if small_clear || trace_clears(&small.winding, large.chain(), &large.winding) {
         return None;
     }
     let (ca, ta) = a.sampled();
@@ -536,6 +633,70 @@ impl Chain {
 /// around its arc, and a 100 000-turn winding under a million chunks.
 const CHUNK_RAD: f64 = TAU / 8.0;
 
+/// How an axisymmetric curve is sampled for a sagitta: its chunks (eighths of a turn) and the
+/// angle step within them (see [`sample_curve`] for the bound behind the step).
+struct CurveSteps {
+    /// sqrt(R^2 + 4 b^2) (m): the largest |r''| per rad^2 with the angle as parameter.
+    curvature_scale_m: f64,
+    /// Angle (rad) the whole curve turns through.
+    total_rad: f64,
+    /// Largest angle step (rad) that keeps the sagitta.
+    step_rad: f64,
+    /// Number of chunks, and of steps per chunk (at least 1 each, whole numbers).
+    n_chunks_f: f64,
+    per_chunk_f: f64,
+    /// Pieces the whole curve takes at that step.
+    pieces_f: f64,
+}
+
+impl CurveSteps {
+    /// The steps for `shape` at `sagitta_m`; None for a polyline, and for sizes that give no
+    /// finite sampling or more than 10^8 chunks (a hand-built winding with zero or NaN sizes:
+    /// validated designs give finite, positive values here).
+    fn of(shape: &Shape, sagitta_m: f64) -> Option<CurveSteps> {
+        let (outer_m, growth_m, turns) = match *shape {
+            Shape::Helix {
+                radius_m, turns, ..
+            } => (radius_m, 0.0, turns),
+            Shape::Spiral {
+                inner_radius_m,
+                outer_radius_m,
+                turns,
+                ..
+            }
+            | Shape::Cone {
+                inner_radius_m,
+                outer_radius_m,
+                turns,
+                ..
+            } => (
+                outer_radius_m.max(inner_radius_m),
+                (outer_radius_m - inner_radius_m) / (TAU * turns),
+                turns,
+            ),
+            // A ring's curve is one turn whatever its count.
+            Shape::Ring { radius_m, .. } => (radius_m, 0.0, 1.0),
+            Shape::Polyline { .. } => return None,
+        };
+        let curvature_scale_m = outer_m.hypot(2.0 * growth_m);
+        let total_rad = TAU * turns;
+        let step_rad = (8.0 * sagitta_m / curvature_scale_m).sqrt();
+        let n_chunks_f = (total_rad / CHUNK_RAD).ceil().max(1.0);
+        let per_chunk_f = (total_rad / n_chunks_f / step_rad).ceil().max(1.0);
+        if !(n_chunks_f.is_finite() && per_chunk_f.is_finite()) || n_chunks_f > 1e8 {
+            return None;
+        }
+        Some(CurveSteps {
+            curvature_scale_m,
+            total_rad,
+            step_rad,
+            n_chunks_f,
+            per_chunk_f,
+            pieces_f: n_chunks_f * per_chunk_f,
+        })
+    }
+}
+
 /// Pieces of an axisymmetric curve at equal angle steps small enough for the given sagitta,
 /// keeping only the chunks (eighths of a turn) whose boxes meet `within`.
 ///
@@ -554,40 +715,16 @@ fn sample_curve(
     sagitta_m: f64,
     within: Option<&Aabb>,
 ) -> (Vec<[Point3<f64>; 2]>, f64) {
-    let (outer_m, growth_m, turns) = match *shape {
-        Shape::Helix {
-            radius_m, turns, ..
-        } => (radius_m, 0.0, turns),
-        Shape::Spiral {
-            inner_radius_m,
-            outer_radius_m,
-            turns,
-            ..
-        }
-        | Shape::Cone {
-            inner_radius_m,
-            outer_radius_m,
-            turns,
-            ..
-        } => (
-            outer_radius_m.max(inner_radius_m),
-            (outer_radius_m - inner_radius_m) / (TAU * turns),
-            turns,
-        ),
-        // A ring's curve is one turn whatever its count.
-        Shape::Ring { radius_m, .. } => (radius_m, 0.0, 1.0),
-        Shape::Polyline { .. } => return (Vec::new(), 0.0),
-    };
-    let curvature_scale_m = outer_m.hypot(2.0 * growth_m);
-    let total_rad = TAU * turns;
-    let step_rad = (8.0 * sagitta_m / curvature_scale_m).sqrt();
-    // Validated designs give finite, positive values here; a hand-built winding with zero or NaN
-    // sizes has no curve to sample.
-    let n_chunks_f = (total_rad / CHUNK_RAD).ceil().max(1.0);
-    let per_chunk_f = (total_rad / n_chunks_f / step_rad).ceil().max(1.0);
-    if !(n_chunks_f.is_finite() && per_chunk_f.is_finite()) || n_chunks_f > 1e8 {
+    let Some(CurveSteps {
+        curvature_scale_m,
+        total_rad,
+        n_chunks_f,
+        per_chunk_f,
+        ..
+    }) = CurveSteps::of(shape, sagitta_m)
+    else {
         return (Vec::new(), 0.0);
-    }
+    };
     let n_chunks = n_chunks_f as usize;
     let chunk_rad = total_rad / n_chunks_f;
     let chunk_bow_m = chunk_rad * chunk_rad / 8.0 * curvature_scale_m;
@@ -1802,6 +1939,7 @@ mod tests {
         // most one).
         let mut rng = Rng(0x0c0a_c1a1_5eed_0001);
         let (mut coaxial_closed_form, mut near_band, mut touching, mut by_trace) = (0, 0, 0, 0);
+        let mut by_curve = 0;
         for case in 0..400 {
             let (a, b) = placement(&mut rng);
             let touch_m = a.wire_radius_m() + b.wire_radius_m();
@@ -1816,6 +1954,11 @@ mod tests {
             coaxial_closed_form += usize::from(coaxial_clear(&a, &b));
             by_trace += usize::from(
                 !coaxial_clear(&a, &b) && (trace_clears(&a, &cb, &b) || trace_clears(&b, &ca, &a)),
+            );
+            by_curve += usize::from(
+                !coaxial_clear(&a, &b)
+                    && (curve_clears_trace(&a, &b) == Some(true)
+                        || curve_clears_trace(&b, &a) == Some(true)),
             );
             touching += usize::from(reference);
             for (name, fast) in [("one-off", one_off), ("prepared", prepared)] {
@@ -1838,10 +1981,11 @@ mod tests {
         // The scenes exercise every branch: closed form, touching pairs, the tolerance band.
         assert!(coaxial_closed_form > 50, "{coaxial_closed_form}");
         assert!(by_trace > 20, "{by_trace}");
+        assert!(by_curve > 20, "{by_curve}");
         assert!(touching > 20 && touching < 380, "{touching}");
         println!(
-            "coaxial closed form {coaxial_closed_form}, by trace {by_trace}, touching \
-             {touching}, in band {near_band}"
+            "coaxial closed form {coaxial_closed_form}, by trace {by_trace}, by the bisected \
+             curve {by_curve}, touching {touching}, in band {near_band}"
         );
     }
 

@@ -110,7 +110,7 @@ mod tests {
 
     fn plan(sweep: &str, base: &str) -> SweepPlan {
         let s = parse_sweep(sweep, "s.toml").unwrap();
-        SweepPlan::new(s, "s.toml", base, "base.toml").unwrap()
+        SweepPlan::new(s, "s.toml", base, "base.toml", crate::Par::Seq).unwrap()
     }
 
     const SWEEP: &str = "base = \"base.toml\"\nmetrics = [\"mutual.a.b\"]\n[[axis]]\n\

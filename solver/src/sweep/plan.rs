@@ -1,6 +1,7 @@
 //! A sweep planned once: the sweep file with its base design, the evaluator of its metrics and
 //! constraints, its points, and the base tables of the parts its axes edit.
 
+use crate::Par;
 use crate::clearance::metrics::ClearanceMetrics;
 use crate::error::SolverError;
 use crate::metrics::{
@@ -33,6 +34,10 @@ pub struct SweepPlan {
     evaluator: Evaluator,
     points: Vec<Vec<f64>>,
     edits: Vec<Edit>,
+    /// Every point's design passed the checks at planning: a sweep of one axis whose values
+    /// (not a sampled range) are its points, each checked alone (see
+    /// [`SweepPlan::check_axes_alone`]), so a point's design is built again unchecked.
+    points_checked: bool,
 }
 
 fn bad(message: String) -> SolverError {
@@ -44,12 +49,15 @@ impl SweepPlan {
     /// is `base_text` (labelled `base_label`). Checks, before any point is computed: the base
     /// design, every metric and constraint against it (the clearance metrics with the base's
     /// thresholds), every axis's key against the base's tables, the points, and every value of
-    /// every axis set alone in the base design (a sampled axis: both bounds).
+    /// every axis set alone in the base design (a sampled axis: both bounds), those values in
+    /// parallel under `par` (the first failing value in axis and value order is reported,
+    /// whatever the threads).
     pub fn new(
         sweep: Sweep,
         sweep_label: &str,
         base_text: &str,
         base_label: &str,
+        par: Par,
     ) -> Result<SweepPlan, SolverError> {
         let base_design = parse_design(base_text, base_label)?;
         let base_table: toml::Table = base_text
@@ -78,6 +86,9 @@ impl SweepPlan {
         );
         let edits = edits_of(&sweep, &base_table, sweep_label)?;
         let pts = points(&sweep, sweep_label)?;
+        let points_checked = sweep.sample.is_none()
+            && matches!(sweep.axes.as_slice(), [axis]
+                if axis.grid_len().is_some());
         let plan = SweepPlan {
             sweep_label: sweep_label.to_string(),
             base_label: base_label.to_string(),
@@ -86,8 +97,9 @@ impl SweepPlan {
             evaluator,
             points: pts,
             edits,
+            points_checked,
         };
-        plan.check_axes_alone()?;
+        plan.check_axes_alone(par)?;
         Ok(plan)
     }
 
@@ -122,34 +134,47 @@ impl SweepPlan {
     }
 
     /// Every value of every axis (a sampled axis: both bounds), set alone in the base design,
-    /// must give a valid design.
-    fn check_axes_alone(&self) -> Result<(), SolverError> {
+    /// must give a valid design. The values are checked under `par`; the error is the first
+    /// failing value's in axis and value order.
+    fn check_axes_alone(&self, par: Par) -> Result<(), SolverError> {
+        // A set of bit patterns: checking each distinct value once stays linear in the
+        // number of values (a list scanned per value made a million steps take minutes).
+        let mut seen = std::collections::HashSet::new();
+        let mut alone: Vec<(usize, f64)> = Vec::new();
         for (j, axis) in self.sweep.axes.iter().enumerate() {
             let values = match (&axis.values, axis.grid_values()) {
                 (_, Some(v)) => v,
                 (Values::Range { from, to, .. }, None) => vec![*from, *to],
                 (Values::List(v), None) => v.clone(),
             };
-            // A set of bit patterns: checking each distinct value once stays linear in the
-            // number of values (a list scanned per value made a million steps take minutes).
-            let mut seen = std::collections::HashSet::new();
-            for v in values {
-                if !seen.insert(v.to_bits()) {
-                    continue;
-                }
-                let label = format!(
-                    "{}: axis #{} `{}` = {} (set alone in {})",
-                    self.sweep_label,
-                    j + 1,
-                    axis.key,
-                    shown_value(v),
-                    self.base_label
-                );
-                self.design_with(&[(j, v)], &label)
-                    .map_err(|e| bad(prefixed(&label, e)))?;
-            }
+            alone.extend(
+                values
+                    .into_iter()
+                    .filter(|v| seen.insert((j, v.to_bits())))
+                    .map(|v| (j, v)),
+            );
         }
-        Ok(())
+        let label = |(j, v): (usize, f64)| {
+            format!(
+                "{}: axis #{} `{}` = {} (set alone in {})",
+                self.sweep_label,
+                j + 1,
+                self.sweep.axes[j].key,
+                shown_value(v),
+                self.base_label
+            )
+        };
+        let failures = crate::par::map_indexed(alone.len(), par, |k| {
+            self.design_with(&[alone[k]], &label(alone[k])).err()
+        });
+        match failures
+            .into_iter()
+            .zip(&alone)
+            .find_map(|(e, &a)| Some((e?, a)))
+        {
+            Some((e, a)) => Err(bad(prefixed(&label(a), e))),
+            None => Ok(()),
+        }
     }
 
     /// The design at point `i`, or the message of why there is none.
@@ -158,7 +183,14 @@ impl SweepPlan {
             .points
             .get(i)
             .ok_or_else(|| format!("no point {i}: the sweep has {}", self.points.len()))?;
-        self.design_for(values, &format!("point {i}"))
+        let pairs: Vec<(usize, f64)> = values.iter().copied().enumerate().collect();
+        let label = format!("point {i}");
+        if self.points_checked {
+            // Checked at planning as the axis's value alone: the same design.
+            self.edited_design(&pairs, &label)
+        } else {
+            self.design_with(&pairs, &label)
+        }
     }
 
     /// The design with the axes at `values` (one per axis, in order; see
@@ -178,6 +210,17 @@ impl SweepPlan {
     /// with the base's wires prepared once), as [`parse_design`] runs them. Names cannot be
     /// swept, so they stay unique.
     pub fn design_with(&self, values: &[(usize, f64)], label: &str) -> Result<Design, String> {
+        let design = self.edited_design(values, label)?;
+        self.evaluator
+            .prepared()
+            .check(&design, label)
+            .map_err(|e| e.to_string())?;
+        Ok(design)
+    }
+
+    /// As [`SweepPlan::design_with`] without the checks between items (each edited item's own
+    /// checks still run).
+    fn edited_design(&self, values: &[(usize, f64)], label: &str) -> Result<Design, String> {
         let mut design = self.base_design.clone();
         for edit in &self.edits {
             let mut table = None;
@@ -199,10 +242,6 @@ impl SweepPlan {
                 }
             }
         }
-        self.evaluator
-            .prepared()
-            .check(&design, label)
-            .map_err(|e| e.to_string())?;
         Ok(design)
     }
 
@@ -301,7 +340,7 @@ mod tests {
 
     fn plan(sweep: &str) -> Result<SweepPlan, SolverError> {
         let s = parse_sweep(sweep, "s.toml").unwrap();
-        SweepPlan::new(s, "s.toml", BASE, "base.toml")
+        SweepPlan::new(s, "s.toml", BASE, "base.toml", Par::Seq)
     }
 
     #[test]
@@ -322,6 +361,25 @@ mod tests {
         // No axes set: the base design itself.
         assert_eq!(&p.design_with(&[], "base").unwrap(), p.base_design());
         assert!(p.design_at(2).unwrap_err().contains("no point 2"));
+    }
+
+    #[test]
+    fn a_one_axis_grids_points_are_its_values_checked_at_planning() {
+        let one = "base = \"base.toml\"\nmetrics = [\"mutual.a.b\"]\n\
+                   [[axis]]\nkey = \"winding.b.origin[2]\"\nfrom = 0.5\nto = 2.0\nsteps = 4\n";
+        let p = plan(one).unwrap();
+        assert!(p.points_checked);
+        // Each point's design, built unchecked, is the design its value gave when checked.
+        for (i, values) in p.points().iter().enumerate() {
+            let checked = p.design_with(&[(0, values[0])], "checked").unwrap();
+            assert_eq!(p.design_at(i).unwrap(), checked);
+        }
+        // Two axes, or a sampled axis: a point is a combination no planning check saw.
+        let two = format!("{one}[[axis]]\nkey = \"winding.b.radius\"\nvalues = [0.5, 1.0]\n");
+        assert!(!plan(&two).unwrap().points_checked);
+        let sampled =
+            one.replace("steps = 4", "") + "[sample]\nmethod = \"random\"\ncount = 3\nseed = 1\n";
+        assert!(!plan(&sampled).unwrap().points_checked);
     }
 
     #[test]
