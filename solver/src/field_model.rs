@@ -538,21 +538,30 @@ mod tests {
         },
     ];
 
+    /// A row of validation/far_field_helix.csv.
+    struct HelixRow {
+        helix: String,
+        direction: String,
+        r_m: f64,
+        point_m: Point3<f64>,
+        b_t: Vector3<f64>,
+    }
+
     /// Rows of validation/far_field_helix.csv: helix, direction, r (m), point (m), B (T).
-    fn helix_rows() -> Vec<(String, String, f64, Point3<f64>, Vector3<f64>)> {
+    fn helix_rows() -> Vec<HelixRow> {
         include_str!("../../validation/far_field_helix.csv")
             .lines()
             .skip(1)
             .map(|line| {
                 let f: Vec<&str> = line.splitn(10, ',').collect();
                 let x = |k: usize| f[k].parse::<f64>().unwrap();
-                (
-                    f[0].to_string(),
-                    f[1].to_string(),
-                    x(2),
-                    Point3::new(x(3), x(4), x(5)),
-                    Vector3::new(x(6), x(7), x(8)),
-                )
+                HelixRow {
+                    helix: f[0].to_string(),
+                    direction: f[1].to_string(),
+                    r_m: x(2),
+                    point_m: Point3::new(x(3), x(4), x(5)),
+                    b_t: Vector3::new(x(6), x(7), x(8)),
+                }
             })
             .collect()
     }
@@ -579,15 +588,22 @@ mod tests {
         for h in &HELICES {
             let m = filament_helix(h);
             let size = h.radius_m.hypot(0.5 * h.length_m);
-            let mine: Vec<_> = rows.iter().filter(|r| r.0 == h.name).collect();
+            let mine: Vec<_> = rows.iter().filter(|r| r.helix == h.name).collect();
             assert_eq!(mine.len(), 55);
-            let points: Vec<Point3<f64>> = mine.iter().map(|r| r.3).collect();
+            let points: Vec<Point3<f64>> = mine.iter().map(|r| r.point_m).collect();
             let got = m.eval(&points);
             for (row, s) in mine.iter().zip(&got) {
-                let (want, ratio) = (row.4, row.2 / size);
+                let (want, ratio) = (row.b_t, row.r_m / size);
                 let b = s.b.clone().unwrap();
                 if magnitude(&want) < f64::MIN_POSITIVE {
-                    assert_eq!(b, Vector3::zeros(), "{} {} {}", h.name, row.1, row.2);
+                    assert_eq!(
+                        b,
+                        Vector3::zeros(),
+                        "{} {} {}",
+                        h.name,
+                        row.direction,
+                        row.r_m
+                    );
                     continue;
                 }
                 let err = magnitude(&(b - want)) / magnitude(&want);
@@ -601,8 +617,8 @@ mod tests {
                     err < tol,
                     "{} {} at {} m: {err:e} > {tol:e}: {b} vs {want}",
                     h.name,
-                    row.1,
-                    row.2
+                    row.direction,
+                    row.r_m
                 );
                 worst = worst.max(err / tol);
             }
@@ -739,6 +755,72 @@ mod tests {
             }
             let below = m.eval(&[Point3::new(0.3 * r, 0.0, -0.5 * r)]);
             assert_eq!(below[0].e, Err(NoValue::BelowGround), "r = {r}");
+        }
+    }
+
+    #[test]
+    fn small_designs_keep_their_far_fields_down_to_the_normal_range() {
+        // The smallest sizes and drives the input accepts (1 nm to 1 um, 1e-12 A, 1e-9 V) seen
+        // from 1e3 sizes to the model's range, where the fields fall to 1e-300 and below:
+        // a ring's B is the dipole's, m = I pi a^2 (J. D. Jackson, "Classical
+        // Electrodynamics", 3rd ed., 1999, eq. 5.56), within 3 (a / r)^2 (its next multipole);
+        // a sphere's E is V a / r^2 (Maxwell 1873, vol. 1), within 1e-6 up to 1e8 sizes and
+        // 2e-9 beyond (as in the test above, which the same panels reach at every scale). The
+        // references through logarithms; below the smallest normal f64 the field model gives 0.
+        let mu0 = crate::constants::MU0;
+        for (a, i) in [(1e-6_f64, 1e-12_f64), (1e-9, 1e-12), (1e-6, 1.0)] {
+            let m = model(&format!(
+                "[[winding]]\nname = \"r\"\nshape = \"ring\"\norigin = [0.0, 0.0, 0.0]\n\
+                 axis = [0.0, 0.0, 1.0]\nradius = {a:e}\nwire_diameter = {:e}\n\
+                 [drive]\ncurrents = {{ r = {i:e} }}\n",
+                (0.01 * a).max(1e-9)
+            ));
+            let mut r = 1e3 * a;
+            while r < 1e150 {
+                for theta in [0.0_f64, 0.3, 1.0, PI / 2.0, 2.0, PI] {
+                    let k = ((mu0 * i * a * a / 4.0).ln() - 3.0 * r.ln()).exp();
+                    let (s, c) = theta.sin_cos();
+                    let want = Vector3::new(3.0 * k * c * s, 0.0, k * (3.0 * c * c - 1.0));
+                    let b = m.eval(&[Point3::new(r * s, 0.0, r * c)])[0]
+                        .b
+                        .clone()
+                        .unwrap();
+                    if 2.0 * k < f64::MIN_POSITIVE {
+                        assert_eq!(b, Vector3::zeros(), "a = {a}, r = {r}, theta {theta}");
+                        continue;
+                    }
+                    let q = a / r;
+                    assert!(
+                        magnitude(&(b - want)) < (3.0 * q * q + 1e-12) * magnitude(&want),
+                        "a = {a}, I = {i}, r = {r}, theta {theta}: {b} vs {want}"
+                    );
+                }
+                r *= 37.0;
+            }
+        }
+        for (a, v) in [(1e-9_f64, 1e-9_f64), (1e-6, 1e-9)] {
+            let m = model(&format!(
+                "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\n\
+                 origin = [0.0, 0.0, 0.0]\nradius = {a:e}\n\
+                 [drive]\npotentials = {{ ball = {v:e} }}\n"
+            ));
+            let mut r = 30.0 * a;
+            while r < 1e150 {
+                let want = ((v * a).ln() - 2.0 * r.ln()).exp();
+                let tol = if r > 1e8 * a { 2e-9 } else { 1e-6 };
+                for u in [Vector3::new(0.0, 0.0, 1.0), Vector3::new(0.6, 0.0, -0.8)] {
+                    let e = m.eval(&[Point3::from(u * r)])[0].e.clone().unwrap();
+                    if want < f64::MIN_POSITIVE {
+                        assert_eq!(e, Vector3::zeros(), "a = {a}, r = {r}");
+                        continue;
+                    }
+                    assert!(
+                        magnitude(&(e - u * want)) < tol * want,
+                        "a = {a}, V = {v}, r = {r}: {e} vs {want}"
+                    );
+                }
+                r *= 37.0;
+            }
         }
     }
 }
