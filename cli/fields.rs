@@ -156,9 +156,9 @@ fn point_row(
     let row = PointOut {
         position_m,
         e_field_v_per_m: e.map(arr),
-        e_mag_v_per_m: e.map(|v| v.norm()),
+        e_mag_v_per_m: s.e_mag(),
         b_field_t: b.map(arr),
-        b_mag_t: b.map(|v| v.norm()),
+        b_mag_t: s.b_mag(),
     };
     Ok((row, warning))
 }

@@ -6,7 +6,7 @@ use crate::sample::{self, Grid, Plane};
 use crate::thresholds;
 use crate::vtk::{self, Array};
 use crate::{BadInput, load, output};
-use coilfield_solver::field_model::{FieldModel, Sample, distances_from_centre_m};
+use coilfield_solver::field_model::{FieldModel, Sample, distances_from_centre_m, magnitude};
 use coilfield_solver::thresholds::{CAUTION, Method, Quantity};
 use nalgebra::Point3;
 use serde::Serialize;
@@ -245,7 +245,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
             match value {
                 Ok(v) => {
                     vec.extend_from_slice(&[v.x, v.y, v.z]);
-                    mag.push(v.norm());
+                    mag.push(magnitude(v));
                 }
                 Err(_) => {
                     vec.extend_from_slice(&[f64::NAN; 3]);

@@ -356,6 +356,35 @@ mod tests {
     }
 
     #[test]
+    fn a_helix_of_whole_turns_ends_straight_above_its_start() {
+        // A helix of N whole turns ends at origin + length axis + radius x_hat, exactly (common
+        // practice, no source: the angle 2 pi N is a whole number of turns). Before, the last
+        // filament vertex of a 4-turn helix lay 1e-16 radii off that line, so the open wire's
+        // end-to-end current element crossed the axis and its 1/r^2 field outgrew the turns'
+        // dipole on the axis far away.
+        for turns in [1.0, 4.0, 7.0, 12.0, 400.0] {
+            let w = Winding {
+                shape: Shape::Helix {
+                    origin_m: Point3::new(0.1, -0.2, 0.02),
+                    axis: Vector3::z_axis(),
+                    radius_m: 0.1,
+                    length_m: 0.06,
+                    turns,
+                },
+                ..helix()
+            };
+            let f = filament_model(&w);
+            let (first, last) = (f.points_m[0], *f.points_m.last().unwrap());
+            assert_eq!(first, Point3::new(0.2, -0.2, 0.02), "{turns}");
+            assert_eq!(
+                last - first,
+                Vector3::new(0.0, 0.0, 0.06 + 0.02 - 0.02),
+                "{turns}"
+            );
+        }
+    }
+
+    #[test]
     fn spiral_tapped_from_outer_keeps_whole_turns_and_cuts_one() {
         // 6.25 turns from the outer end: turns 6..11 whole, a quarter of turn 5 (u in
         // [5.75, 6]) as one ring of weight 0.25 at u = 5.875.

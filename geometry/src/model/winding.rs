@@ -265,7 +265,13 @@ impl Shape {
                     Shape::Ring { .. } => 1.0,
                     _ => self.turns().expect("turns"),
                 };
-                let angle = TAU * turns * t;
+                // The angle from the fraction of a turn (u - floor(u) is exact): a whole number
+                // of turns lands exactly back on x_hat, so an open helix of whole turns ends
+                // straight above its start (TAU * 4 gave sin = -9.8e-16, an end-to-end current
+                // element across the axis whose 1/r^2 field outgrew the turns' 1/r^3 dipole on
+                // the axis beyond about 1e14 m).
+                let u = turns * t;
+                let angle = TAU * (u - u.floor());
                 let (r, h) = self.radius_height_at(t).expect("axisymmetric shape");
                 origin + axis.as_ref() * h + (x_hat * angle.cos() + y_hat * angle.sin()) * r
             }
