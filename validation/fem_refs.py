@@ -14,6 +14,12 @@ Electricity, chapters 3 and 5; chapters from memory):
 * ``sphere_over_plane``: a sphere of radius a, centre h above a grounded plane, by images:
   C = 4 pi eps0 a sinh(alpha) sum_{n>=1} 1/sinh(n alpha), cosh(alpha) = h/a (summed until the
   terms fall below 1e-30).
+* ``sphere_in_room``: ``sphere_in_enclosure`` with the enclosure 20 radii out (a = 0.1 m,
+  b = 2 m), the proportions of a top electrode in a room, for the graded mesh's far field.
+* ``isolated_disc``: a thin conducting disc of radius a in open space, C = 8 eps0 a (the
+  oblate-spheroid limit; Smythe, chapter 5, from memory; also J. D. Jackson, Classical
+  Electrodynamics, 3rd ed., 1999, problem 3.3, from memory): a sheet whose rim carries the
+  singular field of the secondary's winding ends.
 
 eps0 = 8.8541878128e-12 F/m (CODATA 2018), the value coilfield uses.
 
@@ -54,6 +60,10 @@ def rows():
             break
         n += 1
     out.append(("sphere_over_plane", "a=0.1 h=0.25", four_pi_eps0 * a * mp.sinh(alpha) * total))
+    a, b = mp.mpf("0.1"), mp.mpf("2")
+    out.append(("sphere_in_room", "a=0.1 b=2", four_pi_eps0 * a * b / (b - a)))
+    a = mp.mpf("0.1")
+    out.append(("isolated_disc", "a=0.1", 8 * EPS0 * a))
     return out
 
 

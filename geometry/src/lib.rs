@@ -67,7 +67,9 @@ pub use model::drive::{
 };
 pub use model::electrode::{Axis, Electrode, ElectrodeShape, End, Ground, Terminal};
 pub use model::images::{image_ring_model, image_windings};
-pub use model::media::{Dielectric, DielectricShape, Enclosure, Media, MeshSettings};
+pub use model::media::{
+    Dielectric, DielectricShape, Enclosure, Media, MeshSettings, TENTH_PERCENT_DENSITY,
+};
 pub use model::winding::{Conductor, Model, Role, Shape, Tap, TapEnd, Winding, local_frame};
 pub use query::axisymmetric::check_axisymmetric;
 pub use query::checks::{check_design, validate_drive};

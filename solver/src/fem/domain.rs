@@ -600,9 +600,9 @@ pub enum FromDesignError {
     Solver(#[from] SolverError),
 }
 
-/// Points along a piece with edge lengths about `h` (m), graded towards flagged edges down to
-/// `h / EDGE_REFINEMENT` with a growth of at most `GRADING` per edge.
-pub(crate) fn sample_piece(piece: &Piece, h: f64) -> Vec<[f64; 2]> {
+/// Points along a piece with edge lengths about `h` (m), graded towards flagged edges as
+/// [`edge_grading`] says for `density`.
+pub(crate) fn sample_piece(piece: &Piece, h: f64, density: f64) -> Vec<[f64; 2]> {
     match *piece {
         Piece::Line {
             p0,
@@ -611,7 +611,7 @@ pub(crate) fn sample_piece(piece: &Piece, h: f64) -> Vec<[f64; 2]> {
             edge1,
         } => {
             let len = (p1[0] - p0[0]).hypot(p1[1] - p0[1]);
-            let us = graded_params(len, h, edge0, edge1);
+            let us = graded_params(len, h, edge_grading(h, density), edge0, edge1);
             us.iter()
                 .map(|u| [p0[0] + u * (p1[0] - p0[0]), p0[1] + u * (p1[1] - p0[1])])
                 .collect()
@@ -636,21 +636,42 @@ pub(crate) fn sample_piece(piece: &Piece, h: f64) -> Vec<[f64; 2]> {
     }
 }
 
-/// Smallest edge at a conductor's edge, in parts of the piece's edge length.
+/// Smallest edge at a conductor's edge at density 1, in parts of the outline's edge length.
 pub const EDGE_REFINEMENT: f64 = 24.0;
-/// Growth of edge length per edge away from a conductor's edge.
+/// Growth of edge length per edge away from a conductor's edge at density 1.
 pub const GRADING: f64 = 1.25;
 
-/// Parameters in [0, 1] along a line of length `len`: edges of `h`, graded to `h /
-/// EDGE_REFINEMENT` at flagged ends.
-fn graded_params(len: f64, h: f64, edge0: bool, edge1: bool) -> Vec<f64> {
-    let h_end = h / EDGE_REFINEMENT;
+/// The mesh at a conductor's edge (a disc's rim, a sheet's end, a cylinder's corner): the
+/// smallest edge `h_end` (m) at the edge and the growth `slope` of the edge length per metre
+/// of distance from it, for outline edges of `h` (m). Above density 1 the slope falls as
+/// 1 / density and h_end as 1 / density^2 (h / (EDGE_REFINEMENT density)): the potential
+/// near an edge grows as the square root of the distance (the field of a thin sheet's rim,
+/// J. D. Jackson, Classical Electrodynamics, 3rd ed., 1999, section 3.4, from memory), so a
+/// fixed grading leaves an energy error of order h that halves per doubling of the density,
+/// while this one lets it fall with the rest of the mesh (I. Babuska, R. B. Kellogg and J.
+/// Pitkaranta, "Direct and inverse error estimates for finite elements with mesh
+/// refinement", Numer. Math. 33 (1979) 447-471, on graded meshes at corners; from memory).
+/// Returns (h_end, slope).
+pub fn edge_grading(h: f64, density: f64) -> (f64, f64) {
+    let k = density.max(1.0);
+    (h / (EDGE_REFINEMENT * k), (GRADING - 1.0) / k)
+}
+
+/// Parameters in [0, 1] along a line of length `len`: edges of `h` (m), graded at flagged
+/// ends as `(h_end, slope)` (see [`edge_grading`]).
+fn graded_params(
+    len: f64,
+    h: f64,
+    (h_end, slope): (f64, f64),
+    edge0: bool,
+    edge1: bool,
+) -> Vec<f64> {
     // Edge length at distance d from the nearest flagged end.
     let size = |s: f64| {
         let d0 = if edge0 { s } else { f64::INFINITY };
         let d1 = if edge1 { len - s } else { f64::INFINITY };
         let d = d0.min(d1);
-        (h_end + (GRADING - 1.0) * d).min(h)
+        (h_end + slope * d).min(h)
     };
     let mut s = vec![0.0];
     let mut x = 0.0;
