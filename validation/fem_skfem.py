@@ -21,9 +21,10 @@ that `coilfield verify` reads; the case names and `parameters` keys are those of
 `coilfield_solver::fem::cases::reference_domain` (validation/fem_refs.py describes them), which
 builds each row's problem for both tests/fem.rs and `verify`. `density` is coilfield's mesh
 density and does not enter here. The source names the extrapolation's own error estimate
-(|C4 - C2| / 3, some 1e-5 of the value). The tolerance, 1e-3 relative, is the reach of
-coilfield's linear elements at density 8 on these geometries (measured within 3e-4; tests/fem.rs
-prints it with --nocapture) with room for the reference's extrapolation error.
+(|C4 - C2| / 3, at most 3e-5 of the value). The tolerance, 1e-3 relative (the value tests/fem.rs
+has always used), is the reach of coilfield's linear elements at density 8 on these geometries:
+measured 1.5e-4 and 3.4e-4 (`coilfield verify` prints them), with room for the reference's
+extrapolation error.
 
 Writes validation/fem_skfem.csv; --check recomputes every row from its own parameters and checks
 that the table holds exactly the rows written here.
