@@ -354,7 +354,7 @@ fn verify_refuses_a_bad_finite_element_row_by_file_row_and_column() {
         let stderr = String::from_utf8(out.stderr).unwrap();
         assert_eq!(out.status.code(), Some(2), "{table} {column}: {stderr}");
         assert!(stderr.contains(&format!("{table} row 2")), "{stderr}");
-        if *column == *"parameters" {
+        if column == "parameters" {
             assert!(stderr.contains("column 'parameters'"), "{stderr}");
         }
         for e in expected {

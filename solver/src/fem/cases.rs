@@ -15,8 +15,8 @@
 //! `density` (the mesh refinement factor of `[mesh] density`) in (0, 16] (a design file's
 //! range), and the parts nest as their case says (a sphere inside its enclosure, a shell
 //! between them): a row outside these is refused, naming its column and key, before anything
-//! is meshed. A row that asks for more than [`CASE_MAX_ELEMENTS`] elements is refused by the
-//! mesher.
+//! is meshed, as is one whose lengths span more than [`MAX_LENGTH_RATIO`]. A row that asks
+//! for more than [`CASE_MAX_ELEMENTS`] elements is refused by the mesher.
 //!
 //! The cases (the conductor is always the first and only one; its capacitance is entry
 //! (0, 0) of the capacitance matrix):
@@ -55,6 +55,12 @@ pub const CASE_NAMES: [&str; 6] = [
 /// (PVC about 3, glass under 10; common practice, no source), while eps_r times the energy stays
 /// far from overflow.
 pub const MAX_EPS_R: f64 = 1e6;
+
+/// Largest ratio of two lengths of one case. The mesh grades from the conductor's edge length
+/// to the outer boundary's; far beyond this ratio the conductor is no longer resolved and the
+/// capacitance is meaningless (a sphere of 1e-9 m in an enclosure of 1e5 m came out as
+/// 1.4e-8 F against 1.1e-19 F), so such a row is refused rather than reported as a failure.
+pub const MAX_LENGTH_RATIO: f64 = 1e3;
 
 /// Element limit of a case's mesh: the design file's own limit, so that a row asking for more
 /// (too fine a density, parts too close) is refused by the mesher after bounded work.
@@ -231,6 +237,22 @@ pub fn reference_domain(case: &str, parameters: &str) -> Result<Domain, CaseErro
         ))
     })?;
     let p = Parameters::parse(parameters, keys)?;
+    let lengths: Vec<f64> = keys
+        .iter()
+        .filter(|k| k.ends_with("_m") && **k != "centre_z_m")
+        .map(|k| p.get(k))
+        .collect();
+    let (smallest, largest) = lengths
+        .iter()
+        .fold((f64::INFINITY, 0.0_f64), |(lo, hi), &v| {
+            (lo.min(v), hi.max(v))
+        });
+    if largest > MAX_LENGTH_RATIO * smallest {
+        return Err(parameter_error(format!(
+            "the lengths span {smallest:e} m to {largest:e} m, more than the factor of \
+             {MAX_LENGTH_RATIO:e} the mesh resolves"
+        )));
+    }
     let a = p.get("a_m");
     let sphere_in = |zc: f64, b: f64| Outer::Sphere {
         centre_z: zc,
@@ -381,6 +403,8 @@ mod tests {
             "a_m=0.1;c_m=0.15;b_m=0.2;eps_r=0.5;density=8",
         );
         assert!(e.reason.contains("permittivity"), "{e}");
+        let e = refused("sphere_in_enclosure", "a_m=1e-9;b_m=1e5;density=16");
+        assert!(e.reason.contains("the lengths span"), "{e}");
         let e = refused("cube", "a_m=0.1");
         assert_eq!(e.column, "case");
         assert!(e.reason.contains("unknown case 'cube'"), "{e}");
