@@ -14,10 +14,12 @@ use coilfield_solver::Par;
 use coilfield_solver::assembly::{InductanceReport, inductance_report};
 use coilfield_solver::circuit::{
     Drive, LadderModes, LoopState, Loops, Quench, SimulationSettings, equivalent_capacitance_f,
-    ladder_modes, loop_modes, simulate, steady_state,
+    ladder_modes, loop_modes, simulate, steady_state, validation_full_ladder,
 };
 use coilfield_solver::electrostatic::{Params, Problem, Profile, Solution};
 use coilfield_solver::elliptic::{cel, ellip_e, ellip_k};
+use coilfield_solver::fem::FemProblem;
+use coilfield_solver::fem::cases::reference_domain;
 use coilfield_solver::field::{b_ring_point, b_sheet_point};
 use coilfield_solver::mutual::{Circle, mutual_ring_ring, mutual_ring_ring_coaxial};
 use coilfield_solver::numtext::shortest;
@@ -34,7 +36,7 @@ use std::process::ExitCode;
 use std::sync::Mutex;
 
 /// The tables, by name, with their built-in contents.
-pub const TABLES: [(&str, &str); 18] = [
+pub const TABLES: [(&str, &str); 20] = [
     ("elliptic", include_str!("../validation/elliptic.csv")),
     ("cel", include_str!("../validation/cel.csv")),
     (
@@ -62,6 +64,8 @@ pub const TABLES: [(&str, &str); 18] = [
         include_str!("../validation/fields_capacitance.csv"),
     ),
     ("tube_bem", include_str!("../validation/tube_bem.csv")),
+    ("fem", include_str!("../validation/fem.csv")),
+    ("fem_skfem", include_str!("../validation/fem_skfem.csv")),
 ];
 
 /// The designs the rows of `tap.csv` name (invented for the check; `validation/tap_refs.py`
@@ -230,6 +234,7 @@ fn compute(table: &str, row: &Row, label: &str) -> anyhow::Result<Computed> {
         "circuits" => circuits(row)?.into(),
         "fields_capacitance" => fields_capacitance(row)?.into(),
         "tube_bem" => tube_bem(row)?.into(),
+        "fem" | "fem_skfem" => finite_element(row)?.into(),
         _ => kernel(table, row, label)?.into(),
     };
     // Inputs in range give finite values; a non-finite one is a defect, never a pass or fail.
@@ -476,31 +481,6 @@ fn param_count(p: &Row, key: &str, max: f64) -> anyhow::Result<usize> {
 /// Sections a ladder of `circuits.csv` may have (the uniform ladder's rows go to 256).
 const MAX_SECTIONS: f64 = 4096.0;
 
-/// The full-ladder matrices of `validation/circuits_refs.py` (an invented, fully coupled
-/// ladder; 1-based i, j there): L_ij = l0 s_i s_j 2^-|i-j| with s_i = 1 + i/4, the node
-/// capacitance matrix from c0 4^-|i-j| between nodes, c0 (1 + i/8) to ground and 4 c0 more at
-/// the top.
-fn full_ladder(n: usize, l0: f64, c0: f64) -> (DMatrix<f64>, DMatrix<f64>) {
-    let s = |i: usize| 1.0 + (i + 1) as f64 / 4.0;
-    let l = DMatrix::from_fn(n, n, |i, j| {
-        l0 * s(i) * s(j) * 2f64.powi(-(i.abs_diff(j) as i32))
-    });
-    let off = |i: usize, j: usize| c0 * 4f64.powi(-(i.abs_diff(j) as i32));
-    let c = DMatrix::from_fn(n, n, |i, j| {
-        if i != j {
-            -off(i, j)
-        } else {
-            let mut d = c0 * (1.0 + (i + 1) as f64 / 8.0);
-            d += (0..n).filter(|&k| k != i).map(|k| off(i, k)).sum::<f64>();
-            if i == n - 1 {
-                d += 4.0 * c0;
-            }
-            d
-        }
-    });
-    (c, l)
-}
-
 /// Two coupled loops with capacitors `c1`, `c2` (`None`: closed without one), M = k sqrt(L1 L2).
 fn pair(p: &Row, c2: bool, r: [f64; 2]) -> anyhow::Result<Loops> {
     let (l1, l2) = (param(p, "l1_h")?, param(p, "l2_h")?);
@@ -602,7 +582,7 @@ fn circuits(row: &Row) -> anyhow::Result<f64> {
         }
         "full_ladder" => {
             let n = param_count(&p, "n", MAX_SECTIONS)?;
-            let (c, l) = full_ladder(n, param(&p, "l0_h")?, param(&p, "c0_f")?);
+            let (c, l) = validation_full_ladder(n, param(&p, "l0_h")?, param(&p, "c0_f")?);
             let modes = ladder_modes(&c, &l, n).map_err(bad)?;
             ladder_quantity(&modes, &p, quantity, n)?
         }
@@ -912,6 +892,17 @@ fn tube_bem(row: &Row) -> anyhow::Result<f64> {
             "column 'quantity': '{other}' is not tube, linear or nodal"
         ))),
     }
+}
+
+/// A row of `fem.csv` (closed forms and image series) or `fem_skfem.csv` (scikit-fem on its
+/// own meshes): the capacitance (F) of the row's conductor through the finite-element solver
+/// ([`coilfield_solver::fem`]), its problem built from the `case` and `parameters` columns by
+/// [`reference_domain`], the one builder tests/fem.rs uses too (which checks its ranges and
+/// names the column at fault).
+fn finite_element(row: &Row) -> anyhow::Result<f64> {
+    let domain = reference_domain(text(row, "case")?, text(row, "parameters")?).map_err(bad)?;
+    let solution = FemProblem::new(domain).map_err(bad)?.solve().map_err(bad)?;
+    Ok(solution.capacitance_matrix_f()[0][0])
 }
 
 /// The computed value of one row of a table of kernels and closed forms.

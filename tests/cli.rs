@@ -163,10 +163,6 @@ fn help_of_every_command_states_units() {
     assert!(String::from_utf8(out.stdout).unwrap().contains("metres"));
 }
 
-/// Tables of `validation/` that `verify` does not read yet: the finite-element references,
-/// checked by tests/fem.rs only.
-const TABLES_NOT_VERIFIED: [&str; 2] = ["fem", "fem_skfem"];
-
 #[test]
 fn verify_passes_on_the_built_in_tables_and_reads_every_table() {
     let out = run(&["verify", "--format", "json"]);
@@ -187,7 +183,6 @@ fn verify_passes_on_the_built_in_tables_and_reads_every_table() {
         .map(|e| e.unwrap().path())
         .filter(|p| p.extension().is_some_and(|e| e == "csv"))
         .map(|p| p.file_stem().unwrap().to_string_lossy().into_owned())
-        .filter(|name| !TABLES_NOT_VERIFIED.contains(&name.as_str()))
         .collect();
     assert_eq!(
         read, shipped,
@@ -240,6 +235,133 @@ fn verify_recomputes_an_edited_input_row() {
     assert_eq!(e["passed"], false);
     assert_eq!(o["passed"], true);
     assert_eq!(edited["failed"], 1);
+}
+
+/// A copy of every table of `validation/` in a temporary folder, for `verify --tables`.
+fn copied_tables() -> tempfile::TempDir {
+    let dir = tempfile::tempdir().unwrap();
+    for entry in std::fs::read_dir(root().join("validation")).unwrap() {
+        let p = entry.unwrap().path();
+        if p.extension().is_some_and(|e| e == "csv") {
+            std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
+        }
+    }
+    dir
+}
+
+/// `table` in `dir` with the cell of `column` in data row `row` (1-based) replaced by what
+/// `edit` makes of it (the tables are read as CSV, so a quoted source stays one cell).
+fn edit_cell(
+    dir: &std::path::Path,
+    table: &str,
+    row: usize,
+    column: &str,
+    edit: &dyn Fn(&str) -> String,
+) {
+    let path = dir.join(table);
+    let mut reader = csv::Reader::from_path(&path).unwrap();
+    let headers = reader.headers().unwrap().clone();
+    let k = headers.iter().position(|h| h == column).unwrap();
+    let mut writer = csv::Writer::from_writer(Vec::new());
+    writer.write_record(&headers).unwrap();
+    for (i, record) in reader.records().enumerate() {
+        let record = record.unwrap();
+        let cells: Vec<String> = record
+            .iter()
+            .enumerate()
+            .map(|(j, v)| {
+                if i + 1 == row && j == k {
+                    edit(v)
+                } else {
+                    v.to_string()
+                }
+            })
+            .collect();
+        writer.write_record(&cells).unwrap();
+    }
+    std::fs::write(&path, writer.into_inner().unwrap()).unwrap();
+}
+
+/// A finite-element reference changed by 1 % fails its row, and only that row: every row of
+/// validation/fem.csv and fem_skfem.csv has a tolerance of at most 0.3 % (the reach of linear
+/// elements at density 8; validation/fem_refs.py and fem_skfem.py), and verify recomputes the
+/// capacitance rather than trusting the table. The table layout is verify's own: one line per
+/// row naming the table and row, then reference, computed value, error and source.
+#[test]
+fn verify_fails_a_finite_element_row_changed_by_one_percent() {
+    for (table, row) in [("fem.csv", 4), ("fem_skfem.csv", 2)] {
+        let dir = copied_tables();
+        edit_cell(dir.path(), table, row, "reference", &|v| {
+            format!("{:e}", v.parse::<f64>().unwrap() * 1.01)
+        });
+        let out = run(&["verify", "--tables", dir.path().to_str().unwrap()]);
+        let text = String::from_utf8(out.stdout).unwrap();
+        assert_eq!(out.status.code(), Some(1), "{table}: {text}");
+        let name = table.trim_end_matches(".csv");
+        let failed: Vec<&str> = text.lines().filter(|l| l.starts_with("FAIL")).collect();
+        assert_eq!(failed.len(), 1, "{table}: {failed:?}");
+        assert!(
+            failed[0].contains(&format!("{name:<16} #{row:<3}")),
+            "{table}: {}",
+            failed[0]
+        );
+        assert!(text.ends_with("1 failed\n"), "{table}");
+    }
+}
+
+/// A bad finite-element row (a size out of range, a word for a number, an unknown case, parts
+/// that do not nest) is refused with exit 2 before anything is meshed, naming the file, the
+/// row and the column (the row's case is built and checked before it is meshed); never a panic.
+#[test]
+fn verify_refuses_a_bad_finite_element_row_by_file_row_and_column() {
+    type Edit<'a> = &'a dyn Fn(&str) -> String;
+    let cases: [(&str, &str, Edit, &[&str]); 5] = [
+        (
+            "fem.csv",
+            "parameters",
+            &|v| v.replace("a_m=0.1", "a_m=1e300"),
+            &["'a_m'", "1e300"],
+        ),
+        (
+            "fem.csv",
+            "parameters",
+            &|v| v.replace("a_m=0.1", "a_m=ten"),
+            &["'a_m'", "not a number"],
+        ),
+        (
+            "fem.csv",
+            "case",
+            &|_| "cube".to_string(),
+            &["column 'case'", "unknown case 'cube'"],
+        ),
+        (
+            "fem_skfem.csv",
+            "parameters",
+            &|v| v.replace("b_m=0.3", "b_m=0.12"),
+            &["do not nest"],
+        ),
+        (
+            "fem_skfem.csv",
+            "parameters",
+            &|v| v.replace("density=8", "density=1e9"),
+            &["'density'"],
+        ),
+    ];
+    for (table, column, edit, expected) in cases {
+        let dir = copied_tables();
+        edit_cell(dir.path(), table, 2, column, edit);
+        let out = run(&["verify", "--tables", dir.path().to_str().unwrap()]);
+        let stderr = String::from_utf8(out.stderr).unwrap();
+        assert_eq!(out.status.code(), Some(2), "{table} {column}: {stderr}");
+        assert!(stderr.contains(&format!("{table} row 2")), "{stderr}");
+        if column == "parameters" {
+            assert!(stderr.contains("column 'parameters'"), "{stderr}");
+        }
+        for e in expected {
+            assert!(stderr.contains(e), "{table} {column}: no {e:?} in {stderr}");
+        }
+        assert!(!stderr.contains("panicked"), "{stderr}");
+    }
 }
 
 #[test]

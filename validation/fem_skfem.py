@@ -6,14 +6,28 @@ weak form (integral of eps grad u . grad v r dr dz), on structured meshes built 
 from coilfield's mesher or solver), refined three times and Richardson-extrapolated (second
 order in the energy):
 
-* ``shell``: a sphere (radius a = 0.1 m) in a grounded sphere (b = 0.2 m), a dielectric shell
-  a < r < c = 0.15 m of relative permittivity 3: a polar mesh of the half-annulus.
-* ``eccentric``: a sphere (radius 0.1 m, centre z = 0.05 m) in a grounded sphere (radius 0.3 m,
-  centre z = 0): no dielectric, no closed form here; a mesh of rays from the inner centre, each
-  cut evenly between the two spheres.
+* ``concentric_shell``: a sphere (radius a = 0.1 m) in a grounded sphere (b = 0.2 m), a
+  dielectric shell a < r < c = 0.15 m of relative permittivity 3: a polar mesh of the
+  half-annulus.
+* ``eccentric_sphere``: a sphere (radius 0.1 m, centre z = 0.05 m) in a grounded sphere (radius
+  0.3 m, centre z = 0): no dielectric, no closed form here; a mesh of rays from the inner centre,
+  each cut evenly between the two spheres.
 
 C = 2 pi eps0 u^T K u with u = 1 V on the inner sphere, 0 V on the outer (eps0 = 8.8541878128e-12
-F/m, CODATA 2018). Writes validation/fem_skfem.csv; --check recomputes and compares.
+F/m, CODATA 2018).
+
+CSV columns: case,parameters,reference,tolerance,tolerance_kind,source, the layout of every table
+that `coilfield verify` reads; the case names and `parameters` keys are those of
+`coilfield_solver::fem::cases::reference_domain` (validation/fem_refs.py describes them), which
+builds each row's problem for both tests/fem.rs and `verify`. `density` is coilfield's mesh
+density and does not enter here. The source names the extrapolation's own error estimate
+(|C4 - C2| / 3, at most 3e-5 of the value). The tolerance, 1e-3 relative (the value tests/fem.rs
+has always used), is the reach of coilfield's linear elements at density 8 on these geometries:
+measured 1.5e-4 and 3.4e-4 (`coilfield verify` prints them), with room for the reference's
+extrapolation error.
+
+Writes validation/fem_skfem.csv; --check recomputes every row from its own parameters and checks
+that the table holds exactly the rows written here.
 """
 import csv
 import os
@@ -26,6 +40,19 @@ from skfem.helpers import dot, grad
 EPS0 = 8.8541878128e-12
 HERE = os.path.dirname(os.path.abspath(__file__))
 OUT = os.path.join(HERE, "fem_skfem.csv")
+HEADER = ["case", "parameters", "reference", "tolerance", "tolerance_kind", "source"]
+SOURCE = "validation/fem_skfem.py: scikit-fem P1 on its own structured meshes, Richardson-extrapolated"
+
+# (case, parameters, tolerance)
+ROWS = [
+    ("concentric_shell", "a_m=0.1;c_m=0.15;b_m=0.2;eps_r=3;density=8", "1e-3"),
+    ("eccentric_sphere", "a_m=0.1;centre_z_m=0.05;b_m=0.3;density=8", "1e-3"),
+]
+
+
+def parse(parameters):
+    """`key=value;...` -> {key: float}."""
+    return {k.strip(): float(v) for k, v in (pair.split("=") for pair in parameters.split(";"))}
 
 
 def structured(inner, outer, n_s, n_t):
@@ -78,20 +105,23 @@ def extrapolated(build, eps_of):
     return c4 + (c4 - c2) / 3.0, abs(c4 - c2) / 3.0
 
 
-def shell():
-    a, c, b = 0.1, 0.15, 0.2
+def shell(p):
+    a, c, b, eps = p["a_m"], p["c_m"], p["b_m"], p["eps_r"]
     circle = lambda r: (lambda t: np.array([r * np.cos(t), r * np.sin(t)]))
 
     def build(level):
         return structured(circle(a), circle(b), 40 * level, 160 * level)
 
-    eps_of = lambda x: np.where(np.hypot(x[0], x[1]) < c, 3.0, 1.0)
-    # Keep the interface on element edges: 40 levels across 0.1 m put r = 0.15 at s = 0.5.
+    eps_of = lambda x: np.where(np.hypot(x[0], x[1]) < c, eps, 1.0)
+    # Keep the interface on element edges: 40 levels across b - a must put r = c on one.
+    levels = 40 * (c - a) / (b - a)
+    if abs(levels - round(levels)) > 1e-9:
+        sys.exit(f"concentric_shell: c_m = {c} does not fall on a mesh line (40 levels from a to b)")
     return extrapolated(build, eps_of)
 
 
-def eccentric():
-    a, za, b = 0.1, 0.05, 0.3
+def eccentric(p):
+    a, za, b = p["a_m"], p["centre_z_m"], p["b_m"]
 
     def inner(t):
         return np.array([a * np.cos(t), za + a * np.sin(t)])
@@ -109,22 +139,51 @@ def eccentric():
     return extrapolated(build, lambda x: np.ones_like(x[0]))
 
 
+def reference(case, parameters):
+    """The capacitance (F) of a row and its extrapolation error estimate (F)."""
+    p = parse(parameters)
+    if case == "concentric_shell":
+        return shell(p)
+    if case == "eccentric_sphere":
+        return eccentric(p)
+    raise ValueError(f"unknown case {case}")
+
+
+def table():
+    out = []
+    for case, parameters, tolerance in ROWS:
+        value, err = reference(case, parameters)
+        source = f"{SOURCE} (extrapolation error estimate {err:.1e} F)"
+        out.append([case, parameters, repr(float(value)), tolerance, "rel", source])
+    return out
+
+
 def main():
-    rows = [("shell", *shell()), ("eccentric", *eccentric())]
+    rows = table()
     if "--check" in sys.argv:
         with open(OUT, newline="") as f:
-            stored = {r["case"]: float(r["capacitance_f"]) for r in csv.DictReader(f)}
-        for case, value, _ in rows:
-            if abs(stored[case] / value - 1) > 1e-9:
-                print(f"fem_skfem.csv: {case}: stored {stored[case]}, recomputed {value}")
-                sys.exit(1)
+            reader = csv.reader(f)
+            header = next(reader)
+            stored = [r for r in reader if r]
+        bad = []
+        if header != HEADER:
+            bad.append(f"header {header}, expected {HEADER}")
+        for i, r in enumerate(stored, 1):
+            # Each stored reference against its own parameters, recomputed here.
+            value, _ = reference(r[0], r[1])
+            if abs(float(r[2]) / value - 1) > 1e-9:
+                bad.append(f"row {i} ({r[0]}): stored {r[2]}, recomputed {value!r}")
+        if stored != rows:
+            bad.append("the rows differ from those fem_skfem.py writes")
+        if bad:
+            print("validation/fem_skfem.csv disagrees with fem_skfem.py:", *bad, sep="\n  ")
+            sys.exit(1)
         print(f"fem_skfem.csv: {len(rows)} rows agree")
         return
     with open(OUT, "w", newline="") as f:
         w = csv.writer(f)
-        w.writerow(["case", "capacitance_f", "extrapolation_error_f", "source"])
-        for case, value, err in rows:
-            w.writerow([case, repr(float(value)), repr(float(err)), "validation/fem_skfem.py (scikit-fem P1, own structured mesh, Richardson)"])
+        w.writerow(HEADER)
+        w.writerows(rows)
 
 
 if __name__ == "__main__":

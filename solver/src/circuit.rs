@@ -364,6 +364,33 @@ fn ladder_mode(
     }
 }
 
+/// The capacitance and inductance matrices (F, H) of the invented, fully coupled ladder of `n`
+/// sections of the validation table `validation/circuits.csv` (case `full_ladder`, computed by
+/// `validation/circuits_refs.py`, whose indices i, j are 1-based): L_ij = l0 s_i s_j 2^-|i-j|
+/// with s_i = 1 + i/4, and the node capacitance matrix from c0 4^-|i-j| between nodes, c0 (1 +
+/// i/8) to ground and 4 c0 more at the top. One definition for the `verify` command and this
+/// module's tests, so the two cannot check different ladders. Returns (C, L).
+pub fn validation_full_ladder(n: usize, l0_h: f64, c0_f: f64) -> (DMatrix<f64>, DMatrix<f64>) {
+    let s = |i: usize| 1.0 + (i + 1) as f64 / 4.0;
+    let l = DMatrix::from_fn(n, n, |i, j| {
+        l0_h * s(i) * s(j) * 2f64.powi(-(i.abs_diff(j) as i32))
+    });
+    let off = |i: usize, j: usize| c0_f * 4f64.powi(-(i.abs_diff(j) as i32));
+    let c = DMatrix::from_fn(n, n, |i, j| {
+        if i != j {
+            -off(i, j)
+        } else {
+            let mut d = c0_f * (1.0 + (i + 1) as f64 / 8.0);
+            d += (0..n).filter(|&k| k != i).map(|k| off(i, k)).sum::<f64>();
+            if i == n - 1 {
+                d += 4.0 * c0_f;
+            }
+            d
+        }
+    });
+    (c, l)
+}
+
 /// Equivalent lumped capacitance C_eq = 1 / ((2 pi f)^2 L) (F) of a resonance at `frequency_hz`
 /// with the inductance `inductance_h` (H): Thomson's formula f = 1 / (2 pi sqrt(L C)) solved for
 /// C (W. Thomson, "On transient electric currents", *Phil. Mag.* 5, 1853, pp. 393-405; page
@@ -1711,28 +1738,6 @@ mod tests {
         ladder_modes(&c, &l, n.min(3)).unwrap()
     }
 
-    /// The full-ladder matrices of circuits_refs.py (same formula, 1-based i, j there).
-    fn full_ladder_matrices(n: usize, l0: f64, c0: f64) -> (DMatrix<f64>, DMatrix<f64>) {
-        let s = |i: usize| 1.0 + (i + 1) as f64 / 4.0;
-        let l = DMatrix::from_fn(n, n, |i, j| {
-            l0 * s(i) * s(j) * 2f64.powi(-(i.abs_diff(j) as i32))
-        });
-        let off = |i: usize, j: usize| c0 * 4f64.powi(-(i.abs_diff(j) as i32));
-        let c = DMatrix::from_fn(n, n, |i, j| {
-            if i != j {
-                -off(i, j)
-            } else {
-                let mut d = c0 * (1.0 + (i + 1) as f64 / 8.0);
-                d += (0..n).filter(|&k| k != i).map(|k| off(i, k)).sum::<f64>();
-                if i == n - 1 {
-                    d += 4.0 * c0;
-                }
-                d
-            }
-        });
-        (c, l)
-    }
-
     fn pair(l1: f64, c1: Option<f64>, l2: f64, c2: Option<f64>, k: f64, r: [f64; 2]) -> Loops {
         let m = k * (l1 * l2).sqrt();
         Loops {
@@ -1831,7 +1836,7 @@ mod tests {
         // mpmath eigsy on C^-1/2 D^T L^-1 D C^-1/2 (circuits.csv, case full_ladder). Measured:
         // frequencies within 3.2e-15 relative, shapes within 3e-15, top figures 2.2e-15.
         for row in rows("full_ladder") {
-            let (c, l) = full_ladder_matrices(row.u("n"), row.f("l0_h"), row.f("c0_f"));
+            let (c, l) = validation_full_ladder(row.u("n"), row.f("l0_h"), row.f("c0_f"));
             let modes = ladder_modes(&c, &l, row.u("n")).unwrap();
             let mode = &modes.modes[row.u("mode") - 1];
             let value = match row.quantity.as_str() {
@@ -1855,7 +1860,7 @@ mod tests {
         // i = L^-1 D v / omega (the inductance equation) in the ratios of `branch_current`.
         // Asserted at 1e-12 relative.
         let n = 4;
-        let (c, l) = full_ladder_matrices(n, 1e-3, 1e-12);
+        let (c, l) = validation_full_ladder(n, 1e-3, 1e-12);
         let d = DMatrix::from_fn(n, n, |r, k| {
             if r == k {
                 -1.0

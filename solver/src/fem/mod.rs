@@ -7,6 +7,7 @@
 //! FemProblem::new(domain) -> Result<FemProblem, SolverError>              // meshes (mesh::mesh_domain)
 //! FemProblem::solve(&self) -> Result<FemSolution, SolverError>           // factor once, all solves
 //! FemSolution::capacitance_matrix_f / error_estimate_f / self_capacitance_f / probe / e_field
+//! cases::reference_domain(case, parameters) -> Result<Domain, CaseError>   // validation rows
 //! ```
 //!
 //! # Method
@@ -41,6 +42,7 @@
 //! - Linear elements: errors fall as h^2 in the capacitance (see the convergence table in the
 //!   tests) and as h in the field near sharp edges.
 
+pub mod cases;
 pub mod domain;
 pub mod mesh;
 mod nodal;
