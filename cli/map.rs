@@ -300,6 +300,15 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
         };
         let (contours, th_warnings) = threshold_contours(&design, &label, quantity, unit)?;
         warnings.extend(th_warnings);
+        let scale = plot::Scale::Log;
+        // Thresholds the map's values never reach (or all exceed) get no line; the figure's
+        // legend says so, and so does the command, once each.
+        warnings.extend(
+            plot::plan_contours(values, &contours, scale, unit)
+                .notes
+                .into_iter()
+                .map(|note| format!("heat map contour: {note}")),
+        );
         let title = match quantity {
             Quantity::E => "peak |E| (V/m); screening estimate, not a safety certificate",
             Quantity::B => "peak |B| (T); screening estimate, not a safety certificate",
@@ -309,7 +318,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
                 u,
                 v,
                 values,
-                scale: plot::Scale::Log,
+                scale,
                 u_axis: plot::Axis::metres(ul),
                 v_axis: plot::Axis::metres(vl),
                 title,

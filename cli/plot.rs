@@ -145,15 +145,23 @@ pub(crate) fn axis_reading(axis: Axis<'_>, lo: f64, hi: f64) -> (f64, String) {
     if axis.unit.is_empty() {
         return (1.0, axis.name.to_string());
     }
-    if !PREFIXED_UNITS.contains(&axis.unit) {
-        return (1.0, format!("{} ({})", axis.name, axis.unit));
+    let (scale, unit) = unit_reading(axis.unit, lo, hi);
+    (scale, format!("{} ({unit})", axis.name))
+}
+
+/// The factor dividing values `lo..hi` given in `unit` and the unit they then read in, with
+/// the SI prefix of the largest magnitude (`"µH"` for 7.9e-5..8.4e-5 H); a unit that takes no
+/// prefix (or none) as it is, with factor 1. The rule of [`axis_reading`] and linear colour bars.
+pub(crate) fn unit_reading(unit: &str, lo: f64, hi: f64) -> (f64, String) {
+    if !PREFIXED_UNITS.contains(&unit) {
+        return (1.0, unit.to_string());
     }
     let largest = [lo, hi]
         .into_iter()
         .filter(|x| x.is_finite())
         .fold(0.0f64, |m, x| m.max(x.abs()));
     let (scale, prefix) = coilfield_solver::numtext::si_prefix(largest, 3);
-    (scale, format!("{} ({prefix}{})", axis.name, axis.unit))
+    (scale, format!("{prefix}{unit}"))
 }
 
 /// One straight piece of a contour line, in plane coordinates (m).
@@ -205,6 +213,113 @@ pub fn contour_segments(
         }
     }
     out
+}
+
+/// Steps of the colour ramp a reader can tell apart: 8-bit colour, 256 shades along the
+/// Viridis map (common practice, no source: the map is published as a 256-entry table).
+const COLOUR_STEPS: f64 = 256.0;
+
+/// One contour line of a heat map: its level (the values' unit) and its legend text (the names
+/// of every threshold it stands for).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ContourLine {
+    /// Level, in the unit of the values.
+    pub level: f64,
+    /// Legend text.
+    pub label: String,
+}
+
+/// What a heat map does with its contour levels: the lines it draws and, in words, the
+/// levels it cannot draw.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct ContourPlan {
+    /// Lines to draw, by increasing level.
+    pub lines: Vec<ContourLine>,
+    /// One sentence per level (or group of coincident levels) outside the map's values.
+    pub notes: Vec<String>,
+}
+
+/// The contour lines and notes of `contours` (level, legend text) over `values` on `scale`,
+/// `unit` the values' SI unit. Two rules:
+/// - Coincident levels are one line: levels whose places on the colour scale (log10 of the value
+///   on a log scale) differ by less than one of the [`COLOUR_STEPS`] shades of the map's range
+///   would be drawn over each other and read as one colour; they are drawn once, at the lowest
+///   of them, and the legend names them all ("A: peak 30.3 µT; B: peak 30.3 µT"). Equal levels
+///   are always one line.
+/// - A level above the map's largest value or below its smallest crosses no cell, so it gets no
+///   line and a note says so with the map's extreme ("..., above this map's maximum 300 kV/m,
+///   not drawn"); so does a level a log scale cannot place (not positive).
+pub fn plan_contours(
+    values: &[f64],
+    contours: &[(f64, String)],
+    scale: Scale,
+    unit: &str,
+) -> ContourPlan {
+    // The map's smallest and largest value with a place on the scale.
+    let (min, max) = values
+        .iter()
+        .copied()
+        .filter(|&x| scale.of(x).is_finite())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+            (a.min(x), b.max(x))
+        });
+    let shade = if max > min {
+        (scale.of(max) - scale.of(min)) / COLOUR_STEPS
+    } else {
+        0.0
+    };
+    let mut order: Vec<usize> = (0..contours.len()).collect();
+    order.sort_by(|&a, &b| contours[a].0.total_cmp(&contours[b].0));
+    // Groups of coincident levels, each led by its lowest level.
+    let mut groups: Vec<(f64, Vec<&str>)> = Vec::new();
+    for k in order {
+        let (level, label) = (&contours[k].0, contours[k].1.as_str());
+        match groups.last_mut() {
+            Some((lead, names))
+                if *lead == *level || (scale.of(*level) - scale.of(*lead)).abs() < shade =>
+            {
+                names.push(label);
+            }
+            _ => groups.push((*level, vec![label])),
+        }
+    }
+    let mut plan = ContourPlan::default();
+    for (level, names) in groups {
+        let label = names.join("; ");
+        let place = scale.of(level);
+        if !place.is_finite() {
+            plan.notes.push(format!(
+                "{label}: not positive, no place on a log scale, not drawn"
+            ));
+        } else if min > max {
+            plan.notes.push(format!(
+                "{label}: this map has no value to draw it on, not drawn"
+            ));
+        } else if level > max {
+            plan.notes.push(format!(
+                "{label}, above this map's maximum {}, not drawn",
+                value_text(max, unit)
+            ));
+        } else if level < min {
+            plan.notes.push(format!(
+                "{label}, below this map's minimum {}, not drawn",
+                value_text(min, unit)
+            ));
+        } else {
+            plan.lines.push(ContourLine { level, label });
+        }
+    }
+    plan
+}
+
+/// A value with an SI prefix and its unit (three significant digits), or the number alone for
+/// a pure number: the colour bar's log ticks and the contour notes.
+fn value_text(v: f64, unit: &str) -> String {
+    if unit.is_empty() {
+        let d = 2;
+        return coilfield_solver::numtext::shortest(format!("{v:.d$e}").parse().unwrap_or(v));
+    }
+    crate::output::si(v, unit, 3)
 }
 
 /// Something drawn on a plotters drawing area of any backend.
@@ -380,7 +495,14 @@ where
         "heat map values do not fill the grid"
     );
     let (lo, hi) = finite_range(map.values.iter().map(|&x| map.scale.of(x)));
-    let (plot_area, bar_area) = root.split_horizontally(780);
+    let plan = plan_contours(map.values, map.contours, map.scale, map.unit);
+    // The legend in a strip of its own below the chart and the colour bar, so it covers no
+    // data; the strip is as tall as its rows.
+    let (width, height) = root.dim_in_pixel();
+    let legend = legend_layout(root, &plan, width)?;
+    let chart_height = height.saturating_sub(legend.height).max(height / 2);
+    let (chart_area, legend_area) = root.split_vertically(chart_height);
+    let (plot_area, bar_area) = chart_area.split_horizontally(780);
     // Coordinates as the axes read them (mm for a plane a few decimetres across).
     let (su, u_caption) = axis_reading(map.u_axis, map.u[0], map.u[nu - 1]);
     let (sv, v_caption) = axis_reading(map.v_axis, map.v[0], map.v[nv - 1]);
@@ -439,52 +561,30 @@ where
                 }),
         )
         .map_err(err)?;
-    let palette = [
-        WHITE,
-        RED,
-        MAGENTA,
-        CYAN,
-        BLACK,
-        YELLOW,
-        plotters::style::full_palette::ORANGE,
-        plotters::style::full_palette::PINK,
-        BLUE,
-        GREEN,
-    ];
-    for (k, (level, name)) in map.contours.iter().enumerate() {
-        let colour = palette[k % palette.len()];
-        let segs = contour_segments(&u, &v, map.values, *level, map.scale);
+    for (k, line) in plan.lines.iter().enumerate() {
+        let colour = contour_colour(k);
+        let segs = contour_segments(&u, &v, map.values, line.level, map.scale);
         chart
             .draw_series(
                 segs.iter()
                     .map(|&(a, b)| PathElement::new(vec![a, b], colour.stroke_width(2))),
             )
-            .map_err(err)?
-            .label(name.clone())
-            .legend(move |(x, y)| {
-                PathElement::new(vec![(x, y), (x + 20, y)], colour.stroke_width(2))
-            });
-    }
-    if !map.contours.is_empty() {
-        chart
-            .configure_series_labels()
-            .position(SeriesLabelPosition::UpperLeft)
-            .background_style(WHITE.mix(0.8))
-            .border_style(BLACK)
-            .label_font((FONT_FAMILY, 13))
-            .draw()
             .map_err(err)?;
     }
+    draw_legend(&legend_area, &plan, &legend)?;
     // Colour bar: the value on its scale.
     let mut bar = ChartBuilder::on(&bar_area)
         .margin_top(44)
         .margin_bottom(52)
         .margin_right(8)
         .y_label_area_size(58)
-        .caption(colour_bar_caption(map.scale, map.unit), (FONT_FAMILY, 14))
+        .caption(
+            colour_bar_caption(map.scale, map.unit, lo, hi),
+            (FONT_FAMILY, 14),
+        )
         .build_cartesian_2d(0.0..1.0, lo..hi)
         .map_err(err)?;
-    let tick = |y: &f64| colour_bar_tick(*y, map.scale, map.unit);
+    let tick = |y: &f64| colour_bar_tick(*y, map.scale, map.unit, lo, hi);
     bar.configure_mesh()
         .disable_mesh()
         .disable_x_axis()
@@ -505,28 +605,150 @@ where
     Ok(())
 }
 
-/// The colour bar's caption: the unit and the scale ("V/m, log scale").
-fn colour_bar_caption(scale: Scale, unit: &str) -> String {
-    let unit = if unit.is_empty() { "value" } else { unit };
+/// The colour bar's caption. A log bar spans decades, so each tick carries its own SI prefix
+/// and the caption names the unit and the scale ("V/m, log scale"); a linear bar (`lo..hi` in
+/// the unit) is an axis and reads as one, in the prefix [`axis_reading`] chooses ("µH").
+fn colour_bar_caption(scale: Scale, unit: &str, lo: f64, hi: f64) -> String {
     match scale {
+        Scale::Log if unit.is_empty() => "value, log scale".to_string(),
         Scale::Log => format!("{unit}, log scale"),
-        Scale::Linear => unit.to_string(),
+        Scale::Linear if unit.is_empty() => "value".to_string(),
+        Scale::Linear => unit_reading(unit, lo, hi).1,
     }
 }
 
-/// A colour-bar tick: the value (10^y on a log scale) with an SI prefix and the unit, readable
-/// at any scale (2e-11 F reads "20.0 pF", not "0.0").
-fn colour_bar_tick(y: f64, scale: Scale, unit: &str) -> String {
-    let v = match scale {
-        Scale::Log => 10f64.powf(y),
-        Scale::Linear => y,
-    };
-    if unit.is_empty() {
-        // A pure number: three significant digits in the shortest form.
-        let d = 2;
-        return coilfield_solver::numtext::shortest(format!("{v:.d$e}").parse().unwrap_or(v));
+/// A colour-bar tick at `y` on a bar spanning `lo..hi`: on a log scale the value 10^y with an
+/// SI prefix and the unit, readable at any scale (2e-11 F reads "20.0 pF", not "0.0"); on a
+/// linear scale the number in the caption's prefix, as an axis tick.
+fn colour_bar_tick(y: f64, scale: Scale, unit: &str, lo: f64, hi: f64) -> String {
+    match scale {
+        Scale::Log => value_text(10f64.powf(y), unit),
+        Scale::Linear => {
+            let (s, _) = unit_reading(unit, lo, hi);
+            coilfield_solver::numtext::axis_tick(y / s, (hi - lo) / s)
+        }
     }
-    crate::output::si(v, unit, 3)
+}
+
+/// The colours of contour lines, in the order of their levels: strong colours that stand out
+/// on the Viridis map (white and yellow too, which the legend shows on a dark swatch).
+const CONTOUR_COLOURS: [RGBColor; 10] = [
+    WHITE,
+    RED,
+    MAGENTA,
+    CYAN,
+    BLACK,
+    YELLOW,
+    plotters::style::full_palette::ORANGE,
+    plotters::style::full_palette::PINK,
+    BLUE,
+    GREEN,
+];
+
+/// The colour of contour line `k`.
+fn contour_colour(k: usize) -> RGBColor {
+    CONTOUR_COLOURS[k % CONTOUR_COLOURS.len()]
+}
+
+/// Font size (pixels) of legend texts.
+const LEGEND_FONT: u32 = 13;
+/// Height (pixels) of one legend row.
+const LEGEND_ROW: u32 = 20;
+/// Padding (pixels) around the legend strip and between its entries.
+const LEGEND_PAD: u32 = 12;
+/// Width (pixels) of a line's swatch in the legend.
+const SWATCH: u32 = 26;
+
+/// Where each legend entry goes: (row, x in pixels) per line, then one row per note, and the
+/// strip's height (0 without entries).
+struct LegendLayout {
+    lines: Vec<(u32, u32)>,
+    first_note_row: u32,
+    height: u32,
+}
+
+/// The legend's layout in a strip `width` pixels wide: lines left to right as their text
+/// widths allow, wrapping to new rows; each note on a row of its own.
+fn legend_layout<DB: DrawingBackend>(
+    root: &DrawingArea<DB, plotters::coord::Shift>,
+    plan: &ContourPlan,
+    width: u32,
+) -> anyhow::Result<LegendLayout> {
+    let font = TextStyle::from((FONT_FAMILY, LEGEND_FONT).into_font());
+    let mut lines = Vec::with_capacity(plan.lines.len());
+    let (mut row, mut x) = (0u32, LEGEND_PAD);
+    for line in &plan.lines {
+        let (w, _) = root
+            .estimate_text_size(&line.label, &font)
+            .map_err(|e| anyhow::anyhow!("cannot draw: {e:?}"))?;
+        let entry = SWATCH + 6 + w;
+        if x > LEGEND_PAD && x + entry + LEGEND_PAD > width {
+            row += 1;
+            x = LEGEND_PAD;
+        }
+        lines.push((row, x));
+        x += entry + 2 * LEGEND_PAD;
+    }
+    let first_note_row = if plan.lines.is_empty() { 0 } else { row + 1 };
+    let rows = first_note_row + plan.notes.len() as u32;
+    let height = if rows == 0 {
+        0
+    } else {
+        rows * LEGEND_ROW + 2 * LEGEND_PAD
+    };
+    Ok(LegendLayout {
+        lines,
+        first_note_row,
+        height,
+    })
+}
+
+/// Draw the legend of `plan` in its strip: a swatch of each line's colour (on a dark ground, so
+/// white and yellow lines show) with its text, then the notes.
+fn draw_legend<DB: DrawingBackend>(
+    area: &DrawingArea<DB, plotters::coord::Shift>,
+    plan: &ContourPlan,
+    layout: &LegendLayout,
+) -> anyhow::Result<()>
+where
+    DB::ErrorType: 'static,
+{
+    let err = |e: DrawingAreaErrorKind<DB::ErrorType>| anyhow::anyhow!("cannot draw: {e:?}");
+    if layout.height == 0 {
+        return Ok(());
+    }
+    let top = |row: u32| (LEGEND_PAD + row * LEGEND_ROW) as i32;
+    let font = (FONT_FAMILY, LEGEND_FONT).into_font().color(&BLACK);
+    let dark = RGBColor(68, 68, 68);
+    for (k, (line, &(row, x))) in plan.lines.iter().zip(&layout.lines).enumerate() {
+        let (x, y) = (x as i32, top(row));
+        area.draw(&Rectangle::new(
+            [(x, y + 2), (x + SWATCH as i32, y + 14)],
+            dark.filled(),
+        ))
+        .map_err(err)?;
+        area.draw(&PathElement::new(
+            vec![(x + 3, y + 8), (x + SWATCH as i32 - 3, y + 8)],
+            contour_colour(k).stroke_width(2),
+        ))
+        .map_err(err)?;
+        area.draw(&Text::new(
+            line.label.clone(),
+            (x + SWATCH as i32 + 6, y + 1),
+            font.clone(),
+        ))
+        .map_err(err)?;
+    }
+    for (k, note) in plan.notes.iter().enumerate() {
+        let y = top(layout.first_note_row + k as u32);
+        area.draw(&Text::new(
+            note.clone(),
+            (LEGEND_PAD as i32, y + 1),
+            font.clone(),
+        ))
+        .map_err(err)?;
+    }
+    Ok(())
 }
 
 #[cfg(test)]
@@ -534,12 +756,28 @@ mod tests {
     #[test]
     fn colour_bar_ticks_read_at_any_scale() {
         // Values near 2e-11 F read in pF; a log scale's ticks are the values, not exponents.
-        assert_eq!(colour_bar_tick(2.1e-11, Scale::Linear, "F"), "21.0 pF");
-        assert_eq!(colour_bar_tick(2.2e-11, Scale::Linear, "F"), "22.0 pF");
-        assert_eq!(colour_bar_tick(5.0, Scale::Log, "V/m"), "100 kV/m");
-        assert_eq!(colour_bar_tick(-4.0, Scale::Log, "T"), "100 µT");
-        assert_eq!(colour_bar_tick(0.00123456, Scale::Linear, ""), "0.00123");
-        assert_eq!(colour_bar_caption(Scale::Log, "V/m"), "V/m, log scale");
+        // A linear bar reads as an axis: values near 2e-11 F in pF, the prefix in the caption.
+        let (lo, hi) = (2.0e-11, 2.3e-11);
+        assert_eq!(colour_bar_tick(2.1e-11, Scale::Linear, "F", lo, hi), "21");
+        assert_eq!(
+            colour_bar_tick(2.25e-11, Scale::Linear, "F", lo, hi),
+            "22.5"
+        );
+        assert_eq!(colour_bar_caption(Scale::Linear, "F", lo, hi), "pF");
+        assert_eq!(colour_bar_caption(Scale::Linear, "H", 7.9e-5, 8.4e-5), "µH");
+        assert_eq!(
+            colour_bar_tick(5.0, Scale::Log, "V/m", 3.0, 6.0),
+            "100 kV/m"
+        );
+        assert_eq!(colour_bar_tick(-4.0, Scale::Log, "T", -6.0, -3.0), "100 µT");
+        assert_eq!(
+            colour_bar_tick(0.00123456, Scale::Linear, "", 0.0, 0.002),
+            "0.0012346"
+        );
+        assert_eq!(
+            colour_bar_caption(Scale::Log, "V/m", 3.0, 6.0),
+            "V/m, log scale"
+        );
     }
 
     use super::*;
@@ -746,6 +984,205 @@ mod tests {
             2.2e-11,
         );
         assert_eq!((s, caption.as_str()), (1e-12, "C (pF)"));
+    }
+
+    /// A field falling as 1/r^2 from the corner (0, 0): values 1 to 100 over the grid, so its
+    /// log10 range is 2 decades and one colour shade is 2/256 of a decade.
+    fn falling_field() -> (Vec<f64>, Vec<f64>, Vec<f64>) {
+        let n = 41;
+        let c: Vec<f64> = (0..n)
+            .map(|i| 0.1 + 0.9 * i as f64 / (n - 1) as f64)
+            .collect();
+        let vals: Vec<f64> = (0..n * n)
+            .map(|k| {
+                let (x, y) = (c[k % n], c[k / n]);
+                // 1 / (x^2 + y^2), scaled so the corner (0.1, 0.1) reads 100.
+                2.0 / (x * x + y * y)
+            })
+            .collect();
+        (c.clone(), c, vals)
+    }
+
+    #[test]
+    fn coincident_levels_are_one_line_and_levels_outside_are_notes() {
+        let (_, _, vals) = falling_field();
+        let max = vals.iter().cloned().fold(f64::MIN, f64::max);
+        let min = vals.iter().cloned().fold(f64::MAX, f64::min);
+        // The rule stated in plan_contours, by hand: one shade is
+        // log10(max / min) / 256 = 0.0039 decades here (a factor of 1.009).
+        let shade = (max / min).log10() / 256.0;
+        assert!((max - 100.0).abs() < 1e-12 && (min - 1.0).abs() < 1e-12);
+        assert!((shade - 2.0 / 256.0).abs() < 1e-15);
+        let contours = vec![
+            (30.3, "B public: peak 30.3".to_string()),
+            (5.0, "far: peak 5".to_string()),
+            (30.3, "B workers: peak 30.3".to_string()),
+            // 0.3 of a shade above 30.3: the same colour, the same line.
+            (
+                30.3 * 10f64.powf(0.3 * shade),
+                "near: peak 30.3".to_string(),
+            ),
+            // 3 shades above: a line of its own.
+            (
+                30.3 * 10f64.powf(3.0 * shade),
+                "apart: peak 30.9".to_string(),
+            ),
+            (1e4, "spark: peak 10 k".to_string()),
+            (1e-3, "tiny: peak 0.001".to_string()),
+        ];
+        let plan = plan_contours(&vals, &contours, Scale::Log, "V/m");
+        let labels: Vec<&str> = plan.lines.iter().map(|l| l.label.as_str()).collect();
+        assert_eq!(
+            labels,
+            [
+                "far: peak 5",
+                "B public: peak 30.3; B workers: peak 30.3; near: peak 30.3",
+                "apart: peak 30.9"
+            ]
+        );
+        assert_eq!(plan.lines[1].level, 30.3);
+        assert_eq!(
+            plan.notes,
+            [
+                format!(
+                    "tiny: peak 0.001, below this map's minimum {}, not drawn",
+                    crate::output::si(min, "V/m", 3)
+                ),
+                format!(
+                    "spark: peak 10 k, above this map's maximum {}, not drawn",
+                    crate::output::si(max, "V/m", 3)
+                ),
+            ]
+        );
+        // Equal levels are one line on a flat map too, where no shade can be told apart.
+        let flat = plan_contours(
+            &[2.0; 4],
+            &[(2.0, "a".into()), (2.0, "b".into()), (2.5, "c".into())],
+            Scale::Linear,
+            "",
+        );
+        assert_eq!(flat.lines.len(), 1);
+        assert_eq!(flat.lines[0].label, "a; b");
+        assert_eq!(flat.notes, ["c, above this map's maximum 2, not drawn"]);
+    }
+
+    /// The box (x0, y0, x1, y1) of every `<rect>` of an SVG with its fill, in document order.
+    fn svg_rects(svg: &str) -> Vec<([f64; 4], String)> {
+        let attr = |tag: &str, name: &str| -> Option<String> {
+            let key = format!(" {name}=\"");
+            let at = tag.find(&key)? + key.len();
+            Some(tag[at..at + tag[at..].find('"')?].to_string())
+        };
+        svg.split("<rect")
+            .skip(1)
+            .filter_map(|t| {
+                let tag = &t[..t.find('>')?];
+                let n = |k: &str| attr(tag, k)?.parse::<f64>().ok();
+                let (x, y, w, h) = (n("x")?, n("y")?, n("width")?, n("height")?);
+                Some(([x, y, x + w, y + h], attr(tag, "fill").unwrap_or_default()))
+            })
+            .collect()
+    }
+
+    /// The top-left corner (x, y) and text of every `<text>` (plotters anchors text at its top
+    /// left unless told otherwise, `dy="0.76em"`).
+    fn svg_text_places(svg: &str) -> Vec<(f64, f64, String)> {
+        svg.split("<text")
+            .skip(1)
+            .filter_map(|t| {
+                let tag = &t[..t.find('>')?];
+                let num = |k: &str| -> Option<f64> {
+                    let key = format!(" {k}=\"");
+                    let at = tag.find(&key)? + key.len();
+                    tag[at..at + tag[at..].find('"')?].parse().ok()
+                };
+                let body = t[t.find('>')? + 1..t.find("</text>")?]
+                    .replace("&apos;", "'")
+                    .replace("&#39;", "'")
+                    .replace("&quot;", "\"")
+                    .replace("&lt;", "<")
+                    .replace("&gt;", ">")
+                    .replace("&amp;", "&");
+                Some((num("x")?, num("y")?, body.trim().to_string()))
+            })
+            .collect()
+    }
+
+    #[test]
+    fn the_legend_lies_outside_the_data_area() {
+        // Geometry read back from the SVG: the data area is the box of the heat map's cells
+        // (the rects drawn after the background, one per grid value); every legend text and
+        // swatch must lie wholly below it, where it covers no data.
+        let (u, v, vals) = falling_field();
+        let contours = vec![
+            (30.3, "B public: peak 30.3 V/m".to_string()),
+            (30.3, "B workers: peak 30.3 V/m".to_string()),
+            (5.0, "far: peak 5 V/m".to_string()),
+            (1e4, "spark: peak 10 kV/m".to_string()),
+        ];
+        let map = HeatMap {
+            u: &u,
+            v: &v,
+            values: &vals,
+            scale: Scale::Log,
+            u_axis: Axis::metres("x"),
+            v_axis: Axis::metres("z"),
+            title: "|E|",
+            unit: "V/m",
+            contours: &contours,
+        };
+        let svg = String::from_utf8(heat_map_bytes(&map, true).unwrap()).unwrap();
+        let rects = svg_rects(&svg);
+        let cells = &rects[1..=u.len() * v.len()];
+        let data = cells
+            .iter()
+            .fold([f64::MAX, f64::MAX, f64::MIN, f64::MIN], |b, (r, _)| {
+                [
+                    b[0].min(r[0]),
+                    b[1].min(r[1]),
+                    b[2].max(r[2]),
+                    b[3].max(r[3]),
+                ]
+            });
+        // The cells fill the chart left of the colour bar (sanity of the reading above).
+        assert!(
+            data[0] > 40.0 && data[2] <= 780.0 && data[1] > 20.0,
+            "{data:?}"
+        );
+        let plan = plan_contours(&vals, &contours, Scale::Log, "V/m");
+        assert_eq!(plan.lines.len(), 2);
+        assert_eq!(plan.notes.len(), 1);
+        let legend_texts: Vec<&String> = plan
+            .lines
+            .iter()
+            .map(|l| &l.label)
+            .chain(&plan.notes)
+            .collect();
+        let places = svg_text_places(&svg);
+        for want in &legend_texts {
+            let found: Vec<_> = places.iter().filter(|(_, _, t)| t == *want).collect();
+            assert_eq!(found.len(), 1, "{want}: {found:?}");
+            let (x, y, _) = found[0];
+            assert!(
+                *y >= data[3],
+                "legend text {want:?} at y = {y} over the data ({data:?})"
+            );
+            assert!(*x >= 0.0 && *y < H as f64);
+        }
+        // The merged line is named once, with both thresholds.
+        assert!(
+            places
+                .iter()
+                .any(|(_, _, t)| t == "B public: peak 30.3 V/m; B workers: peak 30.3 V/m")
+        );
+        let swatches: Vec<_> = rects.iter().filter(|(_, f)| f == "#444444").collect();
+        assert_eq!(swatches.len(), plan.lines.len());
+        for (r, _) in swatches {
+            assert!(
+                r[1] >= data[3] && r[3] <= H as f64,
+                "swatch {r:?} over {data:?}"
+            );
+        }
     }
 
     #[test]

@@ -416,11 +416,8 @@ pub fn field_map(design: &Design, label: &str) -> anyhow::Result<Figure> {
     let nv = ((nu as f64) * (v1 - v0) / (2.0 * half))
         .round()
         .clamp(31.0, 151.0) as usize;
-    let lin = |a: f64, b: f64, n: usize| -> Vec<f64> {
-        (0..n)
-            .map(|k| a + (b - a) * k as f64 / (n - 1) as f64)
-            .collect()
-    };
+    // The map's grid rule: coordinates snapped to short decimals.
+    let lin = crate::sample::linspace;
     let grid = Grid {
         xs_m: lin(cx - half, cx + half, nu),
         ys_m: vec![cy],

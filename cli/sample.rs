@@ -155,12 +155,19 @@ impl Grid {
     }
 }
 
-fn linspace(a: f64, b: f64, n: usize) -> Vec<f64> {
+/// `n` coordinates from `a` to `b` (m) by the sweep axes' rule
+/// ([`coilfield_geometry::file::sweep::grid_value`]): the ends as given, the values between
+/// snapped to the short decimal the user meant (0.32, not 0.31999999999999995), so the VTK
+/// coordinates, the JSON points and the plot ticks print that decimal and the field is computed
+/// there. One coordinate is the middle of the range.
+pub(crate) fn linspace(a: f64, b: f64, n: usize) -> Vec<f64> {
     if n == 1 {
-        return vec![0.5 * (a + b)];
+        return vec![coilfield_geometry::file::sweep::snap_to_short_decimal(
+            0.5 * (a + b),
+        )];
     }
     (0..n)
-        .map(|i| a + (b - a) * i as f64 / (n - 1) as f64)
+        .map(|i| coilfield_geometry::file::sweep::grid_value(a, b, i, n, false))
         .collect()
 }
 
@@ -282,6 +289,41 @@ mod tests {
         let p = g.points();
         assert_eq!(p[1], Point3::new(0.5, 0.5, 2.0));
         assert_eq!(p[3], Point3::new(0.0, 0.5, 3.0));
+    }
+
+    /// The exact decimal `(a_c * (n - 1 - i) + b_c * i) / (n - 1)` hundredths, as text, for
+    /// ends `a_c` and `b_c` in hundredths of a metre and `n - 1` dividing their difference:
+    /// integer arithmetic, independent of the floating-point path the grid takes.
+    fn exact_hundredths(a_c: i64, b_c: i64, i: i64, n: i64) -> f64 {
+        let h = (a_c * (n - 1 - i) + b_c * i) / (n - 1);
+        assert_eq!((a_c * (n - 1 - i) + b_c * i) % (n - 1), 0);
+        let sign = if h < 0 { "-" } else { "" };
+        format!("{sign}{}.{:02}", h.abs() / 100, h.abs() % 100)
+            .parse()
+            .unwrap()
+    }
+
+    #[test]
+    fn grid_coordinates_are_the_decimals_the_range_names() {
+        // -0.2 m to 0.44 m in 17 points is every 0.04 m; in binary floating point the plain
+        // interpolation gives 0.31999999999999995-like values (common practice, no source:
+        // IEEE 754 rounding). The grid holds the decimals themselves, and the VTK file, the
+        // JSON and the ticks print them.
+        for (a_c, b_c, n) in [(-20, 44, 17), (0, 96, 13), (0, 40, 6), (-30, 30, 7)] {
+            let e = format!("{},{},0,1", a_c as f64 / 100.0, b_c as f64 / 100.0);
+            let g = plane_grid(Plane::Xz, 0.0, &e, &format!("{n},2")).unwrap();
+            for (i, x) in g.xs_m.iter().enumerate() {
+                assert_eq!(
+                    x.to_bits(),
+                    exact_hundredths(a_c, b_c, i as i64, n).to_bits(),
+                    "{e}: x[{i}] = {x}"
+                );
+            }
+        }
+        let b = box_grid("0,0.96,0,0.4,-0.2,0.44", "13,6,17").unwrap();
+        assert_eq!(b.xs_m[7], 0.56);
+        assert_eq!(b.ys_m[3], 0.24);
+        assert_eq!(b.zs_m[10], 0.2);
     }
 
     #[test]

@@ -72,17 +72,12 @@ fn metric_axis(name: &str) -> plot::Axis<'_> {
     }
 }
 
-/// A metric name with its unit.
-fn metric_label(name: &str) -> String {
-    let unit = match name.split('.').next().unwrap_or("") {
-        "self_inductance" | "mutual" => "H",
-        "coupling" => "1",
-        "gap" | "clearance" | "clearance_top" => "m",
-        "capacitance" | "self_capacitance" => "F",
-        "surface_field" => "V/m",
-        _ => return name.to_string(),
-    };
-    format!("{name} ({unit})")
+/// The title of a heat map of metric `name` over values `lo..hi` (its SI unit): the metric with
+/// the unit it reads in, SI-prefixed by the axes' rule ([`plot::axis_reading`]:
+/// "mutual.a.b (µH)", not "(H)"), against the two swept keys.
+fn heat_map_title(name: &str, lo: f64, hi: f64, u_key: &str, v_key: &str) -> String {
+    let (_, metric) = plot::axis_reading(metric_axis(name), lo, hi);
+    format!("{metric} against {u_key} and {v_key}")
 }
 
 /// Indices that sort `v` increasing (grid values may be listed in any order).
@@ -92,15 +87,23 @@ fn increasing(v: &[f64]) -> Vec<usize> {
     idx
 }
 
-/// `CONTOURS` levels evenly inside the finite range of `values` (none if it is flat or empty).
-fn contour_levels(values: &[f64], unit: &str) -> Vec<(f64, String)> {
+/// The smallest and largest finite value of `values`, if any.
+fn finite_bounds(values: &[f64]) -> Option<(f64, f64)> {
     let (lo, hi) = values
         .iter()
         .filter(|x| x.is_finite())
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &x| {
             (a.min(x), b.max(x))
         });
-    if hi <= lo || !hi.is_finite() {
+    (lo <= hi).then_some((lo, hi))
+}
+
+/// `CONTOURS` levels evenly inside the finite range of `values` (none if it is flat or empty).
+fn contour_levels(values: &[f64], unit: &str) -> Vec<(f64, String)> {
+    let Some((lo, hi)) = finite_bounds(values) else {
+        return Vec::new();
+    };
+    if hi <= lo {
         return Vec::new();
     }
     (1..=CONTOURS)
@@ -147,7 +150,8 @@ pub fn write(
             .flat_map(|&j| ou.iter().map(move |&i| values[i * nv + j]))
             .collect();
         let contours = contour_levels(&z, crate::output::metric_unit(metric_name));
-        let title = metric_label(metric_name);
+        let (lo, hi) = finite_bounds(&z).unwrap_or((0.0, 0.0));
+        let title = heat_map_title(metric_name, lo, hi, axis_names[0], axis_names[1]);
         plot::figure_bytes(
             &HeatMap {
                 u: &u,
@@ -182,8 +186,28 @@ mod tests {
     fn labels_carry_units() {
         assert_eq!(axis_unit("winding.p.origin[2]"), "m");
         assert_eq!(axis_unit("winding.p.tilt_deg"), "deg");
-        assert_eq!(metric_label("coupling.a.b"), "coupling.a.b (1)");
-        assert_eq!(metric_label("surface_field.t"), "surface_field.t (V/m)");
+    }
+
+    #[test]
+    fn heat_map_titles_read_in_prefixed_units() {
+        // The tables' SI-prefix rule (numtext::si_prefix): 7.9e-5..8.4e-5 H reads in µH,
+        // 2e-11 F in pF, a surface field near 1.5e6 V/m in MV/m; a pure number has no unit.
+        assert_eq!(
+            heat_map_title("mutual.a.b", 7.9e-5, 8.4e-5, "winding.b.radius", "x"),
+            "mutual.a.b (µH) against winding.b.radius and x"
+        );
+        assert_eq!(
+            heat_map_title("capacitance.top", 1.5e-11, 2.2e-11, "a", "b"),
+            "capacitance.top (pF) against a and b"
+        );
+        assert_eq!(
+            heat_map_title("surface_field.top", 9e5, 1.5e6, "a", "b"),
+            "surface_field.top (MV/m) against a and b"
+        );
+        assert_eq!(
+            heat_map_title("coupling.a.b", 0.1, 0.2, "a", "b"),
+            "coupling.a.b against a and b"
+        );
     }
 
     #[test]

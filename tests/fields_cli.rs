@@ -555,6 +555,71 @@ fn f(v: &Value) -> f64 {
     v.as_f64().unwrap_or(f64::NAN)
 }
 
+/// `k` hundredths of a metre as the decimal text a person types, read as f64 (integer
+/// arithmetic, independent of the grid's floating-point path).
+fn hundredths_m(k: i64) -> f64 {
+    let sign = if k < 0 { "-" } else { "" };
+    format!("{sign}{}.{:02}", k.abs() / 100, k.abs() % 100)
+        .parse()
+        .unwrap()
+}
+
+#[test]
+fn map_grid_coordinates_are_the_short_decimals_in_vtk_json_and_ticks() {
+    // -0.2 m to 0.44 m in 17 points is every 0.04 m and 0.6 m to 1.4 m in 9 every 0.1 m; plain
+    // floating-point interpolation gives values such as 0.31999999999999995 and
+    // 0.7999999999999999 (IEEE 754 rounding, common practice, no source). The rule:
+    // each grid value is the shortest decimal within 4 ulp, computed and printed. Reference:
+    // the decimals by integer arithmetic; the coordinates as the VTK library reads them.
+    let dir = tempfile::tempdir().unwrap();
+    let d = design_file(dir.path(), "d.toml", &dipole_loop());
+    let vtr = dir.path().join("g.vtr");
+    let svg = dir.path().join("g.svg");
+    let out = run(&[
+        "map",
+        d.to_str().unwrap(),
+        "--plane",
+        "xz",
+        "--extent",
+        "-0.2,0.44,0.6,1.4",
+        "--resolution",
+        "17,9",
+        "--vtk",
+        vtr.to_str().unwrap(),
+        "--plot",
+        svg.to_str().unwrap(),
+        "--plot-quantity",
+        "b",
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let j = read_vtk(&vtr);
+    let pts = j["points"].as_array().unwrap();
+    assert_eq!(pts.len(), 17 * 9);
+    for (k, p) in pts.iter().enumerate() {
+        let (i, m) = (k % 17, k / 17);
+        let want = [
+            hundredths_m(-20 + 4 * i as i64),
+            0.0,
+            hundredths_m(60 + 10 * m as i64),
+        ];
+        for c in 0..3 {
+            assert_eq!(f(&p[c]).to_bits(), want[c].to_bits(), "point {k}: {p}");
+        }
+    }
+    // The summary prints a grid point: short decimals there too.
+    let text = String::from_utf8(out.stdout).unwrap();
+    let j: Value = serde_json::from_str(&text).unwrap();
+    let at = j["max_b_at_m"].as_array().unwrap();
+    for c in at {
+        let x = f(c);
+        assert!((0..=144).any(|k| hundredths_m(k - 20) == x), "{c}");
+    }
+}
+
 #[test]
 fn map_vtk_read_by_vtk_matches_field_json_at_the_same_points() {
     let dir = tempfile::tempdir().unwrap();

@@ -533,7 +533,68 @@ fn plots_are_heat_maps_or_lines_as_svg_or_png() {
         .filter(|l| l.starts_with("<polyline") && l.contains("stroke=\"#FF0000\""))
         .count();
     assert!(contours > 1, "no contour lines");
-    assert!(text.contains("winding.b.radius (m)") && text.contains("mutual.a.b (H)"));
+    assert!(text.contains("winding.b.radius (m)"));
+    // The title reads in the SI prefix of the largest |M| (the SI brochure's prefixes, BIPM
+    // 2019, table 7), as the axes and tables do, never in raw henries.
+    let rows = std::fs::read_to_string(&out).unwrap();
+    let header: Vec<&str> = rows.lines().next().unwrap().split(',').collect();
+    let col = header.iter().position(|h| *h == "mutual.a.b").unwrap();
+    let largest = rows
+        .lines()
+        .skip(1)
+        .filter_map(|l| l.split(',').nth(col)?.parse::<f64>().ok())
+        .fold(0.0f64, |m, x| m.max(x.abs()));
+    let prefix = [
+        (1.0, ""),
+        (1e-3, "m"),
+        (1e-6, "µ"),
+        (1e-9, "n"),
+        (1e-12, "p"),
+    ]
+    .iter()
+    .find(|(s, _)| largest >= *s)
+    .unwrap()
+    .1;
+    assert!(
+        text.contains(&format!(
+            "mutual.a.b ({prefix}H) against winding.b.origin[2] and winding.b.radius"
+        )),
+        "{prefix}H: {text}"
+    );
+    assert!(!text.contains("mutual.a.b (H)"));
+    // The contour legend (levels with their unit) lies below every heat-map cell: the cells
+    // are the rects after the background, 3 x 5 of them.
+    let num = |tag: &str, k: &str| -> f64 {
+        let key = format!(" {k}=\"");
+        let at = tag.find(&key).unwrap() + key.len();
+        tag[at..at + tag[at..].find('"').unwrap()].parse().unwrap()
+    };
+    let cells_bottom = text
+        .split("<rect")
+        .skip(2)
+        .take(15)
+        .map(|t| num(t, "y") + num(t, "height"))
+        .fold(0.0f64, f64::max);
+    let bodies: Vec<(&str, f64)> = text
+        .split("<text")
+        .skip(1)
+        .map(|t| {
+            (
+                t[t.find('>').unwrap() + 1..t.find("</text>").unwrap()].trim(),
+                num(t, "y"),
+            )
+        })
+        .collect();
+    let legend: Vec<f64> = bodies
+        .iter()
+        .filter(|(b, _)| b.ends_with('H') && b.contains(' '))
+        .map(|(_, y)| *y)
+        .collect();
+    assert_eq!(legend.len(), 8, "{bodies:?}");
+    assert!(
+        legend.iter().all(|&y| y >= cells_bottom),
+        "{legend:?} vs {cells_bottom}"
+    );
     let png = dir.path().join("k.png");
     let o = sweep(&[
         s.to_str().unwrap(),

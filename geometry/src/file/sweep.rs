@@ -173,24 +173,7 @@ impl Axis {
                 log,
             } => {
                 let n = (*steps)?;
-                Some(
-                    (0..n)
-                        .map(|i| {
-                            if n == 1 {
-                                return *from;
-                            }
-                            if i == n - 1 {
-                                return *to;
-                            }
-                            let t = i as f64 / (n - 1) as f64;
-                            snap_to_short_decimal(if *log {
-                                (from.ln() + t * (to.ln() - from.ln())).exp()
-                            } else {
-                                from + t * (to - from)
-                            })
-                        })
-                        .collect(),
-                )
+                Some((0..n).map(|i| grid_value(*from, *to, i, n, *log)).collect())
             }
         }
     }
@@ -730,6 +713,25 @@ pub fn n_points(sweep: &Sweep, source: &str) -> Result<usize, DesignError> {
             })?;
     }
     Ok(total)
+}
+
+/// Value `i` of `n` evenly spaced from `from` to `to` (both included; evenly in the logarithm
+/// when `log`), snapped by [`snap_to_short_decimal`]: the one rule of every grid a user gives
+/// by its ends and a count (sweep axes, the field map's planes and boxes). The ends are the
+/// values given, bit for bit; `n = 1` gives `from`.
+pub fn grid_value(from: f64, to: f64, i: usize, n: usize, log: bool) -> f64 {
+    if n <= 1 || i == 0 {
+        return from;
+    }
+    if i >= n - 1 {
+        return to;
+    }
+    let t = i as f64 / (n - 1) as f64;
+    snap_to_short_decimal(if log {
+        (from.ln() + t * (to.ln() - from.ln())).exp()
+    } else {
+        from + t * (to - from)
+    })
 }
 
 /// A grid value snapped to the decimal a person would have typed: the shortest decimal of at
