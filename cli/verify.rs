@@ -21,6 +21,7 @@ use coilfield_solver::elliptic::{cel, ellip_e, ellip_k};
 use coilfield_solver::fem::FemProblem;
 use coilfield_solver::fem::cases::reference_domain;
 use coilfield_solver::field::{b_ring_point, b_sheet_point};
+use coilfield_solver::field_model::{FAR_FIELD_HELICES, FieldModel, magnitude};
 use coilfield_solver::mutual::{Circle, mutual_ring_ring, mutual_ring_ring_coaxial};
 use coilfield_solver::numtext::shortest;
 use coilfield_solver::self_inductance::{
@@ -36,7 +37,7 @@ use std::process::ExitCode;
 use std::sync::Mutex;
 
 /// The tables, by name, with their built-in contents.
-pub const TABLES: [(&str, &str); 20] = [
+pub const TABLES: [(&str, &str); 21] = [
     ("elliptic", include_str!("../validation/elliptic.csv")),
     ("cel", include_str!("../validation/cel.csv")),
     (
@@ -66,6 +67,10 @@ pub const TABLES: [(&str, &str); 20] = [
     ("tube_bem", include_str!("../validation/tube_bem.csv")),
     ("fem", include_str!("../validation/fem.csv")),
     ("fem_skfem", include_str!("../validation/fem_skfem.csv")),
+    (
+        "far_field_helix",
+        include_str!("../validation/far_field_helix.csv"),
+    ),
 ];
 
 /// The designs the rows of `tap.csv` name (invented for the check; `validation/tap_refs.py`
@@ -1084,6 +1089,110 @@ fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
     Ok(cases)
 }
 
+/// The rows of `far_field_helix.csv` (one B vector per row, no tolerance column): B of each
+/// invented helix of [`FAR_FIELD_HELICES`] in the filament model at the row's point, against
+/// the row's mpmath vector, at the tolerance the model reaches at that distance
+/// ([`coilfield_solver::field_model::FarFieldHelix::tolerance`], relative to the vector's magnitude: `rel_vector`). Where the
+/// reference is below the smallest normal f64, the model must give 0 (`abs`, tolerance 0).
+fn read_far_field_helix(contents: &str) -> anyhow::Result<Vec<Case>> {
+    const NAME: &str = "far_field_helix";
+    let mut reader = csv::ReaderBuilder::new()
+        .trim(csv::Trim::All)
+        .from_reader(contents.as_bytes());
+    let headers = reader
+        .headers()
+        .map_err(|e| BadInput(format!("{NAME}.csv: {e}")))?
+        .clone();
+    // (helix, point, reference B, r, row) of every row, checked before any field is computed.
+    let mut rows = Vec::new();
+    for (idx, record) in reader.records().enumerate() {
+        let record = record.map_err(|e| BadInput(format!("{NAME}.csv: {e}")))?;
+        let row: Row = headers
+            .iter()
+            .zip(record.iter())
+            .map(|(h, v)| (h.to_string(), v.to_string()))
+            .collect();
+        let label = |e: anyhow::Error| BadInput(format!("{NAME}.csv row {}: {e}", idx + 1));
+        let finite = |key: &str| -> anyhow::Result<f64> {
+            let v = num(&row, key)?;
+            if !v.is_finite() {
+                anyhow::bail!(BadInput(format!(
+                    "column '{key}': {v} is not a finite number"
+                )));
+            }
+            Ok(v)
+        };
+        let parsed = (|| -> anyhow::Result<_> {
+            let name = text(&row, "helix")?;
+            let helix = FAR_FIELD_HELICES
+                .iter()
+                .find(|h| h.name == name)
+                .ok_or_else(|| {
+                    BadInput(format!(
+                        "column 'helix': '{name}' is not one of the table's helices (whole, tilted)"
+                    ))
+                })?;
+            let r_m = finite("r_m")?;
+            if r_m <= 0.0 {
+                anyhow::bail!(BadInput(format!("column 'r_m': {r_m:e} m is not positive")));
+            }
+            let point = Point3::new(finite("x_m")?, finite("y_m")?, finite("z_m")?);
+            let b = Vector3::new(finite("bx_t")?, finite("by_t")?, finite("bz_t")?);
+            Ok((helix, point, b, r_m, text(&row, "source")?.to_string()))
+        })()
+        .map_err(label)?;
+        rows.push((idx, row, parsed));
+    }
+    let mut cases = Vec::new();
+    for helix in &FAR_FIELD_HELICES {
+        let mine: Vec<_> = rows.iter().filter(|r| r.2.0.name == helix.name).collect();
+        if mine.is_empty() {
+            continue;
+        }
+        let design = parse_design(&helix.design_text(), NAME)?;
+        let model = FieldModel::new(&design, NAME, Par::Rayon, None)?;
+        let points: Vec<Point3<f64>> = mine.iter().map(|r| r.2.1).collect();
+        for ((idx, row, (_, _, want, r_m, source)), sample) in mine.iter().zip(model.eval(&points))
+        {
+            let got = sample.b.map_err(|e| {
+                BadInput(format!(
+                    "{NAME}.csv row {}: the field model gives no value: {e:?}",
+                    idx + 1
+                ))
+            })?;
+            let (reference, computed) = (magnitude(want), magnitude(&got));
+            let (error, tolerance, kind) = if reference < f64::MIN_POSITIVE {
+                (computed, 0.0, "abs")
+            } else {
+                (
+                    magnitude(&(got - want)) / reference,
+                    helix.tolerance(*r_m),
+                    "rel_vector",
+                )
+            };
+            let inputs = row
+                .iter()
+                .filter(|(k, _)| !matches!(k.as_str(), "bx_t" | "by_t" | "bz_t" | "source"))
+                .map(|(k, v)| (k.clone(), v.clone()))
+                .collect();
+            cases.push(Case {
+                table: NAME.to_string(),
+                row: idx + 1,
+                inputs,
+                reference,
+                computed,
+                error,
+                tolerance,
+                tolerance_kind: kind.to_string(),
+                passed: error <= tolerance,
+                source: source.clone(),
+            });
+        }
+    }
+    cases.sort_by_key(|c| c.row);
+    Ok(cases)
+}
+
 /// `v` to `digits` significant digits (an error beside its tolerance needs no more), through
 /// its decimal text so that [`shortest`] prints just those digits.
 fn round_to(v: f64, digits: usize) -> f64 {
@@ -1101,7 +1210,11 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
             }
             None => builtin.to_string(),
         };
-        cases.extend(read_table(name, &contents)?);
+        if name == "far_field_helix" {
+            cases.extend(read_far_field_helix(&contents)?);
+        } else {
+            cases.extend(read_table(name, &contents)?);
+        }
     }
     let passed = cases.iter().filter(|c| c.passed).count();
     let failed = cases.len() - passed;
