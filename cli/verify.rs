@@ -1024,7 +1024,8 @@ fn kernel(table: &str, row: &Row, label: &str) -> anyhow::Result<f64> {
     Ok(value)
 }
 
-fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
+/// The rows of the table `name` (text `contents`), each as column name -> text, in order.
+fn csv_rows(name: &str, contents: &str) -> anyhow::Result<Vec<Row>> {
     let mut reader = csv::ReaderBuilder::new()
         .trim(csv::Trim::All)
         .from_reader(contents.as_bytes());
@@ -1032,14 +1033,22 @@ fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
         .headers()
         .map_err(|e| BadInput(format!("{name}.csv: {e}")))?
         .clone();
+    reader
+        .records()
+        .map(|record| {
+            let record = record.map_err(|e| BadInput(format!("{name}.csv: {e}")))?;
+            Ok(headers
+                .iter()
+                .zip(record.iter())
+                .map(|(h, v)| (h.to_string(), v.to_string()))
+                .collect())
+        })
+        .collect()
+}
+
+fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
     let mut cases = Vec::new();
-    for (idx, record) in reader.records().enumerate() {
-        let record = record.map_err(|e| BadInput(format!("{name}.csv: {e}")))?;
-        let row: Row = headers
-            .iter()
-            .zip(record.iter())
-            .map(|(h, v)| (h.to_string(), v.to_string()))
-            .collect();
+    for (idx, row) in csv_rows(name, contents)?.into_iter().enumerate() {
         let label = |e: anyhow::Error| BadInput(format!("{name}.csv row {}: {e}", idx + 1));
         let reference = num(&row, "reference").map_err(label)?;
         let tolerance = num(&row, "tolerance").map_err(label)?;
@@ -1096,22 +1105,9 @@ fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
 /// reference is below the smallest normal f64, the model must give 0 (`abs`, tolerance 0).
 fn read_far_field_helix(contents: &str) -> anyhow::Result<Vec<Case>> {
     const NAME: &str = "far_field_helix";
-    let mut reader = csv::ReaderBuilder::new()
-        .trim(csv::Trim::All)
-        .from_reader(contents.as_bytes());
-    let headers = reader
-        .headers()
-        .map_err(|e| BadInput(format!("{NAME}.csv: {e}")))?
-        .clone();
     // (helix, point, reference B, r, row) of every row, checked before any field is computed.
     let mut rows = Vec::new();
-    for (idx, record) in reader.records().enumerate() {
-        let record = record.map_err(|e| BadInput(format!("{NAME}.csv: {e}")))?;
-        let row: Row = headers
-            .iter()
-            .zip(record.iter())
-            .map(|(h, v)| (h.to_string(), v.to_string()))
-            .collect();
+    for (idx, row) in csv_rows(NAME, contents)?.into_iter().enumerate() {
         let label = |e: anyhow::Error| BadInput(format!("{NAME}.csv row {}: {e}", idx + 1));
         let finite = |key: &str| -> anyhow::Result<f64> {
             let v = num(&row, key)?;

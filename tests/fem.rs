@@ -220,7 +220,7 @@ potentials = { secondary = [0.0, 100e3] }
 #[test]
 fn agrees_with_the_boundary_element_solver() {
     let mut design = coilfield_geometry::parse_design(DESIGN, "design.toml").unwrap();
-    design.media.mesh.density = 12.0;
+    design.media.mesh.density = coilfield_geometry::TENTH_PERCENT_DENSITY;
     let fem = FemProblem::from_design(&design, "design.toml")
         .unwrap()
         .solve()
@@ -731,10 +731,14 @@ fn sweep_capacitance_keeps_the_design_media() {
 
 /// Convergence of the demo room resonator (`meshes-demo/room-resonator.toml`) under mesh
 /// refinement: the torus's capacitance and the secondary's self-capacitance against
-/// `[mesh] density`, with the Richardson extrapolation of the last two (P1 elements: the
-/// energy error falls as h^2, i.e. as 1 / density^2) and each density's distance from it.
-/// The README's convergence table comes from this run:
-/// `cargo test --test fem demo_convergence -- --ignored --nocapture`.
+/// `[mesh] density` (doubling from row to row, so every edge of the graded mesh halves), the
+/// observed rate per doubling from the last three rows, (C2 - C1) / (C3 - C2), the Richardson
+/// extrapolation with that rate, C3 + (C3 - C2) / (rate - 1) (L. F. Richardson, "The
+/// deferred approach to the limit", Phil. Trans. R. Soc. A 226 (1927) 299-361; as in any
+/// numerical-analysis text), and each density's distance from it. The README's convergence
+/// table comes from this run:
+/// `cargo test --release --test fem demo_convergence -- --ignored --nocapture`
+/// (`COILFIELD_STUDY_DENSITIES=0.5,1,2,4` chooses the densities, each double the one before).
 #[test]
 #[ignore = "a study (minutes): run by hand for the README's table"]
 fn demo_convergence_table() {
@@ -743,7 +747,16 @@ fn demo_convergence_table() {
         "/meshes-demo/room-resonator.toml"
     );
     let text = std::fs::read_to_string(demo).unwrap();
-    let densities = [0.5, 1.0, 2.0, 4.0, 8.0];
+    let densities: Vec<f64> = std::env::var("COILFIELD_STUDY_DENSITIES")
+        .unwrap_or_else(|_| "0.5,1,2,4".to_string())
+        .split(',')
+        .map(|d| {
+            d.trim()
+                .parse()
+                .expect("densities: numbers separated by commas")
+        })
+        .collect();
+    assert!(densities.len() >= 3, "three densities at least");
     let mut rows = Vec::new();
     for &density in &densities {
         let t = text.replace(
@@ -760,18 +773,25 @@ fn demo_convergence_table() {
         let k = names.iter().position(|n| n == "topload").unwrap();
         let c_top = s.capacitance_matrix_f()[k][k];
         let c_self = s.self_capacitance_f().unwrap().0;
+        eprintln!("density {density}: {n} elements, meshed in {meshed:.3} s");
         rows.push((density, n, meshed, c_top, c_self));
     }
-    let rich = |a: f64, b: f64| b + (b - a) / 3.0; // density doubled: error / 4
-    let (l1, l2) = (rows[rows.len() - 2], rows[rows.len() - 1]);
-    let (top_x, self_x) = (rich(l1.3, l2.3), rich(l1.4, l2.4));
+    let m = rows.len();
+    // Observed rate per doubling and the Richardson extrapolation with it.
+    let extrapolate = |c: &dyn Fn(usize) -> f64| {
+        let (c1, c2, c3) = (c(m - 3), c(m - 2), c(m - 1));
+        let rate = (c2 - c1) / (c3 - c2);
+        (rate, c3 + (c3 - c2) / (rate - 1.0))
+    };
+    let (top_rate, top_x) = extrapolate(&|i| rows[i].3);
+    let (self_rate, self_x) = extrapolate(&|i| rows[i].4);
     eprintln!(
         "| density | elements | meshing (s) | C torus (pF) | vs extrapolated | C self (pF) | vs extrapolated |"
     );
     eprintln!("|---|---|---|---|---|---|---|");
     for (d, n, t, ct, cs) in &rows {
         eprintln!(
-            "| {d} | {n} | {t:.2} | {:.4} | {:+.3} % | {:.4} | {:+.3} % |",
+            "| {d} | {n} | {t:.3} | {:.4} | {:+.3} % | {:.4} | {:+.3} % |",
             ct * 1e12,
             (ct / top_x - 1.0) * 100.0,
             cs * 1e12,
@@ -779,7 +799,7 @@ fn demo_convergence_table() {
         );
     }
     eprintln!(
-        "| extrapolated | | | {:.4} | | {:.4} | |",
+        "| extrapolated | | | {:.4} | rate {top_rate:.2} per doubling | {:.4} | rate {self_rate:.2} per doubling |",
         top_x * 1e12,
         self_x * 1e12
     );
