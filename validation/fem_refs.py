@@ -40,11 +40,12 @@ A value changed by 1 % in any row is outside its tolerance.
 Usage: fem_refs.py (writes validation/fem.csv) | fem_refs.py --check (recomputes every row from
 its own parameters, and checks that the table holds exactly the rows written here).
 """
-import csv
 import os
 import sys
 
 import mpmath as mp
+
+from verify_table import write_or_check
 
 mp.mp.dps = 30
 EPS0 = mp.mpf("8.8541878128e-12")
@@ -130,31 +131,11 @@ def table():
 
 
 def main():
-    rows = table()
-    if "--check" in sys.argv:
-        with open(OUT, newline="") as f:
-            reader = csv.reader(f)
-            header = next(reader)
-            stored = [r for r in reader if r]
-        bad = []
-        if header != HEADER:
-            bad.append(f"header {header}, expected {HEADER}")
-        for i, r in enumerate(stored, 1):
-            # Each stored reference against its own parameters, recomputed here.
-            value, _ = reference(r[0], r[1])
-            if abs(mp.mpf(r[2]) / value - 1) > mp.mpf("1e-15"):
-                bad.append(f"row {i} ({r[0]}): stored {r[2]}, recomputed {mp.nstr(value, 20)}")
-        if stored != rows:
-            bad.append("the rows differ from those fem_refs.py writes")
-        if bad:
-            print("validation/fem.csv disagrees with fem_refs.py:", *bad, sep="\n  ")
-            sys.exit(1)
-        print(f"fem.csv: {len(rows)} rows agree")
-        return
-    with open(OUT, "w", newline="") as f:
-        w = csv.writer(f)
-        w.writerow(HEADER)
-        w.writerows(rows)
+    def agrees(r):
+        value, _ = reference(r[0], r[1])
+        return f"stored {r[2]}, recomputed {mp.nstr(value, 20)}" if abs(mp.mpf(r[2]) / value - 1) > mp.mpf("1e-15") else None
+
+    write_or_check(OUT, HEADER, table(), agrees, "fem_refs.py")
 
 
 if __name__ == "__main__":
