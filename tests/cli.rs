@@ -192,13 +192,7 @@ fn verify_passes_on_the_built_in_tables_and_reads_every_table() {
 
 #[test]
 fn verify_recomputes_an_edited_input_row() {
-    let dir = tempfile::tempdir().unwrap();
-    for entry in std::fs::read_dir(root().join("validation")).unwrap() {
-        let p = entry.unwrap().path();
-        if p.extension().is_some_and(|e| e == "csv") {
-            std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
-        }
-    }
+    let dir = copied_tables();
     let table = dir.path().join("maxwell_coaxial.csv");
     let text = std::fs::read_to_string(&table).unwrap();
     let mut lines: Vec<String> = text.lines().map(str::to_owned).collect();
