@@ -52,3 +52,23 @@ pub fn ring_toml(name: &str, origin: [f64; 3], axis: [f64; 3], radius: f64) -> S
 pub fn rel(a: f64, b: f64) -> f64 {
     ((a - b) / b).abs()
 }
+
+/// The texts of an SVG's `<text>` elements in document order, trimmed, with XML's entities
+/// decoded (plotters writes `'` as `&apos;`).
+pub fn svg_texts(svg: &str) -> Vec<String> {
+    svg.split("<text")
+        .skip(1)
+        .filter_map(|t| {
+            let body = &t[t.find('>')? + 1..t.find("</text>")?];
+            Some(
+                body.trim()
+                    .replace("&apos;", "'")
+                    .replace("&#39;", "'")
+                    .replace("&quot;", "\"")
+                    .replace("&lt;", "<")
+                    .replace("&gt;", ">")
+                    .replace("&amp;", "&"),
+            )
+        })
+        .collect()
+}

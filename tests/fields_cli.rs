@@ -1043,6 +1043,122 @@ fn clearance_table_in_the_design_sets_thresholds_and_the_command_line_overrides_
     }
 }
 
+/// `map --plot` draws coincident threshold contours as one line and notes the thresholds
+/// outside the plotted range. The demo bench-fields.toml at 300 kHz has two ICNIRP 2020 B
+/// levels of equal value, the public local and the occupational whole-body 4.9 A/m / f(MHz)
+/// rms (ICNIRP 2020, Health Phys. 118(5):483-524, tables 6 and 5 as coilfield quotes them),
+/// and the test adds a site limit of its own (invented) rounded to 20.53 µT rms, 2.4e-4 above
+/// them (1e-4 decades): the plotting rule (cli/plot.rs `plan_contours`) draws levels within
+/// one of 256 colour shades of the map's log range as one line, and this map spans more than
+/// a decade, so a shade is over 0.004 decades. The three are one line, one legend entry naming
+/// all three; the thresholds above the map's largest |B| (from the summary, peak = rms x
+/// sqrt 2 for rms levels, from `clearance`'s JSON) get a note in the legend and one warning
+/// each, and no line.
+#[test]
+fn map_plot_merges_coincident_contours_and_notes_levels_outside_the_range() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::fs::read_to_string(root().join("meshes-demo/bench-fields.toml")).unwrap();
+    let text = format!(
+        "{demo}\n# Invented for this test: a site limit set by hand near an exposure level.\n\
+         [[clearance.threshold]]\nname = \"site_fence\"\nquantity = \"B\"\n\
+         limit = \"20.53 uT\"\nbasis = \"rms\"\nsource = \"invented for this test\"\n"
+    );
+    let d = design_file(dir.path(), "d.toml", &text);
+    let d = d.to_str().unwrap();
+    let svg_path = dir.path().join("m.svg");
+    let summary = field_json(&[
+        "map",
+        d,
+        "--plane",
+        "xz",
+        "--extent",
+        "0.3,1.5,0,1.2",
+        "--resolution",
+        "25,25",
+        "--plot",
+        svg_path.to_str().unwrap(),
+        "--plot-quantity",
+        "b",
+    ]);
+    let svg = std::fs::read_to_string(&svg_path).unwrap();
+    let texts = svg_texts(&svg);
+    let merged = [
+        "icnirp2020_public_local_b",
+        "icnirp2020_occupational_whole_body_b",
+        "site_fence",
+    ];
+    // One legend entry names all three; none names one of them alone.
+    let naming: Vec<&String> = texts
+        .iter()
+        .filter(|t| merged.iter().any(|n| t.contains(&format!("{n}: peak"))))
+        .collect();
+    assert_eq!(naming.len(), 1, "{naming:?}");
+    for n in merged {
+        assert!(
+            naming[0].contains(&format!("{n}: peak 29.0 µT")),
+            "{}",
+            naming[0]
+        );
+    }
+    // Lines drawn: one colour per line (each with its legend swatch), as many as the legend's
+    // line entries.
+    let lines: Vec<&String> = texts
+        .iter()
+        .filter(|t| t.contains(": peak") && !t.ends_with("not drawn"))
+        .collect();
+    let colours: std::collections::BTreeSet<&str> = svg
+        .split("<polyline")
+        .skip(1)
+        .filter(|t| t.contains("stroke-width=\"2\""))
+        .filter_map(|t| t.split("stroke=\"").nth(1)?.split('"').next())
+        .collect();
+    assert_eq!(colours.len(), lines.len(), "{colours:?} vs {lines:?}");
+
+    // The thresholds above the map's largest |B| are noted, in the legend and once each in the
+    // warnings, in the same words.
+    let max_b = f(&summary["max_b_mag_t"]);
+    let clearance = field_json(&["clearance", d, "--format", "json"]);
+    let above: Vec<String> = clearance["thresholds"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|t| t["quantity"] == "B")
+        .filter(|t| {
+            let factor = if t["basis"] == "rms" {
+                2f64.sqrt()
+            } else {
+                1.0
+            };
+            f(&t["limit"]) * factor > max_b
+        })
+        .map(|t| t["name"].as_str().unwrap().to_string())
+        .collect();
+    assert!(!above.is_empty(), "no threshold above {max_b} T");
+    let notes: Vec<&String> = texts.iter().filter(|t| t.ends_with("not drawn")).collect();
+    assert_eq!(notes.len(), above.len(), "{notes:?} vs {above:?}");
+    let warnings: Vec<&str> = summary["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w.as_str().unwrap())
+        .collect();
+    for name in &above {
+        let note: Vec<&&String> = notes
+            .iter()
+            .filter(|t| t.starts_with(&format!("{name}: peak")))
+            .collect();
+        assert_eq!(note.len(), 1, "{name}: {notes:?}");
+        assert!(note[0].contains("above this map's maximum"), "{}", note[0]);
+        let want = format!("heat map contour: {}", note[0]);
+        assert_eq!(
+            warnings.iter().filter(|w| **w == want).count(),
+            1,
+            "{want} in {warnings:?}"
+        );
+        assert!(!lines.iter().any(|l| l.contains(name.as_str())), "{name}");
+    }
+}
+
 #[test]
 fn clearance_of_the_resonator_is_consistent_with_field() {
     let dir = tempfile::tempdir().unwrap();
