@@ -22,6 +22,27 @@ pub fn run(args: &[&str]) -> Output {
         .expect("run coilfield")
 }
 
+/// Run `coilfield` with `args`, which must succeed (its stderr in the message if not).
+pub fn run_ok(args: &[&str]) -> Output {
+    let out = run(args);
+    assert!(
+        out.status.success(),
+        "coilfield {args:?} failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    out
+}
+
+/// The stdout of a successful `coilfield` run with `args`.
+pub fn stdout_of(args: &[&str]) -> String {
+    String::from_utf8(run_ok(args).stdout).expect("UTF-8")
+}
+
+/// The JSON a successful `coilfield` run with `args` prints.
+pub fn json_of(args: &[&str]) -> serde_json::Value {
+    serde_json::from_slice(&run_ok(args).stdout).expect("valid JSON")
+}
+
 /// Write `text` as a design file in `dir`.
 pub fn design_file(dir: &Path, name: &str, text: &str) -> PathBuf {
     let path = dir.join(name);
@@ -31,13 +52,7 @@ pub fn design_file(dir: &Path, name: &str, text: &str) -> PathBuf {
 
 /// Run `coilfield inductance FILE --format json` and parse the JSON.
 pub fn inductance_json(path: &Path) -> serde_json::Value {
-    let out = run(&["inductance", path.to_str().unwrap(), "--format", "json"]);
-    assert!(
-        out.status.success(),
-        "coilfield failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).expect("valid JSON")
+    json_of(&["inductance", path.to_str().unwrap(), "--format", "json"])
 }
 
 /// A ring winding as TOML.

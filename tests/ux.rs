@@ -3,17 +3,7 @@
 
 mod common;
 
-use common::{root, run, svg_texts};
-
-fn stdout_of(args: &[&str]) -> String {
-    let out = run(args);
-    assert!(
-        out.status.success(),
-        "coilfield {args:?} failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    String::from_utf8(out.stdout).expect("UTF-8")
-}
+use common::{root, run, stdout_of, svg_texts};
 
 fn demo(name: &str) -> String {
     root()
