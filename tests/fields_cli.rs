@@ -1005,9 +1005,9 @@ fn clearance_table_in_the_design_sets_thresholds_and_the_command_line_overrides_
 
 /// `map --plot` draws coincident threshold contours as one line and notes the thresholds
 /// outside the plotted range. The demo bench-fields.toml at 300 kHz has two ICNIRP 2020 B
-/// levels of equal value, the public local and the occupational whole-body 4.9 A/m / f(MHz)
-/// rms (ICNIRP 2020, Health Phys. 118(5):483-524, tables 6 and 5 as coilfield quotes them),
-/// and the test adds a site limit of its own (invented) rounded to 20.53 µT rms, 2.4e-4 above
+/// levels of equal value, the public local and the occupational whole-body reference levels,
+/// both mu0 x 4.9 A/m / f(MHz) rms as solver/src/thresholds.rs quotes them (ICNIRP 2020,
+/// Health Phys. 118(5):483-524; the whole-body values from memory there), and the test adds a site limit of its own (invented) rounded to 20.53 µT rms, 2.4e-4 above
 /// them (1e-4 decades): the plotting rule (cli/plot.rs `plan_contours`) draws levels within
 /// one of 256 colour shades of the map's log range as one line, and this map spans more than
 /// a decade, so a shade is over 0.004 decades. The three are one line, one legend entry naming
