@@ -193,6 +193,24 @@ pub(crate) fn threshold_contours(
     Ok((contours, warnings))
 }
 
+/// The warnings of a heat map of `values` (in `unit`) on `scale` with `contours`: one per
+/// threshold (or group of coincident thresholds) it draws no line for, in the words of its
+/// legend ([`plot::plan_contours`]). Thresholds the map's values never reach (or all exceed)
+/// get no line; the figure's legend says so, and so does the command (`map`, `report --html`),
+/// once each.
+pub(crate) fn contour_warnings(
+    values: &[f64],
+    contours: &[(f64, String)],
+    scale: plot::Scale,
+    unit: &str,
+) -> Vec<String> {
+    plot::plan_contours(values, contours, scale, unit)
+        .notes
+        .into_iter()
+        .map(|note| format!("heat map contour: {note}"))
+        .collect()
+}
+
 /// Run `coilfield map`.
 pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
     // The grid first: a grid out of bounds is refused before the design's work (a drive
@@ -301,14 +319,7 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
         let (contours, th_warnings) = threshold_contours(&design, &label, quantity, unit)?;
         warnings.extend(th_warnings);
         let scale = plot::Scale::Log;
-        // Thresholds the map's values never reach (or all exceed) get no line; the figure's
-        // legend says so, and so does the command, once each.
-        warnings.extend(
-            plot::plan_contours(values, &contours, scale, unit)
-                .notes
-                .into_iter()
-                .map(|note| format!("heat map contour: {note}")),
-        );
+        warnings.extend(contour_warnings(values, &contours, scale, unit));
         let title = match quantity {
             Quantity::E => "peak |E| (V/m); screening estimate, not a safety certificate",
             Quantity::B => "peak |B| (T); screening estimate, not a safety certificate",

@@ -811,17 +811,7 @@ mod tests {
         let v = [0.0, 1.0];
         let vals = [1.0, 2.0, f64::NAN, 3.0, 4.0, 5.0];
         let contours = [(2.5, "level 2.5".to_string())];
-        let map = HeatMap {
-            u: &u,
-            v: &v,
-            values: &vals,
-            scale: Scale::Log,
-            u_axis: Axis::metres("x"),
-            v_axis: Axis::metres("z"),
-            title: "|E| (V/m)",
-            unit: "V/m",
-            contours: &contours,
-        };
+        let map = xz_map(&u, &v, &vals, "|E| (V/m)", &contours);
         let svg = String::from_utf8(heat_map_bytes(&map, true).unwrap()).unwrap();
         assert!(svg.starts_with("<svg"));
         assert!(svg.contains("level 2.5"));
@@ -862,14 +852,8 @@ mod tests {
         let plot = LinePlot {
             x: &x,
             y: &y,
-            x_axis: Axis {
-                name: "h",
-                unit: "m",
-            },
-            y_axis: Axis {
-                name: "k",
-                unit: "",
-            },
+            x_axis: axis("h", "m"),
+            y_axis: axis("k", ""),
             title: "k against h",
         };
         let svg = String::from_utf8(figure_bytes(&plot, true).unwrap()).unwrap();
@@ -884,14 +868,44 @@ mod tests {
         assert_eq!(&figure_bytes(&plot, false).unwrap()[1..4], b"PNG");
     }
 
+    /// An axis of a test figure.
+    fn axis<'a>(name: &'a str, unit: &'a str) -> Axis<'a> {
+        Axis { name, unit }
+    }
+
+    /// A log-scale heat map of |E| (V/m) on the x-z plane: the tests' fixture.
+    fn xz_map<'a>(
+        u: &'a [f64],
+        v: &'a [f64],
+        values: &'a [f64],
+        title: &'a str,
+        contours: &'a [(f64, String)],
+    ) -> HeatMap<'a> {
+        HeatMap {
+            u,
+            v,
+            values,
+            scale: Scale::Log,
+            u_axis: Axis::metres("x"),
+            v_axis: Axis::metres("z"),
+            title,
+            unit: "V/m",
+            contours,
+        }
+    }
+
+    /// The value of attribute `name` in an SVG tag's text.
+    fn attr<'t>(tag: &'t str, name: &str) -> Option<&'t str> {
+        let key = format!(" {name}=\"");
+        let at = tag.find(&key)? + key.len();
+        Some(&tag[at..at + tag[at..].find('"')?])
+    }
+
     /// The texts of an SVG's `<text>` elements (plotters writes each on its own line).
     pub(crate) fn svg_texts(svg: &str) -> Vec<String> {
-        svg.split("<text")
-            .skip(1)
-            .filter_map(|t| {
-                let body = &t[t.find('>')? + 1..t.find("</text>")?];
-                Some(body.trim().to_string())
-            })
+        svg_text_places(svg)
+            .into_iter()
+            .map(|(_, _, t)| t)
             .collect()
     }
 
@@ -902,17 +916,7 @@ mod tests {
         let u: Vec<f64> = (0..12).map(|k| 0.02 + 0.025 * k as f64).collect();
         let v = [0.0, 0.095, 0.19];
         let vals: Vec<f64> = (0..36).map(|k| 1.0 + k as f64).collect();
-        let map = HeatMap {
-            u: &u,
-            v: &v,
-            values: &vals,
-            scale: Scale::Log,
-            u_axis: Axis::metres("x"),
-            v_axis: Axis::metres("z"),
-            title: "t",
-            unit: "V/m",
-            contours: &[],
-        };
+        let map = xz_map(&u, &v, &vals, "t", &[]);
         let texts = svg_texts(&String::from_utf8(heat_map_bytes(&map, true).unwrap()).unwrap());
         assert!(texts.iter().any(|t| t == "x (mm)"), "{texts:?}");
         assert!(texts.iter().any(|t| t == "z (mm)"), "{texts:?}");
@@ -928,14 +932,8 @@ mod tests {
         let plot = LinePlot {
             x: &x,
             y: &y,
-            x_axis: Axis {
-                name: "winding.b.radius",
-                unit: "m",
-            },
-            y_axis: Axis {
-                name: "self_inductance.b",
-                unit: "H",
-            },
+            x_axis: axis("winding.b.radius", "m"),
+            y_axis: axis("self_inductance.b", "H"),
             title: "L",
         };
         let texts = svg_texts(&String::from_utf8(figure_bytes(&plot, true).unwrap()).unwrap());
@@ -957,32 +955,11 @@ mod tests {
             texts.iter().all(|t| t.len() < 40 && !t.contains("e-")),
             "{texts:?}"
         );
-        let (s, caption) = axis_reading(
-            Axis {
-                name: "k",
-                unit: "",
-            },
-            0.0,
-            0.3,
-        );
+        let (s, caption) = axis_reading(axis("k", ""), 0.0, 0.3);
         assert_eq!((s, caption.as_str()), (1.0, "k"));
-        let (s, caption) = axis_reading(
-            Axis {
-                name: "tilt",
-                unit: "deg",
-            },
-            0.0,
-            0.001,
-        );
+        let (s, caption) = axis_reading(axis("tilt", "deg"), 0.0, 0.001);
         assert_eq!((s, caption.as_str()), (1.0, "tilt (deg)"));
-        let (s, caption) = axis_reading(
-            Axis {
-                name: "C",
-                unit: "F",
-            },
-            1.5e-11,
-            2.2e-11,
-        );
+        let (s, caption) = axis_reading(axis("C", "F"), 1.5e-11, 2.2e-11);
         assert_eq!((s, caption.as_str()), (1e-12, "C (pF)"));
     }
 
@@ -1068,18 +1045,14 @@ mod tests {
 
     /// The box (x0, y0, x1, y1) of every `<rect>` of an SVG with its fill, in document order.
     fn svg_rects(svg: &str) -> Vec<([f64; 4], String)> {
-        let attr = |tag: &str, name: &str| -> Option<String> {
-            let key = format!(" {name}=\"");
-            let at = tag.find(&key)? + key.len();
-            Some(tag[at..at + tag[at..].find('"')?].to_string())
-        };
         svg.split("<rect")
             .skip(1)
             .filter_map(|t| {
                 let tag = &t[..t.find('>')?];
                 let n = |k: &str| attr(tag, k)?.parse::<f64>().ok();
                 let (x, y, w, h) = (n("x")?, n("y")?, n("width")?, n("height")?);
-                Some(([x, y, x + w, y + h], attr(tag, "fill").unwrap_or_default()))
+                let fill = attr(tag, "fill").unwrap_or_default().to_string();
+                Some(([x, y, x + w, y + h], fill))
             })
             .collect()
     }
@@ -1091,11 +1064,7 @@ mod tests {
             .skip(1)
             .filter_map(|t| {
                 let tag = &t[..t.find('>')?];
-                let num = |k: &str| -> Option<f64> {
-                    let key = format!(" {k}=\"");
-                    let at = tag.find(&key)? + key.len();
-                    tag[at..at + tag[at..].find('"')?].parse().ok()
-                };
+                let num = |k: &str| -> Option<f64> { attr(tag, k)?.parse().ok() };
                 let body = t[t.find('>')? + 1..t.find("</text>")?]
                     .replace("&apos;", "'")
                     .replace("&#39;", "'")
@@ -1120,17 +1089,7 @@ mod tests {
             (5.0, "far: peak 5 V/m".to_string()),
             (1e4, "spark: peak 10 kV/m".to_string()),
         ];
-        let map = HeatMap {
-            u: &u,
-            v: &v,
-            values: &vals,
-            scale: Scale::Log,
-            u_axis: Axis::metres("x"),
-            v_axis: Axis::metres("z"),
-            title: "|E|",
-            unit: "V/m",
-            contours: &contours,
-        };
+        let map = xz_map(&u, &v, &vals, "|E|", &contours);
         let svg = String::from_utf8(heat_map_bytes(&map, true).unwrap()).unwrap();
         let rects = svg_rects(&svg);
         let cells = &rects[1..=u.len() * v.len()];

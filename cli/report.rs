@@ -84,7 +84,8 @@ fn describe(w: &Winding) -> String {
 }
 
 /// Run `coilfield report`: the text report on stdout and, with `html`, the same report as one
-/// self-contained HTML page with figures ([`crate::report_html`]), written atomically.
+/// self-contained HTML page with figures ([`crate::report_html`]), written atomically. With
+/// `html` the text (stdout and the page's tables) carries the figures' warnings too.
 pub fn run(path: &Path, html: Option<&Path>) -> anyhow::Result<ExitCode> {
     // A wrong file name is refused before any work.
     if let Some(p) = html {
@@ -142,45 +143,75 @@ pub fn run(path: &Path, html: Option<&Path>) -> anyhow::Result<ExitCode> {
     }
     let (section, resolved) = resonance_and_clearance(&design, path)?;
     s.push_str(&section);
+    // The figures before the text ends: the field map's warnings belong to the report's, in
+    // the text and (as its tables) in the page, once each.
+    let figures = html
+        .map(|_| html_figures(&design, &resolved, path))
+        .transpose()?;
+    if let Some(f) = &figures {
+        s.push_str(&figure_warnings_section(&f.warnings));
+    }
     let _ = writeln!(s, "\n{CAUTION}");
-    if let Some(p) = html {
-        let page = html_page(&design, &resolved, path, &s)?;
+    if let (Some(p), Some(f)) = (html, figures) {
+        let page = crate::report_html::page(
+            &format!("coilfield design report: {}", path.display()),
+            &s,
+            &f.figures,
+            &f.notes,
+        );
         crate::output::write_atomic(p, page.as_bytes())?;
     }
     print!("{s}");
     Ok(ExitCode::SUCCESS)
 }
 
-/// The report as an HTML page: the text's sections as tables, a side view of `design`, the
-/// field map of `resolved` (the design with its drive resolved) when it has a drive, and k
-/// against the primary's height when it has a primary.
-fn html_page(
-    design: &Design,
-    resolved: &Design,
-    path: &Path,
-    text: &str,
-) -> anyhow::Result<String> {
+/// The figures of the HTML page, the notes on figures it lacks, and the figures' warnings.
+struct HtmlFigures {
+    figures: Vec<crate::report_html::Figure>,
+    notes: Vec<String>,
+    warnings: Vec<String>,
+}
+
+/// The figures of the report's HTML page: a side view of `design`, the field map of
+/// `resolved` (the design with its drive resolved) when it has a drive, and k against the
+/// primary's height when it has a primary; a note for each figure it cannot draw.
+fn html_figures(design: &Design, resolved: &Design, path: &Path) -> anyhow::Result<HtmlFigures> {
     use crate::report_html as h;
     let label = path.display().to_string();
-    let mut figures = vec![h::side_view(design)];
-    let mut notes = Vec::new();
+    let mut out = HtmlFigures {
+        figures: vec![h::side_view(design)],
+        notes: Vec::new(),
+        warnings: Vec::new(),
+    };
     let drive = &resolved.drive;
     if drive.currents_a.is_empty() && drive.potentials_v.is_empty() {
-        notes.push("No field map: the design has no drive ([drive]).".to_string());
+        out.notes
+            .push("No field map: the design has no drive ([drive]).".to_string());
     } else {
-        figures.push(h::field_map(resolved, &label)?);
+        let (figure, warnings) = h::field_map(resolved, &label)?;
+        out.figures.push(figure);
+        out.warnings.extend(warnings);
     }
     match h::coupling_against_height(design)? {
-        Some(f) => figures.push(f),
-        None => notes
+        Some(f) => out.figures.push(f),
+        None => out
+            .notes
             .push("No coupling curve: the design has no primary and secondary pair.".to_string()),
     }
-    Ok(h::page(
-        &format!("coilfield design report: {label}"),
-        text,
-        &figures,
-        &notes,
-    ))
+    Ok(out)
+}
+
+/// The warnings of the HTML page's figures as a section of the text report (nothing without
+/// any): `map`'s words, one note each.
+fn figure_warnings_section(warnings: &[String]) -> String {
+    if warnings.is_empty() {
+        return String::new();
+    }
+    let mut s = String::from("\nfigures of the HTML page\n");
+    for w in warnings {
+        let _ = writeln!(s, "  note: {w}");
+    }
+    s
 }
 
 /// The resonance section and, when the design has a drive, the clearance at the drive's

@@ -5,7 +5,7 @@
 //! the primary's height. Nothing is fetched: no scripts, style sheets, fonts or images from
 //! elsewhere.
 
-use crate::map::threshold_contours;
+use crate::map::{contour_warnings, threshold_contours};
 use crate::plot::{self, HeatMap, LinePlot};
 use crate::sample::{Grid, Plane};
 use coilfield_geometry::{Design, ElectrodeShape, Role, Shape, Winding, local_frame};
@@ -399,8 +399,9 @@ fn field_map_frame(design: &Design) -> (f64, f64, f64, f64, f64) {
 
 /// The heat map of the peak field on the x-z plane through the secondary's axis, with the
 /// threshold contours of `map`: |E| when a conductor has a potential, else |B|. `design` has
-/// its drive resolved. Errors when the drive gives no field.
-pub fn field_map(design: &Design, label: &str) -> anyhow::Result<Figure> {
+/// its drive resolved. Returns the figure and its warnings (`map`'s words: thresholds outside
+/// the plotted range, [`crate::map::contour_warnings`]). Errors when the drive gives no field.
+pub fn field_map(design: &Design, label: &str) -> anyhow::Result<(Figure, Vec<String>)> {
     let (quantity, unit, name) = if has_potentials(design) {
         (Quantity::E, "V/m", "|E|")
     } else {
@@ -437,6 +438,7 @@ pub fn field_map(design: &Design, label: &str) -> anyhow::Result<Figure> {
         })
         .collect();
     let (contours, _) = threshold_contours(design, label, quantity, unit)?;
+    let warnings = contour_warnings(&values, &contours, plot::Scale::Log, unit);
     let title = format!("peak {name} ({unit}) on the x-z plane through the secondary's axis");
     let (ul, vl) = Plane::Xz.axis_names();
     let map = HeatMap {
@@ -451,7 +453,7 @@ pub fn field_map(design: &Design, label: &str) -> anyhow::Result<Figure> {
         contours: &contours,
     };
     let svg = plot::figure_svg_fragment(&map)?;
-    Ok(Figure {
+    let figure = Figure {
         id: FIELD_MAP_ID,
         caption: format!(
             "Peak {name} of the drive (log colour scale) with the clearance thresholds as \
@@ -459,7 +461,8 @@ pub fn field_map(design: &Design, label: &str) -> anyhow::Result<Figure> {
              safety certificate."
         ),
         svg,
-    })
+    };
+    Ok((figure, warnings))
 }
 
 /// A copy of `shape` moved by `dz_m` along z.

@@ -5,6 +5,12 @@
 //! `reference,tolerance,tolerance_kind,source`; the columns before them are the inputs. The
 //! tables are built into the binary; `--tables DIR` reads them from a folder instead, so an
 //! edited input row is recomputed.
+//!
+//! Two phases: every table is read first, each row's columns checked and its case set up
+//! (designs parsed and checked, finite-element problems built, closed forms evaluated: they
+//! cost microseconds and check their own arguments), so a bad row anywhere is refused by file,
+//! row and column (exit 2) before any solve; then every case is computed (inductance
+//! matrices, ring sums, boundary and finite elements, simulations, resonance and field models).
 
 use crate::{BadInput, Format};
 use coilfield_geometry::discretise::ring_model;
@@ -16,7 +22,7 @@ use coilfield_solver::circuit::{
     Drive, LadderModes, LoopState, Loops, Quench, SimulationSettings, equivalent_capacitance_f,
     ladder_modes, loop_modes, simulate, steady_state, validation_full_ladder,
 };
-use coilfield_solver::electrostatic::{Params, Problem, Profile, Solution};
+use coilfield_solver::electrostatic::{Params, Problem, Profile};
 use coilfield_solver::elliptic::{cel, ellip_e, ellip_k};
 use coilfield_solver::fem::FemProblem;
 use coilfield_solver::fem::cases::reference_domain;
@@ -228,21 +234,39 @@ impl From<f64> for Computed {
     }
 }
 
-/// The computed value of one row of a table.
-fn compute(table: &str, row: &Row, label: &str) -> anyhow::Result<Computed> {
-    let computed = match table {
-        "fields_b" => fields_b(row)?,
-        "losses" => losses(row)?.into(),
-        "resonance" => resonance(row)?.into(),
-        "images" => images(row)?.into(),
-        "tap" => tap(row)?.into(),
-        "circuits" => circuits(row)?.into(),
-        "fields_capacitance" => fields_capacitance(row)?.into(),
-        "tube_bem" => tube_bem(row)?.into(),
-        "fem" | "fem_skfem" => finite_element(row)?.into(),
-        _ => kernel(table, row, label)?.into(),
-    };
-    // Inputs in range give finite values; a non-finite one is a defect, never a pass or fail.
+/// The computation of one row, its columns read and checked: run once every table is read.
+type Job = Box<dyn FnOnce() -> anyhow::Result<Computed>>;
+
+/// A row's solve, left for the second phase.
+fn later<T: Into<Computed>>(solve: impl FnOnce() -> anyhow::Result<T> + 'static) -> Job {
+    Box::new(move || solve().map(Into::into))
+}
+
+/// A row's value already at hand (a closed form, evaluated while reading).
+fn ready(value: impl Into<Computed>) -> Job {
+    let value = value.into();
+    Box::new(move || Ok(value))
+}
+
+/// One row of a table read and checked: the case's computation, left for the second phase.
+fn read_row(table: &str, row: &Row, label: &str) -> anyhow::Result<Job> {
+    Ok(match table {
+        "fields_b" => ready(fields_b(row)?),
+        "losses" => losses(row)?,
+        "resonance" => resonance(row)?,
+        "images" => images(row)?,
+        "tap" => tap(row)?,
+        "circuits" => circuits(row)?,
+        "fields_capacitance" => fields_capacitance(row)?,
+        "tube_bem" => tube_bem(row)?,
+        "fem" | "fem_skfem" => finite_element(row)?,
+        _ => kernel(table, row, label)?,
+    })
+}
+
+/// The value of a row's computation, checked finite: inputs in range give finite values; a
+/// non-finite one is a defect, never a pass or fail.
+fn finite(computed: Computed) -> anyhow::Result<Computed> {
     if !computed.value.is_finite() {
         anyhow::bail!(BadInput(format!(
             "the computed value is {}, not a finite number",
@@ -292,7 +316,7 @@ const H_EFF_POINTS: usize = 1_000_000;
 
 /// A row of `losses.csv` through the loss model's functions ([`coilfield_solver::losses`]);
 /// the arguments of each kind are listed in `validation/losses_refs.py`.
-fn losses(row: &Row) -> anyhow::Result<f64> {
+fn losses(row: &Row) -> anyhow::Result<Job> {
     use coilfield_solver::losses::*;
     let kind = text(row, "kind")?;
     let a1 = || num(row, "arg1");
@@ -321,16 +345,19 @@ fn losses(row: &Row) -> anyhow::Result<f64> {
         }
         "rad_dipole_uniform" => radiation_resistance_dipole_ohm(a1()?, a2()?).map_err(bad)?,
         "h_eff_sine" => {
+            // A million points: the one solve of the table, left for the second phase.
             let (h, k) = (size(row, "arg1")?, bounded(row, "arg2", 0.0, 1e6)?);
-            let z: Vec<f64> = (0..=H_EFF_POINTS)
-                .map(|i| h * i as f64 / H_EFF_POINTS as f64)
-                .collect();
-            let i: Vec<f64> = z.iter().map(|&z| (k * (h - z)).sin()).collect();
-            effective_height_from_current_m(&z, &i).map_err(bad)?
+            return Ok(later(move || {
+                let z: Vec<f64> = (0..=H_EFF_POINTS)
+                    .map(|i| h * i as f64 / H_EFF_POINTS as f64)
+                    .collect();
+                let i: Vec<f64> = z.iter().map(|&z| (k * (h - z)).sin()).collect();
+                effective_height_from_current_m(&z, &i).map_err(bad)
+            }));
         }
         other => anyhow::bail!(BadInput(format!("column 'kind': unknown kind '{other}'"))),
     };
-    Ok(value)
+    Ok(ready(value))
 }
 
 /// A solver's refusal of a row's inputs, as bad input.
@@ -348,7 +375,7 @@ fn design(text: &str) -> anyhow::Result<Design> {
 /// `resonance` command ([`coilfield_solver::resonance::resonance`]). The set-up is that of
 /// tests/resonance.rs: pitch 1 mm, 0.5 mm wire, its base half a diameter above a grounded plane
 /// (invented sizes).
-fn resonance(row: &Row) -> anyhow::Result<f64> {
+fn resonance(row: &Row) -> anyhow::Result<Job> {
     use coilfield_solver::resonance::{ResonanceParams, resonance};
     if text(row, "kind")? != "medhurst" {
         anyhow::bail!(BadInput("column 'kind': only 'medhurst' is known".into()));
@@ -364,14 +391,17 @@ fn resonance(row: &Row) -> anyhow::Result<f64> {
         d / 2.0,
         d / 2.0 - 0.00025
     );
-    let r = resonance(
-        &design(&text)?,
-        "the row's design",
-        &ResonanceParams::default(),
-        Par::Rayon,
-    )?;
-    // H in pF per cm of diameter.
-    Ok(r.secondary.equivalent_capacitance_f / (d * 100.0 * 1e-12))
+    let design = design(&text)?;
+    Ok(later(move || {
+        let r = resonance(
+            &design,
+            "the row's design",
+            &ResonanceParams::default(),
+            Par::Rayon,
+        )?;
+        // H in pF per cm of diameter.
+        Ok(r.secondary.equivalent_capacitance_f / (d * 100.0 * 1e-12))
+    }))
 }
 
 /// Index of the winding `name` in a report.
@@ -383,10 +413,10 @@ fn winding_index(report: &InductanceReport, name: &str) -> anyhow::Result<usize>
         .ok_or_else(|| BadInput(format!("the design has no winding '{name}'")).into())
 }
 
-/// An entry (H) of the inductance matrix of the `inductance` command
-/// ([`inductance_report`]), by quantity `self_inductance.A` or `mutual.A.B`.
-fn inductance_entry(design: &Design, quantity: &str) -> anyhow::Result<f64> {
-    let report = inductance_report(design, Par::Rayon)?;
+/// The computation of an entry (H) of `design`'s inductance matrix, by quantity
+/// `self_inductance.A` or `mutual.A.B`, through the `inductance` command's matrix
+/// ([`inductance_report`]); the quantity and its windings' names checked now.
+fn inductance_entry(design: Design, quantity: &str) -> anyhow::Result<Job> {
     let parts: Vec<&str> = quantity.split('.').collect();
     let (a, b) = match parts.as_slice() {
         ["self_inductance", a] => (*a, *a),
@@ -395,12 +425,23 @@ fn inductance_entry(design: &Design, quantity: &str) -> anyhow::Result<f64> {
             "column 'quantity': '{quantity}' is not self_inductance.A or mutual.A.B"
         ))),
     };
-    Ok(report.mutual_h[winding_index(&report, a)?][winding_index(&report, b)?])
+    for name in [a, b] {
+        if !design.windings.iter().any(|w| w.name == name) {
+            anyhow::bail!(BadInput(format!(
+                "column 'quantity': the design has no winding '{name}'"
+            )));
+        }
+    }
+    let (a, b) = (a.to_string(), b.to_string());
+    Ok(later(move || {
+        let report = inductance_report(&design, Par::Rayon)?;
+        Ok(report.mutual_h[winding_index(&report, &a)?][winding_index(&report, &b)?])
+    }))
 }
 
 /// A row of `images.csv`: an inductance of the invented design [`IMAGE_DESIGN`] in free space
 /// or over a conducting ground plane at z = 0.
-fn images(row: &Row) -> anyhow::Result<f64> {
+fn images(row: &Row) -> anyhow::Result<Job> {
     let conducting = match text(row, "case")? {
         "free_space" => false,
         "conducting_ground" => true,
@@ -410,22 +451,22 @@ fn images(row: &Row) -> anyhow::Result<f64> {
     };
     let quantity = text(row, "quantity")?;
     let design_text = format!("{IMAGE_DESIGN}\n[ground]\nz = 0.0\nconducting = {conducting}\n");
-    inductance_entry(&design(&design_text)?, quantity)
+    inductance_entry(design(&design_text)?, quantity)
 }
 
 /// A row of `tap.csv`: the partial inductance (H) of an arc of a ring (kind `arc`: radius
 /// 0.1 m, wire radius 1 mm, `design` the turns), or the self or mutual inductance of the tapped
 /// primary of a named design (kinds `self`, `mutual`), through the `inductance` command's
 /// matrix.
-fn tap(row: &Row) -> anyhow::Result<f64> {
+fn tap(row: &Row) -> anyhow::Result<Job> {
     let kind = text(row, "kind")?;
     if kind == "arc" {
         let turns = bounded(row, "design", 1e-6, 1.0)?;
-        return Ok(self_arc_round_wire(
+        return Ok(ready(self_arc_round_wire(
             0.1,
             std::f64::consts::TAU * turns,
             1e-3,
-        ));
+        )));
     }
     let name = text(row, "design")?;
     let base = TAP_DESIGNS
@@ -452,8 +493,8 @@ fn tap(row: &Row) -> anyhow::Result<f64> {
     );
     let design = design(&text)?;
     match kind {
-        "self" => inductance_entry(&design, "self_inductance.primary"),
-        "mutual" => inductance_entry(&design, "mutual.primary.secondary"),
+        "self" => inductance_entry(design, "self_inductance.primary"),
+        "mutual" => inductance_entry(design, "mutual.primary.secondary"),
         other => anyhow::bail!(BadInput(format!(
             "column 'kind': '{other}' is not arc, self or mutual"
         ))),
@@ -525,242 +566,390 @@ fn envelope_frequency_hz(times_s: &[f64]) -> f64 {
     1.0 / (2.0 * slope(&idx, times_s))
 }
 
-/// A figure of a ladder mode of `n` sections by quantity.
-fn ladder_quantity(modes: &LadderModes, p: &Row, quantity: &str, n: usize) -> anyhow::Result<f64> {
-    let mode_index = param_count(p, "mode", modes.modes.len() as f64)? - 1;
+/// Which figure of a ladder mode a row asks for.
+#[derive(Clone, Copy)]
+enum LadderFigure {
+    Frequency,
+    NodeVoltage(usize),
+    BranchCurrent(usize),
+    TopCapacitance,
+    TopInductance,
+    TopToBase,
+}
+
+/// The mode (0-based) and figure a row of a ladder of `n` sections asks for by `quantity`,
+/// of the `n_modes` modes solved.
+fn ladder_figure(
+    p: &Row,
+    quantity: &str,
+    n: usize,
+    n_modes: usize,
+) -> anyhow::Result<(usize, LadderFigure)> {
+    let mode_index = param_count(p, "mode", n_modes as f64)? - 1;
+    let figure = match quantity {
+        "frequency_hz" => LadderFigure::Frequency,
+        "node_voltage" => LadderFigure::NodeVoltage(bounded(p, "node", 0.0, n as f64)? as usize),
+        "branch_current" => LadderFigure::BranchCurrent(param_count(p, "section", n as f64)? - 1),
+        "top_capacitance_f" => LadderFigure::TopCapacitance,
+        "top_inductance_h" => LadderFigure::TopInductance,
+        "top_to_base_ohm" => LadderFigure::TopToBase,
+        q => anyhow::bail!(BadInput(format!(
+            "column 'quantity': unknown quantity '{q}'"
+        ))),
+    };
+    Ok((mode_index, figure))
+}
+
+/// A figure of mode `mode_index` of a ladder's `modes`.
+fn ladder_value(
+    modes: &LadderModes,
+    (mode_index, figure): (usize, LadderFigure),
+) -> anyhow::Result<f64> {
     let mode = modes
         .modes
         .get(mode_index)
         .ok_or_else(|| BadInput(format!("column 'parameters': no mode {}", mode_index + 1)))?;
-    Ok(match quantity {
-        "frequency_hz" => mode.frequency_hz,
-        "node_voltage" => {
-            let node = bounded(p, "node", 0.0, n as f64)? as usize;
-            mode.node_voltage[node]
-        }
-        "branch_current" => mode.branch_current[param_count(p, "section", n as f64)? - 1],
-        "top_capacitance_f" => mode.top_capacitance_f,
-        "top_inductance_h" => mode.top_inductance_h,
-        "top_to_base_ohm" => mode.top_to_base_ohm,
-        q => anyhow::bail!(BadInput(format!(
-            "column 'quantity': unknown quantity '{q}'"
+    Ok(match figure {
+        LadderFigure::Frequency => mode.frequency_hz,
+        LadderFigure::NodeVoltage(node) => mode.node_voltage[node],
+        LadderFigure::BranchCurrent(k) => mode.branch_current[k],
+        LadderFigure::TopCapacitance => mode.top_capacitance_f,
+        LadderFigure::TopInductance => mode.top_inductance_h,
+        LadderFigure::TopToBase => mode.top_to_base_ohm,
+    })
+}
+
+/// `quantity` when it is one of `known`, else a message naming the case.
+fn one_of(quantity: &str, case: &str, known: &[&str]) -> anyhow::Result<String> {
+    if known.contains(&quantity) {
+        Ok(quantity.to_string())
+    } else {
+        anyhow::bail!(BadInput(format!(
+            "column 'quantity': '{quantity}' is not a quantity of case '{case}' ({})",
+            known.join(", ")
+        )))
+    }
+}
+
+/// One loop with inductance `l_h`, capacitance `c_f` and resistance `r_ohm` from `p`.
+fn series_loop(p: &Row) -> anyhow::Result<Loops> {
+    Ok(Loops {
+        inductance_h: DMatrix::from_element(1, 1, param(p, "l_h")?),
+        capacitance_f: vec![Some(param(p, "c_f")?)],
+        resistance_ohm: vec![param(p, "r_ohm")?],
+    })
+}
+
+/// The source of a phasor case: `drive` voltage or current of peak `amplitude`.
+fn phasor_drive(p: &Row) -> anyhow::Result<Drive> {
+    Ok(match text(p, "drive")? {
+        "voltage" => Drive::VoltageV(param(p, "amplitude")?),
+        "current" => Drive::CurrentA(param(p, "amplitude")?),
+        other => anyhow::bail!(BadInput(format!(
+            "column 'parameters': drive '{other}' is not voltage or current"
         ))),
     })
+}
+
+/// The phasor a `coupled_phasor` quantity names (`i1_re`, `vc2_im`, ...) with its part (re or
+/// im); None for `input_power_w`.
+fn phasor_part(quantity: &str) -> anyhow::Result<Option<(String, bool)>> {
+    if quantity == "input_power_w" {
+        return Ok(None);
+    }
+    let unknown = || {
+        BadInput(format!(
+            "column 'quantity': '{quantity}' is not a quantity of case 'coupled_phasor' \
+             (input_power_w, or i1, i2, vc1, vc2, source_voltage with _re or _im)"
+        ))
+    };
+    let (name, part) = quantity.rsplit_once('_').ok_or_else(unknown)?;
+    if !["i1", "i2", "vc1", "vc2", "source_voltage"].contains(&name) {
+        return Err(unknown().into());
+    }
+    match part {
+        "re" => Ok(Some((name.to_string(), true))),
+        "im" => Ok(Some((name.to_string(), false))),
+        _ => Err(unknown().into()),
+    }
 }
 
 /// A row of `circuits.csv` through the resonance model's circuits
 /// ([`coilfield_solver::circuit`]): ladder modes, coupled loops' modes, their exact
 /// propagation in time (with a quench) and phasors; the cases and quantities are those of
 /// `validation/circuits_refs.py`. Figures read from a run's envelope (a fitted spacing or
-/// decay) carry the tolerance of that reading, stated in the table.
-fn circuits(row: &Row) -> anyhow::Result<f64> {
+/// decay) carry the tolerance of that reading, stated in the table. Every parameter and the
+/// quantity are read and checked before the circuit is solved.
+fn circuits(row: &Row) -> anyhow::Result<Job> {
     let case = text(row, "case")?;
     let quantity = text(row, "quantity")?;
     let p = parameters(row)?;
-    let unknown = || -> anyhow::Error {
-        BadInput(format!(
-            "column 'quantity': '{quantity}' is not a quantity of case '{case}'"
-        ))
-        .into()
-    };
-    let value = match case {
+    Ok(match case {
         "thomson" => {
+            one_of(quantity, case, &["frequency_hz"])?;
             let c = DMatrix::from_element(1, 1, param(&p, "c_f")?);
             let l = DMatrix::from_element(1, 1, param(&p, "l_h")?);
-            ladder_modes(&c, &l, 1).map_err(bad)?.modes[0].frequency_hz
+            later(move || Ok(ladder_modes(&c, &l, 1).map_err(bad)?.modes[0].frequency_hz))
         }
-        "uniform_ladder" | "quarter_wave" => {
-            let n = param_count(&p, "n", MAX_SECTIONS)?;
-            let (l_tot, c_tot) = (param(&p, "l_total_h")?, param(&p, "c_total_f")?);
-            let c = DMatrix::from_diagonal_element(n, n, c_tot / n as f64);
-            let l = DMatrix::from_diagonal_element(n, n, l_tot / n as f64);
-            let modes = ladder_modes(&c, &l, n.min(3)).map_err(bad)?;
-            match (case, quantity) {
-                ("quarter_wave", "frequency_hz") => modes.modes[0].frequency_hz,
-                ("quarter_wave", "equivalent_capacitance_f") => {
-                    equivalent_capacitance_f(modes.modes[0].frequency_hz, modes.series_inductance_h)
-                        .map_err(bad)?
+        "quarter_wave" => {
+            let quantity = one_of(
+                quantity,
+                case,
+                &["frequency_hz", "equivalent_capacitance_f"],
+            )?;
+            let (c, l, n_modes) = uniform_ladder(&p)?;
+            later(move || {
+                let modes = ladder_modes(&c, &l, n_modes).map_err(bad)?;
+                let f = modes.modes[0].frequency_hz;
+                if quantity == "frequency_hz" {
+                    Ok(f)
+                } else {
+                    equivalent_capacitance_f(f, modes.series_inductance_h).map_err(bad)
                 }
-                ("quarter_wave", _) => return Err(unknown()),
-                _ => ladder_quantity(&modes, &p, quantity, n)?,
-            }
+            })
+        }
+        "uniform_ladder" => {
+            let (c, l, n_modes) = uniform_ladder(&p)?;
+            let figure = ladder_figure(&p, quantity, c.nrows(), n_modes)?;
+            later(move || ladder_value(&ladder_modes(&c, &l, n_modes).map_err(bad)?, figure))
         }
         "full_ladder" => {
             let n = param_count(&p, "n", MAX_SECTIONS)?;
             let (c, l) = validation_full_ladder(n, param(&p, "l0_h")?, param(&p, "c0_f")?);
-            let modes = ladder_modes(&c, &l, n).map_err(bad)?;
-            ladder_quantity(&modes, &p, quantity, n)?
+            let figure = ladder_figure(&p, quantity, n, n)?;
+            later(move || ladder_value(&ladder_modes(&c, &l, n).map_err(bad)?, figure))
         }
         "coupled_pair" => {
-            let modes = loop_modes(&pair(&p, true, [0.0, 0.0])?).map_err(bad)?;
-            let mode = param_count(&p, "mode", modes.len() as f64)?;
-            modes[mode - 1].frequency_hz
+            one_of(quantity, case, &["mode_frequency_hz"])?;
+            let loops = pair(&p, true, [0.0, 0.0])?;
+            let mode = param_count(&p, "mode", loops.loop_count() as f64)?;
+            later(move || {
+                let modes = loop_modes(&loops).map_err(bad)?;
+                modes
+                    .get(mode - 1)
+                    .map(|m| m.frequency_hz)
+                    .ok_or_else(|| BadInput(format!("column 'parameters': no mode {mode}")).into())
+            })
         }
         "shorted_turn" => {
-            let modes = loop_modes(&pair(&p, false, [0.0, 0.0])?).map_err(bad)?;
-            modes.first().ok_or_else(unknown)?.frequency_hz
+            one_of(quantity, case, &["frequency_hz"])?;
+            let loops = pair(&p, false, [0.0, 0.0])?;
+            later(move || {
+                let modes = loop_modes(&loops).map_err(bad)?;
+                modes
+                    .first()
+                    .map(|m| m.frequency_hz)
+                    .ok_or_else(|| BadInput("the loops have no mode".into()).into())
+            })
         }
-        "coupled_transient" => {
-            let loops = pair(&p, true, [0.0, 0.0])?;
-            let initial = charged(&loops, param(&p, "v_p")?);
-            let settings = SimulationSettings::new(param(&p, "duration_s")?);
-            let sim = simulate(&loops, &initial, &settings).map_err(bad)?;
-            let w0 = loops.energy_j(&initial).map_err(bad)?;
-            match quantity {
-                "energy_drift_relative" => sim
-                    .energy_j()
-                    .iter()
-                    .map(|w| (w / w0 - 1.0).abs())
-                    .fold(0.0, f64::max),
-                "secondary_peak_v" => sim.peak_capacitor_voltage(1).map_err(bad)?.value,
-                "notch_time_s" | "notch_half_cycles" | "primary_energy_at_notch_fraction" => {
-                    let notch = sim.first_notch(0).map_err(bad)?.ok_or_else(|| {
-                        BadInput("the primary's current has no notch within the run".into())
-                    })?;
-                    match quantity {
-                        "notch_time_s" => notch.time_s,
-                        "notch_half_cycles" => notch.half_cycles as f64,
-                        // The primary's own energy, from the exact state there.
-                        _ => {
-                            let s = sim.state_at(notch.time_s).map_err(bad)?;
-                            let own = 0.5 * param(&p, "l1_h")? * s.current_a[0].powi(2)
-                                + 0.5 * s.charge_c[0].powi(2) / param(&p, "c1_f")?;
-                            own / w0
-                        }
-                    }
-                }
-                _ => return Err(unknown()),
-            }
-        }
-        "quench" => quench(&p, quantity, row)?.ok_or_else(unknown)?,
+        "coupled_transient" => coupled_transient(&p, quantity)?,
+        "quench" => quench(&p, quantity, row)?,
         "rlc_decay" => {
-            let loops = Loops {
-                inductance_h: DMatrix::from_element(1, 1, param(&p, "l_h")?),
-                capacitance_f: vec![Some(param(&p, "c_f")?)],
-                resistance_ohm: vec![param(&p, "r_ohm")?],
-            };
+            let quantity = one_of(
+                quantity,
+                case,
+                &[
+                    "decay_rate_per_s",
+                    "damped_frequency_hz",
+                    "charge_c",
+                    "current_a",
+                ],
+            )?;
+            let loops = series_loop(&p)?;
             let initial = charged(&loops, param(&p, "v_p")?);
             let settings = SimulationSettings::new(param(&p, "duration_s")?);
-            let sim = simulate(&loops, &initial, &settings).map_err(bad)?;
-            let env = sim.current_envelope(0).map_err(bad)?;
-            match quantity {
-                "decay_rate_per_s" => {
-                    let logs: Vec<f64> = env.peaks.iter().map(|p| p.ln()).collect();
-                    -slope(&env.times_s, &logs)
-                }
-                "damped_frequency_hz" => envelope_frequency_hz(&env.times_s),
-                "charge_c" => sim.state_at(param(&p, "time_s")?).map_err(bad)?.charge_c[0],
-                "current_a" => sim.state_at(param(&p, "time_s")?).map_err(bad)?.current_a[0],
-                _ => return Err(unknown()),
-            }
+            let time_s = match quantity.as_str() {
+                "charge_c" | "current_a" => param(&p, "time_s")?,
+                _ => 0.0,
+            };
+            later(move || {
+                let sim = simulate(&loops, &initial, &settings).map_err(bad)?;
+                let env = sim.current_envelope(0).map_err(bad)?;
+                Ok(match quantity.as_str() {
+                    "decay_rate_per_s" => {
+                        let logs: Vec<f64> = env.peaks.iter().map(|p| p.ln()).collect();
+                        -slope(&env.times_s, &logs)
+                    }
+                    "damped_frequency_hz" => envelope_frequency_hz(&env.times_s),
+                    "charge_c" => sim.state_at(time_s).map_err(bad)?.charge_c[0],
+                    _ => sim.state_at(time_s).map_err(bad)?.current_a[0],
+                })
+            })
         }
         "series_rlc_phasor" => {
-            let loops = Loops {
-                inductance_h: DMatrix::from_element(1, 1, param(&p, "l_h")?),
-                capacitance_f: vec![Some(param(&p, "c_f")?)],
-                resistance_ohm: vec![param(&p, "r_ohm")?],
-            };
+            let quantity = one_of(
+                quantity,
+                case,
+                &[
+                    "current_re",
+                    "current_im",
+                    "capacitor_voltage_re",
+                    "capacitor_voltage_im",
+                    "input_power_w",
+                ],
+            )?;
+            let loops = series_loop(&p)?;
             let drive = Drive::VoltageV(param(&p, "v_peak_v")?);
-            let s = steady_state(&loops, 0, drive, param(&p, "omega_rad_s")?).map_err(bad)?;
-            let vc = s.capacitor_voltage_v[0].unwrap_or_default();
-            match quantity {
-                "current_re" => s.current_a[0].re,
-                "current_im" => s.current_a[0].im,
-                "capacitor_voltage_re" => vc.re,
-                "capacitor_voltage_im" => vc.im,
-                "input_power_w" => s.input_power_w,
-                _ => return Err(unknown()),
-            }
+            let omega = param(&p, "omega_rad_s")?;
+            later(move || {
+                let s = steady_state(&loops, 0, drive, omega).map_err(bad)?;
+                let vc = s.capacitor_voltage_v[0].unwrap_or_default();
+                Ok(match quantity.as_str() {
+                    "current_re" => s.current_a[0].re,
+                    "current_im" => s.current_a[0].im,
+                    "capacitor_voltage_re" => vc.re,
+                    "capacitor_voltage_im" => vc.im,
+                    _ => s.input_power_w,
+                })
+            })
         }
         "coupled_phasor" => {
             let loops = pair(&p, true, [param(&p, "r1_ohm")?, param(&p, "r2_ohm")?])?;
-            let drive = match text(&p, "drive")? {
-                "voltage" => Drive::VoltageV(param(&p, "amplitude")?),
-                "current" => Drive::CurrentA(param(&p, "amplitude")?),
-                other => anyhow::bail!(BadInput(format!(
-                    "column 'parameters': drive '{other}' is not voltage or current"
-                ))),
-            };
-            let s = steady_state(&loops, 0, drive, param(&p, "omega_rad_s")?).map_err(bad)?;
-            if quantity == "input_power_w" {
-                s.input_power_w
-            } else {
-                let (name, part) = quantity.rsplit_once('_').ok_or_else(unknown)?;
-                let z = match name {
+            let drive = phasor_drive(&p)?;
+            let omega = param(&p, "omega_rad_s")?;
+            let part = phasor_part(quantity)?;
+            later(move || {
+                let s = steady_state(&loops, 0, drive, omega).map_err(bad)?;
+                let Some((name, re)) = part else {
+                    return Ok(s.input_power_w);
+                };
+                let z = match name.as_str() {
                     "i1" => s.current_a[0],
                     "i2" => s.current_a[1],
                     "vc1" => s.capacitor_voltage_v[0].unwrap_or_default(),
                     "vc2" => s.capacitor_voltage_v[1].unwrap_or_default(),
-                    "source_voltage" => s.source_voltage_v,
-                    _ => return Err(unknown()),
+                    _ => s.source_voltage_v,
                 };
-                match part {
-                    "re" => z.re,
-                    "im" => z.im,
-                    _ => return Err(unknown()),
-                }
-            }
+                Ok(if re { z.re } else { z.im })
+            })
         }
         other => anyhow::bail!(BadInput(format!("column 'case': unknown case '{other}'"))),
-    };
-    Ok(value)
-}
-
-/// A row of case `quench` of `circuits.csv`: the primary opens at its first notch and the
-/// secondary rings on alone; `None` for an unknown quantity. The amplitude is the envelope peak
-/// after the quench farthest from the reference (every peak must be within the tolerance).
-fn quench(p: &Row, quantity: &str, row: &Row) -> anyhow::Result<Option<f64>> {
-    let loops = pair(p, true, [0.0, 0.0])?;
-    let initial = charged(&loops, param(p, "v_p")?);
-    let duration = param(p, "duration_s")?;
-    let first = simulate(&loops, &initial, &SimulationSettings::new(duration)).map_err(bad)?;
-    let notch = first
-        .first_notch(0)
-        .map_err(bad)?
-        .ok_or_else(|| BadInput("the primary's current has no notch within the run".into()))?;
-    let settings = SimulationSettings {
-        quench: Some(Quench {
-            loop_index: 0,
-            time_s: notch.time_s,
-        }),
-        ..SimulationSettings::new(duration)
-    };
-    let sim = simulate(&loops, &initial, &settings).map_err(bad)?;
-    let env = sim.voltage_envelope(1).map_err(bad)?;
-    let (t, v): (Vec<f64>, Vec<f64>) = env
-        .times_s
-        .iter()
-        .zip(&env.peaks)
-        .filter(|(t, _)| **t > notch.time_s + 2.0 * sim.time_step_s())
-        .map(|(t, v)| (*t, *v))
-        .unzip();
-    if t.len() < 3 {
-        anyhow::bail!(BadInput(
-            "the run ends before the secondary has rung alone for a period".into()
-        ));
-    }
-    Ok(match quantity {
-        "secondary_frequency_hz" => Some(envelope_frequency_hz(&t)),
-        "secondary_amplitude_v" => {
-            let reference = num(row, "reference")?;
-            v.into_iter()
-                .max_by(|a, b| (a - reference).abs().total_cmp(&(b - reference).abs()))
-        }
-        "energy_retained_fraction" => {
-            let w = sim.energy_j();
-            let w0 = loops.energy_j(&initial).map_err(bad)?;
-            w.last().map(|w| w / w0)
-        }
-        _ => None,
     })
 }
 
-/// A design through the `capacitance` command's boundary-element solver
-/// ([`coilfield_solver::electrostatic`]) with `params`.
-fn electrostatic(text: &str, params: &Params) -> anyhow::Result<Solution> {
+/// The uniform ladder of a `uniform_ladder` or `quarter_wave` row: its node capacitance and
+/// branch inductance matrices (n sections of equal parts of `l_total_h` and `c_total_f`) and
+/// the modes to solve (up to 3).
+fn uniform_ladder(p: &Row) -> anyhow::Result<(DMatrix<f64>, DMatrix<f64>, usize)> {
+    let n = param_count(p, "n", MAX_SECTIONS)?;
+    let (l_tot, c_tot) = (param(p, "l_total_h")?, param(p, "c_total_f")?);
+    let c = DMatrix::from_diagonal_element(n, n, c_tot / n as f64);
+    let l = DMatrix::from_diagonal_element(n, n, l_tot / n as f64);
+    Ok((c, l, n.min(3)))
+}
+
+/// A row of case `coupled_transient` of `circuits.csv`: the exact propagation of two coupled
+/// loops from the primary's charged capacitor.
+fn coupled_transient(p: &Row, quantity: &str) -> anyhow::Result<Job> {
+    let quantity = one_of(
+        quantity,
+        "coupled_transient",
+        &[
+            "energy_drift_relative",
+            "secondary_peak_v",
+            "notch_time_s",
+            "notch_half_cycles",
+            "primary_energy_at_notch_fraction",
+        ],
+    )?;
+    let loops = pair(p, true, [0.0, 0.0])?;
+    let initial = charged(&loops, param(p, "v_p")?);
+    let settings = SimulationSettings::new(param(p, "duration_s")?);
+    let (l1, c1) = (param(p, "l1_h")?, param(p, "c1_f")?);
+    Ok(later(move || {
+        let sim = simulate(&loops, &initial, &settings).map_err(bad)?;
+        let w0 = loops.energy_j(&initial).map_err(bad)?;
+        Ok(match quantity.as_str() {
+            "energy_drift_relative" => sim
+                .energy_j()
+                .iter()
+                .map(|w| (w / w0 - 1.0).abs())
+                .fold(0.0, f64::max),
+            "secondary_peak_v" => sim.peak_capacitor_voltage(1).map_err(bad)?.value,
+            _ => {
+                let notch = sim.first_notch(0).map_err(bad)?.ok_or_else(|| {
+                    BadInput("the primary's current has no notch within the run".into())
+                })?;
+                match quantity.as_str() {
+                    "notch_time_s" => notch.time_s,
+                    "notch_half_cycles" => notch.half_cycles as f64,
+                    // The primary's own energy, from the exact state there.
+                    _ => {
+                        let s = sim.state_at(notch.time_s).map_err(bad)?;
+                        let own =
+                            0.5 * l1 * s.current_a[0].powi(2) + 0.5 * s.charge_c[0].powi(2) / c1;
+                        own / w0
+                    }
+                }
+            }
+        })
+    }))
+}
+
+/// A row of case `quench` of `circuits.csv`: the primary opens at its first notch and the
+/// secondary rings on alone. The amplitude is the envelope peak after the quench farthest
+/// from the reference (every peak must be within the tolerance).
+fn quench(p: &Row, quantity: &str, row: &Row) -> anyhow::Result<Job> {
+    let quantity = one_of(
+        quantity,
+        "quench",
+        &[
+            "secondary_frequency_hz",
+            "secondary_amplitude_v",
+            "energy_retained_fraction",
+        ],
+    )?;
+    let loops = pair(p, true, [0.0, 0.0])?;
+    let initial = charged(&loops, param(p, "v_p")?);
+    let duration = param(p, "duration_s")?;
+    let reference = num(row, "reference")?;
+    Ok(later(move || {
+        let first = simulate(&loops, &initial, &SimulationSettings::new(duration)).map_err(bad)?;
+        let notch = first
+            .first_notch(0)
+            .map_err(bad)?
+            .ok_or_else(|| BadInput("the primary's current has no notch within the run".into()))?;
+        let settings = SimulationSettings {
+            quench: Some(Quench {
+                loop_index: 0,
+                time_s: notch.time_s,
+            }),
+            ..SimulationSettings::new(duration)
+        };
+        let sim = simulate(&loops, &initial, &settings).map_err(bad)?;
+        let env = sim.voltage_envelope(1).map_err(bad)?;
+        let (t, v): (Vec<f64>, Vec<f64>) = env
+            .times_s
+            .iter()
+            .zip(&env.peaks)
+            .filter(|(t, _)| **t > notch.time_s + 2.0 * sim.time_step_s())
+            .map(|(t, v)| (*t, *v))
+            .unzip();
+        if t.len() < 3 {
+            anyhow::bail!(BadInput(
+                "the run ends before the secondary has rung alone for a period".into()
+            ));
+        }
+        let value = match quantity.as_str() {
+            "secondary_frequency_hz" => Some(envelope_frequency_hz(&t)),
+            "secondary_amplitude_v" => v
+                .into_iter()
+                .max_by(|a, b| (a - reference).abs().total_cmp(&(b - reference).abs())),
+            _ => {
+                let w = sim.energy_j();
+                let w0 = loops.energy_j(&initial).map_err(bad)?;
+                w.last().map(|w| w / w0)
+            }
+        };
+        value.ok_or_else(|| BadInput("the run gives no value for the quantity".into()).into())
+    }))
+}
+
+/// A design's problem for the `capacitance` command's boundary-element solver
+/// ([`coilfield_solver::electrostatic`]) with `params`, checked and not yet solved.
+fn electrostatic_problem(text: &str, params: &Params) -> anyhow::Result<Problem> {
     let design = design(text)?;
-    let problem = Problem::from_design(&design, params, "the row's design")?;
-    Ok(problem.solve(Par::Rayon)?)
+    Ok(Problem::from_design(&design, params, "the row's design")?)
 }
 
 /// Panels of the `fields_capacitance.csv` solves, as in the solver's tests: 400 for the sphere
@@ -773,7 +962,7 @@ const TORUS_PANELS: usize = 300;
 /// r = 0.1 m, of a thin disc of radius r = 0.2 m, of the sphere with its centre at `ratio`
 /// radii over a grounded plane, or of a torus of minor radius r = 0.05 m and major radius
 /// `ratio` r (`ratio` 0 for the first two).
-fn fields_capacitance(row: &Row) -> anyhow::Result<f64> {
+fn fields_capacitance(row: &Row) -> anyhow::Result<Job> {
     let ratio = || bounded(row, "ratio", 1.0 + 1e-6, 1e3);
     let (r, text, panels) = match text(row, "shape")? {
         "sphere" => (
@@ -816,8 +1005,11 @@ fn fields_capacitance(row: &Row) -> anyhow::Result<f64> {
         panels,
         ..Default::default()
     };
-    let c = electrostatic(&text, &params)?.capacitances_f()[0];
-    Ok(c / (4.0 * std::f64::consts::PI * coilfield_geometry::constants::EPS0 * r))
+    let problem = electrostatic_problem(&text, &params)?;
+    Ok(later(move || {
+        let c = problem.solve(Par::Rayon)?.capacitances_f()[0];
+        Ok(c / (4.0 * std::f64::consts::PI * coilfield_geometry::constants::EPS0 * r))
+    }))
 }
 
 /// Panels of the sectioned `tube_bem.csv` solves, as in the solver's tests (the tolerance
@@ -833,7 +1025,7 @@ static NODAL: Mutex<BTreeMap<String, DMatrix<f64>>> = Mutex::new(BTreeMap::new()
 /// capacitance as one conductor (`tube`), with the linear profile (`linear`), or an entry of
 /// its nodal matrix in `sections` sections (`nodal`, entry `i`, `j`). The winding is that of
 /// the solver's tests: 0.4 mm wire at a pitch of 0.5 mm.
-fn tube_bem(row: &Row) -> anyhow::Result<f64> {
+fn tube_bem(row: &Row) -> anyhow::Result<Job> {
     let a = size(row, "tube_radius_m")?;
     let l = size(row, "length_m")?;
     let zb = coordinate(row, "base_z_m")?;
@@ -851,15 +1043,19 @@ fn tube_bem(row: &Row) -> anyhow::Result<f64> {
             coordinate(row, "ground_z_m")?
         ));
     }
-    let by_profile = |profile: Profile| -> anyhow::Result<f64> {
+    let by_profile = |profile: Profile| -> anyhow::Result<Job> {
         let params = Params {
             profile,
             ..Default::default()
         };
-        electrostatic(&text, &params)?
-            .self_capacitance_f()
-            .map(|c| c.bare_f)
-            .ok_or_else(|| BadInput("the design has no secondary".into()).into())
+        let problem = electrostatic_problem(&text, &params)?;
+        Ok(later(move || {
+            problem
+                .solve(Par::Rayon)?
+                .self_capacitance_f()
+                .map(|c| c.bare_f)
+                .ok_or_else(|| BadInput("the design has no secondary".into()).into())
+        }))
     };
     match self::text(row, "quantity")? {
         "tube" => by_profile(Profile::Custom(|_| 1.0)),
@@ -870,28 +1066,32 @@ fn tube_bem(row: &Row) -> anyhow::Result<f64> {
                 bounded(row, "i", 0.0, n as f64)? as usize,
                 bounded(row, "j", 0.0, n as f64)? as usize,
             );
-            let key = format!("{text}{n}");
-            let cached = NODAL.lock().ok().and_then(|m| m.get(&key).cloned());
-            let matrix = match cached {
-                Some(m) => m,
-                None => {
-                    let params = Params {
-                        panels: TUBE_PANELS,
-                        secondary_sections: Some(n),
-                        ..Default::default()
-                    };
-                    let m = electrostatic(&text, &params)?
-                        .nodal_capacitance()
-                        .map_err(bad)?
-                        .matrix_f
-                        .clone();
-                    if let Ok(mut cache) = NODAL.lock() {
-                        cache.insert(key, m.clone());
-                    }
-                    m
-                }
+            let params = Params {
+                panels: TUBE_PANELS,
+                secondary_sections: Some(n),
+                ..Default::default()
             };
-            Ok(matrix[(i, j)])
+            let problem = electrostatic_problem(&text, &params)?;
+            let key = format!("{text}{n}");
+            Ok(later(move || {
+                let cached = NODAL.lock().ok().and_then(|m| m.get(&key).cloned());
+                let matrix = match cached {
+                    Some(m) => m,
+                    None => {
+                        let m = problem
+                            .solve(Par::Rayon)?
+                            .nodal_capacitance()
+                            .map_err(bad)?
+                            .matrix_f
+                            .clone();
+                        if let Ok(mut cache) = NODAL.lock() {
+                            cache.insert(key, m.clone());
+                        }
+                        m
+                    }
+                };
+                Ok(matrix[(i, j)])
+            }))
         }
         other => anyhow::bail!(BadInput(format!(
             "column 'quantity': '{other}' is not tube, linear or nodal"
@@ -904,14 +1104,17 @@ fn tube_bem(row: &Row) -> anyhow::Result<f64> {
 /// ([`coilfield_solver::fem`]), its problem built from the `case` and `parameters` columns by
 /// [`reference_domain`], the one builder tests/fem.rs uses too (which checks its ranges and
 /// names the column at fault).
-fn finite_element(row: &Row) -> anyhow::Result<f64> {
+fn finite_element(row: &Row) -> anyhow::Result<Job> {
     let domain = reference_domain(text(row, "case")?, text(row, "parameters")?).map_err(bad)?;
-    let solution = FemProblem::new(domain).map_err(bad)?.solve().map_err(bad)?;
-    Ok(solution.capacitance_matrix_f()[0][0])
+    Ok(later(move || {
+        let solution = FemProblem::new(domain).map_err(bad)?.solve().map_err(bad)?;
+        Ok(solution.capacitance_matrix_f()[0][0])
+    }))
 }
 
-/// The computed value of one row of a table of kernels and closed forms.
-fn kernel(table: &str, row: &Row, label: &str) -> anyhow::Result<f64> {
+/// One row of a table of kernels and closed forms: the value (a ring sum left for the second
+/// phase).
+fn kernel(table: &str, row: &Row, label: &str) -> anyhow::Result<Job> {
     let value = match table {
         "elliptic" => {
             let m = bounded(row, "x", -1e15, 1.0)?;
@@ -987,7 +1190,7 @@ fn kernel(table: &str, row: &Row, label: &str) -> anyhow::Result<f64> {
                 ],
             )?;
             match text(row, "quantity")? {
-                "ring_sum" => ring_sum(&helix)?,
+                "ring_sum" => return Ok(later(move || ring_sum(&helix))),
                 "lorenz_sheet" => lorenz_sheet(a, n, n * p),
                 "rosa" => rosa_solenoid(a, count(row, "turns", MAX_TURNS)?, p, d),
                 other => anyhow::bail!(BadInput(format!("unknown quantity '{other}'"))),
@@ -1009,7 +1212,7 @@ fn kernel(table: &str, row: &Row, label: &str) -> anyhow::Result<f64> {
                 ],
             )?;
             match text(row, "quantity")? {
-                "ring_sum" => ring_sum(&spiral)?,
+                "ring_sum" => return Ok(later(move || ring_sum(&spiral))),
                 "wheeler" => wheeler_spiral(inner, outer, n),
                 other => anyhow::bail!(BadInput(format!("unknown quantity '{other}'"))),
             }
@@ -1021,7 +1224,7 @@ fn kernel(table: &str, row: &Row, label: &str) -> anyhow::Result<f64> {
         }
         other => anyhow::bail!(BadInput(format!("unknown table '{other}'"))),
     };
-    Ok(value)
+    Ok(ready(value))
 }
 
 /// The rows of the table `name` (text `contents`), each as column name -> text, in order.
@@ -1046,33 +1249,41 @@ fn csv_rows(name: &str, contents: &str) -> anyhow::Result<Vec<Row>> {
         .collect()
 }
 
-fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
-    let mut cases = Vec::new();
+/// A table read and checked: the computation of its cases, left for the second phase.
+type TableJob = Box<dyn FnOnce() -> anyhow::Result<Vec<Case>>>;
+
+/// One row read and checked, its value still to compute.
+struct Pending {
+    row: usize,
+    inputs: BTreeMap<String, String>,
+    reference: f64,
+    tolerance: f64,
+    tolerance_kind: String,
+    source: String,
+    job: Job,
+}
+
+/// The kinds of tolerance a table's row may name.
+const TOLERANCE_KINDS: [&str; 4] = ["rel", "abs", "rel_to_magnitude", "bound_rel"];
+
+/// Read and check every row of the table `name` (text `contents`): the first bad row is
+/// refused by file, row and column before any case is computed.
+fn read_table(name: &str, contents: &str) -> anyhow::Result<TableJob> {
+    let mut pending = Vec::new();
     for (idx, row) in csv_rows(name, contents)?.into_iter().enumerate() {
         let label = |e: anyhow::Error| BadInput(format!("{name}.csv row {}: {e}", idx + 1));
         let reference = num(&row, "reference").map_err(label)?;
         let tolerance = num(&row, "tolerance").map_err(label)?;
         let tolerance_kind = text(&row, "tolerance_kind").map_err(label)?.to_string();
+        if !TOLERANCE_KINDS.contains(&tolerance_kind.as_str()) {
+            return Err(label(anyhow::anyhow!(
+                "column 'tolerance_kind': '{tolerance_kind}' is not rel, abs, rel_to_magnitude \
+                 or bound_rel"
+            ))
+            .into());
+        }
         let source = text(&row, "source").map_err(label)?.to_string();
-        let Computed {
-            value: computed,
-            magnitude,
-        } = compute(name, &row, "the row").map_err(label)?;
-        let error = match tolerance_kind.as_str() {
-            "abs" => (computed - reference).abs(),
-            "rel" => ((computed - reference) / reference).abs(),
-            // A component beside the magnitude of its vector (a component near 0 has no
-            // relative error of its own).
-            "rel_to_magnitude" => (computed - reference).abs() / magnitude,
-            // An upper bound: how far the value's magnitude goes past it, relative (0 within).
-            "bound_rel" => (computed.abs() / reference - 1.0).max(0.0),
-            other => {
-                return Err(label(anyhow::anyhow!(
-                    "tolerance_kind '{other}' is not rel, abs, rel_to_magnitude or bound_rel"
-                ))
-                .into());
-            }
-        };
+        let job = read_row(name, &row, "the row").map_err(label)?;
         let inputs = row
             .into_iter()
             .filter(|(k, _)| {
@@ -1082,20 +1293,55 @@ fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
                 )
             })
             .collect();
-        cases.push(Case {
-            table: name.to_string(),
+        pending.push(Pending {
             row: idx + 1,
             inputs,
             reference,
-            computed,
-            error,
             tolerance,
-            passed: error <= tolerance,
             tolerance_kind,
             source,
+            job,
         });
     }
-    Ok(cases)
+    let name = name.to_string();
+    Ok(Box::new(move || {
+        pending
+            .into_iter()
+            .map(|p| compute_case(&name, p))
+            .collect()
+    }))
+}
+
+/// The case of a row read and checked: its value computed and compared with its reference.
+fn compute_case(table: &str, p: Pending) -> anyhow::Result<Case> {
+    let Computed {
+        value: computed,
+        magnitude,
+    } = (p.job)()
+        .and_then(finite)
+        .map_err(|e| BadInput(format!("{table}.csv row {}: {e}", p.row)))?;
+    let reference = p.reference;
+    let error = match p.tolerance_kind.as_str() {
+        "abs" => (computed - reference).abs(),
+        "rel" => ((computed - reference) / reference).abs(),
+        // A component beside the magnitude of its vector (a component near 0 has no
+        // relative error of its own).
+        "rel_to_magnitude" => (computed - reference).abs() / magnitude,
+        // An upper bound: how far the value's magnitude goes past it, relative (0 within).
+        _ => (computed.abs() / reference - 1.0).max(0.0),
+    };
+    Ok(Case {
+        table: table.to_string(),
+        row: p.row,
+        inputs: p.inputs,
+        reference,
+        computed,
+        error,
+        tolerance: p.tolerance,
+        passed: error <= p.tolerance,
+        tolerance_kind: p.tolerance_kind,
+        source: p.source,
+    })
 }
 
 /// The rows of `far_field_helix.csv` (one B vector per row, no tolerance column): B of each
@@ -1103,7 +1349,7 @@ fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
 /// the row's mpmath vector, at the tolerance the model reaches at that distance
 /// ([`coilfield_solver::field_model::FarFieldHelix::tolerance`], relative to the vector's magnitude: `rel_vector`). Where the
 /// reference is below the smallest normal f64, the model must give 0 (`abs`, tolerance 0).
-fn read_far_field_helix(contents: &str) -> anyhow::Result<Vec<Case>> {
+fn read_far_field_helix(contents: &str) -> anyhow::Result<TableJob> {
     const NAME: &str = "far_field_helix";
     // (helix, point, reference B, r, row) of every row, checked before any field is computed.
     let mut rows = Vec::new();
@@ -1122,7 +1368,7 @@ fn read_far_field_helix(contents: &str) -> anyhow::Result<Vec<Case>> {
             let name = text(&row, "helix")?;
             let helix = FAR_FIELD_HELICES
                 .iter()
-                .find(|h| h.name == name)
+                .position(|h| h.name == name)
                 .ok_or_else(|| {
                     BadInput(format!(
                         "column 'helix': '{name}' is not one of the table's helices (whole, tilted)"
@@ -1139,9 +1385,20 @@ fn read_far_field_helix(contents: &str) -> anyhow::Result<Vec<Case>> {
         .map_err(label)?;
         rows.push((idx, row, parsed));
     }
+    Ok(Box::new(move || far_field_helix_cases(rows)))
+}
+
+/// A row of `far_field_helix.csv` read and checked: its index, columns, and the helix (its
+/// index in [`FAR_FIELD_HELICES`]), point, reference B (T), distance r (m) and source.
+type HelixRow = (usize, Row, (usize, Point3<f64>, Vector3<f64>, f64, String));
+
+/// The cases of `far_field_helix.csv`'s rows: one field model per helix, every row's point
+/// evaluated at once.
+fn far_field_helix_cases(rows: Vec<HelixRow>) -> anyhow::Result<Vec<Case>> {
+    const NAME: &str = "far_field_helix";
     let mut cases = Vec::new();
-    for helix in &FAR_FIELD_HELICES {
-        let mine: Vec<_> = rows.iter().filter(|r| r.2.0.name == helix.name).collect();
+    for (k, helix) in FAR_FIELD_HELICES.iter().enumerate() {
+        let mine: Vec<_> = rows.iter().filter(|r| r.2.0 == k).collect();
         if mine.is_empty() {
             continue;
         }
@@ -1196,8 +1453,9 @@ fn round_to(v: f64, digits: usize) -> f64 {
     format!("{v:.d$e}").parse().unwrap_or(v)
 }
 
+/// Run `coilfield verify`: every table read and checked, then every case computed.
 pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
-    let mut cases = Vec::new();
+    let mut tables = Vec::new();
     for (name, builtin) in TABLES {
         let contents = match dir {
             Some(dir) => {
@@ -1206,11 +1464,15 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
             }
             None => builtin.to_string(),
         };
-        if name == "far_field_helix" {
-            cases.extend(read_far_field_helix(&contents)?);
+        tables.push(if name == "far_field_helix" {
+            read_far_field_helix(&contents)?
         } else {
-            cases.extend(read_table(name, &contents)?);
-        }
+            read_table(name, &contents)?
+        });
+    }
+    let mut cases = Vec::new();
+    for table in tables {
+        cases.extend(table()?);
     }
     let passed = cases.iter().filter(|c| c.passed).count();
     let failed = cases.len() - passed;

@@ -358,6 +358,51 @@ fn verify_refuses_a_bad_finite_element_row_by_file_row_and_column() {
     }
 }
 
+/// `verify` reads and checks every table before it computes any case. Two edits of a copied
+/// table set: in `circuits.csv` (read early) a quench run of 1 µs, far shorter than the
+/// primary's period 2 pi sqrt(L1 C1) = 4.9 µs (Thomson's formula, common practice), so the
+/// simulation finds no notch: a failure only computing the case can show; in
+/// `far_field_helix.csv`, the last table read, a negative distance: a bad column. Table by
+/// table, the quench's failure would be reported first, after the work of every table before
+/// it; reading first, the bad column is refused (exit 2, file, row and column named) and
+/// nothing is printed. The quench edit alone is refused by row too, so the order is what the
+/// test sees.
+#[test]
+fn verify_reads_every_table_before_computing_any_case() {
+    let dir = copied_tables();
+    let short_run = |v: &str| v.replace("duration_s=6e-05", "duration_s=1e-06");
+    edit_cell(dir.path(), "circuits.csv", 94, "parameters", &short_run);
+    let verify = |dir: &std::path::Path| run(&["verify", "--tables", dir.to_str().unwrap()]);
+    let out = verify(dir.path());
+    let stderr = String::from_utf8(out.stderr).unwrap();
+    assert_eq!(out.status.code(), Some(2), "{stderr}");
+    assert!(
+        stderr.contains("circuits.csv row 94") && stderr.contains("no notch"),
+        "{stderr}"
+    );
+
+    edit_cell(dir.path(), "far_field_helix.csv", 3, "r_m", &|_| {
+        "-1".into()
+    });
+    let out = verify(dir.path());
+    let stderr = String::from_utf8(out.stderr).unwrap();
+    assert_eq!(out.status.code(), Some(2), "{stderr}");
+    assert!(
+        stderr.contains("far_field_helix.csv row 3") && stderr.contains("column 'r_m'"),
+        "{stderr}"
+    );
+    assert!(
+        !stderr.contains("circuits"),
+        "a case was computed first: {stderr}"
+    );
+    assert!(
+        out.stdout.is_empty(),
+        "{}",
+        String::from_utf8_lossy(&out.stdout)
+    );
+    assert!(!stderr.contains("panicked"), "{stderr}");
+}
+
 #[test]
 fn out_file_is_replaced_only_on_success() {
     let dir = tempfile::tempdir().unwrap();

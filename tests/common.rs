@@ -22,6 +22,27 @@ pub fn run(args: &[&str]) -> Output {
         .expect("run coilfield")
 }
 
+/// Run `coilfield` with `args`, which must succeed (its stderr in the message if not).
+pub fn run_ok(args: &[&str]) -> Output {
+    let out = run(args);
+    assert!(
+        out.status.success(),
+        "coilfield {args:?} failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    out
+}
+
+/// The stdout of a successful `coilfield` run with `args`.
+pub fn stdout_of(args: &[&str]) -> String {
+    String::from_utf8(run_ok(args).stdout).expect("UTF-8")
+}
+
+/// The JSON a successful `coilfield` run with `args` prints.
+pub fn json_of(args: &[&str]) -> serde_json::Value {
+    serde_json::from_slice(&run_ok(args).stdout).expect("valid JSON")
+}
+
 /// Write `text` as a design file in `dir`.
 pub fn design_file(dir: &Path, name: &str, text: &str) -> PathBuf {
     let path = dir.join(name);
@@ -31,13 +52,7 @@ pub fn design_file(dir: &Path, name: &str, text: &str) -> PathBuf {
 
 /// Run `coilfield inductance FILE --format json` and parse the JSON.
 pub fn inductance_json(path: &Path) -> serde_json::Value {
-    let out = run(&["inductance", path.to_str().unwrap(), "--format", "json"]);
-    assert!(
-        out.status.success(),
-        "coilfield failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).expect("valid JSON")
+    json_of(&["inductance", path.to_str().unwrap(), "--format", "json"])
 }
 
 /// A ring winding as TOML.
@@ -51,4 +66,24 @@ pub fn ring_toml(name: &str, origin: [f64; 3], axis: [f64; 3], radius: f64) -> S
 /// Relative difference.
 pub fn rel(a: f64, b: f64) -> f64 {
     ((a - b) / b).abs()
+}
+
+/// The texts of an SVG's `<text>` elements in document order, trimmed, with XML's entities
+/// decoded (plotters writes `'` as `&apos;`).
+pub fn svg_texts(svg: &str) -> Vec<String> {
+    svg.split("<text")
+        .skip(1)
+        .filter_map(|t| {
+            let body = &t[t.find('>')? + 1..t.find("</text>")?];
+            Some(
+                body.trim()
+                    .replace("&apos;", "'")
+                    .replace("&#39;", "'")
+                    .replace("&quot;", "\"")
+                    .replace("&lt;", "<")
+                    .replace("&gt;", ">")
+                    .replace("&amp;", "&"),
+            )
+        })
+        .collect()
 }

@@ -67,6 +67,18 @@ fn read_vtk(path: &Path) -> Value {
     serde_json::from_slice(&out.stdout).expect("JSON from read_vtk.py")
 }
 
+/// Run `export DESIGN --vtk OUT_DIR`, which must succeed, and read its collection back with
+/// the real VTK library.
+fn export_read(design: &Path, out_dir: &Path) -> Value {
+    run_ok(&[
+        "export",
+        design.to_str().unwrap(),
+        "--vtk",
+        out_dir.to_str().unwrap(),
+    ]);
+    read_vtk(&out_dir.join("design.pvd"))
+}
+
 /// Check the bad-input contract and return stderr.
 fn expect_bad(args: &[&str], parts: &[&str]) -> String {
     let out = run(args);
@@ -93,19 +105,7 @@ fn expect_bad(args: &[&str], parts: &[&str]) -> String {
 fn export_writes_windings_electrodes_and_a_collection_that_vtk_reads() {
     let dir = tempfile::tempdir().unwrap();
     let design = design_file(dir.path(), "d.toml", RESONATOR);
-    let out_dir = dir.path().join("vtk");
-    let out = run(&[
-        "export",
-        design.to_str().unwrap(),
-        "--vtk",
-        out_dir.to_str().unwrap(),
-    ]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let j = read_vtk(&out_dir.join("design.pvd"));
+    let j = export_read(&design, &dir.path().join("vtk"));
     let sets = j["collection"].as_array().unwrap();
     let files: Vec<&str> = sets.iter().map(|s| s["file"].as_str().unwrap()).collect();
     assert_eq!(
@@ -171,7 +171,7 @@ fn export_writes_windings_electrodes_and_a_collection_that_vtk_reads() {
         .as_array()
         .unwrap();
     let es_max = es.iter().map(f).fold(0.0f64, f64::max);
-    let cap = field_json(&["capacitance", design.to_str().unwrap(), "--format", "json"]);
+    let cap = json_of(&["capacitance", design.to_str().unwrap(), "--format", "json"]);
     let peak = f(&cap["peak_surface_fields"][0]["field_v_per_m"]);
     assert_eq!(cap["peak_surface_fields"][0]["name"], "topload");
     assert!(rel(es_max, peak) < 0.01, "{es_max} vs {peak}");
@@ -189,19 +189,7 @@ fn export_surface_data_of_a_sphere_is_the_closed_form() {
     let text = "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 1.0]\n\
                 radius = 0.1\n\n[drive]\nfrequency = 100e3\npotentials = { ball = 1000.0 }\n";
     let design = design_file(dir.path(), "s.toml", text);
-    let out_dir = dir.path().join("vtk");
-    let out = run(&[
-        "export",
-        design.to_str().unwrap(),
-        "--vtk",
-        out_dir.to_str().unwrap(),
-    ]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let j = read_vtk(&out_dir.join("design.pvd"));
+    let j = export_read(&design, &dir.path().join("vtk"));
     let ball = &j["collection"].as_array().unwrap()[0];
     let mu0 = 4e-7 * std::f64::consts::PI;
     let eps0 = 1.0 / (mu0 * 299_792_458.0f64.powi(2));
@@ -224,7 +212,7 @@ fn capacitance_of_an_isolated_sphere_and_the_resonator_json() {
     let dir = tempfile::tempdir().unwrap();
     let sphere = "[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\norigin = [0.0, 0.0, 1.0]\nradius = 0.1\n";
     let d = design_file(dir.path(), "s.toml", sphere);
-    let j = field_json(&["capacitance", d.to_str().unwrap(), "--format", "json"]);
+    let j = json_of(&["capacitance", d.to_str().unwrap(), "--format", "json"]);
     // C = 4 pi eps0 a (J. C. Maxwell 1873, vol. 1), eps0 = 1/(mu0 c^2) with the classical
     // mu0 = 4 pi 1e-7 H/m as coilfield uses. Curved panels represent the sphere exactly and a
     // uniform charge is the exact solution, so only quadrature and rounding remain: the
@@ -238,7 +226,7 @@ fn capacitance_of_an_isolated_sphere_and_the_resonator_json() {
 
     let d = design_file(dir.path(), "r.toml", RESONATOR);
     let out = dir.path().join("c.json");
-    let j = field_json(&[
+    let j = json_of(&[
         "capacitance",
         d.to_str().unwrap(),
         "--format",
@@ -295,13 +283,7 @@ fn export_replaces_files_only_on_success() {
     );
     // A good run replaces it.
     let good = design_file(dir.path(), "good.toml", RESONATOR);
-    let out = run(&[
-        "export",
-        good.to_str().unwrap(),
-        "--vtk",
-        out_dir.to_str().unwrap(),
-    ]);
-    assert!(out.status.success());
+    export_read(&good, &out_dir);
     assert!(
         std::fs::read_to_string(&old)
             .unwrap()
@@ -471,7 +453,7 @@ fn map_refuses_bad_grids_with_the_size_and_the_limit() {
         &["--resolution"],
     );
     assert_eq!(std::fs::read_to_string(vtr).unwrap(), "old");
-    let out = run(&[
+    run_ok(&[
         "map",
         d,
         "--plane",
@@ -483,11 +465,6 @@ fn map_refuses_bad_grids_with_the_size_and_the_limit() {
         "--vtk",
         vtr,
     ]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
     assert!(
         std::fs::read_to_string(vtr)
             .unwrap()
@@ -541,16 +518,6 @@ currents = { loop = 1000.0 }
     .to_string()
 }
 
-fn field_json(args: &[&str]) -> Value {
-    let out = run(args);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).expect("JSON")
-}
-
 fn f(v: &Value) -> f64 {
     v.as_f64().unwrap_or(f64::NAN)
 }
@@ -575,7 +542,7 @@ fn map_grid_coordinates_are_the_short_decimals_in_vtk_json_and_ticks() {
     let d = design_file(dir.path(), "d.toml", &dipole_loop());
     let vtr = dir.path().join("g.vtr");
     let svg = dir.path().join("g.svg");
-    let out = run(&[
+    let out = run_ok(&[
         "map",
         d.to_str().unwrap(),
         "--plane",
@@ -591,11 +558,6 @@ fn map_grid_coordinates_are_the_short_decimals_in_vtk_json_and_ticks() {
         "--plot-quantity",
         "b",
     ]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
     let j = read_vtk(&vtr);
     let pts = j["points"].as_array().unwrap();
     assert_eq!(pts.len(), 17 * 9);
@@ -627,7 +589,7 @@ fn map_vtk_read_by_vtk_matches_field_json_at_the_same_points() {
     let d = d.to_str().unwrap();
     let vtr = dir.path().join("m.vtr");
     let svg = dir.path().join("m.svg");
-    let summary = field_json(&[
+    let summary = json_of(&[
         "map",
         d,
         "--plane",
@@ -673,7 +635,7 @@ fn map_vtk_read_by_vtk_matches_field_json_at_the_same_points() {
     assert!((1..=5).contains(&n_inside), "{n_inside}");
     let csv = dir.path().join("p.csv");
     std::fs::write(&csv, text).unwrap();
-    let fj = field_json(&[
+    let fj = json_of(&[
         "field",
         d,
         "--points",
@@ -734,7 +696,7 @@ fn field_on_a_wire_is_null_with_a_warning_and_out_is_atomic() {
     let d = design_file(dir.path(), "d.toml", &dipole_loop());
     let d = d.to_str().unwrap();
     let out = dir.path().join("f.json");
-    let j = field_json(&[
+    let j = json_of(&[
         "field",
         d,
         "--at",
@@ -788,7 +750,7 @@ fn field_points_inside_an_electrode_or_on_a_wire_get_no_value_and_a_warning() {
     )
     .unwrap();
     let csv = csv.to_str().unwrap();
-    let j = field_json(&["field", d, "--points", csv, "--format", "json"]);
+    let j = json_of(&["field", d, "--points", csv, "--format", "json"]);
     let p = j["points"].as_array().unwrap();
     assert_eq!(p.len(), 4);
     let w: Vec<&str> = j["warnings"]
@@ -820,8 +782,7 @@ fn field_points_inside_an_electrode_or_on_a_wire_get_no_value_and_a_warning() {
     assert!(f(&p[3]["e_mag_v_per_m"]) > 0.0 && f(&p[3]["b_mag_t"]) > 0.0);
 
     // CSV and table print NaN where JSON has null.
-    let out = run(&["field", d, "--points", csv, "--format", "csv"]);
-    assert!(out.status.success());
+    let out = run_ok(&["field", d, "--points", csv, "--format", "csv"]);
     let text = String::from_utf8(out.stdout).unwrap();
     let rows: Vec<Vec<&str>> = text
         .lines()
@@ -837,8 +798,7 @@ fn field_points_inside_an_electrode_or_on_a_wire_get_no_value_and_a_warning() {
             .all(|c| c.parse::<f64>().unwrap().is_finite())
     );
     assert!(String::from_utf8_lossy(&out.stderr).contains("inside electrode 'topload'"));
-    let out = run(&["field", d, "--points", csv, "--format", "table"]);
-    assert!(out.status.success());
+    let out = run_ok(&["field", d, "--points", csv, "--format", "table"]);
     let table = String::from_utf8(out.stdout).unwrap();
     assert!(
         table
@@ -857,7 +817,7 @@ fn field_points_inside_an_electrode_or_on_a_wire_get_no_value_and_a_warning() {
 fn clearance_of_a_small_loop_matches_the_dipole_equator() {
     let dir = tempfile::tempdir().unwrap();
     let d = design_file(dir.path(), "d.toml", &dipole_loop());
-    let j = field_json(&[
+    let j = json_of(&[
         "clearance",
         d.to_str().unwrap(),
         "--format",
@@ -930,7 +890,7 @@ fn clearance_table_in_the_design_sets_thresholds_and_the_command_line_overrides_
     );
     let d = design_file(dir.path(), "d.toml", &text);
     let d = d.to_str().unwrap();
-    let j = field_json(&["clearance", d, "--format", "json"]);
+    let j = json_of(&["clearance", d, "--format", "json"]);
     let ths = j["thresholds"].as_array().unwrap();
     let names: Vec<&str> = ths.iter().map(|t| t["name"].as_str().unwrap()).collect();
     // Only the sets asked for, then the file's own threshold; no exposure levels.
@@ -964,7 +924,7 @@ fn clearance_table_in_the_design_sets_thresholds_and_the_command_line_overrides_
     assert_eq!(f(&at[1]["distance_from_axis_m"]), 1.0);
 
     // The command line overrides the file: a threshold of the same name, distances, gradient.
-    let j = field_json(&[
+    let j = json_of(&[
         "clearance",
         d,
         "--format",
@@ -996,7 +956,7 @@ fn clearance_table_in_the_design_sets_thresholds_and_the_command_line_overrides_
 
     // The map's contour lines follow the same thresholds.
     let svg = dir.path().join("m.svg");
-    field_json(&[
+    json_of(&[
         "map",
         d,
         "--plane",
@@ -1043,12 +1003,128 @@ fn clearance_table_in_the_design_sets_thresholds_and_the_command_line_overrides_
     }
 }
 
+/// `map --plot` draws coincident threshold contours as one line and notes the thresholds
+/// outside the plotted range. The demo bench-fields.toml at 300 kHz has two ICNIRP 2020 B
+/// levels of equal value, the public local and the occupational whole-body reference levels,
+/// both mu0 x 4.9 A/m / f(MHz) rms as solver/src/thresholds.rs quotes them (ICNIRP 2020,
+/// Health Phys. 118(5):483-524; the whole-body values from memory there), and the test adds a site limit of its own (invented) rounded to 20.53 µT rms, 2.4e-4 above
+/// them (1e-4 decades): the plotting rule (cli/plot.rs `plan_contours`) draws levels within
+/// one of 256 colour shades of the map's log range as one line, and this map spans more than
+/// a decade, so a shade is over 0.004 decades. The three are one line, one legend entry naming
+/// all three; the thresholds above the map's largest |B| (from the summary, peak = rms x
+/// sqrt 2 for rms levels, from `clearance`'s JSON) get a note in the legend and one warning
+/// each, and no line.
+#[test]
+fn map_plot_merges_coincident_contours_and_notes_levels_outside_the_range() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::fs::read_to_string(root().join("meshes-demo/bench-fields.toml")).unwrap();
+    let text = format!(
+        "{demo}\n# Invented for this test: a site limit set by hand near an exposure level.\n\
+         [[clearance.threshold]]\nname = \"site_fence\"\nquantity = \"B\"\n\
+         limit = \"20.53 uT\"\nbasis = \"rms\"\nsource = \"invented for this test\"\n"
+    );
+    let d = design_file(dir.path(), "d.toml", &text);
+    let d = d.to_str().unwrap();
+    let svg_path = dir.path().join("m.svg");
+    let summary = json_of(&[
+        "map",
+        d,
+        "--plane",
+        "xz",
+        "--extent",
+        "0.3,1.5,0,1.2",
+        "--resolution",
+        "25,25",
+        "--plot",
+        svg_path.to_str().unwrap(),
+        "--plot-quantity",
+        "b",
+    ]);
+    let svg = std::fs::read_to_string(&svg_path).unwrap();
+    let texts = svg_texts(&svg);
+    let merged = [
+        "icnirp2020_public_local_b",
+        "icnirp2020_occupational_whole_body_b",
+        "site_fence",
+    ];
+    // One legend entry names all three; none names one of them alone.
+    let naming: Vec<&String> = texts
+        .iter()
+        .filter(|t| merged.iter().any(|n| t.contains(&format!("{n}: peak"))))
+        .collect();
+    assert_eq!(naming.len(), 1, "{naming:?}");
+    for n in merged {
+        assert!(
+            naming[0].contains(&format!("{n}: peak 29.0 µT")),
+            "{}",
+            naming[0]
+        );
+    }
+    // Lines drawn: one colour per line (each with its legend swatch), as many as the legend's
+    // line entries.
+    let lines: Vec<&String> = texts
+        .iter()
+        .filter(|t| t.contains(": peak") && !t.ends_with("not drawn"))
+        .collect();
+    let colours: std::collections::BTreeSet<&str> = svg
+        .split("<polyline")
+        .skip(1)
+        .filter(|t| t.contains("stroke-width=\"2\""))
+        .filter_map(|t| t.split("stroke=\"").nth(1)?.split('"').next())
+        .collect();
+    assert_eq!(colours.len(), lines.len(), "{colours:?} vs {lines:?}");
+
+    // The thresholds above the map's largest |B| are noted, in the legend and once each in the
+    // warnings, in the same words.
+    let max_b = f(&summary["max_b_mag_t"]);
+    let clearance = json_of(&["clearance", d, "--format", "json"]);
+    let above: Vec<String> = clearance["thresholds"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|t| t["quantity"] == "B")
+        .filter(|t| {
+            let factor = if t["basis"] == "rms" {
+                2f64.sqrt()
+            } else {
+                1.0
+            };
+            f(&t["limit"]) * factor > max_b
+        })
+        .map(|t| t["name"].as_str().unwrap().to_string())
+        .collect();
+    assert!(!above.is_empty(), "no threshold above {max_b} T");
+    let notes: Vec<&String> = texts.iter().filter(|t| t.ends_with("not drawn")).collect();
+    assert_eq!(notes.len(), above.len(), "{notes:?} vs {above:?}");
+    let warnings: Vec<&str> = summary["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w.as_str().unwrap())
+        .collect();
+    for name in &above {
+        let note: Vec<&&String> = notes
+            .iter()
+            .filter(|t| t.starts_with(&format!("{name}: peak")))
+            .collect();
+        assert_eq!(note.len(), 1, "{name}: {notes:?}");
+        assert!(note[0].contains("above this map's maximum"), "{}", note[0]);
+        let want = format!("heat map contour: {}", note[0]);
+        assert_eq!(
+            warnings.iter().filter(|w| **w == want).count(),
+            1,
+            "{want} in {warnings:?}"
+        );
+        assert!(!lines.iter().any(|l| l.contains(name.as_str())), "{name}");
+    }
+}
+
 #[test]
 fn clearance_of_the_resonator_is_consistent_with_field() {
     let dir = tempfile::tempdir().unwrap();
     let d = design_file(dir.path(), "d.toml", RESONATOR);
     let d = d.to_str().unwrap();
-    let j = field_json(&["clearance", d, "--format", "json", "--distance", "0.5,2"]);
+    let j = json_of(&["clearance", d, "--format", "json", "--distance", "0.5,2"]);
     assert!(j["caution"].as_str().unwrap().contains("local regulations"));
     let ths = j["thresholds"].as_array().unwrap();
     let get = |n: &str| {
@@ -1096,7 +1172,7 @@ fn clearance_of_the_resonator_is_consistent_with_field() {
     let limit_peak = 83.0 * 2f64.sqrt();
     let probe = |x: f64| {
         let at = format!("{x},0,{h}");
-        let fj = field_json(&["field", d, "--at", &at, "--format", "json"]);
+        let fj = json_of(&["field", d, "--at", &at, "--format", "json"]);
         f(&fj["points"][0]["e_mag_v_per_m"])
     };
     // Searched at four azimuths; the field is axisymmetric, so +x is one of them.
@@ -1117,9 +1193,8 @@ fn field_csv_and_table_agree_with_json_and_the_box_grid_reads_back() {
     let d = design_file(dir.path(), "d.toml", RESONATOR);
     let d = d.to_str().unwrap();
     let args = ["field", d, "--at", "0.5,0,0.3", "--at", "-0.2,0.1,0.9"];
-    let j = field_json(&[&args[..], &["--format", "json"]].concat());
-    let out = run(&[&args[..], &["--format", "csv"]].concat());
-    assert!(out.status.success());
+    let j = json_of(&[&args[..], &["--format", "json"]].concat());
+    let out = run_ok(&[&args[..], &["--format", "csv"]].concat());
     let text = String::from_utf8(out.stdout).unwrap();
     let mut lines = text.lines();
     assert_eq!(
@@ -1140,7 +1215,7 @@ fn field_csv_and_table_agree_with_json_and_the_box_grid_reads_back() {
 
     // The 3-D box form: a RectilinearGrid of NX x NY x NZ points, x fastest.
     let vtr = dir.path().join("box.vtr");
-    let s = field_json(&[
+    let s = json_of(&[
         "map",
         d,
         "--box",
@@ -1172,7 +1247,7 @@ fn map_and_field_agree_on_a_wire_inside_an_electrode_and_in_free_air() {
     let d = d.to_str().unwrap();
     let z_wire = 0.10 + 100.5 * 0.45 / 900.0;
     let vtr = dir.path().join("m.vtr");
-    let summary = field_json(&[
+    let summary = json_of(&[
         "map",
         d,
         "--plane",
@@ -1203,7 +1278,7 @@ fn map_and_field_agree_on_a_wire_inside_an_electrode_and_in_free_air() {
     }
     let csv = dir.path().join("p.csv");
     std::fs::write(&csv, text).unwrap();
-    let fj = field_json(&[
+    let fj = json_of(&[
         "field",
         d,
         "--points",
@@ -1272,7 +1347,7 @@ fn each_reason_for_no_value_has_its_own_warning() {
     let dir = tempfile::tempdir().unwrap();
     let d = design_file(dir.path(), "d.toml", &dipole_loop());
     let d = d.to_str().unwrap();
-    let j = field_json(&[
+    let j = json_of(&[
         "field",
         d,
         "--at",
@@ -1306,7 +1381,7 @@ fn map_summary_sets_aside_the_edge_at_the_grounded_base_and_names_it() {
     let dir = tempfile::tempdir().unwrap();
     let d = design_file(dir.path(), "d.toml", RESONATOR);
     let vtr = dir.path().join("m.vtr");
-    let j = field_json(&[
+    let j = json_of(&[
         "map",
         d.to_str().unwrap(),
         "--plane",

@@ -3,17 +3,7 @@
 
 mod common;
 
-use common::{root, run};
-
-fn stdout_of(args: &[&str]) -> String {
-    let out = run(args);
-    assert!(
-        out.status.success(),
-        "coilfield {args:?} failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    String::from_utf8(out.stdout).expect("UTF-8")
-}
+use common::{root, run, stdout_of, svg_texts};
 
 fn demo(name: &str) -> String {
     root()
@@ -405,6 +395,43 @@ fn the_demo_report_shows_the_whole_job() {
         report.contains(&format!("DC resistance {r:.2} Ω")),
         "{r:.2} ohm not in:\n{report}"
     );
+}
+
+/// `report --html`: the notes the field map's legend draws for thresholds outside its plotted
+/// range (in the main demo, exposure levels below the map's smallest |E| and air breakdown
+/// above its largest) are the report's warnings too, in `map`'s words ("heat map contour:
+/// ..."), once in the text on stdout and once in the page's tables.
+#[test]
+fn the_html_reports_warnings_carry_the_field_maps_notes() {
+    let dir = tempfile::tempdir().unwrap();
+    let page = dir.path().join("r.html");
+    let report = stdout_of(&[
+        "report",
+        &demo("tabletop-resonator.toml"),
+        "--html",
+        page.to_str().unwrap(),
+    ]);
+    let html = std::fs::read_to_string(&page).unwrap();
+    let start = html.find("id=\"fig-field-map\"").expect("the field map");
+    let figure = &html[start..start + html[start..].find("</figure>").unwrap()];
+    let notes: Vec<String> = svg_texts(figure)
+        .into_iter()
+        .filter(|t| t.ends_with("not drawn"))
+        .collect();
+    assert!(!notes.is_empty(), "the demo's map draws every threshold");
+    for note in &notes {
+        let warning = format!("heat map contour: {note}");
+        assert_eq!(
+            report.matches(&format!("note: {warning}\n")).count(),
+            1,
+            "{warning} in:\n{report}"
+        );
+        assert_eq!(
+            html.matches(&format!("<td>note: {warning}</td>")).count(),
+            1,
+            "{warning} in the page"
+        );
+    }
 }
 
 #[test]
