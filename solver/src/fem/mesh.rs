@@ -36,6 +36,7 @@
 //! and is checked independently by the tests (the isolated sphere in open space).
 
 use super::domain::{Domain, Outer, Piece, edge_grading, sample_piece};
+use super::parts::distance_to_piece;
 use crate::error::SolverError;
 use spade::handles::FixedVertexHandle;
 use spade::{
@@ -193,40 +194,6 @@ impl Builder {
     }
 }
 
-/// Distance (m) from `p` to a piece.
-pub(crate) fn distance_to_piece(p: [f64; 2], piece: &Piece) -> f64 {
-    match *piece {
-        Piece::Line { p0, p1, .. } => {
-            let d = [p1[0] - p0[0], p1[1] - p0[1]];
-            let l2 = d[0] * d[0] + d[1] * d[1];
-            let u = (((p[0] - p0[0]) * d[0] + (p[1] - p0[1]) * d[1]) / l2).clamp(0.0, 1.0);
-            (p[0] - p0[0] - u * d[0]).hypot(p[1] - p0[1] - u * d[1])
-        }
-        Piece::Arc {
-            centre,
-            radius,
-            t0,
-            t1,
-        } => {
-            let (dx, dy) = (p[0] - centre[0], p[1] - centre[1]);
-            let t = dy.atan2(dx);
-            let within = (t1 - t0).abs() >= std::f64::consts::TAU - 1e-12
-                || [t, t + std::f64::consts::TAU, t - std::f64::consts::TAU]
-                    .iter()
-                    .any(|&tt| tt >= t0.min(t1) && tt <= t0.max(t1));
-            if within {
-                (dx.hypot(dy) - radius).abs()
-            } else {
-                let e0 = [centre[0] + radius * t0.cos(), centre[1] + radius * t0.sin()];
-                let e1 = [centre[0] + radius * t1.cos(), centre[1] + radius * t1.sin()];
-                (p[0] - e0[0])
-                    .hypot(p[1] - e0[1])
-                    .min((p[0] - e1[0]).hypot(p[1] - e1[1]))
-            }
-        }
-    }
-}
-
 /// Growth of the interior's target edge length with the distance d (m) from the nearest
 /// conductor or interface, at density 1: h(d) = h + GROWTH d / density, capped at the far
 /// edge's size. Common practice, no source: a field that decays away from its sources varies
@@ -242,49 +209,86 @@ pub fn graded_size_m(h: f64, d: f64, density: f64, h_far: f64) -> f64 {
     (h + GROWTH * d.max(0.0) / density).min(h_far).max(h)
 }
 
-/// Distance (m) from `p` to the boundary of the inner part of the half-plane problem (the
-/// axis, a ground line, the outer circle or the box), negative outside it.
-fn distance_to_outer(p: [f64; 2], outer: &Outer) -> f64 {
-    match *outer {
-        Outer::Open {
-            centre_z,
-            radius,
-            ground,
-        } => {
-            let mut d = p[0].min(radius - p[0].hypot(p[1] - centre_z));
-            if ground {
-                d = d.min(p[1] - centre_z);
-            }
-            d
-        }
-        Outer::Sphere { centre_z, radius } => p[0].min(radius - p[0].hypot(p[1] - centre_z)),
-        Outer::Cylinder {
-            r_max,
-            z_min,
-            z_max,
-            ..
-        } => p[0].min(r_max - p[0]).min(p[1] - z_min).min(z_max - p[1]),
-    }
+/// The inner part of the half-plane problem (meshed directly, not through the Kelvin map): a
+/// disc about the axis, or a box.
+enum Inner {
+    Disc(InnerDisc),
+    Box(InnerBox),
 }
 
-/// The bounding box [r0, z0, r1, z1] (m) of the inner part.
-fn outer_box(outer: &Outer) -> [f64; 4] {
-    match *outer {
-        Outer::Open {
-            centre_z,
-            radius,
-            ground,
-        } => {
-            let z0 = if ground { centre_z } else { centre_z - radius };
-            [0.0, z0, radius, centre_z + radius]
+/// A disc about (0, `centre_z`) of `radius` (m), cut at that height when a ground plane is its
+/// `floor`.
+struct InnerDisc {
+    centre_z: f64,
+    radius: f64,
+    floor: bool,
+}
+
+/// The box 0 <= r <= `r_max`, `z_min` <= z <= `z_max` (m).
+struct InnerBox {
+    r_max: f64,
+    z_min: f64,
+    z_max: f64,
+}
+
+impl Inner {
+    fn of(outer: &Outer) -> Inner {
+        match *outer {
+            Outer::Open {
+                centre_z,
+                radius,
+                ground,
+            } => Inner::Disc(InnerDisc {
+                centre_z,
+                radius,
+                floor: ground,
+            }),
+            Outer::Sphere { centre_z, radius } => Inner::Disc(InnerDisc {
+                centre_z,
+                radius,
+                floor: false,
+            }),
+            Outer::Cylinder {
+                r_max,
+                z_min,
+                z_max,
+                ..
+            } => Inner::Box(InnerBox {
+                r_max,
+                z_min,
+                z_max,
+            }),
         }
-        Outer::Sphere { centre_z, radius } => [0.0, centre_z - radius, radius, centre_z + radius],
-        Outer::Cylinder {
-            r_max,
-            z_min,
-            z_max,
-            ..
-        } => [0.0, z_min, r_max, z_max],
+    }
+
+    /// Distance (m) from `p` to its boundary (the axis, a ground line, the outer circle or the
+    /// box's walls), negative outside it.
+    fn distance_m(&self, p: [f64; 2]) -> f64 {
+        match self {
+            Inner::Disc(c) => {
+                let d = p[0].min(c.radius - p[0].hypot(p[1] - c.centre_z));
+                if c.floor { d.min(p[1] - c.centre_z) } else { d }
+            }
+            Inner::Box(b) => p[0]
+                .min(b.r_max - p[0])
+                .min(p[1] - b.z_min)
+                .min(b.z_max - p[1]),
+        }
+    }
+
+    /// Its bounding box [r0, z0, r1, z1] (m).
+    fn bounding_box_m(&self) -> [f64; 4] {
+        match self {
+            Inner::Disc(c) => {
+                let z0 = if c.floor {
+                    c.centre_z
+                } else {
+                    c.centre_z - c.radius
+                };
+                [0.0, z0, c.radius, c.centre_z + c.radius]
+            }
+            Inner::Box(b) => [0.0, b.z_min, b.r_max, b.z_max],
+        }
     }
 }
 
@@ -340,14 +344,15 @@ fn seed_graded_interior(
             .map(|pc| distance_to_piece(p, pc))
             .fold(f64::INFINITY, f64::min)
     };
-    let [r0, z0, r1, z1] = outer_box(&domain.outer);
+    let inner = Inner::of(&domain.outer);
+    let [r0, z0, r1, z1] = inner.bounding_box_m();
     let side = (r1 - r0).max(z1 - z0);
     let mut stack = vec![(r0 + 0.5 * side, z0 + 0.5 * side, side)];
     let mut seeds = Vec::new();
     while let Some((rc, zc, s)) = stack.pop() {
         let p = [rc, zc];
         let half_diag = std::f64::consts::FRAC_1_SQRT_2 * s;
-        let d_out = distance_to_outer(p, &domain.outer);
+        let d_out = inner.distance_m(p);
         if d_out < -half_diag {
             continue; // wholly outside the inner part
         }
@@ -385,9 +390,12 @@ fn seed_graded_interior(
 
 /// Mesh a half-plane problem (see the module doc).
 ///
-/// Errors ([`SolverError::MeshRefused`]): more elements than the domain's limit, a refinement
-/// that does not finish, or a vertex the triangulation refuses.
+/// Errors: [`SolverError::PartsOverlap`] for parts that overlap ([`Domain::check_parts`], the
+/// one check of every domain, from a design or built directly); [`SolverError::MeshRefused`]
+/// for more elements than the domain's limit, a refinement that does not finish, or a vertex
+/// the triangulation refuses.
 pub fn mesh_domain(domain: &Domain) -> Result<Mesh, SolverError> {
+    domain.check_parts()?;
     let size = domain.conductor_size_m();
     let h = size / (20.0 * domain.density);
     let (outer_size, tol) = match domain.outer {
