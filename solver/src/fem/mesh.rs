@@ -13,9 +13,10 @@
 //! The interior is seeded beforehand with vertices spaced by [`graded_size_m`]: h on the
 //! outlines, growing in proportion to the distance from the nearest conductor or interface
 //! ([`GROWTH`] / density per metre of distance), up to the far edge's size (outer size /
-//! (8 density)), and near conductor edges no coarser than the outline's grading there. Without it the edges grow from the outlines as fast as the angle limit
-//! allows, and the near field, where the capacitance is decided, stays coarse whatever the
-//! density: every length of the mesh now scales as 1 / density, so the element count grows
+//! (8 density)), and near conductor edges no coarser than the outline's grading there; each
+//! seed a little off its cell's centre, so that no four lie on a common circle. Without the
+//! seeds the edges grow from the outlines as fast as the angle limit allows, and the near
+//! field, where the capacitance is decided, stays coarse whatever the density: every length of the mesh now scales as 1 / density, so the element count grows
 //! as density^2 and the capacitance converges at the rate of the method.
 //!
 //! # Open far boundary: the Kelvin transformation
@@ -292,11 +293,45 @@ impl Inner {
     }
 }
 
+/// Largest offset of an interior seed from its cell's centre, in parts of the cell size, in r
+/// and in z: far below the 0.6 cell sizes a seed keeps from the outlines, so the spacing and
+/// the grading stay those of the quadtree.
+pub const SEED_JITTER: f64 = 0.05;
+
+/// The SplitMix64 output function of `z` plus the generator's increment (G. L. Steele, D. Lea
+/// and C. H. Flood, "Fast splittable pseudorandom number generators", OOPSLA 2014): consecutive
+/// integers give 64-bit values spread as a random stream's.
+pub(crate) fn splitmix64(z: u64) -> u64 {
+    let mut z = z.wrapping_add(0x9e37_79b9_7f4a_7c15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+    z ^ (z >> 31)
+}
+
+/// A number in [0, 1) from the top 53 bits of `z`.
+pub(crate) fn unit_interval(z: u64) -> f64 {
+    (z >> 11) as f64 / (1u64 << 53) as f64
+}
+
+/// The offset (in parts of the cell size, each within +-[`SEED_JITTER`]) of the `k`-th seed: a
+/// fixed function of the seed's place in the quadtree's order, so the same domain gives the
+/// same mesh on every run.
+fn seed_offset(k: usize) -> [f64; 2] {
+    let u = |i: u64| 2.0 * unit_interval(splitmix64(2 * k as u64 + i)) - 1.0;
+    [SEED_JITTER * u(0), SEED_JITTER * u(1)]
+}
+
 /// Seed the interior with vertices spaced by [`graded_size_m`]: the centres of the leaves of a
 /// quadtree split until each cell is no larger than the target size at its nearest point to
 /// the conductors and interfaces. Seeds keep 0.6 cell sizes from every outline and boundary
 /// (the outlines carry their own vertices) and stay out of solid conductors; Ruppert's
-/// refinement then restores the angle limit where the cell sizes step by two.
+/// refinement then restores the angle limit where the cell sizes step by two. Each seed is
+/// moved off its cell's centre by [`seed_offset`] (at most [`SEED_JITTER`] of the cell size
+/// in r and in z): the centres of equal cells lie four by four on common circles, and every
+/// such quadruple sends the triangulation's exact in-circle test to its slow adaptive stage
+/// (J. R. Shewchuk, "Adaptive precision floating-point arithmetic and fast robust geometric
+/// predicates", Discrete Comput. Geom. 18 (1997) 305-363, from memory: the exact stages run
+/// only when the fast determinant is within its error bound of zero).
 fn seed_graded_interior(
     b: &mut Builder,
     domain: &Domain,
@@ -379,11 +414,12 @@ fn seed_graded_interior(
             continue;
         }
         if !inside_conductor && d >= 0.6 * s && d_out >= 0.6 * s {
-            seeds.push(p);
+            seeds.push((p, s));
         }
     }
-    for p in seeds {
-        b.insert(p)?;
+    for (k, (p, s)) in seeds.into_iter().enumerate() {
+        let [dr, dz] = seed_offset(k);
+        b.insert([p[0] + dr * s, p[1] + dz * s])?;
     }
     Ok(())
 }
@@ -715,4 +751,76 @@ fn dist(a: [f64; 2], b: [f64; 2]) -> f64 {
 pub(crate) fn centroid(nodes: &[[f64; 2]], t: &[usize; 3]) -> [f64; 2] {
     let [a, b, c] = t.map(|i| nodes[i]);
     [(a[0] + b[0] + c[0]) / 3.0, (a[1] + b[1] + c[1]) / 3.0]
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::fem::cases::reference_domain;
+
+    fn sphere_in_enclosure() -> Domain {
+        reference_domain("sphere_in_enclosure", "a_m=0.1;b_m=0.5;density=2").expect("case")
+    }
+
+    /// Pairs of triangles across an edge whose four vertices lie on one circle to within
+    /// rounding: the in-circle determinant (J. R. Shewchuk, "Adaptive precision floating-point
+    /// arithmetic and fast robust geometric predicates", Discrete Comput. Geom. 18 (1997)
+    /// 305-363, from memory), computed here directly, below 1e-12 of its permanent, where
+    /// the exact predicate's fast stage cannot decide (its bound is about 1e-15 of it).
+    fn cocircular_pairs(m: &Mesh) -> (usize, usize) {
+        let mut opposite: HashMap<(usize, usize), usize> = HashMap::new();
+        let (mut pairs, mut cocircular) = (0, 0);
+        for t in &m.triangles[..m.n_inner_triangles] {
+            for k in 0..3 {
+                let (a, b, c) = (t[k], t[(k + 1) % 3], t[(k + 2) % 3]);
+                let key = (a.min(b), a.max(b));
+                let Some(&d) = opposite.get(&key) else {
+                    opposite.insert(key, c);
+                    continue;
+                };
+                pairs += 1;
+                let p = |i: usize| m.nodes[i];
+                let rel = |q: [f64; 2]| [q[0] - p(d)[0], q[1] - p(d)[1]];
+                let (x, y, z) = (rel(p(a)), rel(p(b)), rel(p(c)));
+                let lift = |q: [f64; 2]| q[0] * q[0] + q[1] * q[1];
+                let det = lift(x) * (y[0] * z[1] - y[1] * z[0])
+                    - lift(y) * (x[0] * z[1] - x[1] * z[0])
+                    + lift(z) * (x[0] * y[1] - x[1] * y[0]);
+                let permanent = lift(x) * (y[0] * z[1]).abs().max((y[1] * z[0]).abs())
+                    + lift(y) * (x[0] * z[1]).abs().max((x[1] * z[0]).abs())
+                    + lift(z) * (x[0] * y[1]).abs().max((x[1] * y[0]).abs());
+                if det.abs() <= 1e-12 * permanent {
+                    cocircular += 1;
+                }
+            }
+        }
+        (cocircular, pairs)
+    }
+
+    /// The interior seeds sit off their cells' centres: almost no pair of triangles is
+    /// cocircular (quadtree centres put four on a circle in every square of equal cells).
+    #[test]
+    fn interior_seeds_are_not_cocircular() {
+        let m = mesh_domain(&sphere_in_enclosure()).expect("mesh");
+        let (cocircular, pairs) = cocircular_pairs(&m);
+        assert!(pairs > 1000, "{pairs}");
+        assert!(
+            (cocircular as f64) < 0.002 * pairs as f64,
+            "{cocircular} of {pairs} pairs of triangles are cocircular"
+        );
+    }
+
+    /// The offsets are a fixed function of the seed's place: the same domain gives the same
+    /// mesh, vertex for vertex, and every offset stays within the stated bound.
+    #[test]
+    fn the_same_domain_gives_the_same_mesh() {
+        let a = mesh_domain(&sphere_in_enclosure()).expect("mesh");
+        let b = mesh_domain(&sphere_in_enclosure()).expect("mesh");
+        assert_eq!(a.nodes, b.nodes);
+        assert_eq!(a.triangles, b.triangles);
+        for k in 0..10_000 {
+            let o = seed_offset(k);
+            assert!(o.iter().all(|v| v.abs() <= SEED_JITTER), "{k}: {o:?}");
+        }
+    }
 }

@@ -463,20 +463,18 @@ mod tests {
     //! with the shapes' defining inequalities written out here, not through `Area::contains`.
     use super::*;
     use crate::fem::domain::Profile2d;
+    use crate::fem::mesh::{splitmix64, unit_interval};
     use crate::fem::{Outer, mesh_domain};
 
     /// Spacing (m) of the brute-force samples.
     const STEP: f64 = 2e-3;
 
-    /// A deterministic stream of numbers in [0, 1) (splitmix64; common practice, no source).
+    /// A deterministic stream of numbers in [0, 1): SplitMix64 of a counter.
     struct Stream(u64);
     impl Stream {
         fn next(&mut self) -> f64 {
-            self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
-            let mut z = self.0;
-            z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-            z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-            ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
+            self.0 += 1;
+            unit_interval(splitmix64(self.0))
         }
         fn within(&mut self, lo: f64, hi: f64) -> f64 {
             lo + (hi - lo) * self.next()
