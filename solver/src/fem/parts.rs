@@ -419,7 +419,9 @@ impl Domain {
                 let tol = CONDUCTOR_TOLERANCE_REL * conductor_size_m(a).max(conductor_size_m(b));
                 let (gap, at) = conductor_gap(b, a);
                 if gap <= tol {
-                    let how = if gap > 0.0 {
+                    // Below a thousandth of the tolerance the gap is the rounding of a
+                    // crossing or a touch.
+                    let how = if gap > 1e-3 * tol {
                         format!(
                             "come within {} of each other (closer than the check's tolerance \
                              of {})",
