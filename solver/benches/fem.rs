@@ -6,7 +6,9 @@
 //! PVC form, torus, ground, enclosure) at the density that gives its capacitances to 0.1 %
 //! (`TENTH_PERCENT_DENSITY`, README convergence table) in <= 1 s.
 
-use coilfield_geometry::{TENTH_PERCENT_DENSITY, parse_design};
+#[path = "support/room_resonator.rs"]
+mod room_resonator;
+
 use coilfield_solver::fem::{Area, Conductor, Domain, FemProblem, Outer, Profile2d};
 use criterion::{Criterion, criterion_group, criterion_main};
 use std::hint::black_box;
@@ -54,13 +56,7 @@ fn bench(c: &mut Criterion) {
     group.bench_function("assemble_factor_solve_200k", |b| {
         b.iter(|| black_box(problem.solve().expect("solve")))
     });
-    let path = format!(
-        "{}/../meshes-demo/room-resonator.toml",
-        env!("CARGO_MANIFEST_DIR")
-    );
-    let text = std::fs::read_to_string(&path).expect("demo design");
-    let mut design = parse_design(&text, &path).expect("valid demo design");
-    design.media.mesh.density = TENTH_PERCENT_DENSITY;
+    let (design, path) = room_resonator::room_resonator_at_tenth_percent();
     group.bench_function("mesh_room_resonator", |b| {
         b.iter(|| black_box(FemProblem::from_design(&design, &path).expect("mesh")))
     });

@@ -67,6 +67,24 @@ pub enum SolverError {
         /// What is wrong and what to change.
         reason: String,
     },
+    /// Two parts of a finite-element problem overlap: two conductors touch or overlap (or
+    /// one lies inside the other), or two dielectric regions overlap. Move or resize one of
+    /// them.
+    #[error(
+        "finite-element problem: {first} and {second} {how} (near r = {}, z = {})",
+        crate::numtext::si(near_rz_m[0], "m", 4),
+        crate::numtext::si(near_rz_m[1], "m", 4)
+    )]
+    PartsOverlap {
+        /// The first part ("conductor 'a'", "dielectric region 'b'").
+        first: String,
+        /// The second part.
+        second: String,
+        /// How they meet, and the rule.
+        how: String,
+        /// A point (r, z) (m) of their contact or overlap.
+        near_rz_m: [f64; 2],
+    },
     /// An index names no loop of the circuit.
     #[error("loop {index} does not exist: the circuit has {loops} loops")]
     NoSuchLoop {

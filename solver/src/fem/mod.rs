@@ -4,7 +4,7 @@
 //! # Public API
 //! ```text
 //! Domain::from_design(design, source) -> Result<Domain, FromDesignError>  // or build one directly
-//! FemProblem::new(domain) -> Result<FemProblem, SolverError>              // meshes (mesh::mesh_domain)
+//! FemProblem::new(domain) -> Result<FemProblem, SolverError>              // checks its parts, meshes
 //! FemProblem::solve(&self) -> Result<FemSolution, SolverError>           // factor once, all solves
 //! FemSolution::capacitance_matrix_f / error_estimate_f / self_capacitance_f / probe / e_field
 //! cases::reference_domain(case, parameters) -> Result<Domain, CaseError>   // validation rows
@@ -46,6 +46,7 @@ pub mod cases;
 pub mod domain;
 pub mod mesh;
 mod nodal;
+pub mod parts;
 mod solve;
 
 pub use domain::{
