@@ -2,7 +2,7 @@
 //!
 //! # Public API
 //! ```text
-//! pub enum Source { Ring(RingSource), Segment(SegmentSource), Sheet(SheetSource), RingStack(RingStack) }
+//! pub enum Source { Ring(RingSource), Segment(SegmentSource), Sheet(SheetSource), RingStack(RingStack), ImagePair(Box<ImagePair>) }
 //! pub fn sources_from_design(design: &Design, source: &str) -> Result<Vec<Source>, DesignError>
 //!     // drive currents from [drive] currents (peak A); image windings added when
 //!     // [ground] conducting = true; Err when no winding carries current
@@ -39,6 +39,7 @@
 
 use crate::constants::MU0;
 use crate::elliptic::cel_positive_p;
+use crate::image_pair_far::{ImagePairFar, PairParts, PairRing};
 use crate::par::{Par, map_indexed};
 use coilfield_geometry::discretise::{filament_model, ring_model};
 use coilfield_geometry::{
@@ -108,6 +109,59 @@ pub struct RingStack {
     pub near_m: f64,
 }
 
+/// A winding and its image in a conducting ground plane, with the pair's own far expansion
+/// (see [`crate::image_pair_far`]): beyond [`crate::image_pair_far::PAIR_FAR_RATIO`] sizes the
+/// pair answers with it, nearer with the sum of both sides' fields.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ImagePair {
+    /// The winding's sources.
+    pub winding: Vec<Source>,
+    /// Its image's sources.
+    pub image: Vec<Source>,
+    /// The pair's far expansion (None for a pair without rings or straight pieces).
+    pub far: Option<ImagePairFar>,
+}
+
+impl ImagePair {
+    /// The pair of `winding`'s sources and `image`'s, mirrored in the plane z = `plane_z_m`.
+    pub fn new(winding: Vec<Source>, image: Vec<Source>, plane_z_m: f64) -> ImagePair {
+        let mut parts = PairParts::default();
+        for s in &winding {
+            match s {
+                Source::Ring(r) => parts.rings.push(pair_ring(r)),
+                Source::RingStack(stack) => parts.rings.extend(stack.rings.iter().map(pair_ring)),
+                Source::Segment(seg) => {
+                    parts.segments.push((seg.start_m, seg.end_m, seg.current_a))
+                }
+                // Windings give no bare sheets or nested pairs: no expansion then.
+                Source::Sheet(_) | Source::ImagePair(_) => {
+                    return ImagePair {
+                        winding,
+                        image,
+                        far: None,
+                    };
+                }
+            }
+        }
+        let far = ImagePairFar::new(&parts, plane_z_m);
+        ImagePair {
+            winding,
+            image,
+            far,
+        }
+    }
+}
+
+/// A ring source as the pair expansion takes it.
+fn pair_ring(r: &RingSource) -> PairRing {
+    PairRing {
+        centre_m: r.centre_m,
+        axis: r.axis,
+        radius_m: r.radius_m,
+        current_a: r.current_a,
+    }
+}
+
 /// A source of B.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Source {
@@ -119,6 +173,8 @@ pub enum Source {
     Sheet(SheetSource),
     /// A helix as rings near it and as a sheet farther out.
     RingStack(RingStack),
+    /// A winding and its image in a conducting ground plane.
+    ImagePair(Box<ImagePair>),
 }
 
 /// Cylindrical coordinates (rho, z) of `p` about an axis through `o`, and the radial unit
@@ -394,6 +450,10 @@ pub fn b_field_point(sources: &[Source], point_m: &Point3<f64>) -> Option<Vector
                     sum
                 }
             }
+            Source::ImagePair(pair) => match &pair.far {
+                Some(far) if far.applies_at(point_m) => far.b_at(point_m),
+                _ => b_field_point(&pair.winding, point_m)? + b_field_point(&pair.image, point_m)?,
+            },
         };
     }
     Some(b)
@@ -581,6 +641,7 @@ pub fn on_wire(sources: &[Source], p: &Point3<f64>) -> bool {
             distance_to_sheet(&stack.sheet, p) <= stack.near_m
                 && stack.rings.iter().any(|r| ring_contribution_wire(r, p))
         }
+        Source::ImagePair(pair) => on_wire(&pair.winding, p) || on_wire(&pair.image, p),
     })
 }
 
@@ -678,17 +739,25 @@ pub fn sources_from_design(design: &Design, source: &str) -> Result<Vec<Source>,
         match (&design.drive.secondary_current_profile, w.role) {
             (Some(profile), Role::Secondary) => {
                 for (model, current) in profiled_sections(w, profile, i) {
-                    out.extend(ring_sources(&model, current));
-                    if let Some(g) = ground {
-                        out.extend(ring_sources(&image_ring_model(&model, &g), current));
+                    let own = ring_sources(&model, current);
+                    match ground {
+                        Some(g) => {
+                            let img = ring_sources(&image_ring_model(&model, &g), current);
+                            out.push(Source::ImagePair(Box::new(ImagePair::new(own, img, g.z_m))));
+                        }
+                        None => out.extend(own),
                     }
                 }
             }
             _ => {
-                out.extend(sources_of_winding(w, i));
-                if let Some(g) = ground {
-                    let img = image_windings(std::slice::from_ref(w), &g);
-                    out.extend(sources_of_winding(&img[0], i));
+                let own = sources_of_winding(w, i);
+                match ground {
+                    Some(g) => {
+                        let img = image_windings(std::slice::from_ref(w), &g);
+                        let img = sources_of_winding(&img[0], i);
+                        out.push(Source::ImagePair(Box::new(ImagePair::new(own, img, g.z_m))));
+                    }
+                    None => out.extend(own),
                 }
             }
         }
