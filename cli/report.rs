@@ -147,7 +147,7 @@ pub fn run(path: &Path, html: Option<&Path>) -> anyhow::Result<ExitCode> {
         let page = html_page(&design, &resolved, path, &s)?;
         crate::output::write_atomic(p, page.as_bytes())?;
     }
-    print!("{s}");
+    crate::output::print_stdout(&s)?;
     Ok(ExitCode::SUCCESS)
 }
 

@@ -21,7 +21,9 @@ use coilfield_solver::elliptic::{cel, ellip_e, ellip_k};
 use coilfield_solver::fem::FemProblem;
 use coilfield_solver::fem::cases::reference_domain;
 use coilfield_solver::field::{b_ring_point, b_sheet_point};
-use coilfield_solver::field_model::{FAR_FIELD_HELICES, FieldModel, magnitude};
+use coilfield_solver::field_model::{
+    FAR_FIELD_GROUND, FAR_FIELD_HELICES, FarFieldHelix, FarFieldPair, FieldModel, magnitude,
+};
 use coilfield_solver::mutual::{Circle, mutual_ring_ring, mutual_ring_ring_coaxial};
 use coilfield_solver::numtext::shortest;
 use coilfield_solver::self_inductance::{
@@ -37,7 +39,7 @@ use std::process::ExitCode;
 use std::sync::Mutex;
 
 /// The tables, by name, with their built-in contents.
-pub const TABLES: [(&str, &str); 21] = [
+pub const TABLES: [(&str, &str); 22] = [
     ("elliptic", include_str!("../validation/elliptic.csv")),
     ("cel", include_str!("../validation/cel.csv")),
     (
@@ -70,6 +72,10 @@ pub const TABLES: [(&str, &str); 21] = [
     (
         "far_field_helix",
         include_str!("../validation/far_field_helix.csv"),
+    ),
+    (
+        "far_field_ground",
+        include_str!("../validation/far_field_ground.csv"),
     ),
 ];
 
@@ -1098,17 +1104,66 @@ fn read_table(name: &str, contents: &str) -> anyhow::Result<Vec<Case>> {
     Ok(cases)
 }
 
+/// An invented design of a far-field table: its name in the table's first column, its design
+/// file and the tolerance the field model reaches at a distance (m).
+trait FarFieldCase {
+    fn name(&self) -> &'static str;
+    fn design_text(&self) -> String;
+    fn tolerance(&self, r_m: f64) -> f64;
+}
+
+impl FarFieldCase for FarFieldHelix {
+    fn name(&self) -> &'static str {
+        self.name
+    }
+    fn design_text(&self) -> String {
+        FarFieldHelix::design_text(self)
+    }
+    fn tolerance(&self, r_m: f64) -> f64 {
+        FarFieldHelix::tolerance(self, r_m)
+    }
+}
+
+impl FarFieldCase for FarFieldPair {
+    fn name(&self) -> &'static str {
+        self.name
+    }
+    fn design_text(&self) -> String {
+        FarFieldPair::design_text(self)
+    }
+    fn tolerance(&self, r_m: f64) -> f64 {
+        FarFieldPair::tolerance(self, r_m)
+    }
+}
+
 /// The rows of `far_field_helix.csv` (one B vector per row, no tolerance column): B of each
 /// invented helix of [`FAR_FIELD_HELICES`] in the filament model at the row's point, against
 /// the row's mpmath vector, at the tolerance the model reaches at that distance
 /// ([`coilfield_solver::field_model::FarFieldHelix::tolerance`], relative to the vector's magnitude: `rel_vector`). Where the
 /// reference is below the smallest normal f64, the model must give 0 (`abs`, tolerance 0).
 fn read_far_field_helix(contents: &str) -> anyhow::Result<Vec<Case>> {
-    const NAME: &str = "far_field_helix";
+    read_far_field("far_field_helix", "helix", &FAR_FIELD_HELICES, contents)
+}
+
+/// The rows of `far_field_ground.csv`, read as [`read_far_field_helix`] reads its table: B of
+/// each invented winding of [`FAR_FIELD_GROUND`] and its image in a conducting plane
+/// ([`coilfield_solver::field_model::FarFieldPair::tolerance`]).
+fn read_far_field_ground(contents: &str) -> anyhow::Result<Vec<Case>> {
+    read_far_field("far_field_ground", "case", &FAR_FIELD_GROUND, contents)
+}
+
+/// The rows of a far-field table `name` whose first column `key` names one of `designs`.
+fn read_far_field<C: FarFieldCase>(
+    name: &str,
+    key: &str,
+    designs: &[C],
+    contents: &str,
+) -> anyhow::Result<Vec<Case>> {
+    let known: Vec<&str> = designs.iter().map(|d| d.name()).collect();
     // (helix, point, reference B, r, row) of every row, checked before any field is computed.
     let mut rows = Vec::new();
-    for (idx, row) in csv_rows(NAME, contents)?.into_iter().enumerate() {
-        let label = |e: anyhow::Error| BadInput(format!("{NAME}.csv row {}: {e}", idx + 1));
+    for (idx, row) in csv_rows(name, contents)?.into_iter().enumerate() {
+        let label = |e: anyhow::Error| BadInput(format!("{name}.csv row {}: {e}", idx + 1));
         let finite = |key: &str| -> anyhow::Result<f64> {
             let v = num(&row, key)?;
             if !v.is_finite() {
@@ -1119,15 +1174,13 @@ fn read_far_field_helix(contents: &str) -> anyhow::Result<Vec<Case>> {
             Ok(v)
         };
         let parsed = (|| -> anyhow::Result<_> {
-            let name = text(&row, "helix")?;
-            let helix = FAR_FIELD_HELICES
-                .iter()
-                .find(|h| h.name == name)
-                .ok_or_else(|| {
-                    BadInput(format!(
-                        "column 'helix': '{name}' is not one of the table's helices (whole, tilted)"
-                    ))
-                })?;
+            let which = text(&row, key)?;
+            let helix = designs.iter().find(|h| h.name() == which).ok_or_else(|| {
+                BadInput(format!(
+                    "column '{key}': '{which}' is not one of the table's designs ({})",
+                    known.join(", ")
+                ))
+            })?;
             let r_m = finite("r_m")?;
             if r_m <= 0.0 {
                 anyhow::bail!(BadInput(format!("column 'r_m': {r_m:e} m is not positive")));
@@ -1140,19 +1193,22 @@ fn read_far_field_helix(contents: &str) -> anyhow::Result<Vec<Case>> {
         rows.push((idx, row, parsed));
     }
     let mut cases = Vec::new();
-    for helix in &FAR_FIELD_HELICES {
-        let mine: Vec<_> = rows.iter().filter(|r| r.2.0.name == helix.name).collect();
+    for helix in designs {
+        let mine: Vec<_> = rows
+            .iter()
+            .filter(|r| r.2.0.name() == helix.name())
+            .collect();
         if mine.is_empty() {
             continue;
         }
-        let design = parse_design(&helix.design_text(), NAME)?;
-        let model = FieldModel::new(&design, NAME, Par::Rayon, None)?;
+        let design = parse_design(&helix.design_text(), name)?;
+        let model = FieldModel::new(&design, name, Par::Rayon, None)?;
         let points: Vec<Point3<f64>> = mine.iter().map(|r| r.2.1).collect();
         for ((idx, row, (_, _, want, r_m, source)), sample) in mine.iter().zip(model.eval(&points))
         {
             let got = sample.b.map_err(|e| {
                 BadInput(format!(
-                    "{NAME}.csv row {}: the field model gives no value: {e:?}",
+                    "{name}.csv row {}: the field model gives no value: {e:?}",
                     idx + 1
                 ))
             })?;
@@ -1172,7 +1228,7 @@ fn read_far_field_helix(contents: &str) -> anyhow::Result<Vec<Case>> {
                 .map(|(k, v)| (k.clone(), v.clone()))
                 .collect();
             cases.push(Case {
-                table: NAME.to_string(),
+                table: name.to_string(),
                 row: idx + 1,
                 inputs,
                 reference,
@@ -1208,6 +1264,8 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
         };
         if name == "far_field_helix" {
             cases.extend(read_far_field_helix(&contents)?);
+        } else if name == "far_field_ground" {
+            cases.extend(read_far_field_ground(&contents)?);
         } else {
             cases.extend(read_table(name, &contents)?);
         }
@@ -1221,7 +1279,7 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
                 passed,
                 failed,
             };
-            println!("{}", crate::output::json_text(&summary)?);
+            crate::output::print_stdout(&(crate::output::json_text(&summary)? + "\n"))?;
         }
         Format::Table => {
             let mut s = String::new();
@@ -1244,7 +1302,7 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
                 );
             }
             let _ = writeln!(s, "{passed} passed, {failed} failed");
-            print!("{s}");
+            crate::output::print_stdout(&s)?;
         }
     }
     Ok(if failed == 0 {
