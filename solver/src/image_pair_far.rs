@@ -89,24 +89,32 @@ impl Moments {
     /// These moments (of one source about its own point C) moved to O and summed over copies
     /// of the source with weights w_r at C_r - O = c_r (in units of s), added to `into`:
     /// M(O)_alpha = sum_(beta <= alpha) C(alpha, beta) M(C)_beta S_(alpha - beta), with the
-    /// power sums S_gamma = sum_r w_r c_r^gamma ([`power_sums`]).
+    /// power sums S_gamma = sum_r w_r c_r^gamma ([`add_powers`]).
     fn add_moved(&self, sums: &[f64], into: &mut Moments) {
-        let all = multi_indices(PAIR_ORDER);
-        for al in &all {
-            for be in &all {
-                if be[0] > al[0] || be[1] > al[1] || be[2] > al[2] {
-                    continue;
+        let mut binom = [[0.0; DIM]; DIM];
+        for (n, row) in binom.iter_mut().enumerate() {
+            for (k, b) in row.iter_mut().enumerate().take(n + 1) {
+                *b = binomial(n, k);
+            }
+        }
+        for al in multi_indices(PAIR_ORDER) {
+            let mut acc = [0.0; 3];
+            for b0 in 0..=al[0] {
+                for b1 in 0..=al[1] {
+                    let w01 = binom[al[0]][b0] * binom[al[1]][b1];
+                    for b2 in 0..=al[2] {
+                        let w =
+                            w01 * binom[al[2]][b2] * sums[idx(al[0] - b0, al[1] - b1, al[2] - b2)];
+                        if w != 0.0 {
+                            for (k, a) in acc.iter_mut().enumerate() {
+                                *a += w * self.m[k][idx(b0, b1, b2)];
+                            }
+                        }
+                    }
                 }
-                let w = binomial(al[0], be[0])
-                    * binomial(al[1], be[1])
-                    * binomial(al[2], be[2])
-                    * sums[idx(al[0] - be[0], al[1] - be[1], al[2] - be[2])];
-                if w == 0.0 {
-                    continue;
-                }
-                for k in 0..3 {
-                    into.m[k][idx(al[0], al[1], al[2])] += w * self.m[k][idx(be[0], be[1], be[2])];
-                }
+            }
+            for (k, a) in acc.iter().enumerate() {
+                into.m[k][idx(al[0], al[1], al[2])] += a;
             }
         }
     }
