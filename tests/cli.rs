@@ -538,3 +538,27 @@ fn every_stdout_writer_of_the_cli_can_meet_a_closed_pipe() {
     }
     assert!(offenders.is_empty(), "{offenders:#?}");
 }
+
+#[test]
+fn a_full_disk_behind_stdout_is_bad_output() {
+    // Standard output redirected to a full device (Linux's /dev/full: every write fails with
+    // ENOSPC): exit 2 with a message naming standard output, no panic (before, `print!`
+    // panicked, exit 101).
+    let full = std::path::Path::new("/dev/full");
+    assert!(full.exists(), "/dev/full is missing: this test needs Linux");
+    let dir = tempfile::tempdir().unwrap();
+    let design = design_file(
+        dir.path(),
+        "ring.toml",
+        &ring_toml("loop", [0.0, 0.0, 0.0], [0.0, 0.0, 1.0], 0.1),
+    );
+    let out = std::process::Command::new(bin())
+        .args(["inductance", design.to_str().unwrap()])
+        .stdout(std::fs::OpenOptions::new().write(true).open(full).unwrap())
+        .output()
+        .expect("run coilfield");
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{stderr}");
+    assert!(!stderr.contains("panicked"), "{stderr}");
+    assert!(stderr.contains("standard output: cannot write"), "{stderr}");
+}
