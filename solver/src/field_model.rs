@@ -872,7 +872,6 @@ mod tests {
                 }
                 let err = magnitude(&(b - want)) / magnitude(&want);
                 let tol = case.tolerance(r_m);
-                eprintln!("{} {} {r_m:e}: {err:e} (tol {tol:e})", case.name, row[1]);
                 assert!(
                     err < tol,
                     "{} {} at {r_m} m: {err:e} > {tol:e}: {b} vs {want}",
