@@ -157,7 +157,7 @@ pub fn run(
     if let Some(p) = out {
         output::write_atomic(p, text.as_bytes())?;
     }
-    print!("{text}");
+    crate::output::print_stdout(&text)?;
     Ok(ExitCode::SUCCESS)
 }
 

@@ -108,8 +108,8 @@ pub fn run(args: ClearanceArgs<'_>) -> anyhow::Result<ExitCode> {
     let resolved = load::design_resolved_with(args.design, args.electric.choice())?;
     let result = compute(&args, resolved)?;
     match args.format {
-        Format::Json => println!("{}", crate::output::json_text(&result)?),
-        Format::Table => print!("{}", table(&result)),
+        Format::Json => crate::output::print_stdout(&(crate::output::json_text(&result)? + "\n"))?,
+        Format::Table => crate::output::print_stdout(&table(&result))?,
     }
     Ok(ExitCode::SUCCESS)
 }

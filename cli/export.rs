@@ -208,9 +208,11 @@ pub fn run(design_path: &Path, dir: &Path) -> anyhow::Result<std::process::ExitC
     for (name, bytes) in &files {
         output::write_atomic(&dir.join(name), bytes)?;
     }
-    for (name, _) in &files {
-        println!("{}", dir.join(name).display());
-    }
+    let listing: String = files
+        .iter()
+        .map(|(name, _)| format!("{}\n", dir.join(name).display()))
+        .collect();
+    output::print_stdout(&listing)?;
     Ok(std::process::ExitCode::SUCCESS)
 }
 

@@ -118,7 +118,7 @@ pub fn run(
     if let Some(path) = out {
         output::write_atomic(path, text.as_bytes())?;
     }
-    print!("{text}");
+    crate::output::print_stdout(&text)?;
     if format != FieldFormat::Json {
         for w in &result.warnings {
             eprintln!("warning: {w}");

@@ -16,10 +16,11 @@ pub fn run(path: &Path, format: Format, out: Option<&Path>) -> anyhow::Result<Ex
         Format::Json => crate::output::json_text(&report)? + "\n",
         Format::Table => table(&report),
     };
-    print!("{text}");
+    // The file first: a reader that closes stdout early must not cost the user the file.
     if let Some(out) = out {
         write_atomic(out, text.as_bytes())?;
     }
+    crate::output::print_stdout(&text)?;
     Ok(ExitCode::SUCCESS)
 }
 

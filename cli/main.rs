@@ -440,10 +440,18 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
     }
 }
 
+/// Whether an error in a command's chain is its standard output closed by the reader
+/// ([`output::StdoutClosed`], or a broken pipe from a writer of stdout).
+fn is_closed_stdout(e: &(dyn std::error::Error + 'static)) -> bool {
+    e.is::<output::StdoutClosed>()
+}
+
 fn main() -> ExitCode {
     let cli = Cli::parse();
     match run(cli) {
         Ok(code) => code,
+        // The reader of stdout went away (`| head`): stop quietly, as tools do.
+        Err(err) if err.chain().any(is_closed_stdout) => ExitCode::SUCCESS,
         Err(err) => {
             let bad_input = err.chain().any(|e| {
                 e.is::<BadInput>()

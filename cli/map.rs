@@ -368,6 +368,6 @@ pub fn run(args: MapArgs<'_>) -> anyhow::Result<ExitCode> {
             .collect(),
         warnings,
     };
-    println!("{}", crate::output::json_text(&result)?);
+    crate::output::print_stdout(&(crate::output::json_text(&result)? + "\n"))?;
     Ok(ExitCode::SUCCESS)
 }

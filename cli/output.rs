@@ -47,6 +47,33 @@ pub fn write_atomic_via(
     Ok(())
 }
 
+/// The reader of standard output went away (a closed pipe: `coilfield verify | head -3`). The
+/// command stops there quietly with exit 0, as command-line tools do when their reader has
+/// what it wanted (common practice, no source).
+#[derive(Debug)]
+pub struct StdoutClosed;
+
+impl std::fmt::Display for StdoutClosed {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str("standard output was closed by its reader")
+    }
+}
+
+impl std::error::Error for StdoutClosed {}
+
+/// Write `text` to standard output, the one way every command prints its results (never
+/// `print!`, which panics when the reader has gone). A closed pipe is [`StdoutClosed`] (a quiet
+/// exit 0 in `main`); any other failure (a full disk behind a redirection) is bad output
+/// (exit 2).
+pub fn print_stdout(text: &str) -> anyhow::Result<()> {
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|()| out.flush()) {
+        Ok(()) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Err(StdoutClosed.into()),
+        Err(e) => Err(BadInput(format!("standard output: cannot write: {e}")).into()),
+    }
+}
+
 /// Pretty JSON of a result, numbers in shortest round-trip form and no `-0` (through
 /// `coilfield_solver::numtext`, the one number formatter).
 pub fn json_text<T: serde::Serialize>(value: &T) -> anyhow::Result<String> {

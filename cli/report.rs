@@ -161,7 +161,7 @@ pub fn run(path: &Path, html: Option<&Path>) -> anyhow::Result<ExitCode> {
         );
         crate::output::write_atomic(p, page.as_bytes())?;
     }
-    print!("{s}");
+    crate::output::print_stdout(&s)?;
     Ok(ExitCode::SUCCESS)
 }
 

@@ -66,10 +66,10 @@ pub fn run(
                 caution: CAUTION,
                 resonance: &r,
             })?;
-            println!("{text}");
+            crate::output::print_stdout(&(text + "\n"))?;
         }
         Format::Table => {
-            print!("{}", table(&r));
+            crate::output::print_stdout(&table(&r))?;
             for w in &r.warnings {
                 eprintln!("warning: {w}");
             }

@@ -216,28 +216,29 @@ pub fn run(path: &Path, format: Format) -> anyhow::Result<ExitCode> {
                 "stop": found.stop.describe(),
                 "on_bound": on_bound,
             });
-            println!("{}", crate::output::json_text(&j)?);
+            crate::output::print_stdout(&(crate::output::json_text(&j)? + "\n"))?;
         }
         Format::Table => {
-            println!("method: {method}");
+            let mut s = format!("method: {method}\n");
             for (k, x) in keys.iter().zip(&found.x) {
-                println!("{k} = {}", with_unit(*x, key_unit(k)));
+                s += &format!("{k} = {}\n", with_unit(*x, key_unit(k)));
             }
-            println!(
-                "{metric_label} = {}",
+            s += &format!(
+                "{metric_label} = {}\n",
                 with_unit(value, crate::output::metric_unit(&metric_name))
             );
-            println!(
-                "evaluations: {} of at most {max_evaluations}",
+            s += &format!(
+                "evaluations: {} of at most {max_evaluations}\n",
                 found.evaluations
             );
-            println!("{}", found.stop.describe());
+            s += &format!("{}\n", found.stop.describe());
             for b in &on_bound {
-                println!(
+                s += &format!(
                     "note: the optimum sits on a bound ({b}); the best point may lie beyond it: \
-                     widen the bounds"
+                     widen the bounds\n"
                 );
             }
+            crate::output::print_stdout(&s)?;
         }
     }
     eprint!("{}", crate::sweep::cautions(&plan));

@@ -27,7 +27,9 @@ use coilfield_solver::elliptic::{cel, ellip_e, ellip_k};
 use coilfield_solver::fem::FemProblem;
 use coilfield_solver::fem::cases::reference_domain;
 use coilfield_solver::field::{b_ring_point, b_sheet_point};
-use coilfield_solver::field_model::{FAR_FIELD_HELICES, FieldModel, magnitude};
+use coilfield_solver::field_model::{
+    FAR_FIELD_GROUND, FAR_FIELD_HELICES, FarFieldHelix, FarFieldPair, FieldModel, magnitude,
+};
 use coilfield_solver::mutual::{Circle, mutual_ring_ring, mutual_ring_ring_coaxial};
 use coilfield_solver::numtext::shortest;
 use coilfield_solver::self_inductance::{
@@ -43,7 +45,7 @@ use std::process::ExitCode;
 use std::sync::Mutex;
 
 /// The tables, by name, with their built-in contents.
-pub const TABLES: [(&str, &str); 21] = [
+pub const TABLES: [(&str, &str); 22] = [
     ("elliptic", include_str!("../validation/elliptic.csv")),
     ("cel", include_str!("../validation/cel.csv")),
     (
@@ -76,6 +78,10 @@ pub const TABLES: [(&str, &str); 21] = [
     (
         "far_field_helix",
         include_str!("../validation/far_field_helix.csv"),
+    ),
+    (
+        "far_field_ground",
+        include_str!("../validation/far_field_ground.csv"),
     ),
 ];
 
@@ -1344,17 +1350,70 @@ fn compute_case(table: &str, p: Pending) -> anyhow::Result<Case> {
     })
 }
 
+/// An invented design of a far-field table: its name in the table's first column, its design
+/// file and the tolerance the field model reaches at a distance (m).
+trait FarFieldCase {
+    fn name(&self) -> &'static str;
+    fn design_text(&self) -> String;
+    fn tolerance(&self, r_m: f64) -> f64;
+}
+
+impl FarFieldCase for FarFieldHelix {
+    fn name(&self) -> &'static str {
+        self.name
+    }
+    fn design_text(&self) -> String {
+        FarFieldHelix::design_text(self)
+    }
+    fn tolerance(&self, r_m: f64) -> f64 {
+        FarFieldHelix::tolerance(self, r_m)
+    }
+}
+
+impl FarFieldCase for FarFieldPair {
+    fn name(&self) -> &'static str {
+        self.name
+    }
+    fn design_text(&self) -> String {
+        FarFieldPair::design_text(self)
+    }
+    fn tolerance(&self, r_m: f64) -> f64 {
+        FarFieldPair::tolerance(self, r_m)
+    }
+}
+
 /// The rows of `far_field_helix.csv` (one B vector per row, no tolerance column): B of each
 /// invented helix of [`FAR_FIELD_HELICES`] in the filament model at the row's point, against
 /// the row's mpmath vector, at the tolerance the model reaches at that distance
 /// ([`coilfield_solver::field_model::FarFieldHelix::tolerance`], relative to the vector's magnitude: `rel_vector`). Where the
 /// reference is below the smallest normal f64, the model must give 0 (`abs`, tolerance 0).
 fn read_far_field_helix(contents: &str) -> anyhow::Result<TableJob> {
-    const NAME: &str = "far_field_helix";
-    // (helix, point, reference B, r, row) of every row, checked before any field is computed.
-    let mut rows = Vec::new();
-    for (idx, row) in csv_rows(NAME, contents)?.into_iter().enumerate() {
-        let label = |e: anyhow::Error| BadInput(format!("{NAME}.csv row {}: {e}", idx + 1));
+    read_far_field("far_field_helix", "helix", &FAR_FIELD_HELICES, contents)
+}
+
+/// The rows of `far_field_ground.csv`, read as [`read_far_field_helix`] reads its table: B of
+/// each invented winding of [`FAR_FIELD_GROUND`] and its image in a conducting plane
+/// ([`coilfield_solver::field_model::FarFieldPair::tolerance`]).
+fn read_far_field_ground(contents: &str) -> anyhow::Result<TableJob> {
+    read_far_field("far_field_ground", "case", &FAR_FIELD_GROUND, contents)
+}
+
+/// A row of a far-field table read and checked: its index, columns, and the design, point,
+/// reference B (T), distance r (m) and source.
+type FarFieldRow<C> = (usize, Row, (&'static C, Point3<f64>, Vector3<f64>, f64, String));
+
+/// The rows of a far-field table `name` whose first column `key` names one of `designs`, every
+/// row checked before any field is computed; the job computes them.
+fn read_far_field<C: FarFieldCase + 'static>(
+    name: &'static str,
+    key: &str,
+    designs: &'static [C],
+    contents: &str,
+) -> anyhow::Result<TableJob> {
+    let known: Vec<&str> = designs.iter().map(|d| d.name()).collect();
+    let mut rows: Vec<FarFieldRow<C>> = Vec::new();
+    for (idx, row) in csv_rows(name, contents)?.into_iter().enumerate() {
+        let label = |e: anyhow::Error| BadInput(format!("{name}.csv row {}: {e}", idx + 1));
         let finite = |key: &str| -> anyhow::Result<f64> {
             let v = num(&row, key)?;
             if !v.is_finite() {
@@ -1365,51 +1424,51 @@ fn read_far_field_helix(contents: &str) -> anyhow::Result<TableJob> {
             Ok(v)
         };
         let parsed = (|| -> anyhow::Result<_> {
-            let name = text(&row, "helix")?;
-            let helix = FAR_FIELD_HELICES
-                .iter()
-                .position(|h| h.name == name)
-                .ok_or_else(|| {
-                    BadInput(format!(
-                        "column 'helix': '{name}' is not one of the table's helices (whole, tilted)"
-                    ))
-                })?;
+            let which = text(&row, key)?;
+            let design = designs.iter().find(|h| h.name() == which).ok_or_else(|| {
+                BadInput(format!(
+                    "column '{key}': '{which}' is not one of the table's designs ({})",
+                    known.join(", ")
+                ))
+            })?;
             let r_m = finite("r_m")?;
             if r_m <= 0.0 {
                 anyhow::bail!(BadInput(format!("column 'r_m': {r_m:e} m is not positive")));
             }
             let point = Point3::new(finite("x_m")?, finite("y_m")?, finite("z_m")?);
             let b = Vector3::new(finite("bx_t")?, finite("by_t")?, finite("bz_t")?);
-            Ok((helix, point, b, r_m, text(&row, "source")?.to_string()))
+            Ok((design, point, b, r_m, text(&row, "source")?.to_string()))
         })()
         .map_err(label)?;
         rows.push((idx, row, parsed));
     }
-    Ok(Box::new(move || far_field_helix_cases(rows)))
+    Ok(Box::new(move || far_field_cases(name, designs, rows)))
 }
 
-/// A row of `far_field_helix.csv` read and checked: its index, columns, and the helix (its
-/// index in [`FAR_FIELD_HELICES`]), point, reference B (T), distance r (m) and source.
-type HelixRow = (usize, Row, (usize, Point3<f64>, Vector3<f64>, f64, String));
-
-/// The cases of `far_field_helix.csv`'s rows: one field model per helix, every row's point
+/// The cases of a far-field table's rows: one field model per design, every row's point
 /// evaluated at once.
-fn far_field_helix_cases(rows: Vec<HelixRow>) -> anyhow::Result<Vec<Case>> {
-    const NAME: &str = "far_field_helix";
+fn far_field_cases<C: FarFieldCase>(
+    name: &str,
+    designs: &[C],
+    rows: Vec<FarFieldRow<C>>,
+) -> anyhow::Result<Vec<Case>> {
     let mut cases = Vec::new();
-    for (k, helix) in FAR_FIELD_HELICES.iter().enumerate() {
-        let mine: Vec<_> = rows.iter().filter(|r| r.2.0 == k).collect();
+    for helix in designs {
+        let mine: Vec<_> = rows
+            .iter()
+            .filter(|r| r.2.0.name() == helix.name())
+            .collect();
         if mine.is_empty() {
             continue;
         }
-        let design = parse_design(&helix.design_text(), NAME)?;
-        let model = FieldModel::new(&design, NAME, Par::Rayon, None)?;
+        let design = parse_design(&helix.design_text(), name)?;
+        let model = FieldModel::new(&design, name, Par::Rayon, None)?;
         let points: Vec<Point3<f64>> = mine.iter().map(|r| r.2.1).collect();
         for ((idx, row, (_, _, want, r_m, source)), sample) in mine.iter().zip(model.eval(&points))
         {
             let got = sample.b.map_err(|e| {
                 BadInput(format!(
-                    "{NAME}.csv row {}: the field model gives no value: {e:?}",
+                    "{name}.csv row {}: the field model gives no value: {e:?}",
                     idx + 1
                 ))
             })?;
@@ -1429,7 +1488,7 @@ fn far_field_helix_cases(rows: Vec<HelixRow>) -> anyhow::Result<Vec<Case>> {
                 .map(|(k, v)| (k.clone(), v.clone()))
                 .collect();
             cases.push(Case {
-                table: NAME.to_string(),
+                table: name.to_string(),
                 row: idx + 1,
                 inputs,
                 reference,
@@ -1466,6 +1525,8 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
         };
         tables.push(if name == "far_field_helix" {
             read_far_field_helix(&contents)?
+        } else if name == "far_field_ground" {
+            read_far_field_ground(&contents)?
         } else {
             read_table(name, &contents)?
         });
@@ -1483,7 +1544,7 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
                 passed,
                 failed,
             };
-            println!("{}", crate::output::json_text(&summary)?);
+            crate::output::print_stdout(&(crate::output::json_text(&summary)? + "\n"))?;
         }
         Format::Table => {
             let mut s = String::new();
@@ -1506,7 +1567,7 @@ pub fn run(dir: Option<&Path>, format: Format) -> anyhow::Result<ExitCode> {
                 );
             }
             let _ = writeln!(s, "{passed} passed, {failed} failed");
-            print!("{s}");
+            crate::output::print_stdout(&s)?;
         }
     }
     Ok(if failed == 0 {

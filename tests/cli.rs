@@ -487,3 +487,123 @@ fn open_polyline_warns_about_partial_inductance() {
             .any(|w| w.as_str().unwrap().contains("partial"))
     );
 }
+
+/// Run `coilfield args` with stdout a pipe that the test closes after reading `bytes` bytes;
+/// the exit code and stderr.
+fn run_with_stdout_closed_early(args: &[&str], bytes: usize) -> (Option<i32>, String) {
+    use std::io::Read;
+    use std::process::{Command, Stdio};
+    let mut child = Command::new(bin())
+        .args(args)
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("spawn coilfield");
+    let mut stdout = child.stdout.take().expect("stdout");
+    let mut first = vec![0u8; bytes];
+    stdout
+        .read_exact(&mut first)
+        .expect("the first bytes of stdout");
+    // The reader goes away, as `| head -c N` does (at once for N = 0: before the command,
+    // which first reads and computes, has written anything).
+    drop(stdout);
+    let out = child.wait_with_output().expect("wait for coilfield");
+    (
+        out.status.code(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn a_reader_that_closes_stdout_early_stops_the_command_quietly() {
+    // A command whose reader goes away (`coilfield verify | head -3`) stops quietly with exit 0
+    // and no message (common practice for command-line tools, no source). Before, `print!`
+    // panicked on the broken pipe (exit 101). The short outputs (verify's, inductance's) are
+    // written after the reader has gone (it closes at once); the field tables (about 3 MB)
+    // are far longer than what a pipe holds (64 KiB on Linux) and the reader closes after 8
+    // bytes: either way the write meets the closed pipe.
+    let dir = tempfile::tempdir().unwrap();
+    // A field table of 20,000 points (about 3 MB of text) of an invented ring.
+    let design = design_file(
+        dir.path(),
+        "ring.toml",
+        &(ring_toml("loop", [0.0, 0.0, 0.0], [0.0, 0.0, 1.0], 0.1)
+            + "[drive]\ncurrents = { loop = 1.0 }\n"),
+    );
+    let mut points = String::from("x,y,z\n");
+    for k in 0..20_000 {
+        points += &format!("{},0.3,{}\n", 0.5 + 1e-4 * k as f64, 0.2);
+    }
+    let points_file = dir.path().join("points.csv");
+    std::fs::write(&points_file, points).unwrap();
+    let design = design.to_str().unwrap();
+    let cases: [Vec<&str>; 4] = [
+        vec!["verify"],
+        vec!["inductance", design],
+        vec![
+            "field",
+            design,
+            "--points",
+            points_file.to_str().unwrap(),
+            "--format",
+            "csv",
+        ],
+        vec!["field", design, "--points", points_file.to_str().unwrap()],
+    ];
+    for (k, args) in cases.iter().enumerate() {
+        let (code, stderr) = run_with_stdout_closed_early(args, if k < 2 { 0 } else { 8 });
+        assert_eq!(code, Some(0), "{args:?}: {stderr}");
+        assert!(!stderr.contains("panicked"), "{args:?}: {stderr}");
+        assert!(!stderr.contains("error"), "{args:?}: {stderr}");
+    }
+}
+
+#[test]
+fn every_stdout_writer_of_the_cli_can_meet_a_closed_pipe() {
+    // `print!` and `println!` panic when the reader has gone: every command writes stdout
+    // through `output::print_stdout`, which returns the broken pipe as an error (checked here
+    // over the CLI's sources, so that a new writer cannot slip past the test above).
+    let dir = root().join("cli");
+    let mut offenders = Vec::new();
+    for entry in std::fs::read_dir(&dir).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().is_some_and(|e| e == "rs") {
+            let text = std::fs::read_to_string(&path).unwrap();
+            for (n, line) in text.lines().enumerate() {
+                let code = line.split("//").next().unwrap_or("");
+                let bare = code.replace("eprintln!", "").replace("eprint!", "");
+                if bare.contains("println!")
+                    || bare.contains("print!(")
+                    || bare.contains("stdout()") && !path.ends_with("output.rs")
+                {
+                    offenders.push(format!("{}:{}: {}", path.display(), n + 1, line.trim()));
+                }
+            }
+        }
+    }
+    assert!(offenders.is_empty(), "{offenders:#?}");
+}
+
+#[test]
+fn a_full_disk_behind_stdout_is_bad_output() {
+    // Standard output redirected to a full device (Linux's /dev/full: every write fails with
+    // ENOSPC): exit 2 with a message naming standard output, no panic (before, `print!`
+    // panicked, exit 101).
+    let full = std::path::Path::new("/dev/full");
+    assert!(full.exists(), "/dev/full is missing: this test needs Linux");
+    let dir = tempfile::tempdir().unwrap();
+    let design = design_file(
+        dir.path(),
+        "ring.toml",
+        &ring_toml("loop", [0.0, 0.0, 0.0], [0.0, 0.0, 1.0], 0.1),
+    );
+    let out = std::process::Command::new(bin())
+        .args(["inductance", design.to_str().unwrap()])
+        .stdout(std::fs::OpenOptions::new().write(true).open(full).unwrap())
+        .output()
+        .expect("run coilfield");
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{stderr}");
+    assert!(!stderr.contains("panicked"), "{stderr}");
+    assert!(stderr.contains("standard output: cannot write"), "{stderr}");
+}

@@ -29,7 +29,21 @@
    the polygon's area deficit, relative size pitch / (2 pi a) and (2 pi / n)^2 / 6 of the dipole,
    and (size / r) of the whole).
 
-    python3 validation/far_field_refs.py            # print the values, rewrite the CSV
+3. Windings over a conducting ground plane (solver/src/field_model.rs,
+   far_b_over_a_conducting_plane_is_the_pair_of_winding_and_image): B of a winding and its
+   image in the plane z = z0, the image being the mirror of each current element with its
+   direction reversed, J' = (-J_x, -J_y, J_z) at (x, y, 2 z0 - z) (J. D. Jackson, "Classical
+   Electrodynamics", 3rd ed., 1999, method of images for a perfect conductor: normal B = 0 on
+   the plane). A ring's image is then the mirrored ring circulating right-handed about the
+   mirrored axis (the mirror reverses orientation, the reversal restores it); its field is the
+   closed-form loop field in K and E (Jackson 1999, sec. 5.5, eqs. 5.37-5.41; W. R. Smythe,
+   "Static and Dynamic Electricity", ch. 7) with mpmath's ellipk and ellipe. A filament helix's
+   image is the mirrored polygon run backwards, summed as in part 2. Far away the pair cancels
+   to about h / r of either side's field, and each ring's closed form to (a / r)^2 of its
+   terms, so the working precision is 30 digits plus three times the decades of distance over
+   size. Written to `far_field_ground.csv` (20 digits); `--check` recomputes every row.
+
+    python3 validation/far_field_refs.py            # print the values, rewrite the CSVs
     python3 validation/far_field_refs.py --check    # recompute and compare (.ci/test)
 """
 import csv
@@ -39,10 +53,16 @@ import re
 import sys
 from pathlib import Path
 
-from mpmath import mp, mpf, pi, sqrt, cos, sin, nstr
+from mpmath import mp, mpf, pi, sqrt, cos, sin, nstr, ellipk, ellipe
 
 ROOT = Path(__file__).resolve().parent.parent
 HELIX_CSV = ROOT / "validation" / "far_field_helix.csv"
+GROUND_CSV = ROOT / "validation" / "far_field_ground.csv"
+GROUND_SOURCE = (
+    "mpmath, winding plus its image in the conducting plane (Jackson 1999, method of images): "
+    "closed-form loop field (Jackson 1999, sec. 5.5) or straight-wire sums (Griffiths 2013, "
+    "example 5.5); validation/far_field_refs.py"
+)
 SOURCE = (
     "mpmath, straight-wire field summed over the filament polygon (Griffiths 2013, "
     "example 5.5); validation/far_field_refs.py"
@@ -202,16 +222,123 @@ def check_decomposition(h, p, b, verts):
     assert err <= bound, f"{h[0]} at {nstr(r, 5)}: the field is not D + dipole ({nstr(err / whole, 5)})"
 
 
+# The windings over a conducting plane of the test (invented for it): name, kind ("ring" in
+# the ring model, "helix" in the filament model), origin (m), axis, radius (m), length (m),
+# turns, current (A), plane height z0 (m). The same values are in FAR_FIELD_GROUND
+# (solver/src/field_model.rs).
+GROUND_CASES = [
+    ("ring", "ring", (0.1, -0.2, 0.4), (0.0, 0.0, 1.0), 0.25, 0.0, 1.0, 3.0, 0.0),
+    ("tilted_ring", "ring", (-0.5, 0.3, 0.6), (0.3, 0.0, 1.0), 0.1, 0.0, 1.0, 1e-6, 0.1),
+    ("helix", "helix", (0.0, 0.0, 0.05), (0.0, 0.0, 1.0), 0.05, 0.1, 4.0, 2.0, 0.0),
+]
+# Distances (m) from the plane point below the winding's centre, and directions: up the
+# normal, along the plane, obliquely.
+GROUND_DISTANCES = ["3", "1e1", "1e2", "1e3", "1e5", "1e7", "1e12", "1e30", "1e60", "1e100", "1e140", "1e149"]
+GROUND_DIRECTIONS = {
+    "normal": (0.0, 0.0, 1.0),
+    "plane": (0.6, 0.8, 0.0),
+    "oblique": (0.36, -0.48, 0.8),
+}
+
+
+def ground_centre(case):
+    """The winding's centre (its ring's centre, or the helix's middle) in floats."""
+    _, kind, origin, axis, _, length, _, _, _ = case
+    n = [v / math.sqrt(sum(w * w for w in axis)) for v in axis]
+    if kind == "ring":
+        return list(origin)
+    return [origin[i] + 0.5 * length * n[i] for i in range(3)]
+
+
+def ground_points(case):
+    """(direction name, distance text, point) of the test's points about case `case`: from the
+    plane point below the winding's centre."""
+    c = ground_centre(case)
+    o = [c[0], c[1], case[8]]
+    out = []
+    for dist in GROUND_DISTANCES:
+        r = float(dist)
+        for name, d in GROUND_DIRECTIONS.items():
+            out.append((name, dist, [o[i] + r * d[i] for i in range(3)]))
+    return out
+
+
+def ring_b(centre, axis, radius, current, p):
+    """B (T) at p of a ring about `axis` (unit, mpf) through `centre`, current right-handed
+    about it: the K, E closed form (Jackson 1999, sec. 5.5; Smythe, ch. 7)."""
+    mu0 = 4 * pi * mpf(10) ** -7
+    a = radius
+    d = sub(p, centre)
+    z = dot(d, axis)
+    perp = sub(d, scale(axis, z))
+    rho = norm(perp)
+    big = (a + rho) ** 2 + z * z
+    small = (a - rho) ** 2 + z * z
+    if rho == 0:
+        bz = mu0 * current * a * a / (2 * (a * a + z * z) ** mpf(1.5))
+        return scale(axis, bz)
+    m = 4 * a * rho / big
+    k, e = ellipk(m), ellipe(m)
+    pre = mu0 * current / (2 * pi * sqrt(big))
+    bz = pre * (k + (a * a - rho * rho - z * z) / small * e)
+    brho = pre * z / rho * (-k + (a * a + rho * rho + z * z) / small * e)
+    return add(scale(axis, bz), scale(perp, brho / rho))
+
+
+def mirror(p, z0):
+    return [p[0], p[1], 2 * z0 - p[2]]
+
+
+def ground_field(case, p):
+    """B (T) at p of the winding of `case` and its image, at the current precision."""
+    _, kind, origin, axis, radius, length, turns, current, z0 = case
+    z0 = mpf(z0)
+    cur = mpf(current)
+    pv = vec(p)
+    if kind == "ring":
+        n = vec(axis)
+        n = scale(n, 1 / norm(n))
+        c = vec(origin)
+        b = ring_b(c, n, mpf(radius), cur, pv)
+        image_axis = [n[0], n[1], -n[2]]
+        return add(b, ring_b(mirror(c, z0), image_axis, mpf(radius), cur, pv))
+    verts = vertices(origin, axis, radius, length, turns)
+    image = [mirror(v, z0) for v in verts]
+    b = [mpf(0)] * 3
+    for k in range(len(verts) - 1):
+        b = add(b, segment_b(verts[k], verts[k + 1], cur, pv))
+        # The image element: mirrored, direction reversed.
+        b = add(b, segment_b(image[k + 1], image[k], cur, pv))
+    return b
+
+
+def ground_rows():
+    """Every row of far_field_ground.csv, as strings: case, direction, r, x, y, z, Bx, By, Bz."""
+    rows = []
+    for case in GROUND_CASES:
+        name, kind, origin, axis, radius, length = case[:6]
+        size = radius + math.hypot(length, 2 * abs(ground_centre(case)[2] - case[8]))
+        for direction, dist, p in ground_points(case):
+            decades = max(0, math.ceil(math.log10(float(dist) / size)))
+            mp.dps = 30 + 3 * decades + 5
+            b = ground_field(case, p)
+            rows.append(
+                [name, direction, dist] + [repr(v) for v in p] + [nstr(v, 20, strip_zeros=False) for v in b]
+            )
+    mp.dps = 30
+    return rows
+
+
 def read_csv(text):
     return list(csv.reader(io.StringIO(text)))
 
 
-def helix_table(rows):
+def helix_table(rows, first="helix", source=SOURCE):
     out = io.StringIO()
     w = csv.writer(out, lineterminator="\n")
-    w.writerow(["helix", "direction", "r_m", "x_m", "y_m", "z_m", "bx_t", "by_t", "bz_t", "source"])
+    w.writerow([first, "direction", "r_m", "x_m", "y_m", "z_m", "bx_t", "by_t", "bz_t", "source"])
     for row in rows:
-        w.writerow(row + [SOURCE])
+        w.writerow(row + [source])
     return out.getvalue()
 
 
@@ -235,17 +362,18 @@ def check_sheet_literal(value) -> None:
     print("far_field_refs: the sheet test's literal agrees with mpmath")
 
 
-def check_helix_table(rows) -> None:
-    stored = read_csv(HELIX_CSV.read_text())
-    assert stored[0][0] == "helix", "far_field_helix.csv: no header"
+def check_helix_table(rows, path=HELIX_CSV, first="helix") -> None:
+    name = path.name
+    stored = read_csv(path.read_text())
+    assert stored[0][0] == first, f"{name}: no header"
     stored = stored[1:]
-    assert len(stored) == len(rows), f"far_field_helix.csv: {len(stored)} rows, {len(rows)} recomputed"
+    assert len(stored) == len(rows), f"{name}: {len(stored)} rows, {len(rows)} recomputed"
     for got, want in zip(stored, rows):
-        assert got[:6] == want[:6], f"far_field_helix.csv: inputs {got[:6]} differ from {want[:6]}"
+        assert got[:6] == want[:6], f"{name}: inputs {got[:6]} differ from {want[:6]}"
         for g, w in zip(got[6:9], want[6:9]):
             scale_ = max(abs(float(x)) for x in want[6:9])
-            assert abs(float(g) - float(w)) <= 1e-15 * scale_, f"far_field_helix.csv {got[:3]}: {g} vs {w}"
-    print(f"far_field_refs: far_field_helix.csv agrees with mpmath ({len(rows)} rows)")
+            assert abs(float(g) - float(w)) <= 1e-15 * scale_, f"{name} {got[:3]}: {g} vs {w}"
+    print(f"far_field_refs: {name} agrees with mpmath ({len(rows)} rows)")
 
 
 def main() -> None:
@@ -254,12 +382,18 @@ def main() -> None:
     rows = helix_rows()
     for row in rows:
         print(" ".join(row[:3]), " ".join(row[6:9]))
+    pair_rows = ground_rows()
+    for row in pair_rows:
+        print(" ".join(row[:3]), " ".join(row[6:9]))
     if "--check" in sys.argv:
         check_sheet_literal(value)
         check_helix_table(rows)
+        check_helix_table(pair_rows, GROUND_CSV, "case")
     else:
         HELIX_CSV.write_text(helix_table(rows))
         print(f"wrote {HELIX_CSV}")
+        GROUND_CSV.write_text(helix_table(pair_rows, "case", GROUND_SOURCE))
+        print(f"wrote {GROUND_CSV}")
 
 
 if __name__ == "__main__":

@@ -388,6 +388,49 @@ struct Panel {
     curve: Curve,
     u0: f64,
     u1: f64,
+    /// The panel's charge per unit sigma as one ring ([`ChargeRing`]), set by
+    /// [`Panel::with_charge_ring`].
+    ring: ChargeRing,
+}
+
+/// A panel's charge seen as one ring, the same everywhere E takes a panel as one ring charge
+/// (a distant panel, a cluster, the far expansion) and as the capacitances take its charge:
+/// int rho ds over the panel by the 8-point Gauss rule (its charge is sigma 2 pi times it) and
+/// the charge's centroid (rho, z) (m). The midpoint's 2 pi rho l missed a curved panel's area
+/// by about 5e-7 of a sphere's charge, a step in E where the far expansion takes over.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+struct ChargeRing {
+    /// int rho ds (m^2).
+    rho_ds_m2: f64,
+    /// The centroid (rho, z) (m) of the charge, weighted by rho ds.
+    centre: (f64, f64),
+}
+
+/// Gauss nodes of a panel's charge ([`ChargeRing`], `Problem::charges`, `far_charges`).
+const CHARGE_NODES: usize = 8;
+
+impl Panel {
+    /// The panel with its charge ring set ([`ChargeRing`]).
+    fn with_charge_ring(mut self) -> Panel {
+        let (mut w, mut rc, mut zc) = (0.0, 0.0, 0.0);
+        for (rho, z, wk) in panel_nodes(&self, CHARGE_NODES, 0.0, 1.0) {
+            w += wk;
+            rc += wk * rho;
+            zc += wk * z;
+        }
+        self.ring = if w > 0.0 {
+            ChargeRing {
+                rho_ds_m2: w,
+                centre: (rc / w, zc / w),
+            }
+        } else {
+            ChargeRing {
+                rho_ds_m2: 0.0,
+                centre: self.mid,
+            }
+        };
+        self
+    }
 }
 
 /// A panel's result, for export and inspection.
@@ -637,8 +680,9 @@ fn panel_nodes(
 fn panel_e(panel: &Panel, sigma: f64, rho: f64, z: f64) -> (f64, f64) {
     let dist = (panel.mid.0 - rho).hypot(panel.mid.1 - z);
     if dist > FAR_SINGLE_NODE * 0.5 * panel.length_m {
-        let (a, z0) = panel.mid;
-        return e_ring_charge_fast(sigma * 2.0 * PI * panel.length_m * a, a, z0, rho, z);
+        let ring = &panel.ring;
+        let (a, z0) = ring.centre;
+        return e_ring_charge_fast(sigma * 2.0 * PI * ring.rho_ds_m2, a, z0, rho, z);
     }
     let n = order_for(dist, panel.length_m);
     panel_nodes(panel, n, 0.0, 1.0).fold((0.0, 0.0), |(er, ez), (a, z0, w)| {
@@ -647,8 +691,9 @@ fn panel_e(panel: &Panel, sigma: f64, rho: f64, z: f64) -> (f64, f64) {
     })
 }
 
-/// Beyond this many half-lengths a panel counts as one ring charge at its midpoint in E: the
-/// midpoint rule's relative error is then below (2 / 40)^2 / 24 = 1e-4 for that panel.
+/// Beyond this many half-lengths a panel counts as one ring charge ([`ChargeRing`]: its whole
+/// charge at its centroid) in E: the neglected spread is then of relative order
+/// (2 / 40)^2 / 24 = 1e-4 of that panel's field.
 const FAR_SINGLE_NODE: f64 = 40.0;
 
 /// [`e_ring_charge_point`] with K, E and K - E from one AGM and no cel: with
@@ -882,33 +927,38 @@ impl Problem {
                 let (u0, u1) = (w[0], w[1]);
                 let a = curve.at(u0);
                 let b = curve.at(u1);
-                panels.push(match (params.panel_form, curve) {
-                    // A chord panel is its own straight piece from a to b, collocated at the
-                    // chord's midpoint (inside the exact surface on a convex arc).
-                    (PanelForm::Chord, Curve::Arc { .. }) => {
-                        let chord = Curve::Line { p0: a, p1: b };
-                        Panel {
+                panels.push(
+                    match (params.panel_form, curve) {
+                        // A chord panel is its own straight piece from a to b, collocated at the
+                        // chord's midpoint (inside the exact surface on a convex arc).
+                        (PanelForm::Chord, Curve::Arc { .. }) => {
+                            let chord = Curve::Line { p0: a, p1: b };
+                            Panel {
+                                surface: *s,
+                                a,
+                                b,
+                                mid: chord.at(0.5),
+                                length_m: chord.length(),
+                                curve: chord,
+                                u0: 0.0,
+                                u1: 1.0,
+                                ring: ChargeRing::default(),
+                            }
+                        }
+                        _ => Panel {
                             surface: *s,
                             a,
                             b,
-                            mid: chord.at(0.5),
-                            length_m: chord.length(),
-                            curve: chord,
-                            u0: 0.0,
-                            u1: 1.0,
-                        }
+                            mid: curve.at(0.5 * (u0 + u1)),
+                            length_m: curve.length() * (u1 - u0),
+                            curve: *curve,
+                            u0,
+                            u1,
+                            ring: ChargeRing::default(),
+                        },
                     }
-                    _ => Panel {
-                        surface: *s,
-                        a,
-                        b,
-                        mid: curve.at(0.5 * (u0 + u1)),
-                        length_m: curve.length() * (u1 - u0),
-                        curve: *curve,
-                        u0,
-                        u1,
-                    },
-                });
+                    .with_charge_ring(),
+                );
             }
         }
         let names = design.electrodes.iter().map(|e| e.name.clone()).collect();
@@ -1057,9 +1107,7 @@ impl Problem {
         self.panels
             .iter()
             .zip(sigma)
-            .map(|(p, s)| {
-                s * 2.0 * PI * panel_nodes(p, 8, 0.0, 1.0).map(|(_, _, w)| w).sum::<f64>()
-            })
+            .map(|(p, s)| s * 2.0 * PI * p.ring.rho_ds_m2)
             .collect()
     }
 
@@ -1753,18 +1801,15 @@ impl Solution {
             .map(|first| {
                 let last = (first + CLUSTER_PANELS).min(pr.panels.len());
                 let qs: Vec<f64> = (first..last)
-                    .map(|k| {
-                        let p = &pr.panels[k];
-                        self.sigma_drive[k] * 2.0 * PI * p.length_m * p.mid.0
-                    })
+                    .map(|k| self.sigma_drive[k] * 2.0 * PI * pr.panels[k].ring.rho_ds_m2)
                     .collect();
                 let q: f64 = qs.iter().sum();
                 let same_sign = qs.iter().all(|x| *x > 0.0) || qs.iter().all(|x| *x < 0.0);
                 let (mut rc, mut zc) = (0.0, 0.0);
                 if same_sign {
                     for (k, qk) in (first..last).zip(&qs) {
-                        rc += qk * pr.panels[k].mid.0;
-                        zc += qk * pr.panels[k].mid.1;
+                        rc += qk * pr.panels[k].ring.centre.0;
+                        zc += qk * pr.panels[k].ring.centre.1;
                     }
                     rc /= q;
                     zc /= q;
@@ -1816,16 +1861,13 @@ impl Solution {
     /// ground plane), for points beyond [`E_FAR_RATIO`] sizes ([`FarCharges`]).
     fn far_charges(&self) -> FarCharges {
         let pr = &self.problem;
-        // Each panel's charge at its Gauss nodes, as the capacitances take it (`charges`): the
-        // midpoint's sigma 2 pi rho l misses the curved panel's area by about 5e-7 of a
-        // sphere's charge, the Gauss rule by rounding.
+        // Each panel's charge as one ring ([`ChargeRing`]), as the capacitances, the clusters
+        // and distant panels take it: its axial dipole about the centre is the Gauss rule's.
         let qz: Vec<(f64, f64)> = pr
             .panels
             .iter()
             .zip(&self.sigma_drive)
-            .flat_map(|(p, &sigma)| {
-                panel_nodes(p, 8, 0.0, 1.0).map(move |(_, z, w)| (sigma * 2.0 * PI * w, z))
-            })
+            .map(|(p, &sigma)| (sigma * 2.0 * PI * p.ring.rho_ds_m2, p.ring.centre.1))
             .collect();
         let (z_lo, z_hi) = pr
             .panels

@@ -69,6 +69,7 @@ pub mod euler_maclaurin;
 pub mod fem;
 pub mod field;
 pub mod field_model;
+pub mod image_pair_far;
 pub mod losses;
 pub mod metrics;
 pub mod mutual;
