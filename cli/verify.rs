@@ -1400,7 +1400,11 @@ fn read_far_field_ground(contents: &str) -> anyhow::Result<TableJob> {
 
 /// A row of a far-field table read and checked: its index, columns, and the design, point,
 /// reference B (T), distance r (m) and source.
-type FarFieldRow<C> = (usize, Row, (&'static C, Point3<f64>, Vector3<f64>, f64, String));
+type FarFieldRow<C> = (
+    usize,
+    Row,
+    (&'static C, Point3<f64>, Vector3<f64>, f64, String),
+);
 
 /// The rows of a far-field table `name` whose first column `key` names one of `designs`, every
 /// row checked before any field is computed; the job computes them.
