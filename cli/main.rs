@@ -3,6 +3,25 @@
 //! The binary is the only part of the project that reads files, the environment or the
 //! terminal; the `coilfield-geometry` and `coilfield-solver` crates stay pure.
 
+/// `eprintln!` without the panic: std's panics when standard error cannot be written (closed,
+/// a reader gone as in `coilfield sweep ... 2>&1 | head -1`, a full device), turning a
+/// diagnostic into exit 101. A diagnostic that cannot be written has nowhere else to go, so it
+/// is dropped. Defined before the modules, so every `eprintln!` in the crate is this one.
+macro_rules! eprintln {
+    ($($arg:tt)*) => {{
+        use std::io::Write as _;
+        let _ = writeln!(std::io::stderr(), $($arg)*);
+    }};
+}
+
+/// `eprint!` without the panic, as [`eprintln!`] above.
+macro_rules! eprint {
+    ($($arg:tt)*) => {{
+        use std::io::Write as _;
+        let _ = write!(std::io::stderr(), $($arg)*);
+    }};
+}
+
 mod capacitance;
 mod capacitance_fem;
 mod clearance;

@@ -559,6 +559,61 @@ fn a_reader_that_closes_stdout_early_stops_the_command_quietly() {
 }
 
 #[test]
+fn a_closed_stderr_loses_the_diagnostics_not_the_exit_code() {
+    // Standard error a pipe whose reader has gone before anything is written (as
+    // `2>&1 | head -c 0` would leave it): std's `eprintln!` panicked on the write (exit 101);
+    // the diagnostics are now dropped and the exit code is the command's own: 2 for a missing
+    // design file (its message unwritable), 0 for a sweep whose summary line goes to stderr
+    // (common practice for command-line tools, no source).
+    use std::process::{Command, Stdio};
+    let dir = tempfile::tempdir().unwrap();
+    let design = design_file(
+        dir.path(),
+        "ring.toml",
+        &ring_toml("loop", [0.0, 0.0, 0.0], [0.0, 0.0, 1.0], 0.1),
+    );
+    let sweep = dir.path().join("s.toml");
+    std::fs::write(
+        &sweep,
+        format!(
+            "base = {:?}\nmetrics = [\"self_inductance.loop\"]\n[[axis]]\nkey = \"winding.loop.radius\"\nfrom = 0.1\nto = 0.2\nsteps = 3\n",
+            design.to_str().unwrap()
+        ),
+    )
+    .unwrap();
+    let out_csv = dir.path().join("s.csv");
+    let missing = dir.path().join("missing.toml");
+    let cases: [(Vec<&str>, i32); 2] = [
+        (vec!["inductance", missing.to_str().unwrap()], 2),
+        (
+            vec![
+                "sweep",
+                sweep.to_str().unwrap(),
+                "--out",
+                out_csv.to_str().unwrap(),
+            ],
+            0,
+        ),
+    ];
+    for (args, want) in cases {
+        let mut child = Command::new(bin())
+            .args(&args)
+            .stdout(Stdio::null())
+            .stderr(Stdio::piped())
+            .spawn()
+            .expect("spawn coilfield");
+        drop(child.stderr.take());
+        let status = child.wait().expect("wait for coilfield");
+        assert_eq!(status.code(), Some(want), "{args:?}");
+    }
+    assert_eq!(
+        std::fs::read_to_string(&out_csv).unwrap().lines().count(),
+        4,
+        "the sweep's header and 3 rows"
+    );
+}
+
+#[test]
 fn every_stdout_writer_of_the_cli_can_meet_a_closed_pipe() {
     // `print!` and `println!` panic when the reader has gone: every command writes stdout
     // through `output::print_stdout`, which returns the broken pipe as an error (checked here
