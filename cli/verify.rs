@@ -923,14 +923,12 @@ fn quench(p: &Row, quantity: &str, row: &Row) -> anyhow::Result<Job> {
             ..SimulationSettings::new(duration)
         };
         let sim = simulate(&loops, &initial, &settings).map_err(bad)?;
-        let env = sim.voltage_envelope(1).map_err(bad)?;
-        let (t, v): (Vec<f64>, Vec<f64>) = env
-            .times_s
-            .iter()
-            .zip(&env.peaks)
-            .filter(|(t, _)| **t > notch.time_s + 2.0 * sim.time_step_s())
-            .map(|(t, v)| (*t, *v))
-            .unzip();
+        // The secondary ringing alone, two steps after the quench.
+        let ringing = sim
+            .voltage_envelope(1)
+            .map_err(bad)?
+            .after(notch.time_s + 2.0 * sim.time_step_s());
+        let (t, v) = (ringing.times_s, ringing.peaks);
         if t.len() < 3 {
             anyhow::bail!(BadInput(
                 "the run ends before the secondary has rung alone for a period".into()

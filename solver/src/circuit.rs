@@ -601,6 +601,21 @@ pub struct Envelope {
     pub peaks: Vec<f64>,
 }
 
+impl Envelope {
+    /// The peaks after time `t_s` (s): what a loop does once something has happened at `t_s`
+    /// (e.g. the secondary ringing alone after the primary's quench).
+    pub fn after(&self, t_s: f64) -> Envelope {
+        let (times_s, peaks) = self
+            .times_s
+            .iter()
+            .zip(&self.peaks)
+            .filter(|(t, _)| **t > t_s)
+            .map(|(t, v)| (*t, *v))
+            .unzip();
+        Envelope { times_s, peaks }
+    }
+}
+
 /// The first notch of a loop's current envelope (see [`Simulation::first_notch`]).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Notch {
@@ -2076,14 +2091,13 @@ mod tests {
                     .iter()
                     .all(|&i| i == 0.0)
             );
-            let env = sim.voltage_envelope(1).unwrap();
-            let (t, v): (Vec<f64>, Vec<f64>) = env
-                .times_s
-                .iter()
-                .zip(&env.peaks)
-                .filter(|(t, _)| **t > notch.time_s + 2.0 * sim.time_step_s())
-                .map(|(t, v)| (*t, *v))
-                .unzip();
+            let Envelope {
+                times_s: t,
+                peaks: v,
+            } = sim
+                .voltage_envelope(1)
+                .unwrap()
+                .after(notch.time_s + 2.0 * sim.time_step_s());
             assert!(t.len() > 20);
             match row.quantity.as_str() {
                 "secondary_frequency_hz" => {
