@@ -343,6 +343,9 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             Err(_) => None,
         },
     };
+    if matches!(cli.command, Command::Sweep { .. }) {
+        sweep::small_pages_only();
+    }
     if let Some(n) = threads {
         if n == 0 {
             return Err(BadInput("--threads: must be at least 1".into()).into());

@@ -365,6 +365,45 @@ fn bad_sweeps_exit_2_naming_the_file_and_the_key() {
 }
 
 #[test]
+fn an_identity_file_that_cannot_be_written_leaves_no_row_in_the_output() {
+    // The identity file is written while the first points are computed; until it is on disk
+    // nothing of the output reaches its file, so `--resume` and `merge` never meet rows they
+    // cannot tell from another sweep's. A folder where the identity file goes makes its
+    // write fail after the output was opened.
+    let dir = tempfile::tempdir().unwrap();
+    let s = setup(dir.path(), SWEEP);
+    let out = dir.path().join("o.csv");
+    let id = dir.path().join("o.csv.sweep-id");
+    std::fs::create_dir(&id).unwrap();
+    std::fs::write(id.join("kept"), "the user's").unwrap();
+    for threads in ["1", "2"] {
+        let o = sweep(&[
+            s.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+            "--threads",
+            threads,
+        ]);
+        let e = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{e}");
+        assert!(
+            e.contains("o.csv.sweep-id") && e.contains("cannot write"),
+            "{e}"
+        );
+        assert_eq!(
+            std::fs::read_to_string(&out).unwrap(),
+            "",
+            "{threads} threads"
+        );
+        assert_eq!(
+            std::fs::read_to_string(id.join("kept")).unwrap(),
+            "the user's"
+        );
+        std::fs::remove_file(&out).unwrap();
+    }
+}
+
+#[test]
 fn a_point_that_breaks_the_design_is_recorded_and_the_sweep_goes_on() {
     // Each value is fine alone, but ring b of radius 0.9995 m moved into ring a's plane
     // (z = 0) touches ring a (1 m): status error at that point alone.
