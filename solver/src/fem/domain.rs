@@ -8,7 +8,7 @@ use coilfield_geometry::{
     dielectric_section_m,
 };
 use nalgebra::Unit;
-use std::f64::consts::{FRAC_PI_2, TAU};
+use std::f64::consts::TAU;
 
 /// A piece of outline in (r, z) (m).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -110,10 +110,11 @@ impl Area {
     }
 }
 
-/// The part of a circle in r >= 0: the whole circle when it stays off the axis, else the half
-/// from -pi/2 to pi/2 (a circle centred on the axis).
+/// The part of a circle in r >= 0 (m, rad): the whole circle when it stays off the axis, else
+/// the arc between its two crossings of the axis, at the angles t with cos t = -centre_r /
+/// radius (the half from -pi/2 to pi/2 for a circle centred on the axis).
 fn disk_arc(centre: [f64; 2], radius: f64) -> Piece {
-    if centre[0] > radius {
+    if centre[0] >= radius {
         Piece::Arc {
             centre,
             radius,
@@ -121,11 +122,13 @@ fn disk_arc(centre: [f64; 2], radius: f64) -> Piece {
             t1: TAU,
         }
     } else {
+        // acos of a value in [-1, 0]: from pi/2 (centre on the axis) towards pi.
+        let t = (-centre[0].max(0.0) / radius).acos();
         Piece::Arc {
             centre,
             radius,
-            t0: -FRAC_PI_2,
-            t1: FRAC_PI_2,
+            t0: -t,
+            t1: t,
         }
     }
 }
@@ -686,4 +689,44 @@ fn graded_params(
     }
     let total = *s.last().unwrap_or(&1.0);
     s.iter().map(|v| v / total).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::{Area, Piece};
+    use std::f64::consts::PI;
+
+    /// A disc's outline against a brute-force classification of its circle's points: every
+    /// point of the circle with r > 0 lies on the outline's arcs and no point with r < 0 does,
+    /// for discs off the axis, touching it, centred on it and crossing it off centre.
+    #[test]
+    fn a_disc_outline_is_the_part_of_its_circle_off_the_axis() {
+        for (c, radius) in [(2.0, 1.0), (1.0, 1.0), (0.0, 1.0), (0.3, 1.0), (0.9, 1.0)] {
+            let area = Area::Disk {
+                centre: [c, 0.5],
+                radius,
+            };
+            let [Piece::Arc { t0, t1, .. }] = area.outline()[..] else {
+                panic!("one arc for ({c}, {radius})");
+            };
+            let on_arc = |t: f64| {
+                // t or t + 2 pi k within [t0, t1].
+                let k = ((t - t0) / (2.0 * PI)).floor();
+                t - 2.0 * PI * k <= t1
+            };
+            for i in 0..3600 {
+                let t = -PI + (i as f64 + 0.5) * (2.0 * PI / 3600.0);
+                let r = c + radius * t.cos();
+                if r.abs() > 1e-9 {
+                    assert_eq!(on_arc(t), r > 0.0, "({c}, {radius}) at t = {t}: r = {r}");
+                }
+            }
+            // The arc's ends lie on the axis when the circle crosses it.
+            if c < radius {
+                for t in [t0, t1] {
+                    assert!((c + radius * t.cos()).abs() < 1e-12, "({c}, {radius})");
+                }
+            }
+        }
+    }
 }

@@ -479,12 +479,6 @@ pub fn mesh_domain(domain: &Domain) -> Result<Mesh, SolverError> {
         }
     }
     if let Some((cz, radius, t0)) = arc {
-        let piece = Piece::Arc {
-            centre: [0.0, cz],
-            radius,
-            t0,
-            t1: std::f64::consts::FRAC_PI_2,
-        };
         let n = if t0 == 0.0 { arc_edges / 2 } else { arc_edges };
         let pts: Vec<[f64; 2]> = (0..=n)
             .map(|k| {
@@ -499,7 +493,6 @@ pub fn mesh_domain(domain: &Domain) -> Result<Mesh, SolverError> {
                 p
             })
             .collect();
-        let _ = piece;
         b.chain(&pts)?;
     }
     // Conductors and interfaces.

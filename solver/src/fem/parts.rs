@@ -14,7 +14,7 @@
 //! the centre, for a segment and an arc): common practice, no source. Every candidate is a
 //! real pair of points, one on each curve, so the least of them is the distance.
 
-use super::domain::{Area, Conductor, Domain, Piece, Region};
+use super::domain::{Area, Conductor, Domain, Outer, Piece, Region};
 use crate::error::SolverError;
 use crate::numtext::si;
 use std::f64::consts::TAU;
@@ -77,6 +77,47 @@ fn ends(c: Curve) -> [P; 2] {
             [arc_point(centre, radius, t0), arc_point(centre, radius, t1)]
         }
     }
+}
+
+/// The point of a piece farthest along the unit vector `dir`, and how far along `dir` it lies
+/// (m). On a circle the farthest point is the one in the direction `dir` from the centre; an
+/// arc without it has its farthest point at an end (the projection falls off monotonically on
+/// both sides of that point).
+fn farthest_along(piece: &Piece, dir: P) -> (f64, P) {
+    let along = |p: P| p[0] * dir[0] + p[1] * dir[1];
+    let best = |pts: [P; 2]| {
+        let [a, b] = pts;
+        if along(a) >= along(b) {
+            (along(a), a)
+        } else {
+            (along(b), b)
+        }
+    };
+    match curve(piece) {
+        Curve::Arc(centre, radius, t0, t1) if arc_holds(dir[1].atan2(dir[0]), t0, t1) => {
+            let p = arc_point(centre, radius, dir[1].atan2(dir[0]));
+            (along(p), p)
+        }
+        c => best(ends(c)),
+    }
+}
+
+/// The point of a piece farthest from `q`, and its distance from `q` (m): on a circle, the
+/// point beyond the centre as seen from `q`; on an arc without it, an end (as above).
+fn farthest_from(piece: &Piece, q: P) -> (f64, P) {
+    let c = curve(piece);
+    if let Curve::Arc(centre, _, _, _) = c {
+        let d = [centre[0] - q[0], centre[1] - q[1]];
+        let n = d[0].hypot(d[1]);
+        if n > 0.0 {
+            // Farthest along the direction from q to the centre is farthest from q.
+            let (_, p) = farthest_along(piece, [d[0] / n, d[1] / n]);
+            return (dist(p, q), p);
+        }
+    }
+    let [a, b] = ends(c);
+    let (da, db) = (dist(a, q), dist(b, q));
+    if da >= db { (da, a) } else { (db, b) }
 }
 
 /// The point of a curve nearest to `p` (m).
@@ -441,6 +482,7 @@ impl Domain {
                 }
             }
         }
+        self.check_inside_outer()?;
         for (i, a) in self.regions.iter().enumerate() {
             for b in &self.regions[..i] {
                 if let Some(at) = regions_overlap(b, a) {
@@ -452,6 +494,112 @@ impl Domain {
                         dielectric_tolerance_m(a, b),
                     ));
                 }
+            }
+        }
+        Ok(())
+    }
+}
+
+impl Domain {
+    /// Every part inside the outer boundary: a conductor stands clear of it (the boundary is
+    /// grounded, or it is the artificial circle of open space), except the floor and the
+    /// ceiling of a cylinder with insulated ends, symmetry planes that a long conductor may
+    /// run through; a dielectric region may touch a grounded boundary but not reach beyond
+    /// it, and stands clear of open space's circle (the exterior beyond it is vacuum).
+    fn check_inside_outer(&self) -> Result<(), SolverError> {
+        let parts = self
+            .conductors
+            .iter()
+            .map(|c| {
+                let tol = CONDUCTOR_TOLERANCE_REL * conductor_size_m(c);
+                (
+                    format!("conductor '{}'", c.name),
+                    c.pieces.clone(),
+                    true,
+                    tol,
+                )
+            })
+            .chain(self.regions.iter().map(|r| {
+                let tol = DIELECTRIC_TOLERANCE_REL * region_reach_m(r).max(1.0);
+                (
+                    format!("dielectric region '{}'", r.name),
+                    r.area.outline(),
+                    false,
+                    tol,
+                )
+            }));
+        for (name, pieces, conductor, tol) in parts {
+            // The part's farthest point along `dir` / from `q`: (how far, the point).
+            let along = |dir: P| {
+                pieces.iter().map(|p| farthest_along(p, dir)).fold(
+                    (f64::NEG_INFINITY, [0.0; 2]),
+                    |a, b| if b.0 > a.0 { b } else { a },
+                )
+            };
+            let from = |q: P| {
+                pieces.iter().map(|p| farthest_from(p, q)).fold(
+                    (f64::NEG_INFINITY, [0.0; 2]),
+                    |a, b| if b.0 > a.0 { b } else { a },
+                )
+            };
+            // (boundary, the part's clearance from it (m), the point, may the part touch it)
+            let mut gaps: Vec<(String, f64, P, bool)> = Vec::new();
+            match self.outer {
+                Outer::Open {
+                    centre_z,
+                    radius,
+                    ground,
+                } => {
+                    let (far, at) = from([0.0, centre_z]);
+                    let circle =
+                        format!("the circle of open space (radius {})", si(radius, "m", 4));
+                    gaps.push((circle, radius - far, at, false));
+                    if ground {
+                        let (low, at) = along([0.0, -1.0]);
+                        let plane = format!("the ground plane (z = {})", si(centre_z, "m", 4));
+                        gaps.push((plane, -low - centre_z, at, !conductor));
+                    }
+                }
+                Outer::Sphere { centre_z, radius } => {
+                    let (far, at) = from([0.0, centre_z]);
+                    let sphere = format!("the grounded sphere (radius {})", si(radius, "m", 4));
+                    gaps.push((sphere, radius - far, at, !conductor));
+                }
+                Outer::Cylinder {
+                    r_max,
+                    z_min,
+                    z_max,
+                    insulated_ends,
+                } => {
+                    let (r, at) = along([1.0, 0.0]);
+                    let wall = format!("the grounded wall (r = {})", si(r_max, "m", 4));
+                    gaps.push((wall, r_max - r, at, !conductor));
+                    let ends_touch = !conductor || insulated_ends;
+                    let (low, at) = along([0.0, -1.0]);
+                    let floor = format!("the floor (z = {})", si(z_min, "m", 4));
+                    gaps.push((floor, -low - z_min, at, ends_touch));
+                    let (high, at) = along([0.0, 1.0]);
+                    let ceiling = format!("the ceiling (z = {})", si(z_max, "m", 4));
+                    gaps.push((ceiling, z_max - high, at, ends_touch));
+                }
+            }
+            for (boundary, gap, at, may_touch) in gaps {
+                let how = if gap < -tol {
+                    format!(
+                        "overlap by {}: the part reaches beyond the outer boundary",
+                        si(-gap, "m", 3)
+                    )
+                } else if gap <= tol && !may_touch {
+                    let why = if conductor {
+                        "a conductor must stand clear of the outer boundary"
+                    } else {
+                        "a dielectric must stand inside the circle of open space: enlarge it"
+                    };
+                    format!("touch; {why}")
+                } else {
+                    continue;
+                };
+                return Err(overlap_error(name, boundary, &how, at, tol));
             }
         }
         Ok(())
@@ -1006,6 +1154,232 @@ mod tests {
         assert!(
             refused_both >= 3 && accepted_both >= 4,
             "{refused_both} {accepted_both}"
+        );
+    }
+
+    /// The least signed clearance (m, positive inside) of sampled points from an outer
+    /// boundary, each boundary written out as its inequality: (clearance, whether the least
+    /// is at a boundary the part may touch).
+    fn sampled_clearance(outer: &Outer, pts: &[P], conductor: bool) -> (f64, bool) {
+        let mut least = (f64::INFINITY, false);
+        let mut take = |gap: f64, may_touch: bool| {
+            if gap < least.0 {
+                least = (gap, may_touch);
+            }
+        };
+        for &p in pts {
+            match *outer {
+                Outer::Open {
+                    centre_z,
+                    radius,
+                    ground,
+                } => {
+                    take(
+                        radius - (p[0] * p[0] + (p[1] - centre_z).powi(2)).sqrt(),
+                        false,
+                    );
+                    if ground {
+                        take(p[1] - centre_z, !conductor);
+                    }
+                }
+                Outer::Sphere { centre_z, radius } => {
+                    take(
+                        radius - (p[0] * p[0] + (p[1] - centre_z).powi(2)).sqrt(),
+                        !conductor,
+                    );
+                }
+                Outer::Cylinder {
+                    r_max,
+                    z_min,
+                    z_max,
+                    insulated_ends,
+                } => {
+                    take(r_max - p[0], !conductor);
+                    take(p[1] - z_min, !conductor || insulated_ends);
+                    take(z_max - p[1], !conductor || insulated_ends);
+                }
+            }
+        }
+        least
+    }
+
+    /// The outer-boundary check against point sampling: on seeded random parts (conductors
+    /// and dielectric regions) and outer boundaries (open space with and without ground, a
+    /// grounded sphere, cylinders with grounded and insulated ends), a part whose samples
+    /// reach beyond the boundary by more than two sample spacings is refused, and one whose
+    /// samples all stand clear by more than that passes.
+    #[test]
+    fn parts_beyond_the_outer_boundary_are_refused_as_sampling_says() {
+        let mut s = Stream(41);
+        let (mut beyond, mut clear) = (0, 0);
+        for case in 0..400 {
+            let outer = match case % 5 {
+                0 => Outer::Open {
+                    centre_z: s.within(-0.3, 0.3),
+                    radius: s.within(0.4, 1.4),
+                    ground: false,
+                },
+                1 => Outer::Open {
+                    centre_z: s.within(-0.8, 0.2),
+                    radius: s.within(0.6, 1.6),
+                    ground: true,
+                },
+                2 => Outer::Sphere {
+                    centre_z: s.within(-0.3, 0.3),
+                    radius: s.within(0.4, 1.4),
+                },
+                k => Outer::Cylinder {
+                    r_max: s.within(0.3, 1.0),
+                    z_min: s.within(-1.0, -0.2),
+                    z_max: s.within(0.2, 1.0),
+                    insulated_ends: k == 4,
+                },
+            };
+            let conductor = s.next() < 0.5;
+            let (d, pts) = if conductor {
+                let c = random_conductor(&mut s, "part");
+                let pts = outline_samples(&c.pieces, c.area.as_ref());
+                (domain(vec![c], vec![]), pts)
+            } else {
+                let area = random_area(&mut s);
+                let pts = outline_samples(&[], Some(&area));
+                (domain(vec![], vec![region("part", area)]), pts)
+            };
+            let d = Domain { outer, ..d };
+            let (gap, _) = sampled_clearance(&outer, &pts, conductor);
+            let verdict = d.check_parts();
+            if gap < -2.0 * STEP {
+                beyond += 1;
+                assert!(
+                    matches!(verdict, Err(SolverError::PartsOverlap { .. })),
+                    "{outer:?} {d:?}"
+                );
+            } else if gap > 2.0 * STEP {
+                clear += 1;
+                assert!(verdict.is_ok(), "{outer:?} {d:?}: {verdict:?}");
+            }
+        }
+        assert!(beyond >= 60 && clear >= 100, "{beyond} {clear}");
+    }
+
+    /// Touching the outer boundary: a conductor may not touch a grounded boundary (wall,
+    /// sphere, ground plane) nor open space's circle, but may run through the insulated ends
+    /// of a long cylinder; a dielectric may touch a grounded boundary (a slab on the floor,
+    /// a filling up to the wall) but not the circle of open space.
+    #[test]
+    fn what_may_touch_the_outer_boundary() {
+        let cylinder = |insulated_ends| Outer::Cylinder {
+            r_max: 1.0,
+            z_min: 0.0,
+            z_max: 2.0,
+            insulated_ends,
+        };
+        let with = |c: Vec<Conductor>, r: Vec<Region>, outer: Outer| Domain {
+            outer,
+            ..domain(c, r)
+        };
+        let rod = || {
+            solid(
+                "rod",
+                Area::Rect {
+                    r0: 0.0,
+                    r1: 0.1,
+                    z0: 0.0,
+                    z1: 2.0,
+                },
+            )
+        };
+        let fill = |r1: f64| {
+            region(
+                "fill",
+                Area::Rect {
+                    r0: 0.1,
+                    r1,
+                    z0: 0.0,
+                    z1: 2.0,
+                },
+            )
+        };
+        // A coaxial line: the inner rod through the insulated ends, the filling to the wall.
+        assert!(
+            with(vec![rod()], vec![fill(1.0)], cylinder(true))
+                .check_parts()
+                .is_ok()
+        );
+        let e = refused(with(vec![rod()], vec![], cylinder(false)));
+        assert!(e.contains("conductor 'rod'") && e.contains("floor"), "{e}");
+        let e = refused(with(vec![], vec![fill(1.01)], cylinder(true)));
+        assert!(
+            e.contains("dielectric region 'fill'") && e.contains("grounded wall"),
+            "{e}"
+        );
+        assert!(e.contains("overlap by 10.0 mm"), "{e}");
+        // A sphere on the ground plane; a slab on it.
+        let ground = Outer::Open {
+            centre_z: 0.0,
+            radius: 5.0,
+            ground: true,
+        };
+        let e = refused(with(vec![sphere("ball", 0.5, 0.5)], vec![], ground));
+        assert!(e.contains("ground plane") && e.contains("touch"), "{e}");
+        let slab = region(
+            "slab",
+            Area::Rect {
+                r0: 0.0,
+                r1: 1.0,
+                z0: 0.0,
+                z1: 0.1,
+            },
+        );
+        assert!(
+            with(vec![sphere("ball", 0.7, 0.5)], vec![slab.clone()], ground)
+                .check_parts()
+                .is_ok()
+        );
+        // The circle of open space touched by a dielectric, and by a conductor.
+        let open = Outer::Open {
+            centre_z: 0.0,
+            radius: 1.0,
+            ground: false,
+        };
+        let e = refused(with(
+            vec![],
+            vec![region(
+                "shell",
+                Area::Shell {
+                    centre: [0.0, 0.0],
+                    r0: 0.5,
+                    r1: 1.0,
+                },
+            )],
+            open,
+        ));
+        assert!(
+            e.contains("circle of open space") && e.contains("enlarge"),
+            "{e}"
+        );
+        let e = refused(with(vec![sphere("ball", 0.0, 1.0)], vec![], open));
+        assert!(
+            e.contains("conductor 'ball'") && e.contains("stand clear"),
+            "{e}"
+        );
+        // A dielectric shell filling a spherical capacitor up to its outer sphere.
+        let outer_sphere = Outer::Sphere {
+            centre_z: 0.0,
+            radius: 1.0,
+        };
+        let shell = region(
+            "shell",
+            Area::Shell {
+                centre: [0.0, 0.0],
+                r0: 0.5,
+                r1: 1.0,
+            },
+        );
+        assert!(
+            with(vec![sphere("inner", 0.0, 0.4)], vec![shell], outer_sphere)
+                .check_parts()
+                .is_ok()
         );
     }
 }
