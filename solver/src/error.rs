@@ -68,8 +68,8 @@ pub enum SolverError {
         reason: String,
     },
     /// Two parts of a finite-element problem overlap: two conductors touch or overlap (or
-    /// one lies inside the other), or two dielectric regions overlap. Move or resize one of
-    /// them.
+    /// one lies inside the other), two dielectric regions overlap, or a part touches or
+    /// crosses the outer boundary (the second "part"). Move or resize one of them.
     #[error(
         "finite-element problem: {first} and {second} {how} (near r = {}, z = {})",
         crate::numtext::si(near_rz_m[0], "m", 4),

@@ -426,8 +426,9 @@ fn seed_graded_interior(
 
 /// Mesh a half-plane problem (see the module doc).
 ///
-/// Errors: [`SolverError::PartsOverlap`] for parts that overlap ([`Domain::check_parts`], the
-/// one check of every domain, from a design or built directly); [`SolverError::MeshRefused`]
+/// Errors: [`SolverError::PartsOverlap`] for parts that overlap each other or the outer
+/// boundary ([`Domain::check_parts`], the one check of every domain, from a design or built
+/// directly); [`SolverError::MeshRefused`]
 /// for more elements than the domain's limit, a refinement that does not finish, or a vertex
 /// the triangulation refuses.
 pub fn mesh_domain(domain: &Domain) -> Result<Mesh, SolverError> {

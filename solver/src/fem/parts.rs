@@ -6,7 +6,9 @@
 //! would be lost where they overlap). A dielectric may cross or hold a conductor (a coated
 //! electrode, a winding on its form): the conductor's vertices keep their potential and the
 //! field inside it is zero. These are the design file's rules (`geometry::query::contact`
-//! for electrodes, `geometry::query::media` for dielectrics), with their tolerances.
+//! for electrodes, `geometry::query::media` for dielectrics), with their tolerances. Every
+//! part also lies inside the outer boundary: conductors clear of it (a long conductor may run
+//! through a cylinder's insulated ends), dielectrics touching a grounded boundary at most.
 //!
 //! The distances are exact for the pieces of an outline (segments and circular arcs): the
 //! least distance between two such curves is reached at an end of one of them, at a crossing,
