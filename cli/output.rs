@@ -30,11 +30,21 @@ pub fn write_atomic_via(
         return Err(BadInput(format!("{}: not a file name", path.display())).into());
     }
     let fail = |e: std::io::Error| BadInput(format!("{}: cannot write: {e}", path.display()));
+    // The new file gets the permissions of the file it replaces, else those of any new file
+    // (0o666 less the umask), not the temporary file's owner-only 0o600.
+    let replaced = std::fs::symlink_metadata(path)
+        .ok()
+        .filter(std::fs::Metadata::is_file)
+        .map(|m| m.permissions());
     let mut tmp = tempfile::Builder::new()
         .prefix(".coilfield-")
         .suffix(".tmp")
+        .permissions(std::os::unix::fs::PermissionsExt::from_mode(0o666))
         .tempfile_in(dir)
         .map_err(fail)?;
+    if let Some(p) = replaced {
+        tmp.as_file().set_permissions(p).map_err(fail)?;
+    }
     {
         let mut w = wrap(tmp.as_file_mut());
         w.write_all(contents).map_err(fail)?;
@@ -142,6 +152,26 @@ mod tests {
         }
         super::write_atomic(&path, b"new").unwrap();
         assert_eq!(std::fs::read_to_string(&path).unwrap(), "new");
+    }
+
+    #[test]
+    fn written_files_get_the_permissions_of_any_new_file_or_of_the_one_they_replace() {
+        use std::os::unix::fs::PermissionsExt;
+        let dir = tempfile::tempdir().unwrap();
+        let mode = |p: &std::path::Path| std::fs::metadata(p).unwrap().permissions().mode() & 0o777;
+        // A new file: as std's File::create makes one (0o666 less the umask), not 0o600.
+        let plain = dir.path().join("plain.txt");
+        std::fs::write(&plain, "x").unwrap();
+        let new = dir.path().join("new.json");
+        super::write_atomic(&new, b"{}").unwrap();
+        assert_eq!(mode(&new), mode(&plain));
+        // A replaced file keeps its mode, narrower or wider than the default.
+        for m in [0o640, 0o604] {
+            std::fs::set_permissions(&new, std::fs::Permissions::from_mode(m)).unwrap();
+            super::write_atomic(&new, b"[]").unwrap();
+            assert_eq!(mode(&new), m);
+            assert_eq!(std::fs::read_to_string(&new).unwrap(), "[]");
+        }
     }
 
     #[test]

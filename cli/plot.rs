@@ -405,6 +405,62 @@ fn finite_range(v: impl Iterator<Item = f64>) -> (f64, f64) {
     }
 }
 
+/// The frame of a chart: title, margin, room for the y labels (px), and whether grid lines
+/// are drawn; the same fonts and tick labels for every chart.
+struct Frame<'a> {
+    title: &'a str,
+    margin_px: u32,
+    y_labels_px: u32,
+    grid: bool,
+}
+
+impl Frame<'_> {
+    /// A chart on `area` over x in `x` and y in `y` (as the axes read them), with its axes,
+    /// captions and tick labels drawn.
+    fn chart<'a, DB: DrawingBackend>(
+        &self,
+        area: &'a DrawingArea<DB, plotters::coord::Shift>,
+        x: (f64, f64),
+        y: (f64, f64),
+        captions: (&str, &str),
+    ) -> anyhow::Result<
+        ChartContext<
+            'a,
+            DB,
+            Cartesian2d<
+                plotters::coord::types::RangedCoordf64,
+                plotters::coord::types::RangedCoordf64,
+            >,
+        >,
+    >
+    where
+        DB::ErrorType: 'static,
+    {
+        let err = |e: DrawingAreaErrorKind<DB::ErrorType>| anyhow::anyhow!("cannot draw: {e:?}");
+        let mut chart = ChartBuilder::on(area)
+            .caption(self.title, (FONT_FAMILY, 20))
+            .margin(self.margin_px)
+            .x_label_area_size(44)
+            .y_label_area_size(self.y_labels_px)
+            .build_cartesian_2d(x.0..x.1, y.0..y.1)
+            .map_err(err)?;
+        let x_tick = |v: &f64| coilfield_solver::numtext::axis_tick(*v, x.1 - x.0);
+        let y_tick = |v: &f64| coilfield_solver::numtext::axis_tick(*v, y.1 - y.0);
+        let mut mesh = chart.configure_mesh();
+        if !self.grid {
+            mesh.disable_mesh();
+        }
+        mesh.x_desc(captions.0)
+            .y_desc(captions.1)
+            .x_label_formatter(&x_tick)
+            .y_label_formatter(&y_tick)
+            .label_style((FONT_FAMILY, 14))
+            .draw()
+            .map_err(err)?;
+        Ok(chart)
+    }
+}
+
 impl Figure for LinePlot<'_> {
     fn draw_on<DB: DrawingBackend>(
         &self,
@@ -424,24 +480,13 @@ impl Figure for LinePlot<'_> {
         let (sx, x_caption) = axis_reading(self.x_axis, x0, x1);
         let (sy, y_caption) = axis_reading(self.y_axis, y0, y1);
         let (x0, x1, y0, y1) = (x0 / sx, x1 / sx, y0 / sy, y1 / sy);
-        let mut chart = ChartBuilder::on(root)
-            .caption(self.title, (FONT_FAMILY, 20))
-            .margin(16)
-            .x_label_area_size(44)
-            .y_label_area_size(90)
-            .build_cartesian_2d(x0..x1, y0..y1)
-            .map_err(err)?;
-        let x_tick = |x: &f64| coilfield_solver::numtext::axis_tick(*x, x1 - x0);
-        let y_tick = |y: &f64| coilfield_solver::numtext::axis_tick(*y, y1 - y0);
-        chart
-            .configure_mesh()
-            .x_desc(x_caption)
-            .y_desc(y_caption)
-            .x_label_formatter(&x_tick)
-            .y_label_formatter(&y_tick)
-            .label_style((FONT_FAMILY, 14))
-            .draw()
-            .map_err(err)?;
+        let frame = Frame {
+            title: self.title,
+            margin_px: 16,
+            y_labels_px: 90,
+            grid: true,
+        };
+        let mut chart = frame.chart(root, (x0, x1), (y0, y1), (&x_caption, &y_caption))?;
         // Runs of finite values, each its own line, so a failed point leaves a gap.
         let mut runs: Vec<Vec<(f64, f64)>> = vec![Vec::new()];
         for (&x, &y) in self.x.iter().zip(self.y) {
@@ -510,25 +555,13 @@ where
     let v: Vec<f64> = map.v.iter().map(|x| x / sv).collect();
     let (u0, u1) = (u[0], u[nu - 1]);
     let (v0, v1) = (v[0], v[nv - 1]);
-    let mut chart = ChartBuilder::on(&plot_area)
-        .caption(map.title, (FONT_FAMILY, 20))
-        .margin(12)
-        .x_label_area_size(44)
-        .y_label_area_size(70)
-        .build_cartesian_2d(u0..u1, v0..v1)
-        .map_err(err)?;
-    let u_tick = |x: &f64| coilfield_solver::numtext::axis_tick(*x, u1 - u0);
-    let v_tick = |y: &f64| coilfield_solver::numtext::axis_tick(*y, v1 - v0);
-    chart
-        .configure_mesh()
-        .disable_mesh()
-        .x_desc(u_caption)
-        .y_desc(v_caption)
-        .x_label_formatter(&u_tick)
-        .y_label_formatter(&v_tick)
-        .label_style((FONT_FAMILY, 14))
-        .draw()
-        .map_err(err)?;
+    let frame = Frame {
+        title: map.title,
+        margin_px: 12,
+        y_labels_px: 70,
+        grid: false,
+    };
+    let mut chart = frame.chart(&plot_area, (u0, u1), (v0, v1), (&u_caption, &v_caption))?;
     // Each sample colours the cell around it (half-way to its neighbours).
     let edge = |c: &[f64], k: usize| -> (f64, f64) {
         let a = if k == 0 {
