@@ -4,7 +4,8 @@
 #     base) and meshes-demo/bench-sweep-overlap.toml (primary across its lower turns): wall time
 #     with 1 and 2 threads over 9 pairs of runs (median and best), parallel efficiency from the
 #     medians, the ratio overlap / below, and the numpy/scipy baseline of the same k
-#     (validation/sweep_baseline.py, best of 3) with its agreement check;
+#     (validation/sweep_baseline.py, best of 3) with its agreement check; and the machine's own
+#     ceiling for two threads (two independent 1-thread runs at once against one alone);
 #   - the 1,000-point sweep meshes-demo/bench-sweep-tilted.toml (primary offset and tilted):
 #     wall time, and where the time goes (callgrind instruction counts, inclusive).
 # With BENCH_ROWS=FILE the figures are also appended to FILE as rows of the README's
@@ -19,12 +20,26 @@ trap 'rm -rf "$tmp"' EXIT
 # Wall time (s) of one run of the whole process (start-up and file writing included) of sweep
 # $1 on $2 threads, read from bash's own clock (microseconds): no clock process is started
 # around the timed one (two `date` processes added 1.5-3.5 ms to every run).
+# The output is $tmp/k.csv, or $tmp/$3.csv when $3 is given.
 once() {
-    rm -f "$tmp/k.csv"
+    local out=$tmp/${3:-k}.csv
+    rm -f "$out"
     t0=${EPOCHREALTIME/[.,]/}
-    "$bin" sweep "$1" --out "$tmp/k.csv" --threads "$2" >/dev/null 2>&1
+    "$bin" sweep "$1" --out "$out" --threads "$2" >/dev/null 2>&1
     t1=${EPOCHREALTIME/[.,]/}
     awk -v a="$t0" -v b="$t1" 'BEGIN { printf "%.4f\n", (b - a) / 1e6 }'
+}
+# The machine's own ceiling for two threads: $2 rounds of one 1-thread run of sweep $1 alone,
+# then two 1-thread runs of it at once (two processes: no shared memory, no shared work), "alone
+# slower-of-the-two" per line. On a machine whose cores do not slow each other the two take
+# as long as one alone.
+ceiling() {
+    once "$1" 1 >/dev/null
+    for _ in $(seq "$2"); do
+        alone=$(once "$1" 1)
+        together=$( (once "$1" 1 p & once "$1" 1 q & wait) | sort -g | tail -1)
+        echo "$alone $together"
+    done
 }
 # Wall times of $2 pairs of runs of sweep $1, "t1 t2" per line: one thread, then two threads,
 # in each pair, so that a drift of the machine's speed during the benchmark touches both alike;
@@ -70,6 +85,12 @@ for case in below overlap; do
     agree[$case]=$(echo "$check" | awk '{ print $NF }')
     base_s[$case]=$base
 done
+# The ceiling, on the slow case.
+c=$(ceiling meshes-demo/bench-sweep-overlap.toml 9)
+c1=$(echo "$c" | cut -d' ' -f1 | median)
+c2=$(echo "$c" | cut -d' ' -f2 | median)
+cap=$(awk -v a="$c1" -v b="$c2" 'BEGIN { printf "%.0f %%", 100 * a / b }')
+echo "two 1-thread runs of the overlap sweep at once: the slower $c2 s against $c1 s alone (medians of 9): the machine's ceiling for 2 threads $cap"
 awk -v a="${med2[overlap]}" -v b="${med2[below]}" 'BEGIN {
     printf "overlap / below (2 threads, medians): %.2f\n", a / b }'
 ratio=$(awk -v a="${med2[overlap]}" -v b="${med2[below]}" 'BEGIN { printf "%.2fx", a / b }')
@@ -78,6 +99,8 @@ row "10,000-point sweep of k, primary below the secondary's base (\`bench-sweep-
 row "the same with the primary's height running across the secondary's lower turns (\`bench-sweep-overlap.toml\`), 2 threads (1 thread); ratio to the case below" \
     "<= 1.5x the case below" "${med2[overlap]} s (${med1[overlap]} s); $ratio"
 row "parallel efficiency 1 -> 2 threads, from the medians of 9 (below / overlap)" ">= 85 %" "${eff[below]} / ${eff[overlap]}"
+row "the machine's own ceiling for 2 threads: two independent 1-thread runs of the overlap sweep at once, the slower of the two against one alone, medians of 9" \
+    "-" "$cap ($c2 s against $c1 s)"
 row "speed-up over the numpy/scipy baseline \`validation/sweep_baseline.py\` of the same k, best of 3 (below / overlap; baseline time; largest relative difference)" \
     ">= 25x (stretch 50x)" "${speed[below]} / ${speed[overlap]} (${base_s[below]} s / ${base_s[overlap]} s; ${agree[below]} / ${agree[overlap]})"
 
