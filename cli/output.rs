@@ -30,25 +30,27 @@ pub fn write_atomic_via(
         return Err(BadInput(format!("{}: not a file name", path.display())).into());
     }
     let fail = |e: std::io::Error| BadInput(format!("{}: cannot write: {e}", path.display()));
-    // The new file gets the permissions of the file it replaces, else those of any new file
-    // (0o666 less the umask), not the temporary file's owner-only 0o600.
+    // The new file gets the permission bits of the file it replaces (not its set-id or
+    // sticky bits), else those of any new file (0o666 less the umask), not the temporary
+    // file's owner-only 0o600; set after writing, so a read-only mode cannot stop the write.
+    use std::os::unix::fs::PermissionsExt;
     let replaced = std::fs::symlink_metadata(path)
         .ok()
         .filter(std::fs::Metadata::is_file)
-        .map(|m| m.permissions());
+        .map(|m| std::fs::Permissions::from_mode(m.permissions().mode() & 0o777));
     let mut tmp = tempfile::Builder::new()
         .prefix(".coilfield-")
         .suffix(".tmp")
-        .permissions(std::os::unix::fs::PermissionsExt::from_mode(0o666))
+        .permissions(std::fs::Permissions::from_mode(0o666))
         .tempfile_in(dir)
         .map_err(fail)?;
-    if let Some(p) = replaced {
-        tmp.as_file().set_permissions(p).map_err(fail)?;
-    }
     {
         let mut w = wrap(tmp.as_file_mut());
         w.write_all(contents).map_err(fail)?;
         w.flush().map_err(fail)?;
+    }
+    if let Some(p) = replaced {
+        tmp.as_file().set_permissions(p).map_err(fail)?;
     }
     tmp.as_file().sync_all().map_err(fail)?;
     // On error the temporary file is removed when `tmp` drops; the target is untouched.
@@ -166,7 +168,7 @@ mod tests {
         super::write_atomic(&new, b"{}").unwrap();
         assert_eq!(mode(&new), mode(&plain));
         // A replaced file keeps its mode, narrower or wider than the default.
-        for m in [0o640, 0o604] {
+        for m in [0o640, 0o604, 0o444] {
             std::fs::set_permissions(&new, std::fs::Permissions::from_mode(m)).unwrap();
             super::write_atomic(&new, b"[]").unwrap();
             assert_eq!(mode(&new), m);

@@ -434,9 +434,18 @@ pub fn run(
             .unwrap_or_else(|panic| std::panic::resume_unwind(panic));
         (result, identity)
     });
-    // Without its identity file the output keeps what it had: report, exit 2.
-    identity?;
     let FileSink { progress, .. } = sink;
+    if let Err(e) = identity {
+        // Nothing of the output reached its file: an output this run created goes again (a
+        // rerun needs no --resume); report, exit 2.
+        if let Progress::Bar(bar) = &progress {
+            bar.finish_and_clear();
+        }
+        if !exists {
+            let _ = std::fs::remove_file(&out);
+        }
+        return Err(e);
+    }
     let mut w = shared.into_inner().unwrap_or_else(|e| e.into_inner());
     // Rows still in memory after a stop (Ctrl-C, a write error) go out first.
     let tail = w.write_ready();

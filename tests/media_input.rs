@@ -137,6 +137,34 @@ fn unknown_material() {
 }
 
 #[test]
+fn dielectric_below_the_ground_plane() {
+    // The plate from z = -1 cm to 2 cm: through the ground plane at z = 0.
+    case(
+        &good_with("origin = [0.0, 0.0, 0.05]", "origin = [0.0, 0.0, -0.01]"),
+        &[
+            "dielectric 'plate'",
+            "key 'origin'",
+            "0.01 m below the ground plane",
+        ],
+    );
+}
+
+#[test]
+fn dielectric_resting_on_the_ground_plane_is_accepted() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = write(
+        dir.path(),
+        &good_with("origin = [0.0, 0.0, 0.05]", "origin = [0.0, 0.0, 0.0]"),
+    );
+    let out = run_inductance(&path);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
+
+#[test]
 fn enclosure_that_does_not_enclose() {
     case(
         &good_with("height = \"3 m\"", "height = \"40 cm\""),

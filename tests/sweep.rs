@@ -369,9 +369,19 @@ fn an_identity_file_that_cannot_be_written_leaves_no_row_in_the_output() {
     // The identity file is written while the first points are computed; until it is on disk
     // nothing of the output reaches its file, so `--resume` and `merge` never meet rows they
     // cannot tell from another sweep's. A folder where the identity file goes makes its
-    // write fail after the output was opened.
+    // write fail after the output was opened. 20,000 points (a few tenths of a second), so
+    // rows are handed to the file during the run and would reach it but for the hold; the
+    // output this run created is removed again.
     let dir = tempfile::tempdir().unwrap();
-    let s = setup(dir.path(), SWEEP);
+    let s = setup(
+        dir.path(),
+        &SWEEP
+            .replace(
+                "values = [1.0, 0.5, 2.0]",
+                "from = 0.5\nto = 2.0\nsteps = 200",
+            )
+            .replace("steps = 5", "steps = 100"),
+    );
     let out = dir.path().join("o.csv");
     let id = dir.path().join("o.csv.sweep-id");
     std::fs::create_dir(&id).unwrap();
@@ -390,17 +400,27 @@ fn an_identity_file_that_cannot_be_written_leaves_no_row_in_the_output() {
             e.contains("o.csv.sweep-id") && e.contains("cannot write"),
             "{e}"
         );
-        assert_eq!(
-            std::fs::read_to_string(&out).unwrap(),
-            "",
-            "{threads} threads"
-        );
+        assert!(!out.exists(), "{threads} threads");
         assert_eq!(
             std::fs::read_to_string(id.join("kept")).unwrap(),
             "the user's"
         );
-        std::fs::remove_file(&out).unwrap();
     }
+    // An output that was there before is kept as it was (here: empty, resumed).
+    std::fs::write(&out, "").unwrap();
+    let o = sweep(&[
+        s.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--resume",
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    let kept = std::fs::read_to_string(&out).unwrap();
+    assert!(
+        kept.is_empty(),
+        "{} bytes reached the output before its identity file",
+        kept.len()
+    );
 }
 
 #[test]

@@ -25,7 +25,11 @@ once() {
     local out=$tmp/${3:-k}.csv
     rm -f "$out"
     t0=${EPOCHREALTIME/[.,]/}
-    "$bin" sweep "$1" --out "$out" --threads "$2" >/dev/null 2>&1
+    if ! "$bin" sweep "$1" --out "$out" --threads "$2" >/dev/null 2>"$out.err"; then
+        # A failed run has no time worth reporting: stop the whole benchmark.
+        echo "bench_sweep.sh: $1 on $2 threads failed: $(cat "$out.err")" >&2
+        kill -TERM $$
+    fi
     t1=${EPOCHREALTIME/[.,]/}
     awk -v a="$t0" -v b="$t1" 'BEGIN { printf "%.4f\n", (b - a) / 1e6 }'
 }

@@ -615,6 +615,22 @@ potentials = { secondary = [0.0, 150e3] }
     }
 
     #[test]
+    fn an_electrode_within_the_contact_tolerance_of_the_ground_touches_it() {
+        // A ball of 0.1 m resting on the plane z = 0: its lowest point 1e-11 m above the plane
+        // is within the contact check's tolerance (1e-9 of its size), 1e-6 m is clear.
+        let ball = |z: &str| {
+            format!(
+                "{BASE}\n[[electrode]]\nname = \"ball\"\nshape = \"sphere\"\n\
+                 origin = [2.0, 0.0, {z}]\nradius = 0.1\n"
+            )
+        };
+        for z in ["0.1", "0.10000000001"] {
+            assert_has(&err(&ball(z)), &["electrode 'ball'", "ground plane"]);
+        }
+        assert!(parse_design(&ball("0.100001"), "d.toml").is_ok());
+    }
+
+    #[test]
     fn missing_and_zero_drive() {
         let text = BASE.replace(
             "currents = { secondary = 1.2 }",

@@ -201,7 +201,9 @@ fn check_electrodes(design: &Design, changed: &Changed, source: &str) -> Result<
             && e_changed
         {
             let lowest = e.shape.lowest_z_m();
-            if lowest <= g.z_m {
+            // Within the contact check's tolerance of the plane is touching it (as the
+            // finite-element model's check of its parts has it).
+            if lowest <= g.z_m + contact::ELECTRODE_TOLERANCE_REL * e.shape.size_m() {
                 return Err(DesignError::BelowGround {
                     source_name: source.to_string(),
                     item: item(e),

@@ -90,6 +90,27 @@ pub fn check_media(design: &Design, source: &str) -> Result<(), DesignError> {
         }
         sections.push((d, s));
     }
+    if let Some(ground) = design.ground {
+        // A dielectric may rest on the ground plane, not reach through it (the plane is a
+        // conductor; below it there is no field to model). The axis is vertical here.
+        for (d, s) in &sections {
+            let bottom = axis.origin_m.z
+                + axis.direction.z * if axis.direction.z > 0.0 { s[2] } else { s[3] };
+            let depth = ground.z_m - bottom;
+            if depth > TOL * scale {
+                return Err(bad(
+                    format!("dielectric '{}'", d.name),
+                    "origin",
+                    format!(
+                        "reaches {} m below the ground plane (z = {} m); a dielectric may rest \
+                         on it, not cross it",
+                        sig(depth),
+                        sig(ground.z_m)
+                    ),
+                ));
+            }
+        }
+    }
     if let (Some(enc), Some(ground)) = (media.enclosure, design.ground) {
         let ceiling = ground.z_m + enc.height_m;
         // (item, largest distance from the axis, highest z) of everything inside.

@@ -424,6 +424,39 @@ fn seed_graded_interior(
     Ok(())
 }
 
+/// Edges of the outer circle's polygon on a half circle: 48 at density 1.
+fn half_circle_edges(density: f64) -> usize {
+    (48.0 * density).ceil() as usize
+}
+
+/// Edges of the outer circle's polygon on the mesh (open space's circle, a grounded sphere),
+/// on its part in r >= 0: a half circle, or a quarter above a ground plane; 0 for a cylinder.
+fn outer_arc_edges(outer: &Outer, density: f64) -> usize {
+    match *outer {
+        Outer::Open { ground: true, .. } => half_circle_edges(density) / 2,
+        Outer::Open { .. } | Outer::Sphere { .. } => half_circle_edges(density),
+        Outer::Cylinder { .. } => 0,
+    }
+}
+
+/// How far inside the outer circle its polygon on the mesh reaches (m): the sagitta
+/// R (1 - cos(a / 2)) of edges spanning the angle a; 0 for a cylinder, whose walls are
+/// meshed exactly. A part must stand clear of the circle by more, or its outline would cross
+/// the polygon.
+pub(crate) fn outer_chord_depth_m(outer: &Outer, density: f64) -> f64 {
+    let n = outer_arc_edges(outer, density) as f64;
+    let (radius, span) = match *outer {
+        Outer::Open {
+            radius,
+            ground: true,
+            ..
+        } => (radius, std::f64::consts::FRAC_PI_2),
+        Outer::Open { radius, .. } | Outer::Sphere { radius, .. } => (radius, std::f64::consts::PI),
+        Outer::Cylinder { .. } => return 0.0,
+    };
+    radius * (1.0 - (0.5 * span / n).cos())
+}
+
 /// Mesh a half-plane problem (see the module doc).
 ///
 /// Errors: [`SolverError::PartsOverlap`] for parts that overlap each other or the outer
@@ -446,7 +479,7 @@ pub fn mesh_domain(domain: &Domain) -> Result<Mesh, SolverError> {
     };
     let mut b = Builder::new(tol * 0.1);
     // Outer boundary.
-    let arc_edges = (48.0 * domain.density).ceil() as usize;
+    let arc_edges = half_circle_edges(domain.density);
     let mut arc: Option<(f64, f64, f64)> = None; // (centre_z, radius, start angle)
     match domain.outer {
         Outer::Open {
@@ -480,7 +513,7 @@ pub fn mesh_domain(domain: &Domain) -> Result<Mesh, SolverError> {
         }
     }
     if let Some((cz, radius, t0)) = arc {
-        let n = if t0 == 0.0 { arc_edges / 2 } else { arc_edges };
+        let n = outer_arc_edges(&domain.outer, domain.density);
         let pts: Vec<[f64; 2]> = (0..=n)
             .map(|k| {
                 let t = t0 + (std::f64::consts::FRAC_PI_2 - t0) * k as f64 / n as f64;

@@ -17,6 +17,7 @@
 //! real pair of points, one on each curve, so the least of them is the distance.
 
 use super::domain::{Area, Conductor, Domain, Outer, Piece, Region};
+use super::mesh::outer_chord_depth_m;
 use crate::error::SolverError;
 use crate::numtext::si;
 use std::f64::consts::TAU;
@@ -506,9 +507,13 @@ impl Domain {
     /// Every part inside the outer boundary: a conductor stands clear of it (the boundary is
     /// grounded, or it is the artificial circle of open space), except the floor and the
     /// ceiling of a cylinder with insulated ends, symmetry planes that a long conductor may
-    /// run through; a dielectric region may touch a grounded boundary but not reach beyond
-    /// it, and stands clear of open space's circle (the exterior beyond it is vacuum).
+    /// run through; a dielectric region may touch a straight grounded boundary (a cylinder's
+    /// wall, floor and ceiling, the ground plane) but not reach beyond it. Every part stands
+    /// clear of a circular boundary (open space's circle, a grounded sphere) by more than the
+    /// depth of the mesh's chords of it ([`outer_chord_depth_m`]), so its outline stays inside
+    /// the polygon that stands for the circle.
     fn check_inside_outer(&self) -> Result<(), SolverError> {
+        let chord_depth = outer_chord_depth_m(&self.outer, self.density);
         let parts = self
             .conductors
             .iter()
@@ -544,8 +549,9 @@ impl Domain {
                     |a, b| if b.0 > a.0 { b } else { a },
                 )
             };
-            // (boundary, the part's clearance from it (m), the point, may the part touch it)
-            let mut gaps: Vec<(String, f64, P, bool)> = Vec::new();
+            // (boundary, the part's clearance from it (m), the point, may the part touch it,
+            // whether it is a circle meshed as a polygon)
+            let mut gaps: Vec<(String, f64, P, bool, bool)> = Vec::new();
             match self.outer {
                 Outer::Open {
                     centre_z,
@@ -555,17 +561,17 @@ impl Domain {
                     let (far, at) = from([0.0, centre_z]);
                     let circle =
                         format!("the circle of open space (radius {})", si(radius, "m", 4));
-                    gaps.push((circle, radius - far, at, false));
+                    gaps.push((circle, radius - far, at, false, true));
                     if ground {
                         let (low, at) = along([0.0, -1.0]);
                         let plane = format!("the ground plane (z = {})", si(centre_z, "m", 4));
-                        gaps.push((plane, -low - centre_z, at, !conductor));
+                        gaps.push((plane, -low - centre_z, at, !conductor, false));
                     }
                 }
                 Outer::Sphere { centre_z, radius } => {
                     let (far, at) = from([0.0, centre_z]);
                     let sphere = format!("the grounded sphere (radius {})", si(radius, "m", 4));
-                    gaps.push((sphere, radius - far, at, !conductor));
+                    gaps.push((sphere, radius - far, at, false, true));
                 }
                 Outer::Cylinder {
                     r_max,
@@ -575,29 +581,32 @@ impl Domain {
                 } => {
                     let (r, at) = along([1.0, 0.0]);
                     let wall = format!("the grounded wall (r = {})", si(r_max, "m", 4));
-                    gaps.push((wall, r_max - r, at, !conductor));
+                    gaps.push((wall, r_max - r, at, !conductor, false));
                     let ends_touch = !conductor || insulated_ends;
                     let (low, at) = along([0.0, -1.0]);
                     let floor = format!("the floor (z = {})", si(z_min, "m", 4));
-                    gaps.push((floor, -low - z_min, at, ends_touch));
+                    gaps.push((floor, -low - z_min, at, ends_touch, false));
                     let (high, at) = along([0.0, 1.0]);
                     let ceiling = format!("the ceiling (z = {})", si(z_max, "m", 4));
-                    gaps.push((ceiling, z_max - high, at, ends_touch));
+                    gaps.push((ceiling, z_max - high, at, ends_touch, false));
                 }
             }
-            for (boundary, gap, at, may_touch) in gaps {
+            for (boundary, gap, at, may_touch, circle) in gaps {
                 let how = if gap < -tol {
                     format!(
                         "overlap by {}: the part reaches beyond the outer boundary",
                         si(-gap, "m", 3)
                     )
                 } else if gap <= tol && !may_touch {
-                    let why = if conductor {
-                        "a conductor must stand clear of the outer boundary"
-                    } else {
-                        "a dielectric must stand inside the circle of open space: enlarge it"
-                    };
-                    format!("touch; {why}")
+                    format!("touch; {}", clear_rule(conductor, circle))
+                } else if circle && gap <= chord_depth + tol {
+                    format!(
+                        "come within {} of each other, not more than the mesh's chords of the \
+                         circle reach inside it ({}); {}",
+                        si(gap, "m", 3),
+                        si(chord_depth, "m", 3),
+                        clear_rule(conductor, circle)
+                    )
                 } else {
                     continue;
                 };
@@ -605,6 +614,15 @@ impl Domain {
             }
         }
         Ok(())
+    }
+}
+
+/// What a part touching the outer boundary must do instead.
+fn clear_rule(conductor: bool, circle: bool) -> &'static str {
+    match (conductor, circle) {
+        (true, _) => "a conductor must stand clear of the outer boundary",
+        (false, true) => "a dielectric must stand clear of a circular outer boundary: enlarge it",
+        (false, false) => "a dielectric may touch a grounded wall, not cross it",
     }
 }
 
@@ -1187,7 +1205,7 @@ mod tests {
                 Outer::Sphere { centre_z, radius } => {
                     take(
                         radius - (p[0] * p[0] + (p[1] - centre_z).powi(2)).sqrt(),
-                        !conductor,
+                        false,
                     );
                 }
                 Outer::Cylinder {
@@ -1266,10 +1284,19 @@ mod tests {
 
     /// Touching the outer boundary: a conductor may not touch a grounded boundary (wall,
     /// sphere, ground plane) nor open space's circle, but may run through the insulated ends
-    /// of a long cylinder; a dielectric may touch a grounded boundary (a slab on the floor,
-    /// a filling up to the wall) but not the circle of open space.
+    /// of a long cylinder; a dielectric may touch a straight grounded boundary (a slab on the
+    /// floor, a filling up to the wall) but must stand clear of a circle (open space's, a
+    /// grounded sphere) by more than the mesh's chords of it reach inside. What passes meshes,
+    /// its dielectric present.
     #[test]
     fn what_may_touch_the_outer_boundary() {
+        let meshes_with_its_region = |d: &Domain| {
+            let m = crate::fem::mesh_domain(d).expect("meshes");
+            assert!(
+                m.region.iter().any(Option::is_some),
+                "no dielectric triangle"
+            );
+        };
         let cylinder = |insulated_ends| Outer::Cylinder {
             r_max: 1.0,
             z_min: 0.0,
@@ -1303,11 +1330,9 @@ mod tests {
             )
         };
         // A coaxial line: the inner rod through the insulated ends, the filling to the wall.
-        assert!(
-            with(vec![rod()], vec![fill(1.0)], cylinder(true))
-                .check_parts()
-                .is_ok()
-        );
+        let coax = with(vec![rod()], vec![fill(1.0)], cylinder(true));
+        assert!(coax.check_parts().is_ok());
+        meshes_with_its_region(&coax);
         let e = refused(with(vec![rod()], vec![], cylinder(false)));
         assert!(e.contains("conductor 'rod'") && e.contains("floor"), "{e}");
         let e = refused(with(vec![], vec![fill(1.01)], cylinder(true)));
@@ -1333,11 +1358,9 @@ mod tests {
                 z1: 0.1,
             },
         );
-        assert!(
-            with(vec![sphere("ball", 0.7, 0.5)], vec![slab.clone()], ground)
-                .check_parts()
-                .is_ok()
-        );
+        let on_slab = with(vec![sphere("ball", 0.7, 0.5)], vec![slab.clone()], ground);
+        assert!(on_slab.check_parts().is_ok());
+        meshes_with_its_region(&on_slab);
         // The circle of open space touched by a dielectric, and by a conductor.
         let open = Outer::Open {
             centre_z: 0.0,
@@ -1365,23 +1388,35 @@ mod tests {
             e.contains("conductor 'ball'") && e.contains("stand clear"),
             "{e}"
         );
-        // A dielectric shell filling a spherical capacitor up to its outer sphere.
+        // A dielectric shell in a spherical capacitor: up to its outer sphere, and within the
+        // depth of the mesh's chords of it (R (1 - cos(pi / 96)) = 0.535 mm at density 1) it
+        // is refused; a millimetre inside it passes and meshes.
         let outer_sphere = Outer::Sphere {
             centre_z: 0.0,
             radius: 1.0,
         };
-        let shell = region(
-            "shell",
-            Area::Shell {
-                centre: [0.0, 0.0],
-                r0: 0.5,
-                r1: 1.0,
-            },
-        );
-        assert!(
-            with(vec![sphere("inner", 0.0, 0.4)], vec![shell], outer_sphere)
-                .check_parts()
-                .is_ok()
-        );
+        let shell = |r1: f64| {
+            region(
+                "shell",
+                Area::Shell {
+                    centre: [0.0, 0.0],
+                    r0: 0.5,
+                    r1,
+                },
+            )
+        };
+        let capacitor = |r1| {
+            with(
+                vec![sphere("inner", 0.0, 0.4)],
+                vec![shell(r1)],
+                outer_sphere,
+            )
+        };
+        let e = refused(capacitor(1.0));
+        assert!(e.contains("grounded sphere") && e.contains("touch"), "{e}");
+        let e = refused(capacitor(1.0 - 5e-4));
+        assert!(e.contains("chords") && e.contains("535"), "{e}");
+        assert!(capacitor(0.999).check_parts().is_ok());
+        meshes_with_its_region(&capacitor(0.999));
     }
 }
