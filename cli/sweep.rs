@@ -197,16 +197,19 @@ impl OutFile {
         Ok(())
     }
 
-    /// Write the ready rows, and sync written rows to disk when the last sync is half a
-    /// second old.
-    fn sync_if_due(&mut self) -> std::io::Result<()> {
+    /// Write the ready rows; whether written rows are due for a sync (the last one half a
+    /// second old), counted as synced from now. The caller syncs through its own handle of
+    /// the file without the lock, so the workers never wait for a disk (a network file system
+    /// may take tens of milliseconds per sync); rows written meanwhile mark the file dirty
+    /// again and go with the next sync.
+    fn due_for_sync(&mut self) -> std::io::Result<bool> {
         self.write_ready()?;
-        if self.dirty && self.last_sync.elapsed() >= SYNC_EVERY {
-            self.file.sync_data()?;
+        let due = self.dirty && self.last_sync.elapsed() >= SYNC_EVERY;
+        if due {
             self.last_sync = Instant::now();
             self.dirty = false;
         }
-        Ok(())
+        Ok(due)
     }
 }
 
@@ -229,7 +232,8 @@ impl RowSink for FileSink<'_> {
         let mut out = self.out.lock().unwrap_or_else(|e| e.into_inner());
         out.ready.push_str(rows);
         if out.ready.len() >= WRITE_BYTES || out.last_write.elapsed() >= WRITE_EVERY {
-            out.sync_if_due()?;
+            // Syncing is the syncer thread's, outside the lock.
+            out.write_ready()?;
         }
         Ok(())
     }
@@ -379,6 +383,8 @@ pub fn run(
             start: Instant::now(),
         }
     };
+    // The syncer's own handle of the output, to sync it without holding the workers' lock.
+    let sync_file = file.try_clone()?;
     let shared = Mutex::new(OutFile {
         file,
         ready: header,
@@ -402,7 +408,7 @@ pub fn run(
         // output's rows: rows written while the workers are busy with slow points still reach
         // the disk within a second.
         let (shared_ref, failure_ref, stop_ref) = (&shared, &failure, &*stop);
-        let (plan_ref, id_path_ref) = (&plan, &id_path);
+        let (plan_ref, id_path_ref, sync_file) = (&plan, &id_path, &sync_file);
         let syncer = outer.spawn(move || -> anyhow::Result<()> {
             if new_output {
                 let written =
@@ -418,8 +424,16 @@ pub fn run(
             while let Err(std::sync::mpsc::RecvTimeoutError::Timeout) =
                 finished_rx.recv_timeout(Duration::from_millis(100))
             {
-                let mut w = shared_ref.lock().unwrap_or_else(|e| e.into_inner());
-                if let Err(e) = w.sync_if_due() {
+                let due = shared_ref
+                    .lock()
+                    .unwrap_or_else(|e| e.into_inner())
+                    .due_for_sync();
+                let synced = match due {
+                    Ok(true) => sync_file.sync_data(),
+                    Ok(false) => Ok(()),
+                    Err(e) => Err(e),
+                };
+                if let Err(e) = synced {
                     *failure_ref.lock().unwrap_or_else(|e| e.into_inner()) = Some(e);
                     stop_ref.store(true, Ordering::SeqCst);
                     break;
