@@ -536,19 +536,18 @@ impl Domain {
                 )
             }));
         for (name, pieces, conductor, tol) in parts {
-            // The part's farthest point along `dir` / from `q`: (how far, the point).
-            let along = |dir: P| {
-                pieces.iter().map(|p| farthest_along(p, dir)).fold(
-                    (f64::NEG_INFINITY, [0.0; 2]),
-                    |a, b| if b.0 > a.0 { b } else { a },
-                )
+            // The part's farthest point by a piece's measure: (how far, the point).
+            let farthest = |measure: &dyn Fn(&Piece) -> (f64, P)| {
+                pieces
+                    .iter()
+                    .map(measure)
+                    .fold(
+                        (f64::NEG_INFINITY, [0.0; 2]),
+                        |a, b| if b.0 > a.0 { b } else { a },
+                    )
             };
-            let from = |q: P| {
-                pieces.iter().map(|p| farthest_from(p, q)).fold(
-                    (f64::NEG_INFINITY, [0.0; 2]),
-                    |a, b| if b.0 > a.0 { b } else { a },
-                )
-            };
+            let along = |dir: P| farthest(&|p| farthest_along(p, dir));
+            let from = |q: P| farthest(&|p| farthest_from(p, q));
             // (boundary, the part's clearance from it (m), the point, may the part touch it,
             // whether it is a circle meshed as a polygon)
             let mut gaps: Vec<(String, f64, P, bool, bool)> = Vec::new();
@@ -598,14 +597,14 @@ impl Domain {
                         si(-gap, "m", 3)
                     )
                 } else if gap <= tol && !may_touch {
-                    format!("touch; {}", clear_rule(conductor, circle))
+                    format!("touch; {}", clear_rule(conductor))
                 } else if circle && gap <= chord_depth + tol {
                     format!(
                         "come within {} of each other, not more than the mesh's chords of the \
                          circle reach inside it ({}); {}",
                         si(gap, "m", 3),
                         si(chord_depth, "m", 3),
-                        clear_rule(conductor, circle)
+                        clear_rule(conductor)
                     )
                 } else {
                     continue;
@@ -617,12 +616,13 @@ impl Domain {
     }
 }
 
-/// What a part touching the outer boundary must do instead.
-fn clear_rule(conductor: bool, circle: bool) -> &'static str {
-    match (conductor, circle) {
-        (true, _) => "a conductor must stand clear of the outer boundary",
-        (false, true) => "a dielectric must stand clear of a circular outer boundary: enlarge it",
-        (false, false) => "a dielectric may touch a grounded wall, not cross it",
+/// What a part too close to the outer boundary must do instead (a dielectric is refused
+/// there only at a circular boundary: it may touch a straight one).
+fn clear_rule(conductor: bool) -> &'static str {
+    if conductor {
+        "a conductor must stand clear of the outer boundary"
+    } else {
+        "a dielectric must stand clear of a circular outer boundary: enlarge it"
     }
 }
 
